@@ -1,0 +1,11 @@
+/**
+ * @packageDocumentation
+ * Geometry for pathweave: vectors, rotations, directions, antenna arrays, element patterns and
+ * array responses, following the conventions of design.md (global frame x, y horizontal, z up).
+ */
+export * from './constants.js';
+export * from './vec3.js';
+export * from './rotation.js';
+export * from './direction.js';
+export * from './pattern.js';
+export * from './array.js';
