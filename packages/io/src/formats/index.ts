@@ -1,0 +1,27 @@
+/** Output formats by name; each opens a DatasetSink writing to a temporary file first. */
+import type { DatasetSink } from './sink.js';
+import { NpySink } from './npy.js';
+
+/** File formats `generate` writes. */
+export type OutputFormat = 'npy' | 'npz' | 'h5';
+
+/** The formats available, in the order the CLI lists them. */
+export const OUTPUT_FORMATS: readonly OutputFormat[] = ['npy', 'npz', 'h5'];
+
+/** The format implied by a file name's extension, if any. @example formatFromPath('a/b.h5') // "h5" */
+export function formatFromPath(path: string): OutputFormat | undefined {
+  const m = /\.(npy|npz|h5|hdf5)$/i.exec(path);
+  if (m === null) return undefined;
+  const ext = m[1]!.toLowerCase();
+  return ext === 'hdf5' ? 'h5' : (ext as OutputFormat);
+}
+
+/** Open a sink of the given format at `path`. */
+export async function openSink(format: OutputFormat, path: string): Promise<DatasetSink> {
+  switch (format) {
+    case 'npy':
+      return NpySink.open(path);
+    default:
+      throw new RangeError(`openSink(): format "${format}" is not available in this build`);
+  }
+}

@@ -1,0 +1,216 @@
+/**
+ * NPY files (the NPY format specification, numpy.lib.format): magic "\x93NUMPY", version,
+ * header length (uint16 for 1.0, uint32 for 2.0 when the header exceeds 65535 bytes), then a
+ * Python dict literal {'descr', 'fortran_order', 'shape'} padded with spaces and a newline so
+ * the data start at a multiple of 64 bytes. Data are little-endian, C order; complex values
+ * interleaved re/im, the same bytes as numpy's complex64/complex128.
+ */
+import { open } from 'node:fs/promises';
+import { AtomicFile } from '../atomic.js';
+import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
+
+/** numpy descr of each dtype. */
+export const NPY_DESCR: Record<Exclude<DType, 'string'>, string> = {
+  complex64: '<c8',
+  complex128: '<c16',
+  float32: '<f4',
+  float64: '<f8',
+  int32: '<i4',
+  uint8: '|u1',
+  int64: '<i8',
+};
+
+/** Bytes per element (per complex value for complex dtypes). */
+export const DTYPE_BYTES: Record<Exclude<DType, 'string'>, number> = { complex64: 8, complex128: 16, float32: 4, float64: 8, int32: 4, uint8: 1, int64: 8 };
+
+/**
+ * The header bytes of an NPY file (magic to the final newline).
+ * @example npyHeader('<f8', [3]).length % 64 // 0
+ */
+export function npyHeader(descr: string, shape: readonly number[], fortranOrder = false): Uint8Array {
+  const shapeText = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
+  const dict = `{'descr': '${descr}', 'fortran_order': ${fortranOrder ? 'True' : 'False'}, 'shape': ${shapeText}, }`;
+  let major = 1;
+  let prefix = 10;
+  let total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
+  if (total - prefix > 65535) {
+    major = 2;
+    prefix = 12;
+    total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
+  }
+  const headerLength = total - prefix;
+  const out = new Uint8Array(total);
+  out.set([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59, major, 0]);
+  const view = new DataView(out.buffer);
+  if (major === 1) view.setUint16(8, headerLength, true);
+  else view.setUint32(8, headerLength, true);
+  const text = dict.padEnd(headerLength - 1, ' ') + '\n';
+  for (let i = 0; i < text.length; i++) out[prefix + i] = text.charCodeAt(i);
+  return out;
+}
+
+/** A parsed NPY header. */
+export interface NpyHeaderInfo {
+  version: [number, number];
+  descr: string;
+  fortranOrder: boolean;
+  shape: number[];
+  /** Byte offset of the data. */
+  dataOffset: number;
+}
+
+/** Parse an NPY header from the first bytes of a file. */
+export function parseNpyHeader(bytes: Uint8Array): NpyHeaderInfo {
+  const magic = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
+  if (bytes.length < 10 || magic.some((b, i) => bytes[i] !== b)) throw new RangeError('parseNpyHeader(): not an NPY file (bad magic)');
+  const major = bytes[6]!;
+  const minor = bytes[7]!;
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const prefix = major === 1 ? 10 : 12;
+  if (major !== 1 && major !== 2 && major !== 3) throw new RangeError(`parseNpyHeader(): unsupported NPY version ${major}.${minor}`);
+  const length = major === 1 ? view.getUint16(8, true) : view.getUint32(8, true);
+  if (bytes.length < prefix + length) throw new RangeError(`parseNpyHeader(): header needs ${prefix + length} bytes, got ${bytes.length}`);
+  const text = new TextDecoder('latin1').decode(bytes.subarray(prefix, prefix + length));
+  const descr = /'descr':\s*'([^']+)'/.exec(text)?.[1];
+  const fortran = /'fortran_order':\s*(True|False)/.exec(text)?.[1];
+  const shapeText = /'shape':\s*\(([^)]*)\)/.exec(text)?.[1];
+  if (descr === undefined || fortran === undefined || shapeText === undefined) throw new RangeError(`parseNpyHeader(): cannot read header ${JSON.stringify(text)}`);
+  const shape = shapeText
+    .split(',')
+    .map((s) => s.trim())
+    .filter((s) => s !== '')
+    .map(Number);
+  return { version: [major, minor], descr, fortranOrder: fortran === 'True', shape, dataOffset: prefix + length };
+}
+
+/** The dtype of a numpy descr we write. */
+export function dtypeOfDescr(descr: string): Exclude<DType, 'string'> {
+  for (const [k, v] of Object.entries(NPY_DESCR)) if (v === descr || v.replace('<', '|') === descr) return k as Exclude<DType, 'string'>;
+  throw new RangeError(`dtypeOfDescr(): unsupported descr ${JSON.stringify(descr)}; allowed: ${Object.values(NPY_DESCR).join(', ')}`);
+}
+
+/** Byte view of a typed array (no copy). */
+export function bytesOf(data: ArrayData): Uint8Array {
+  return new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
+}
+
+/** Bytes of a whole in-memory NPY file. */
+export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>): Uint8Array {
+  if (array.dtype === 'string' || array.data === undefined) throw new TypeError('encodeNpy(): dtype "string" is not supported here');
+  const header = npyHeader(NPY_DESCR[array.dtype], array.shape);
+  const body = bytesOf(array.data);
+  const expected = array.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[array.dtype];
+  if (body.length !== expected) throw new RangeError(`encodeNpy(): shape [${array.shape.join(', ')}] of ${array.dtype} needs ${expected} bytes, got ${body.length}`);
+  const out = new Uint8Array(header.length + body.length);
+  out.set(header);
+  out.set(body, header.length);
+  return out;
+}
+
+/** An NPY file read back. */
+export interface NpyArray {
+  dtype: Exclude<DType, 'string'>;
+  shape: number[];
+  data: ArrayData;
+}
+
+/** Decode NPY bytes (little-endian C-order arrays of the dtypes we write). */
+export function decodeNpy(bytes: Uint8Array): NpyArray {
+  const h = parseNpyHeader(bytes);
+  if (h.fortranOrder) throw new RangeError('decodeNpy(): Fortran-order arrays are not supported');
+  const dtype = dtypeOfDescr(h.descr);
+  const n = h.shape.reduce((a, b) => a * b, 1);
+  const byteLength = n * DTYPE_BYTES[dtype];
+  if (bytes.length - h.dataOffset < byteLength) throw new RangeError(`decodeNpy(): data need ${byteLength} bytes, got ${bytes.length - h.dataOffset}`);
+  const copy = bytes.slice(h.dataOffset, h.dataOffset + byteLength);
+  const buf = copy.buffer;
+  const data: ArrayData =
+    dtype === 'complex64' || dtype === 'float32'
+      ? new Float32Array(buf)
+      : dtype === 'complex128' || dtype === 'float64'
+        ? new Float64Array(buf)
+        : dtype === 'int32'
+          ? new Int32Array(buf)
+          : dtype === 'int64'
+            ? new BigInt64Array(buf)
+            : new Uint8Array(buf);
+  return { dtype, shape: h.shape, data };
+}
+
+/** Read a whole .npy file. */
+export async function readNpy(file: string): Promise<NpyArray> {
+  const h = await open(file, 'r');
+  try {
+    const { size } = await h.stat();
+    const bytes = new Uint8Array(size);
+    await h.read(bytes, 0, size, 0);
+    return decodeNpy(bytes);
+  } finally {
+    await h.close();
+  }
+}
+
+/** Read only the header of a .npy file. */
+export async function readNpyHeader(file: string): Promise<NpyHeaderInfo & { fileBytes: number }> {
+  const h = await open(file, 'r');
+  try {
+    const { size } = await h.stat();
+    const head = new Uint8Array(Math.min(size, 1 << 20));
+    await h.read(head, 0, head.length, 0);
+    return { ...parseNpyHeader(head), fileBytes: size };
+  } finally {
+    await h.close();
+  }
+}
+
+/**
+ * A DatasetSink writing one .npy: the streamed tensor. NPY holds a single array, so the other
+ * named arrays and the attributes are handed to `onSideData` (the caller writes a side file).
+ */
+export class NpySink implements DatasetSink {
+  private header: StreamedArrayHeader | undefined;
+  private expectedBytes = 0;
+  private written = 0;
+  readonly sideArrays: NamedArray[] = [];
+  readonly attributes: Attribute[] = [];
+
+  private constructor(private readonly file: AtomicFile) {}
+
+  /** Open a temporary file next to `path`. */
+  static async open(path: string): Promise<NpySink> {
+    return new NpySink(await AtomicFile.create(path));
+  }
+
+  async beginTensor(header: StreamedArrayHeader): Promise<void> {
+    if (this.header !== undefined) throw new Error('NpySink.beginTensor(): called twice');
+    this.header = header;
+    this.expectedBytes = header.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[header.dtype];
+    await this.file.write(npyHeader(NPY_DESCR[header.dtype], header.shape));
+  }
+
+  async writeRows(data: Float32Array | Float64Array): Promise<void> {
+    if (this.header === undefined) throw new Error('NpySink.writeRows(): beginTensor() first');
+    await this.file.write(bytesOf(data));
+    this.written += data.byteLength;
+  }
+
+  async addArray(array: NamedArray): Promise<void> {
+    this.sideArrays.push(array);
+  }
+
+  async setAttribute(attribute: Attribute): Promise<void> {
+    this.attributes.push(attribute);
+  }
+
+  async commit(): Promise<number> {
+    if (this.written !== this.expectedBytes) {
+      throw new Error(`NpySink.commit(): the tensor needs ${this.expectedBytes} bytes, ${this.written} were written`);
+    }
+    await this.file.commit();
+    return this.file.bytesWritten;
+  }
+
+  async abort(): Promise<void> {
+    await this.file.abort();
+  }
+}

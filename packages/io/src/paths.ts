@@ -1,0 +1,53 @@
+/** Printing path lists: a readable table, and the explicit-path JSON form of design.md. */
+import type { PathRecord } from './build.js';
+
+/** A path in the explicit `paths` form of design.md, plus descriptive fields. */
+export interface ExplicitPathJson {
+  id: string;
+  kind: string;
+  aodDeg: [number, number];
+  aoaDeg: [number, number];
+  delayS: number;
+  powerDb: number;
+  phaseDeg: number;
+  dopplerHz: number;
+  maxDopplerHz?: number;
+  interactions?: unknown[];
+}
+
+/** The paths as the JSON array `pathweave paths --json` prints. */
+export function pathsJson(paths: readonly (PathRecord & { interactions?: unknown[] })[]): ExplicitPathJson[] {
+  return paths.map((p) => ({
+    id: p.id,
+    kind: p.kind,
+    aodDeg: p.aodDeg,
+    aoaDeg: p.aoaDeg,
+    delayS: p.delayS,
+    powerDb: p.powerDb,
+    phaseDeg: p.phaseDeg,
+    dopplerHz: p.dopplerHz,
+    ...(p.maxDopplerHz !== undefined ? { maxDopplerHz: p.maxDopplerHz } : {}),
+    ...(p.interactions !== undefined ? { interactions: p.interactions } : {}),
+  }));
+}
+
+/** A fixed-width table of paths (delay in ns, length in m, power in dB, angles in degrees). */
+export function pathsTable(paths: readonly (PathRecord & { lengthM?: number; interactionText?: string })[]): string {
+  const header = ['#', 'kind', 'interactions', 'delay ns', 'length m', 'power dB', 'AoD az', 'AoD el', 'AoA az', 'AoA el', 'Doppler Hz'];
+  const rows = paths.map((p, i) => [
+    String(i),
+    p.kind,
+    p.interactionText ?? p.id,
+    (p.delayS * 1e9).toFixed(3),
+    ((p.lengthM ?? p.delayS * 299_792_458) as number).toFixed(3),
+    p.powerDb.toFixed(2),
+    p.aodDeg[0].toFixed(2),
+    p.aodDeg[1].toFixed(2),
+    p.aoaDeg[0].toFixed(2),
+    p.aoaDeg[1].toFixed(2),
+    p.dopplerHz.toFixed(2),
+  ]);
+  const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => r[c]!.length)));
+  const line = (cells: string[]): string => cells.map((cell, c) => (c <= 2 ? cell.padEnd(widths[c]!) : cell.padStart(widths[c]!))).join('  ');
+  return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n');
+}

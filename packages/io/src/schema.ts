@@ -1,0 +1,166 @@
+/**
+ * The scenario file (design.md, "Scenario file"): one zod definition, from which the TypeScript
+ * types, the validation and the JSON Schema in docs/ all come. SI units throughout, except
+ * angles in degrees under keys ending in `Deg` and decibels under keys ending in `Db`.
+ */
+import { z } from 'zod';
+
+/** The scenario format this build writes and reads by default. */
+export const CURRENT_FORMAT_VERSION = 1;
+
+const finite = z.number();
+const positive = z.number().positive();
+const nonNegative = z.number().nonnegative();
+const count = z.number().int().min(1);
+const point = z.union([z.tuple([finite, finite, finite]), z.tuple([finite, finite])]);
+const vector3 = z.tuple([finite, finite, finite]);
+const directionDeg = z.tuple([finite, finite]).describe('[azimuth, elevation] in degrees');
+
+/** Array orientation in degrees: R = Rz(yaw) Ry(pitch) Rx(roll). */
+export const orientationSchema = z.strictObject({
+  yawDeg: finite.optional(),
+  pitchDeg: finite.optional(),
+  rollDeg: finite.optional(),
+});
+
+const elementTableSchema = z.strictObject({
+  azimuthsDeg: z.array(finite).min(2),
+  elevationsDeg: z.array(finite).min(2),
+  gainsDbi: z.array(z.array(finite)).min(2),
+});
+
+/** Polarisation of an array's elements: a name, or a slant angle in degrees from vertical. */
+export const polarizationSchema = z.union([z.enum(['vertical', 'horizontal']), z.strictObject({ slantDeg: finite })]);
+
+/** An antenna array (ULA along local +y, UPA in the local y-z plane, or custom positions). */
+export const arraySchema = z.strictObject({
+  kind: z.enum(['ula', 'upa', 'custom']),
+  elements: count.max(65536).optional(),
+  rows: count.max(4096).optional(),
+  columns: count.max(4096).optional(),
+  spacingWavelengths: positive.optional(),
+  positions: z.array(vector3).min(1).max(65536).optional(),
+  orientation: orientationSchema.optional(),
+  element: z.union([z.enum(['isotropic', '3gpp-38.901']), z.strictObject({ table: elementTableSchema })]).optional(),
+  polarization: polarizationSchema.optional(),
+});
+
+const waypointSchema = z.strictObject({ t: nonNegative, position: point });
+
+/** A transmitter or receiver. */
+export const terminalSchema = z.strictObject({
+  id: z.string().min(1).max(200).optional(),
+  position: point,
+  velocity: point.optional(),
+  trajectory: z.array(waypointSchema).min(2).optional(),
+  array: arraySchema,
+});
+
+/** An explicit path (directions in the global frame). */
+export const pathSchema = z.strictObject({
+  id: z.string().min(1).max(200).optional(),
+  aodDeg: directionDeg,
+  aoaDeg: directionDeg,
+  delayS: nonNegative,
+  powerDb: finite,
+  phaseDeg: finite.optional(),
+  dopplerHz: finite.optional(),
+  maxDopplerHz: nonNegative.optional(),
+});
+
+const materialSchema = z.union([
+  z.string().min(1),
+  z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
+]);
+
+/** Scene objects traced into paths. */
+export const sceneSchema = z.strictObject({
+  lineOfSight: z.boolean().optional(),
+  walls: z
+    .array(
+      z.strictObject({
+        vertices: z.array(z.array(finite).min(2).max(3)).min(2),
+        material: materialSchema.optional(),
+        reflectionLossDb: nonNegative.optional(),
+      }),
+    )
+    .optional(),
+  scatterers: z.array(z.strictObject({ position: point, rcsM2: positive })).optional(),
+  blockers: z
+    .array(
+      z.union([
+        z.strictObject({ shape: z.literal('box'), min: point, max: point, lossDb: nonNegative.optional() }),
+        z.strictObject({ shape: z.literal('cylinder'), base: point, radiusM: positive, heightM: positive, lossDb: nonNegative.optional() }),
+      ]),
+    )
+    .optional(),
+  maxReflectionOrder: z.number().int().min(0).max(3).optional(),
+  maxPaths: count.optional(),
+  dynamicRangeDb: positive.optional(),
+  gasAttenuationDbPerKm: nonNegative.optional(),
+});
+
+/** The whole scenario document. */
+export const scenarioSchema = z.strictObject({
+  formatVersion: z.number().int().min(1).max(CURRENT_FORMAT_VERSION).optional(),
+  name: z.string().max(200).optional(),
+  description: z.string().max(2000).optional(),
+  carrierHz: positive,
+  timing: z.strictObject({
+    subframeS: positive,
+    subframes: count,
+    symbolsPerSubframe: count.max(4096).optional(),
+    numerology: z.number().int().optional(),
+    cyclicPrefix: z.enum(['normal', 'extended']).optional(),
+    geometryUpdateS: positive.optional(),
+  }),
+  band: z
+    .strictObject({
+      subcarriers: count,
+      spacingHz: positive,
+      beamSquint: z.boolean().optional(),
+    })
+    .optional(),
+  taps: z
+    .strictObject({
+      sampleRateHz: positive,
+      count,
+      pulse: z.enum(['sinc', 'raised-cosine']).optional(),
+      rollOff: z.number().min(0).max(1).optional(),
+      alignFirstPath: z.boolean().optional(),
+    })
+    .optional(),
+  transmitter: terminalSchema,
+  receiver: terminalSchema.optional(),
+  receivers: z.array(terminalSchema).min(1).optional(),
+  scene: sceneSchema.optional(),
+  paths: z.array(pathSchema).min(1).optional(),
+  fading: z.strictObject({
+    model: z.enum(['static', 'gauss-markov', 'ar', 'sum-of-sinusoids', 'geometric']),
+    speedMps: nonNegative.optional(),
+    order: count.optional(),
+    sinusoids: count.optional(),
+    ricianKDb: finite.optional(),
+    normalize: z.boolean().optional(),
+  }),
+  seed: z.number().int().min(0).max(2 ** 53 - 1),
+  precision: z.enum(['complex64', 'complex128']).optional(),
+});
+
+/** A scenario as parsed (defaults not yet applied). */
+export type Scenario = z.infer<typeof scenarioSchema>;
+/** An array description of a scenario. */
+export type ArrayConfig = z.infer<typeof arraySchema>;
+/** A terminal description of a scenario. */
+export type TerminalConfig = z.infer<typeof terminalSchema>;
+/** An explicit path of a scenario. */
+export type PathConfig = z.infer<typeof pathSchema>;
+
+/**
+ * The JSON Schema (draft 2020-12) of scenario files, for editors.
+ * @example scenarioJsonSchema().type // "object"
+ */
+export function scenarioJsonSchema(): Record<string, unknown> {
+  const schema = z.toJSONSchema(scenarioSchema, { target: 'draft-2020-12' }) as Record<string, unknown>;
+  return { $id: 'https://pathweave.invalid/scenario.schema.json', title: 'pathweave scenario', ...schema };
+}

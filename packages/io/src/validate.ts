@@ -1,0 +1,321 @@
+/**
+ * Scenario validation: every problem at once, each with its dotted path, the value found and
+ * what is allowed (`receiver.array.spacingWavelengths: must be > 0, got -0.5`). Unknown keys
+ * are refused with the nearest known key suggested.
+ */
+import { readFile } from 'node:fs/promises';
+import type { z } from 'zod';
+import { JsonSyntaxError, parseJson } from './json.js';
+import { scenarioSchema, type Scenario } from './schema.js';
+
+/** One problem of a scenario. */
+export interface Problem {
+  /** Dotted path, e.g. "transmitter.array.rows" or "paths[2].delayS" ("" for the document). */
+  path: string;
+  /** What is wrong and what is allowed. */
+  message: string;
+}
+
+/** Result of `safeParseScenario`. */
+export type ScenarioResult = { ok: true; scenario: Scenario; warnings: string[] } | { ok: false; problems: Problem[] };
+
+/** Thrown by `parseScenario` and `loadScenario`; carries every problem. */
+export class ScenarioError extends Error {
+  constructor(
+    readonly problems: Problem[],
+    readonly source = 'scenario',
+  ) {
+    super(`${source}: ${problems.length} problem${problems.length === 1 ? '' : 's'}\n` + problems.map(formatProblem).join('\n'));
+    this.name = 'ScenarioError';
+  }
+}
+
+/** "path: message" (or just the message for the document itself). */
+export function formatProblem(p: Problem): string {
+  return p.path === '' ? p.message : `${p.path}: ${p.message}`;
+}
+
+/** Dotted path from zod's path segments: a.b[2].c */
+export function dottedPath(segments: readonly PropertyKey[]): string {
+  let out = '';
+  for (const s of segments) {
+    if (typeof s === 'number') out += `[${s}]`;
+    else out += out === '' ? String(s) : `.${String(s)}`;
+  }
+  return out;
+}
+
+/** A short rendering of a value for messages. */
+export function describeValue(v: unknown): string {
+  if (v === undefined) return 'nothing';
+  if (typeof v === 'string') return JSON.stringify(v.length > 60 ? `${v.slice(0, 57)}...` : v);
+  if (typeof v === 'number' || typeof v === 'boolean' || v === null) return String(v);
+  if (Array.isArray(v)) {
+    const s = JSON.stringify(v);
+    return s.length > 60 ? `an array of ${v.length} items` : s;
+  }
+  return 'an object';
+}
+
+function valueAt(root: unknown, segments: readonly PropertyKey[]): unknown {
+  let v: unknown = root;
+  for (const s of segments) {
+    if (v === null || typeof v !== 'object') return undefined;
+    v = (v as Record<PropertyKey, unknown>)[s];
+  }
+  return v;
+}
+
+/** Levenshtein distance (small strings only). */
+function editDistance(a: string, b: string): number {
+  const row = Array.from({ length: b.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= a.length; i++) {
+    let diagonal = row[0]!;
+    row[0] = i;
+    for (let j = 1; j <= b.length; j++) {
+      const above = row[j]!;
+      row[j] = Math.min(row[j]! + 1, row[j - 1]! + 1, diagonal + (a[i - 1]!.toLowerCase() === b[j - 1]!.toLowerCase() ? 0 : 1));
+      diagonal = above;
+    }
+  }
+  return row[b.length]!;
+}
+
+/**
+ * The known key nearest to `key`, if it is close enough to be a likely typo.
+ * @example nearestKey('carierHz', ['carrierHz', 'seed']) // "carrierHz"
+ */
+export function nearestKey(key: string, known: readonly string[]): string | undefined {
+  let best: string | undefined;
+  let bestDistance = Infinity;
+  for (const k of known) {
+    const d = k.toLowerCase() === key.toLowerCase() ? 0 : editDistance(key, k);
+    if (d < bestDistance) {
+      best = k;
+      bestDistance = d;
+    }
+  }
+  return best !== undefined && bestDistance <= Math.max(2, Math.floor(best.length / 3)) ? best : undefined;
+}
+
+type AnySchema = z.ZodType & { _zod: { def: Record<string, unknown> & { type: string } } };
+
+/** The keys an object schema allows at `segments` (walking through optionals, arrays, unions). */
+function knownKeysAt(schema: AnySchema, segments: readonly PropertyKey[], data: unknown): string[] {
+  const def = schema._zod.def;
+  switch (def.type) {
+    case 'optional':
+    case 'default':
+    case 'nullable':
+      return knownKeysAt(def.innerType as AnySchema, segments, data);
+    case 'pipe':
+      return knownKeysAt(def.in as AnySchema, segments, data);
+    case 'union': {
+      const keys = new Set<string>();
+      for (const option of def.options as AnySchema[]) for (const k of knownKeysAt(option, segments, data)) keys.add(k);
+      return [...keys];
+    }
+    case 'array':
+      return segments.length === 0 ? [] : knownKeysAt(def.element as AnySchema, segments.slice(1), valueAt(data, segments.slice(0, 1)));
+    case 'object': {
+      const shape = def.shape as Record<string, AnySchema>;
+      if (segments.length === 0) return Object.keys(shape);
+      const next = shape[String(segments[0])];
+      return next === undefined ? [] : knownKeysAt(next, segments.slice(1), valueAt(data, segments.slice(0, 1)));
+    }
+    default:
+      return [];
+  }
+}
+
+function boundText(inclusive: boolean | undefined, bound: unknown, below: boolean): string {
+  return `${below ? (inclusive ? '>=' : '>') : inclusive ? '<=' : '<'} ${bound as string}`;
+}
+
+function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
+  const path = dottedPath(issue.path);
+  const value = valueAt(input, issue.path);
+  const got = `got ${describeValue(value)}`;
+  switch (issue.code) {
+    case 'unrecognized_keys': {
+      const known = knownKeysAt(scenarioSchema as unknown as AnySchema, issue.path, input);
+      return issue.keys.map((key) => {
+        const near = nearestKey(key, known);
+        const hint = near !== undefined ? `; did you mean "${near}"?` : known.length > 0 ? `; allowed here: ${known.join(', ')}` : '';
+        return { path: dottedPath([...issue.path, key]), message: `unknown key${hint}` };
+      });
+    }
+    case 'invalid_type': {
+      if (value === undefined) return [{ path, message: `is required (${issue.expected})` }];
+      const expected = issue.expected === 'int' ? 'an integer' : issue.expected === 'tuple' ? 'an array' : `a ${issue.expected}`;
+      const extra = issue.expected === 'int' && typeof value === 'number' && !Number.isSafeInteger(value) && Number.isInteger(value) ? ' below 2^53' : '';
+      return [{ path, message: `must be ${expected}${extra}, ${got}` }];
+    }
+    case 'too_small':
+      if (issue.origin === 'array' || issue.origin === 'string') {
+        const what = issue.origin === 'array' ? 'item' : 'character';
+        return [{ path, message: `must have at least ${issue.minimum as number} ${what}${issue.minimum === 1 ? '' : 's'}, ${got}` }];
+      }
+      return [{ path, message: `must be ${boundText(issue.inclusive, issue.minimum, true)}, ${got}` }];
+    case 'too_big':
+      if (issue.origin === 'array' || issue.origin === 'string') {
+        const what = issue.origin === 'array' ? 'item' : 'character';
+        return [{ path, message: `must have at most ${issue.maximum as number} ${what}s, ${got}` }];
+      }
+      if (issue.origin === 'number' && issue.maximum === 2 ** 53 - 1) return [{ path, message: `must be an integer below 2^53, ${got}` }];
+      return [{ path, message: `must be ${boundText(issue.inclusive, issue.maximum, false)}, ${got}` }];
+    case 'invalid_value':
+      return [{ path, message: `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
+    case 'invalid_union': {
+      // Report the alternative that came closest (fewest problems) rather than a bare "invalid".
+      let best: Problem[] | undefined;
+      for (const branch of issue.errors) {
+        const problems = branch.flatMap((sub) => issueToProblems({ ...sub, path: [...issue.path, ...sub.path] } as z.core.$ZodIssue, input));
+        if (best === undefined || problems.length < best.length) best = problems;
+      }
+      if (Array.isArray(value) || typeof value !== 'object' || best === undefined || best.length === 0) {
+        return [{ path, message: `does not match any allowed form, ${got}` }];
+      }
+      return best;
+    }
+    default:
+      return [{ path, message: `${issue.message}, ${got}` }];
+  }
+}
+
+/** Checks across fields that the per-key schema cannot express. */
+function crossChecks(s: Scenario): Problem[] {
+  const problems: Problem[] = [];
+  if (s.paths === undefined && s.scene === undefined) problems.push({ path: '', message: 'give either "paths" (explicit paths) or "scene" (paths traced from geometry)' });
+  if (s.paths !== undefined && s.scene !== undefined) problems.push({ path: 'scene', message: 'give either "paths" or "scene", not both' });
+  if (s.band === undefined && s.taps === undefined) problems.push({ path: '', message: 'give "band" (frequency-domain output) or "taps" (tap-delay output)' });
+  if (s.receiver === undefined && s.receivers === undefined) problems.push({ path: 'receiver', message: 'is required (or give "receivers")' });
+  if (s.receiver !== undefined && s.receivers !== undefined) problems.push({ path: 'receivers', message: 'give either "receiver" or "receivers", not both' });
+  const terminals: [string, Scenario['transmitter']][] = [['transmitter', s.transmitter]];
+  if (s.receiver !== undefined) terminals.push(['receiver', s.receiver]);
+  s.receivers?.forEach((r, i) => terminals.push([`receivers[${i}]`, r]));
+  for (const [name, t] of terminals) {
+    const a = t.array;
+    const at = `${name}.array`;
+    const need = (key: keyof typeof a, why: string): void => {
+      if (a[key] === undefined) problems.push({ path: `${at}.${String(key)}`, message: `is required for kind "${a.kind}" (${why})` });
+    };
+    const forbid = (key: keyof typeof a): void => {
+      if (a[key] !== undefined) problems.push({ path: `${at}.${String(key)}`, message: `does not apply to kind "${a.kind}", got ${describeValue(a[key])}` });
+    };
+    if (a.kind === 'ula') {
+      need('elements', 'the number of elements');
+      forbid('rows');
+      forbid('columns');
+      forbid('positions');
+    } else if (a.kind === 'upa') {
+      need('rows', 'elements along local +z');
+      need('columns', 'elements along local +y');
+      forbid('elements');
+      forbid('positions');
+    } else {
+      need('positions', 'element positions in metres, local frame');
+      forbid('elements');
+      forbid('rows');
+      forbid('columns');
+      forbid('spacingWavelengths');
+    }
+    const table = a.element !== undefined && typeof a.element === 'object' ? a.element.table : undefined;
+    if (table !== undefined && (table.gainsDbi.length !== table.elevationsDeg.length || table.gainsDbi.some((r) => r.length !== table.azimuthsDeg.length))) {
+      problems.push({ path: `${at}.element.table.gainsDbi`, message: `must be ${table.elevationsDeg.length} rows (elevations) of ${table.azimuthsDeg.length} values (azimuths)` });
+    }
+    if (t.trajectory !== undefined) {
+      t.trajectory.forEach((w, i) => {
+        if (i > 0 && !(w.t > t.trajectory![i - 1]!.t)) {
+          problems.push({ path: `${name}.trajectory[${i}].t`, message: `times must increase, got ${w.t} after ${t.trajectory![i - 1]!.t}` });
+        }
+      });
+      if (t.velocity !== undefined) problems.push({ path: `${name}.velocity`, message: 'give either "velocity" or "trajectory", not both' });
+    }
+  }
+  if (s.taps?.rollOff !== undefined && s.taps.pulse !== 'raised-cosine') {
+    problems.push({ path: 'taps.rollOff', message: 'applies only with pulse "raised-cosine"' });
+  }
+  const ids = new Set<string>();
+  s.paths?.forEach((p, i) => {
+    if (p.id === undefined) return;
+    if (ids.has(p.id)) problems.push({ path: `paths[${i}].id`, message: `duplicate path id ${JSON.stringify(p.id)}` });
+    ids.add(p.id);
+  });
+  for (const [i, p] of (s.paths ?? []).entries()) {
+    for (const key of ['aodDeg', 'aoaDeg'] as const) {
+      const el = p[key][1];
+      if (el < -90 || el > 90) problems.push({ path: `paths[${i}].${key}[1]`, message: `elevation must lie in [-90, 90] degrees, got ${el}` });
+    }
+  }
+  return problems;
+}
+
+/** Hooks a later stage (the scene tracer, fading models) can add checks through. */
+export type ScenarioCheck = (scenario: Scenario) => { problems: Problem[]; warnings: string[] };
+const extraChecks: ScenarioCheck[] = [];
+
+/** Register an extra semantic check run after the schema and the cross-field checks pass. */
+export function registerScenarioCheck(check: ScenarioCheck): void {
+  extraChecks.push(check);
+}
+
+/**
+ * Validate a parsed JSON value as a scenario, collecting every problem.
+ * @example safeParseScenario({}).ok // false
+ */
+export function safeParseScenario(input: unknown): ScenarioResult {
+  if (input === null || typeof input !== 'object' || Array.isArray(input)) {
+    return { ok: false, problems: [{ path: '', message: `a scenario must be a JSON object, got ${describeValue(input)}` }] };
+  }
+  const result = scenarioSchema.safeParse(input);
+  if (!result.success) {
+    const problems = result.error.issues.flatMap((issue) => issueToProblems(issue, input));
+    return { ok: false, problems: dedupe(problems) };
+  }
+  const problems = crossChecks(result.data);
+  const warnings: string[] = [];
+  if (problems.length === 0) {
+    for (const check of extraChecks) {
+      const r = check(result.data);
+      problems.push(...r.problems);
+      warnings.push(...r.warnings);
+    }
+  }
+  return problems.length > 0 ? { ok: false, problems } : { ok: true, scenario: result.data, warnings };
+}
+
+function dedupe(problems: Problem[]): Problem[] {
+  const seen = new Set<string>();
+  return problems.filter((p) => {
+    const k = formatProblem(p);
+    if (seen.has(k)) return false;
+    seen.add(k);
+    return true;
+  });
+}
+
+/** Parse scenario text (JSON); throws ScenarioError with every problem. */
+export function parseScenarioText(text: string, source = 'scenario'): { scenario: Scenario; warnings: string[] } {
+  let json: unknown;
+  try {
+    json = parseJson(text);
+  } catch (e) {
+    if (e instanceof JsonSyntaxError) throw new ScenarioError([{ path: '', message: `not valid JSON: ${e.message}` }], source);
+    throw e;
+  }
+  const r = safeParseScenario(json);
+  if (!r.ok) throw new ScenarioError(r.problems, source);
+  return { scenario: r.scenario, warnings: r.warnings };
+}
+
+/** Read and validate a scenario file; throws ScenarioError (also for an unreadable file). */
+export async function loadScenario(file: string): Promise<{ scenario: Scenario; warnings: string[]; text: string }> {
+  let text: string;
+  try {
+    text = await readFile(file, 'utf8');
+  } catch (e) {
+    throw new ScenarioError([{ path: '', message: `cannot read the file: ${(e as NodeJS.ErrnoException).code ?? String(e)}` }], file);
+  }
+  return { ...parseScenarioText(text, file), text };
+}
