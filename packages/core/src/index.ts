@@ -11,3 +11,4 @@ export * from './grid.js';
 export * from './pulse.js';
 export * from './channel.js';
 export * from './kernels/accumulate.js';
+export * from './fading/index.js';
