@@ -12,3 +12,4 @@ export * from './pulse.js';
 export * from './channel.js';
 export * from './kernels/accumulate.js';
 export * from './fading/index.js';
+export * from './signal/index.js';
