@@ -7,7 +7,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { hasPython, pythonJson } from '../../../test/support/python.js';
-import { npyHeader, openNpzSink } from '../src/formats/npz.js';
+import { npyHeader } from '../src/formats/npy.js';
+import { openNpzSink } from '../src/formats/npz.js';
 import type { DatasetSink } from '../src/formats/sink.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'pathweave-npz-'));

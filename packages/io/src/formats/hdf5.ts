@@ -28,15 +28,14 @@
 import { promises as fsp } from 'node:fs';
 import { endianness } from 'node:os';
 import h5wasm from 'h5wasm/node';
+import { temporaryPathFor } from '../atomic.js';
 import {
   checkAttribute,
   checkNamedArray,
   checkTensorHeader,
   elementCount,
   ITEM_BYTES,
-  removeIfPresent,
   RowCounter,
-  temporaryPathFor,
 } from './npz.js';
 import type { Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 
@@ -267,7 +266,7 @@ class Hdf5Sink implements DatasetSink {
       await fsp.rename(this.temporaryPath, this.path);
       return (await fsp.stat(this.path)).size;
     } catch (err) {
-      await removeIfPresent(this.temporaryPath);
+      await fsp.rm(this.temporaryPath, { force: true });
       throw err;
     }
   }
@@ -278,7 +277,7 @@ class Hdf5Sink implements DatasetSink {
     try {
       this.release();
     } finally {
-      await removeIfPresent(this.temporaryPath);
+      await fsp.rm(this.temporaryPath, { force: true });
     }
   }
 }

@@ -21,12 +21,11 @@
  *
  * The archive is written to a temporary file beside the target and renamed on commit.
  */
-import { randomBytes } from 'node:crypto';
-import { createWriteStream, promises as fsp, type WriteStream } from 'node:fs';
 import { endianness } from 'node:os';
-import { basename, dirname, join } from 'node:path';
 import { Readable } from 'node:stream';
 import yazl from 'yazl';
+import { AtomicFile } from '../atomic.js';
+import { NPY_DESCR, npyHeader } from './npy.js';
 import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 
 /**
@@ -196,54 +195,13 @@ export class RowCounter {
   }
 }
 
-/** A temporary file name beside `target`, unique per process and call. @internal */
-export function temporaryPathFor(target: string): string {
-  return join(dirname(target), `.${basename(target)}.${process.pid}.${randomBytes(6).toString('hex')}.tmp`);
-}
-
-/** Remove a file if it exists. @internal */
-export async function removeIfPresent(path: string): Promise<void> {
-  await fsp.rm(path, { force: true });
-}
-
 function checkLittleEndianHost(fn: string): void {
   // Typed arrays are in host order; every format here is little-endian.
   if (endianness() !== 'LE') throw new RangeError(`${fn}(): needs a little-endian host, got ${endianness()}`);
 }
 
 // ---------------------------------------------------------------------------------------------
-// NPY encoding (format 1.0, or 2.0 when the header exceeds 65535 bytes).
-
-const NPY_DESCR: Readonly<Record<Exclude<DType, 'string'>, string>> = {
-  complex64: '<c8',
-  complex128: '<c16',
-  float32: '<f4',
-  float64: '<f8',
-  int32: '<i4',
-  uint8: '|u1',
-  int64: '<i8',
-};
-
-/** The NPY header (magic, version, length, dict padded to a multiple of 64) for a C-order array. @internal */
-export function npyHeader(descr: string, shape: readonly number[]): Buffer {
-  const shapeText = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
-  const dict = `{'descr': '${descr}', 'fortran_order': False, 'shape': ${shapeText}, }`;
-  let prefix = 10; // magic(6) + version(2) + uint16 length
-  let total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
-  if (total - prefix > 0xffff) {
-    prefix = 12; // version 2.0: uint32 length
-    total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
-  }
-  const out = Buffer.alloc(total, 0x20);
-  out.write('\x93NUMPY', 0, 'latin1');
-  out[6] = prefix === 10 ? 1 : 2;
-  out[7] = 0;
-  if (prefix === 10) out.writeUInt16LE(total - prefix, 8);
-  else out.writeUInt32LE(total - prefix, 8);
-  out.write(dict, prefix, 'latin1');
-  out[total - 1] = 0x0a;
-  return out;
-}
+// NPY entries (headers from ./npy.ts).
 
 /** Code points of the longest string (at least 1, numpy's width of an empty '<U'). */
 function unicodeWidth(strings: readonly string[]): number {
@@ -308,27 +266,26 @@ class NpzSink implements DatasetSink {
   private readonly names = new Set<string>();
   private state: SinkState = 'open';
   private failure: Error | undefined;
-  private readonly closed: Promise<void>;
+  /** Copies the zip output into the file, in order, with backpressure; settles when it ends. */
+  private readonly pumped: Promise<void>;
   private tensor: { rows: RowCounter; stream: Readable } | undefined;
   /** Resolves the writeRows waiting for the consumer to ask for more. */
   private wakeWriter: (() => void) | undefined;
 
   constructor(
-    private readonly path: string,
-    private readonly temporaryPath: string,
-    private readonly out: WriteStream,
+    private readonly file: AtomicFile,
     private readonly level: number,
     private readonly forceZip64: boolean,
   ) {
-    this.closed = new Promise<void>((resolve) => out.once('close', resolve));
     const fail = (err: Error): void => {
       this.failure ??= err;
       this.wakeWriter?.();
     };
     this.zip.on('error', fail);
-    this.zip.outputStream.on('error', fail);
-    out.on('error', fail);
-    this.zip.outputStream.pipe(out);
+    const output = this.zip.outputStream as Readable;
+    this.pumped = (async () => {
+      for await (const chunk of output) await file.write(chunk as Buffer);
+    })().catch(fail);
   }
 
   private entryOptions(level: number): Partial<yazl.Options> {
@@ -425,11 +382,11 @@ class NpzSink implements DatasetSink {
     this.state = 'committing';
     try {
       this.zip.end({ forceZip64Format: this.forceZip64, comment: '' });
-      await this.closed;
+      await this.pumped;
       if (this.failure) throw this.failure;
-      await fsp.rename(this.temporaryPath, this.path);
+      await this.file.commit();
       this.state = 'committed';
-      return (await fsp.stat(this.path)).size;
+      return this.file.bytesWritten;
     } catch (err) {
       this.state = 'open';
       await this.abort();
@@ -442,10 +399,9 @@ class NpzSink implements DatasetSink {
     this.state = 'aborted';
     this.tensor?.stream.destroy();
     this.wakeWriter?.();
-    this.zip.outputStream.unpipe(this.out);
-    this.out.destroy();
-    await this.closed;
-    await removeIfPresent(this.temporaryPath);
+    (this.zip.outputStream as Readable).destroy();
+    await this.pumped;
+    await this.file.abort();
   }
 }
 
@@ -464,11 +420,5 @@ export async function openNpzSink(path: string, options: NpzSinkOptions = {}): P
   if (typeof path !== 'string' || path === '') throw new TypeError(`${fn}(): path must be a non-empty string, got ${JSON.stringify(path)}`);
   checkLittleEndianHost(fn);
   const level = checkLevel(fn, 'options.deflate', options.deflate);
-  const temporaryPath = temporaryPathFor(path);
-  const out = createWriteStream(temporaryPath, { flags: 'wx' });
-  await new Promise<void>((resolve, reject) => {
-    out.once('open', () => resolve());
-    out.once('error', reject);
-  });
-  return new NpzSink(path, temporaryPath, out, level, options.forceZip64 === true);
+  return new NpzSink(await AtomicFile.create(path), level, options.forceZip64 === true);
 }
