@@ -9,3 +9,4 @@ export * from './rotation.js';
 export * from './direction.js';
 export * from './pattern.js';
 export * from './array.js';
+export * from './scene/index.js';

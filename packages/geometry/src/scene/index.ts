@@ -1,0 +1,13 @@
+/**
+ * Scene model and path tracer: materials (ITU-R P.2040), Fresnel coefficients, polarisation,
+ * knife-edge diffraction (ITU-R P.526), gas absorption, scene validation and the tracer.
+ */
+export * from './complex.js';
+export * from './materials.js';
+export * from './fresnel.js';
+export * from './polarization.js';
+export * from './knife-edge.js';
+export * from './atmosphere.js';
+export * from './scene.js';
+export * from './blockage.js';
+export * from './tracer.js';
