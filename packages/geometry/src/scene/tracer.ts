@@ -50,6 +50,8 @@ export interface TraceOptions {
   maxPaths?: number;
   dynamicRangeDb?: number;
   gasAttenuationDbPerKm?: number;
+  /** Keep paths whose amplitude is exactly zero (orthogonal polarisations); default false, they are dropped. */
+  keepNullPaths?: boolean;
 }
 
 /** One interaction of a path, in order from the transmitter. */
@@ -144,7 +146,7 @@ export function traceScene(scene: Scene | PreparedScene, tx: TraceTerminal, rx: 
     if (ps.segmentHitsWall(p[0], p[1], p[2], r[0], r[1], r[2], -1, -1)) return;
     raw.push(ctx.build('scatter', [i], [p]));
   });
-  return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb), warnings };
+  return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb, options.keepNullPaths ?? false), warnings };
 }
 
 /**
@@ -180,14 +182,15 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
 
 /**
  * Sort by power (strongest first; ties by id, so the order is stable), drop paths more than
- * `dynamicRangeDb` below the strongest, keep at most `maxPaths`.
+ * `dynamicRangeDb` below the strongest, keep at most `maxPaths`; paths of zero amplitude
+ * (powerDb -Infinity) are dropped unless `keepNullPaths`.
  * @example prunePaths(paths, 10, 30) // the 10 strongest within 30 dB of the first
  */
-export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRangeDb = Infinity): TracedPath[] {
+export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRangeDb = Infinity, keepNullPaths = false): TracedPath[] {
   const sorted = [...paths].sort((a, b) => (b.powerDb - a.powerDb) || (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
   if (sorted.length === 0) return sorted;
   const floor = sorted[0]!.powerDb - dynamicRangeDb;
-  const kept = sorted.filter((p) => p.powerDb >= floor && p.powerDb > -Infinity);
+  const kept = sorted.filter((p) => (p.powerDb >= floor && p.powerDb > -Infinity) || (keepNullPaths && p.powerDb === -Infinity && dynamicRangeDb === Infinity));
   return kept.length > maxPaths ? kept.slice(0, maxPaths) : kept;
 }
 
