@@ -324,7 +324,7 @@ function wallGeometry(vs: readonly ScenePoint[], is2D: boolean): WallGeometry | 
   for (let i = 0; i < n; i++) {
     const p = vs[i]!;
     const dist = normal[0] * p[0]! + normal[1] * p[1]! + normal[2] * p[2]! - offset;
-    if (Math.abs(dist) > tol) return `vertex ${i} ${fmt(p)} is ${Math.abs(dist).toPrecision(3)} m off the plane of the others: the vertices must be coplanar within ${tol.toPrecision(3)} m`;
+    if (Math.abs(dist) > tol) return `vertex ${i} ${fmt(p)} is ${Math.abs(dist).toPrecision(3)} m off the mean plane of the wall: the vertices must be coplanar within ${tol.toPrecision(3)} m`;
   }
   // In-plane frame: e1 along the longest edge from vertex 0, projected into the plane.
   const o: Vec3 = [cx, cy, cz];
