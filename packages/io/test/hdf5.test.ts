@@ -148,6 +148,20 @@ describe.runIf(hasPython('h5py', 'numpy'))('HDF5 read by h5py on HDF5 1.10 (refe
     expect(packedBytes).toBeLessThan(plainBytes);
   });
 
+  it('default chunks: about 1 MiB but never more rows than the tensor (a tiny file stays tiny)', async () => {
+    const path = join(dir, 'tiny.h5');
+    const sink = await openHdf5Sink(path);
+    await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [2, 1], units: '1' });
+    await sink.writeRows(Float32Array.of(1, 0, 0, 1));
+    const bytes = await sink.commit();
+    expect(bytes).toBeLessThan(16 << 10); // a 131072-row chunk (1 MiB) would be allocated whole
+    const got = pythonJson<{ chunks: number[]; values: number[][] }>(
+      `import json,sys,h5py; d=h5py.File(sys.argv[1])['H']; a=d[()]; print(json.dumps({'chunks': d.chunks, 'values': [[float(x.real), float(x.imag)] for x in a.ravel()]}))`,
+      [path],
+    );
+    expect(got).toEqual({ chunks: [2, 1], values: [[1, 0], [0, 1]] });
+  });
+
   it('pieces of whole rows (maxWriteBytes smaller than a block) give the same data', async () => {
     const path = join(dir, 'pieces.h5');
     const sink = await openHdf5Sink(path, { maxWriteBytes: 1 }); // one row per H5Dwrite

@@ -14,8 +14,8 @@
  * - Library version bounds (earliest, v1.10): nothing newer than the HDF5 1.10 format, so
  *   Debian's h5py (HDF5 1.10) and MATLAB read the files.
  * - Axis 0 of the tensor is extendible (maxshape None); the dataset is sized to S at once and
- *   filled block by block; chunks are `chunkRows` subframes (default: about 1 MiB), deflate
- *   optional.
+ *   filled block by block; chunks are `chunkRows` subframes (default: about 1 MiB; at most S),
+ *   deflate optional.
  * - Names with "/" create groups ("paths/delayS" is dataset delayS in group paths).
  * - Every dataset has a scalar UTF-8 string attribute `units`; root attributes are written with
  *   their explicit dtype (float64, int64, int32 or UTF-8 string, scalar).
@@ -74,13 +74,14 @@ function complexCompound(dtype: 'complex64' | 'complex128'): [string, string][] 
   ];
 }
 
-/** Chunk shape: chunkRows subframes (or about 1 MiB), later axes halved while one chunk is too big. */
+/** Chunk shape: chunkRows subframes (or about 1 MiB), at most S, later axes halved while one chunk is too big. */
 function chunkShape(header: StreamedArrayHeader): number[] {
   const itemBytes = ITEM_BYTES[header.dtype];
   const rest = header.shape.slice(1).map((e) => Math.max(1, e));
   const rowBytes = elementCount(rest) * itemBytes;
-  const rows = header.chunkRows ?? Math.max(1, Math.floor(DEFAULT_CHUNK_BYTES / rowBytes));
-  const chunk = [Math.max(1, rows), ...rest];
+  // A hint: never more rows than the tensor has (a chunk is allocated whole on disk).
+  const rows = Math.min(header.chunkRows ?? Math.max(1, Math.floor(DEFAULT_CHUNK_BYTES / rowBytes)), Math.max(1, header.shape[0] as number));
+  const chunk = [rows, ...rest];
   const limit = header.chunkRows === undefined ? DEFAULT_CHUNK_BYTES : MAX_CHUNK_BYTES;
   for (let axis = 1; axis < chunk.length && elementCount(chunk) * itemBytes > limit; axis++) {
     while ((chunk[axis] as number) > 1 && elementCount(chunk) * itemBytes > limit) chunk[axis] = Math.ceil((chunk[axis] as number) / 2);
@@ -290,7 +291,7 @@ class Hdf5Sink implements DatasetSink {
  * await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [2, 1], units: '1' });
  * await sink.writeRows(new Float32Array([1, 0, 0, 1]));
  * await sink.setAttribute({ name: 'carrierHz', dtype: 'float64', value: 28e9 });
- * await sink.commit(); // bytes written; h5py.File('run.h5')['H'][()] -> [[1+0j], [0+1j]] (complex64)
+ * await sink.commit(); // 8776 (bytes); h5py.File('run.h5')['H'][()] -> [[1+0j], [0+1j]] (complex64)
  */
 export async function openHdf5Sink(path: string, options: Hdf5SinkOptions = {}): Promise<DatasetSink> {
   const fn = 'openHdf5Sink';

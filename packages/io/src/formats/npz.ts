@@ -413,7 +413,7 @@ class NpzSink implements DatasetSink {
  * await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [2, 1], units: '1' });
  * await sink.writeRows(new Float32Array([1, 0, 0, 1])); // subframes 0 and 1
  * await sink.setAttribute({ name: 'seed', dtype: 'int64', value: 7 });
- * await sink.commit(); // 616 (bytes); numpy.load('run.npz')['H'] -> array([[1.+0.j], [0.+1.j]], dtype=complex64)
+ * await sink.commit(); // 496 (bytes); numpy.load('run.npz')['H'] -> array([[1.+0.j], [0.+1.j]], dtype=complex64)
  */
 export async function openNpzSink(path: string, options: NpzSinkOptions = {}): Promise<DatasetSink> {
   const fn = 'openNpzSink';
