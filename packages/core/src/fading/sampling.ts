@@ -18,7 +18,7 @@ export function gainBandwidthHz(dopplersHz: readonly number[], dopplerHz = 0): n
  * A warning when `bandwidthHz * stepS > 0.5`, naming the step that would resolve it; undefined
  * otherwise. `what` names the step in the message (the scenario key to change).
  * @example underSamplingWarning(2801.9, 1e-3, 'timing.subframeS')
- *   // 'timing.subframeS = 0.001 s under-samples a gain of bandwidth 2801.9 Hz (f T = 2.802 > 0.5); use a step of at most 1.785e-4 s'
+ *   // 'timing.subframeS = 0.001 s under-samples a gain of bandwidth 2801.9 Hz (f T = 2.802 > 0.5); use a step of at most 1.784e-4 s'
  * @example underSamplingWarning(100, 1e-3) // undefined
  */
 export function underSamplingWarning(bandwidthHz: number, stepS: number, what = 'the time step'): string | undefined {
