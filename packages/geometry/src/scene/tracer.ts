@@ -196,7 +196,10 @@ export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRang
 
 /**
  * Enumerate valid specular reflection paths of order 1..maxOrder by the image method; calls
- * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies).
+ * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies). The inner loops
+ * (images, back-tracking, polygon and obstruction tests) do not allocate.
+ * @example traceReflections(prepareScene({ walls: [{ vertices: [[0, -5], [0, 5]] }] }), [1, 0, 0], [2, 0, 0], 1, (w, p) => console.log(w, p))
+ * // [0] [[0, 0, 0]]
  */
 export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Readonly<Vec3>, maxOrder: number, emit: (walls: number[], points: Vec3[]) => void): void {
   const W = ps.wallCount;
