@@ -80,6 +80,10 @@ describe('validateScene', () => {
   it('returns material range warnings with a carrier, and prepareScene throws on errors', () => {
     const w = validateScene({ walls: [{ vertices: [[0, 0], [1, 0]], material: 'glass' }] }, { carrierHz: 60e9 });
     expect(w).toEqual([{ path: 'scene.walls[0].material', severity: 'warning', message: 'material "glass" is validated for 1-40 GHz, got 60 GHz; the ITU-R P.2040 fit is used outside its range' }]);
+    // a wall without a material is concrete (the default) and is checked too
+    expect(validateScene({ walls: [{ vertices: [[0, 0], [1, 0]] }] }, { carrierHz: 60e9 }).map((p) => p.message)).toEqual([
+      'material "concrete" is validated for 1-40 GHz, got 60 GHz; the ITU-R P.2040 fit is used outside its range',
+    ]);
     const r = traceScene({ walls: [{ vertices: [[0, 0], [1, 0]], material: 'glass' }] }, { position: [0, 1, 0] }, { position: [1, 1, 0] }, 60e9);
     expect(r.warnings.map((p) => p.path)).toEqual(['scene.walls[0].material']);
     expect(() => prepareScene({ walls: [{ vertices: [[0, 0], [0, 0]] }] })).toThrow(

@@ -180,8 +180,8 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
           if (p !== undefined) err(`${wp}.material`, p);
         }
       }
-      if (ctx.carrierHz !== undefined && Number.isFinite(ctx.carrierHz) && ctx.carrierHz > 0 && wall.reflectionLossDb === undefined && typeof m === 'string' && (MATERIAL_NAMES as readonly string[]).includes(m)) {
-        const r = resolveSurface({ material: m as MaterialSpec }, ctx.carrierHz);
+      if (ctx.carrierHz !== undefined && Number.isFinite(ctx.carrierHz) && ctx.carrierHz > 0 && wall.reflectionLossDb === undefined && (m === undefined || (typeof m === 'string' && (MATERIAL_NAMES as readonly string[]).includes(m)))) {
+        const r = resolveSurface(m === undefined ? {} : { material: m as MaterialSpec }, ctx.carrierHz);
         if (r.warning !== undefined) problems.push({ path: `${wp}.material`, message: r.warning, severity: 'warning' });
       }
     });
