@@ -6,7 +6,7 @@ import { stat } from 'node:fs/promises';
 import { removeLiveTemporaryFiles } from '../atomic.js';
 import { buildScenario, chooseDomain, elementCount, outputEstimate, type Domain } from '../build.js';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError } from '../generate.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError } from '../generate.js';
 import { inspectFile } from '../inspect.js';
 import { pathsJson, pathsTable } from '../paths.js';
 import { loadScenario, ScenarioError, formatProblem } from '../validate.js';
@@ -21,7 +21,7 @@ usage:
                      [--subframes A:B] [--shard I/N|auto|auto/N] [--workers N] [--quiet]
                      [--domain frequency|taps] [--max-bytes SIZE]
   pathweave paths    <scenario.json> [--json] [--at <seconds>]
-  pathweave validate <scenario.json>
+  pathweave validate <scenario.json> [--max-bytes SIZE]
   pathweave inspect  <file>
   pathweave help | --version
 
@@ -174,10 +174,13 @@ async function generateCommand(argv: string[], io: Io): Promise<number> {
 }
 
 async function validateCommand(argv: string[], io: Io): Promise<number> {
-  const args = parseArgs('validate', argv, { domain: 'value' });
+  const args = parseArgs('validate', argv, { domain: 'value', 'max-bytes': 'value' });
   const file = onePositional('validate', args.positionals, 'scenario file');
   const { scenario, warnings } = await loadScenario(file);
   const domain = chooseDomain(scenario, parseDomain(args.values.domain));
+  const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
+  // The same up-front refusals as generate (size limit, memory), before building anything.
+  checkRequest(scenario, domain, [0, scenario.timing.subframes], maxBytes, scenario.paths?.length ?? 1);
   const built = buildScenario(scenario, { domain });
   const est = outputEstimate(scenario, domain);
   const arrayLine = (name: string, a: typeof scenario.transmitter.array): string => {

@@ -24,16 +24,17 @@ export const NPY_DESCR: Record<Exclude<DType, 'string'>, string> = {
 export const DTYPE_BYTES: Record<Exclude<DType, 'string'>, number> = { complex64: 8, complex128: 16, float32: 4, float64: 8, int32: 4, uint8: 1, int64: 8 };
 
 /**
- * The header bytes of an NPY file (magic to the final newline).
+ * The header bytes of an NPY file (magic to the final newline). Version 1.0 unless the header
+ * exceeds 65535 bytes (or `forceVersion2`, for tests), then 2.0 with a 4-byte length.
  * @example npyHeader('<f8', [3]).length % 64 // 0
  */
-export function npyHeader(descr: string, shape: readonly number[], fortranOrder = false): Uint8Array {
+export function npyHeader(descr: string, shape: readonly number[], fortranOrder = false, forceVersion2 = false): Uint8Array {
   const shapeText = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
   const dict = `{'descr': '${descr}', 'fortran_order': ${fortranOrder ? 'True' : 'False'}, 'shape': ${shapeText}, }`;
   let major = 1;
   let prefix = 10;
   let total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
-  if (total - prefix > 65535) {
+  if (total - prefix > 65535 || forceVersion2) {
     major = 2;
     prefix = 12;
     total = Math.ceil((prefix + dict.length + 1) / 64) * 64;
@@ -95,9 +96,9 @@ export function bytesOf(data: ArrayData): Uint8Array {
 }
 
 /** Bytes of a whole in-memory NPY file. */
-export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>): Uint8Array {
+export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>, options: { forceVersion2?: boolean } = {}): Uint8Array {
   if (array.dtype === 'string' || array.data === undefined) throw new TypeError('encodeNpy(): dtype "string" is not supported here');
-  const header = npyHeader(NPY_DESCR[array.dtype], array.shape);
+  const header = npyHeader(NPY_DESCR[array.dtype], array.shape, false, options.forceVersion2 === true);
   const body = bytesOf(array.data);
   const expected = array.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[array.dtype];
   if (body.length !== expected) throw new RangeError(`encodeNpy(): shape [${array.shape.join(', ')}] of ${array.dtype} needs ${expected} bytes, got ${body.length}`);
