@@ -1,57 +1,68 @@
 /**
- * The multipath channel of design.md, assembled per subframe.
+ * The multipath channel of design.md, assembled per subframe (and per OFDM symbol).
  *
  * Tensor layout (row-major, complex interleaved re/im, numpy's complex64/complex128 bytes):
- *   frequency domain [S, K, Nr, Nt]: H_s[k] = sum_l rho_(s,l) exp(-j 2 pi f_k tau_l) r_rx(u_arr,l) r_tx(u_dep,l)^T
+ *   frequency domain [S, K, Nr, Nt]:     H_s[k] = sum_l rho_(s,l) exp(-j 2 pi f_k tau_l) r_rx(u_arr,l) r_tx(u_dep,l)^T
  *   tap-delay        [S, count, Nr, Nt]: h_s[n] = sum_l rho_(s,l) p(n T - tau_l) r_rx r_tx^T
- * The transpose is plain (no conjugate). One subframe occupies 2 * valuesPerSubframe numbers.
+ *   with symbols     [S, symbols, K or count, Nr, Nt]
+ * The transpose is plain (no conjugate). rho_(s,l) = A_l(t) g_l(t): A_l is the path's amplitude
+ * from the timeline (explicit powerDb/phaseDeg, or traced spreading, reflections, carrier phase
+ * and visibility fade), g_l a unit-power gain process keyed by the path's id. Deterministic
+ * models (static, geometric) keep A's phase; stochastic ones (gauss-markov, ar,
+ * sum-of-sinusoids) use |A| and draw the phase.
  */
-import { AntennaArray, wavenumber, type Vec3 } from '@pathweave/geometry';
+import { AntennaArray, wavenumber, wavelength, type Vec3 } from '@pathweave/geometry';
 import { pathCorrelation, type PathCorrelation } from './doppler.js';
+import { createFadingGains, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type StepClock } from './fading/index.js';
 import { GaussMarkovGains, StaticGains, type GainPath, type GainProcess } from './gains.js';
-import { subcarrierOffsetsHz, tapDelaysS } from './grid.js';
-import { pulseFunction, type PulseShape } from './pulse.js';
+import { subcarrierOffsetsHz } from './grid.js';
 import { accumulatePathsPlain } from './kernels/accumulate.js';
+import type { Motion } from './motion.js';
+import { pulseFunction, type PulseShape } from './pulse.js';
+import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
+
+/** How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length. */
+export type Wavefront = 'plane' | 'spherical' | 'auto';
 
 /** A terminal: its array, where it is and how it moves. */
 export interface Terminal {
   array: AntennaArray;
-  /** Reference point of the array, metres, global frame. */
+  /** Reference point of the array at t = 0, metres, global frame. */
   position: Vec3;
-  /** Velocity, m/s, global frame. */
+  /** Velocity at t = 0, m/s, global frame. */
   velocity: Vec3;
+  /** Motion over time (positions for traced paths, turning arrays, speeds for Doppler spreads). */
+  motion?: Motion | undefined;
+  /** Wavefront model of this array (default plane). */
+  wavefront?: Wavefront | undefined;
 }
 
-/** One propagation path as the assembler uses it. */
-export interface ChannelPath {
-  /** Stable identity, keys the random streams (for traced paths: the interaction list). */
-  id: string;
-  /** Propagation delay tau_l, seconds. */
-  delayS: number;
-  /** Mean power E|rho|^2, linear. */
-  power: number;
-  /** arg(rho) at t = 0, radians (static model). */
-  phaseRad: number;
-  /** Global unit vector from the transmitter towards the first interaction. */
-  departure: Vec3;
-  /** Global unit vector from the receiver towards the last interaction. */
-  arrival: Vec3;
-  /** Signed geometric Doppler shift, Hz. */
-  dopplerHz?: number | undefined;
-  /** Statistical Doppler spread for this path, Hz (overrides the speeds). */
-  maxDopplerHz?: number | undefined;
-}
+/** One explicit propagation path (the assembler's form of design.md's `paths`). */
+export type ChannelPath = ExplicitPath;
 
 /** The output grid: frequency domain or tap-delay. */
 export type OutputGrid =
   | { domain: 'frequency'; subcarriers: number; spacingHz: number; beamSquint?: boolean }
   | { domain: 'taps'; sampleRateHz: number; count: number; pulse?: PulseShape; rollOff?: number };
 
-/** Gain models handled by the assembler. */
-export type FadingSpec = { model: 'static' } | { model: 'gauss-markov'; speedMps?: number | undefined };
+/** Gain models (scenario key fading.model) with their options. */
+export type FadingSpec =
+  | { model: 'static' }
+  | { model: 'gauss-markov'; speedMps?: number | undefined }
+  | { model: 'ar'; order?: number | undefined; speedMps?: number | undefined }
+  | { model: 'sum-of-sinusoids'; sinusoids?: number | undefined; speedMps?: number | undefined }
+  | { model: 'geometric'; ricianKDb?: number | undefined; sinusoids?: number | undefined; speedMps?: number | undefined };
 
 /** Complex sample type of the output. */
 export type Precision = 'complex64' | 'complex128';
+
+/** Time resolution finer than a subframe. */
+export interface SymbolTiming {
+  /** Symbols per subframe (the symbol axis length). */
+  perSubframe: number;
+  /** When step s = subframe * perSubframe + symbol happens; default uniform over the subframe. */
+  clock?: StepClock | undefined;
+}
 
 /** Everything the generator needs, in SI units. */
 export interface ChannelSpec {
@@ -60,13 +71,22 @@ export interface ChannelSpec {
   subframes: number;
   transmitter: Terminal;
   receiver: Terminal;
-  paths: ChannelPath[];
+  /** Explicit paths (used when no timeline is given). */
+  paths?: ChannelPath[];
+  /** Where the paths come from over time (explicit or traced). */
+  timeline?: PathTimeline;
   fading: FadingSpec;
   grid: OutputGrid;
   /** Subtracted from every delay before assembly (alignFirstPath), seconds. */
   delayShiftS?: number;
   seed: number;
   precision?: Precision;
+  /** Adds a symbol axis after S. */
+  symbols?: SymbolTiming | undefined;
+  /** Prefix of every path's random-stream key (a user's identity); default none. */
+  streamKey?: string | undefined;
+  /** Multiply every amplitude by this factor (fading.normalize); default 1. */
+  amplitudeScale?: number;
 }
 
 /** Guard samples placed before the first arrival when delays are aligned. */
@@ -84,128 +104,157 @@ export function alignmentShiftS(delaysS: readonly number[], sampleRateHz: number
 /** Output tensor type for a precision. */
 export type TensorArray = Float32Array | Float64Array;
 
+const DETERMINISTIC = new Set(['static', 'geometric']);
+
 /**
- * Builds per-subframe channel tensors. The constructor validates the spec and precomputes the
- * per-path element products r_rx r_tx^T and the delay kernel (per subcarrier or per tap); each
- * subframe then costs one complex multiply-add per output value and path.
+ * Builds per-subframe channel tensors. The constructor validates the spec and precomputes what
+ * does not change (element products r_rx r_tx^T, the delay kernel) when the geometry is
+ * constant; each step then costs one complex multiply-add per output value and path.
  */
 export class ChannelGenerator {
-  /** Tensor shape [S, K or count, Nr, Nt]. */
-  readonly shape: [number, number, number, number];
-  /** Complex values per subframe: K Nr Nt (or count Nr Nt). */
+  /** Tensor shape [S, K or count, Nr, Nt], or [S, symbols, K or count, Nr, Nt]. */
+  readonly shape: number[];
+  /** Complex values per subframe (symbols included). */
   readonly valuesPerSubframe: number;
+  /** Complex values per step (one symbol or one subframe). */
+  readonly valuesPerStep: number;
+  /** Steps per subframe (1 without a symbol axis). */
+  readonly stepsPerSubframe: number;
   /** Bytes per complex value (8 for complex64, 16 for complex128). */
   readonly bytesPerValue: number;
-  /** Per-path correlation details (Gauss-Markov) in path order. */
+  /** Per-path correlation details (Doppler spreads, Gauss-Markov alpha) in path order. */
   readonly correlations: PathCorrelation[];
   /** Human-readable warnings (under-sampled Doppler, ...). */
   readonly warnings: string[] = [];
   readonly precision: Precision;
+  readonly timeline: PathTimeline;
+  readonly clock: StepClock;
 
   private readonly gainProcess: GainProcess;
+  private readonly deterministic: boolean;
   private readonly bins: number;
   private readonly elementPairs: number;
-  private readonly products: Float64Array | undefined; // [L, Nr Nt] complex, no squint
+  private readonly pathCountValue: number;
+  private readonly frequencies: Float64Array | undefined;
+  private readonly pulse: ((x: number) => number) | undefined;
+  private readonly products: Float64Array; // [L, Nr Nt] complex (no squint)
   private readonly kernel: Float64Array; // [bins, L] complex delay kernel
   private readonly squint: { rx: Float64Array; tx: Float64Array } | undefined; // [bins, L, N] complex
-  private readonly gainScratch: Float64Array;
+  private readonly frame: PathFrame;
+  private readonly unitGains: Float64Array;
+  private readonly rho: Float64Array;
+  private readonly weights: Float64Array;
   private readonly accumulator: Float64Array;
-  private readonly weights: Float64Array; // [bins, L] complex, per subframe
+  private readonly rxScratch: Float64Array;
+  private readonly txScratch: Float64Array;
+  private readonly varying: boolean;
+  private readonly amplitudeScale: number;
+  private preparedAt = -1;
 
   constructor(readonly spec: ChannelSpec) {
-    const { transmitter: tx, receiver: rx, paths, grid } = spec;
+    const { transmitter: tx, receiver: rx, grid } = spec;
     checkPositive('carrierHz', spec.carrierHz);
     checkPositive('subframeS', spec.subframeS);
     checkCount('subframes', spec.subframes, 1);
     this.precision = spec.precision ?? 'complex64';
     this.bytesPerValue = this.precision === 'complex64' ? 8 : 16;
-    const L = paths.length;
+    this.amplitudeScale = spec.amplitudeScale ?? 1;
+    if (spec.timeline === undefined && spec.paths === undefined) throw new TypeError('ChannelGenerator(): give spec.paths or spec.timeline');
+    this.timeline = spec.timeline ?? new ExplicitTimeline(spec.paths!);
+    const L = this.timeline.ids.length;
+    this.pathCountValue = L;
     const Nr = rx.array.size;
     const Nt = tx.array.size;
     this.elementPairs = Nr * Nt;
-    const shift = spec.delayShiftS ?? 0;
-    const delays = paths.map((p) => p.delayS - shift);
+    this.stepsPerSubframe = spec.symbols?.perSubframe ?? 1;
+    checkCount('symbols.perSubframe', this.stepsPerSubframe, 1);
+    this.clock = spec.symbols?.clock ?? uniformClock(spec.subframeS / this.stepsPerSubframe);
+    const turns = tx.motion?.turns === true || rx.motion?.turns === true;
+    this.varying = !this.timeline.constant || turns;
 
     if (grid.domain === 'frequency') {
       checkCount('grid.subcarriers', grid.subcarriers, 1);
       checkPositive('grid.spacingHz', grid.spacingHz);
       this.bins = grid.subcarriers;
-      const f = subcarrierOffsetsHz(grid.subcarriers, grid.spacingHz);
-      this.kernel = new Float64Array(2 * this.bins * L);
-      for (let k = 0; k < this.bins; k++) {
-        for (let l = 0; l < L; l++) {
-          const phase = -2 * Math.PI * f[k]! * delays[l]!;
-          this.kernel[2 * (k * L + l)] = Math.cos(phase);
-          this.kernel[2 * (k * L + l) + 1] = Math.sin(phase);
-        }
-      }
-      if (grid.beamSquint === true) {
-        this.squint = { rx: new Float64Array(2 * this.bins * L * Nr), tx: new Float64Array(2 * this.bins * L * Nt) };
-        for (let k = 0; k < this.bins; k++) {
-          const k0 = wavenumber(spec.carrierHz + f[k]!);
-          for (let l = 0; l < L; l++) {
-            rx.array.response(this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr), paths[l]!.arrival, k0);
-            tx.array.response(this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt), paths[l]!.departure, k0);
-          }
-        }
-      }
+      this.frequencies = subcarrierOffsetsHz(grid.subcarriers, grid.spacingHz);
+      this.squint = grid.beamSquint === true ? { rx: new Float64Array(2 * this.bins * L * Nr), tx: new Float64Array(2 * this.bins * L * Nt) } : undefined;
     } else {
       checkCount('grid.count', grid.count, 1);
       checkPositive('grid.sampleRateHz', grid.sampleRateHz);
       this.bins = grid.count;
-      const p = pulseFunction(grid.pulse ?? 'sinc', grid.rollOff ?? 0);
-      this.kernel = new Float64Array(2 * this.bins * L);
-      for (let n = 0; n < this.bins; n++) {
-        for (let l = 0; l < L; l++) this.kernel[2 * (n * L + l)] = p(n - delays[l]! * grid.sampleRateHz);
-      }
+      this.pulse = pulseFunction(grid.pulse ?? 'sinc', grid.rollOff ?? 0);
+      this.squint = undefined;
     }
+    this.kernel = new Float64Array(2 * this.bins * L);
+    this.products = new Float64Array(this.squint === undefined ? 2 * L * this.elementPairs : 0);
+    this.frame = new PathFrame(L);
+    this.unitGains = new Float64Array(2 * L);
+    this.rho = new Float64Array(2 * L);
+    this.weights = new Float64Array(2 * this.bins * L);
+    this.accumulator = new Float64Array(2 * this.elementPairs);
+    this.rxScratch = new Float64Array(2 * Nr);
+    this.txScratch = new Float64Array(2 * Nt);
 
-    if (this.squint === undefined) {
-      const k0 = wavenumber(spec.carrierHz);
-      this.products = new Float64Array(2 * L * this.elementPairs);
-      const r = new Float64Array(2 * Nr);
-      const t = new Float64Array(2 * Nt);
-      for (let l = 0; l < L; l++) {
-        rx.array.response(r, paths[l]!.arrival, k0);
-        tx.array.response(t, paths[l]!.departure, k0);
-        outerProduct(this.products, 2 * l * this.elementPairs, r, t, Nr, Nt);
-      }
-    }
+    this.valuesPerStep = this.bins * this.elementPairs;
+    this.valuesPerSubframe = this.stepsPerSubframe * this.valuesPerStep;
+    this.shape = spec.symbols === undefined ? [spec.subframes, this.bins, Nr, Nt] : [spec.subframes, this.stepsPerSubframe, this.bins, Nr, Nt];
 
-    this.shape = [spec.subframes, this.bins, Nr, Nt];
-    this.valuesPerSubframe = this.bins * this.elementPairs;
-
-    const speed = (v: Vec3): number => Math.hypot(v[0], v[1], v[2]);
-    this.correlations = paths.map((p) =>
+    // Doppler spreads and the gain processes (unit power, keyed by the path ids).
+    const speed = (t: Terminal): number => t.motion?.maxSpeed() ?? Math.hypot(t.velocity[0], t.velocity[1], t.velocity[2]);
+    const explicit = this.timeline instanceof ExplicitTimeline ? this.timeline.paths : undefined;
+    const fadingSpeed = 'speedMps' in spec.fading ? spec.fading.speedMps : undefined;
+    this.correlations = this.timeline.ids.map((_, l) =>
       pathCorrelation({
         carrierHz: spec.carrierHz,
-        stepS: spec.subframeS,
-        pathMaxDopplerHz: p.maxDopplerHz,
-        fadingSpeedMps: spec.fading.model === 'gauss-markov' ? spec.fading.speedMps : undefined,
-        transmitterSpeedMps: speed(tx.velocity),
-        receiverSpeedMps: speed(rx.velocity),
+        stepS: this.clock.stepS,
+        pathMaxDopplerHz: explicit?.[l]!.maxDopplerHz,
+        fadingSpeedMps: fadingSpeed,
+        transmitterSpeedMps: speed(tx),
+        receiverSpeedMps: speed(rx),
       }),
     );
-    const gainPaths: GainPath[] = paths.map((p, l) => ({ id: p.id, power: p.power, phaseRad: p.phaseRad, alpha: this.correlations[l]!.alpha }));
-    if (spec.fading.model === 'gauss-markov') {
-      this.gainProcess = new GaussMarkovGains(gainPaths, spec.seed);
-      this.checkSampling();
-    } else {
-      this.gainProcess = new StaticGains(gainPaths);
+    const key = (id: string): string => (spec.streamKey === undefined ? id : `${spec.streamKey}/${id}`);
+    const model = spec.fading.model;
+    this.deterministic = DETERMINISTIC.has(model);
+    const unitPaths: GainPath[] = this.timeline.ids.map((id, l) => ({ id: key(id), power: 1, phaseRad: 0, alpha: this.correlations[l]!.alpha }));
+    const fadingPaths: FadingPath[] = this.timeline.ids.map((id, l) => ({
+      id: key(id),
+      power: 1,
+      phaseRad: 0,
+      dopplersHz: this.correlations[l]!.dopplersHz,
+      // Traced geometry turns the carrier phase itself; explicit paths turn by their dopplerHz.
+      dopplerHz: explicit !== undefined ? (explicit[l]!.dopplerHz ?? 0) : 0,
+    }));
+    switch (spec.fading.model) {
+      case 'static':
+        this.gainProcess = new StaticGains(unitPaths);
+        break;
+      case 'gauss-markov':
+        this.gainProcess = new GaussMarkovGains(unitPaths, spec.seed);
+        break;
+      case 'ar':
+        this.gainProcess = createFadingGains('ar', fadingPaths, spec.seed, { clock: this.clock, order: spec.fading.order });
+        break;
+      case 'sum-of-sinusoids':
+        this.gainProcess = createFadingGains('sum-of-sinusoids', fadingPaths, spec.seed, { clock: this.clock, sinusoids: spec.fading.sinusoids });
+        break;
+      case 'geometric':
+        this.gainProcess = createFadingGains('geometric', fadingPaths, spec.seed, { clock: this.clock, ricianKDb: spec.fading.ricianKDb, sinusoids: spec.fading.sinusoids });
+        break;
     }
-    this.gainScratch = new Float64Array(2 * L);
-    this.accumulator = new Float64Array(2 * this.elementPairs);
-    this.weights = new Float64Array(2 * this.bins * L);
+    if (model !== 'static') this.checkSampling(fadingPaths);
+    this.timeline.frameAt(0, this.frame);
+    if (!this.varying) this.prepare(0);
   }
 
   /** Number of paths L. */
   get pathCount(): number {
-    return this.spec.paths.length;
+    return this.pathCountValue;
   }
 
   /** Bytes of the whole tensor. */
   get totalBytes(): number {
-    return this.shape[0] * this.valuesPerSubframe * this.bytesPerValue;
+    return this.spec.subframes * this.valuesPerSubframe * this.bytesPerValue;
   }
 
   /** A zeroed output array for `count` subframes in this generator's precision. */
@@ -214,48 +263,157 @@ export class ChannelGenerator {
     return this.precision === 'complex64' ? new Float32Array(n) : new Float64Array(n);
   }
 
-  /** Gains of subframes [first, first + count), [count, L] complex interleaved. */
-  gains(first: number, count: number, out = new Float64Array(2 * count * this.pathCount)): Float64Array {
+  /** The path frame (delays, directions, amplitudes, visibility) at step `step` (a view reused by the next call). */
+  frameAtStep(step: number): PathFrame {
+    this.timeline.frameAt(this.clock.timeS(step), this.frame);
+    this.preparedAt = -1;
+    return this.frame;
+  }
+
+  /** Gains rho of subframes [first, first + count): [count, L] (or [count, symbols, L]) complex interleaved. */
+  gains(first: number, count: number, out = new Float64Array(2 * count * this.stepsPerSubframe * this.pathCount)): Float64Array {
     checkRange(first, count, this.spec.subframes);
-    this.gainProcess.fill(out, first, count);
+    const L = this.pathCount;
+    for (let n = 0; n < count * this.stepsPerSubframe; n++) {
+      const step = first * this.stepsPerSubframe + n;
+      this.stepGains(step);
+      out.set(this.rho, 2 * n * L);
+    }
     return out;
   }
 
   /**
-   * Write the tensors of subframes [first, first + count) into `out`
-   * (2 * count * valuesPerSubframe numbers, from index 0). The result is the same bits
-   * whichever range a call covers.
+   * Write the tensors of subframes [first, first + count) into `out`: subframe first + s starts
+   * at `offset + s * stride` (defaults: 0 and 2 valuesPerSubframe, i.e. packed). The result is
+   * the same bits whichever range a call covers. `gainsOut`, when given, receives the gains
+   * ([count, symbols, L] complex) of the same steps.
    */
-  fill(out: TensorArray, first: number, count: number): TensorArray {
+  fill(out: TensorArray, first: number, count: number, options: { offset?: number; stride?: number; gainsOut?: Float64Array } = {}): TensorArray {
     checkRange(first, count, this.spec.subframes);
-    if (out.length < 2 * count * this.valuesPerSubframe) {
-      throw new RangeError(`ChannelGenerator.fill(): out needs ${2 * count * this.valuesPerSubframe} values, got ${out.length}`);
+    const offset = options.offset ?? 0;
+    const stride = options.stride ?? 2 * this.valuesPerSubframe;
+    if (out.length < offset + (count - 1) * stride + 2 * this.valuesPerSubframe) {
+      throw new RangeError(`ChannelGenerator.fill(): out needs ${offset + (count - 1) * stride + 2 * this.valuesPerSubframe} values, got ${out.length}`);
     }
     const L = this.pathCount;
-    const gains = this.gainScratch;
     for (let s = 0; s < count; s++) {
-      this.gainProcess.fill(gains, first + s, 1);
-      this.assembleSubframe(out, 2 * s * this.valuesPerSubframe, gains, L);
+      for (let i = 0; i < this.stepsPerSubframe; i++) {
+        const step = (first + s) * this.stepsPerSubframe + i;
+        this.stepGains(step);
+        if (this.varying) this.prepare(step);
+        options.gainsOut?.set(this.rho, 2 * (s * this.stepsPerSubframe + i) * L);
+        this.assembleStep(out, offset + s * stride + 2 * i * this.valuesPerStep);
+      }
     }
     return out;
   }
 
-  private assembleSubframe(out: TensorArray, offset: number, gains: Float64Array, L: number): void {
+  /** rho of every path at `step` into this.rho (and the frame at that time when it varies). */
+  private stepGains(step: number): void {
+    const L = this.pathCount;
+    this.gainProcess.fill(this.unitGains, step, 1);
+    if (this.varying) this.timeline.frameAt(this.clock.timeS(step), this.frame);
+    const a = this.frame.amplitude;
+    const g = this.unitGains;
+    const scale = this.amplitudeScale;
+    for (let l = 0; l < L; l++) {
+      let ar = a[2 * l]! * scale, ai = a[2 * l + 1]! * scale;
+      if (!this.deterministic) {
+        ar = Math.hypot(ar, ai);
+        ai = 0;
+      }
+      this.rho[2 * l] = ar * g[2 * l]! - ai * g[2 * l + 1]!;
+      this.rho[2 * l + 1] = ar * g[2 * l + 1]! + ai * g[2 * l]!;
+    }
+  }
+
+  /** Delay kernel and element products of the current frame. */
+  private prepare(step: number): void {
+    if (this.preparedAt === step && this.varying) return;
+    this.preparedAt = step;
+    const spec = this.spec;
+    const frame = this.frame;
+    const L = this.pathCount;
+    const shift = spec.delayShiftS ?? 0;
+    const t = this.clock.timeS(step);
+    if (this.frequencies !== undefined) {
+      const f = this.frequencies;
+      for (let k = 0; k < this.bins; k++) {
+        for (let l = 0; l < L; l++) {
+          const phase = -2 * Math.PI * f[k]! * (frame.delayS[l]! - shift);
+          this.kernel[2 * (k * L + l)] = Math.cos(phase);
+          this.kernel[2 * (k * L + l) + 1] = Math.sin(phase);
+        }
+      }
+    } else {
+      const fs = (spec.grid as { sampleRateHz: number }).sampleRateHz;
+      for (let n = 0; n < this.bins; n++) {
+        for (let l = 0; l < L; l++) {
+          this.kernel[2 * (n * L + l)] = this.pulse!(n - (frame.delayS[l]! - shift) * fs);
+          this.kernel[2 * (n * L + l) + 1] = 0;
+        }
+      }
+    }
+    const rxArray = arrayAt(spec.receiver.array, spec.receiver.motion, t);
+    const txArray = arrayAt(spec.transmitter.array, spec.transmitter.motion, t);
+    const Nr = rxArray.size, Nt = txArray.size;
+    const dep: Vec3 = [0, 0, 0], arr: Vec3 = [0, 0, 0];
+    if (this.squint !== undefined) {
+      for (let k = 0; k < this.bins; k++) {
+        const k0 = wavenumber(spec.carrierHz + this.frequencies![k]!);
+        for (let l = 0; l < L; l++) {
+          readVec(frame.arrival, l, arr);
+          readVec(frame.departure, l, dep);
+          this.response(rxArray, spec.receiver.wavefront, arr, frame.lengthM[l]!, k0, this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr));
+          this.response(txArray, spec.transmitter.wavefront, dep, frame.lengthM[l]!, k0, this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt));
+        }
+      }
+      return;
+    }
+    const k0 = wavenumber(spec.carrierHz);
+    for (let l = 0; l < L; l++) {
+      readVec(frame.arrival, l, arr);
+      readVec(frame.departure, l, dep);
+      const length = frame.lengthM[l]!;
+      const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
+      const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
+      if (rxSph && txSph && this.timeline.kinds[l] === 'los') {
+        pairwiseProducts(this.products, 2 * l * this.elementPairs, rxArray, txArray, arr, length, k0);
+        continue;
+      }
+      this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
+      this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
+      outerProduct(this.products, 2 * l * this.elementPairs, this.rxScratch, this.txScratch, Nr, Nt);
+    }
+  }
+
+  private isSpherical(array: AntennaArray, wavefront: Wavefront | undefined, lengthM: number): boolean {
+    if (wavefront === 'spherical') return true;
+    if (wavefront !== 'auto') return false;
+    const D = array.aperture();
+    return (2 * D * D) / wavelength(this.spec.carrierHz) > lengthM;
+  }
+
+  private response(array: AntennaArray, wavefront: Wavefront | undefined, u: Vec3, lengthM: number, k0: number, out: Float64Array): void {
+    if (this.isSpherical(array, wavefront, lengthM) && lengthM > 0) array.sphericalResponse(out, [u[0] * lengthM, u[1] * lengthM, u[2] * lengthM], k0);
+    else array.response(out, u, k0);
+  }
+
+  private assembleStep(out: TensorArray, offset: number): void {
+    const L = this.pathCount;
     const kernel = this.kernel;
     const weights = this.weights;
+    const rho = this.rho;
     for (let k = 0; k < this.bins; k++) {
       for (let l = 0; l < L; l++) {
-        const gr = gains[2 * l]!, gi = gains[2 * l + 1]!;
+        const gr = rho[2 * l]!, gi = rho[2 * l + 1]!;
         const cr = kernel[2 * (k * L + l)]!, ci = kernel[2 * (k * L + l) + 1]!;
         weights[2 * (k * L + l)] = gr * cr - gi * ci;
         weights[2 * (k * L + l) + 1] = gr * ci + gi * cr;
       }
     }
-    if (this.products !== undefined) {
-      accumulatePathsPlain(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator);
-    } else {
-      this.assembleSquinted(out, offset, L);
-    }
+    if (this.squint === undefined) accumulatePathsPlain(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator);
+    else this.assembleSquinted(out, offset, L);
   }
 
   /** Beam squint: the responses differ per subcarrier, so the products are formed on the fly. */
@@ -264,8 +422,8 @@ export class ChannelGenerator {
     const acc = this.accumulator;
     const weights = this.weights;
     const squint = this.squint!;
-    const Nr = this.shape[2];
-    const Nt = this.shape[3];
+    const Nr = this.spec.receiver.array.size;
+    const Nt = this.spec.transmitter.array.size;
     for (let k = 0; k < this.bins; k++) {
       acc.fill(0);
       for (let l = 0; l < L; l++) {
@@ -283,22 +441,25 @@ export class ChannelGenerator {
           }
         }
       }
-      out.set(acc, offset + 2 * k * M);
+      for (let m = 0; m < 2 * M; m++) out[offset + 2 * k * M + m] = acc[m]!;
     }
   }
 
-  private checkSampling(): void {
-    const T = this.spec.subframeS;
+  private checkSampling(paths: readonly FadingPath[]): void {
+    const step = this.clock.stepS;
     let worst = 0;
-    for (const c of this.correlations) for (const f of c.dopplersHz) worst = Math.max(worst, f);
-    if (worst * T > 0.5) {
-      this.warnings.push(
-        `timing.subframeS = ${T} s under-samples a Doppler spread of ${worst.toFixed(1)} Hz ` +
-          `(f_D T_s = ${(worst * T).toFixed(3)} > 0.5, so the Gauss-Markov alpha can turn negative); ` +
-          `use a step of at most ${(0.5 / worst).toExponential(3)} s (a shorter timing.subframeS).`,
-      );
-    }
+    for (const p of paths) worst = Math.max(worst, gainBandwidthHz(p.dopplersHz, p.dopplerHz ?? 0));
+    const what = this.spec.symbols === undefined ? 'timing.subframeS' : 'the symbol step';
+    const message = underSamplingWarning(worst, step, what);
+    if (message !== undefined) this.warnings.push(message);
   }
+}
+
+function readVec(src: Float64Array, l: number, out: Vec3): Vec3 {
+  out[0] = src[3 * l]!;
+  out[1] = src[3 * l + 1]!;
+  out[2] = src[3 * l + 2]!;
+  return out;
 }
 
 function outerProduct(out: Float64Array, offset: number, r: Float64Array, t: Float64Array, Nr: number, Nt: number): void {
@@ -309,6 +470,26 @@ function outerProduct(out: Float64Array, offset: number, r: Float64Array, t: Flo
       const m = offset + 2 * (i * Nt + j);
       out[m] = rr * tr - ri * ti;
       out[m + 1] = rr * ti + ri * tr;
+    }
+  }
+}
+
+/**
+ * Line of sight with both arrays in each other's near field: each element pair's exact distance,
+ * exp(-j k0 (|q_m - p_n| - d)) with q, p the element positions and d the reference distance.
+ */
+function pairwiseProducts(out: Float64Array, offset: number, rx: AntennaArray, tx: AntennaArray, arrival: Vec3, lengthM: number, k0: number): void {
+  // The transmitter's reference point seen from the receiver's: lengthM along the arrival direction.
+  const tx0: Vec3 = [arrival[0] * lengthM, arrival[1] * lengthM, arrival[2] * lengthM];
+  const g = rx.elementAmplitude(arrival) * tx.elementAmplitude([-arrival[0], -arrival[1], -arrival[2]]);
+  const q = rx.globalOffsets, p = tx.globalOffsets;
+  for (let m = 0; m < rx.size; m++) {
+    for (let n = 0; n < tx.size; n++) {
+      const d = Math.hypot(tx0[0] + p[3 * n]! - q[3 * m]!, tx0[1] + p[3 * n + 1]! - q[3 * m + 1]!, tx0[2] + p[3 * n + 2]! - q[3 * m + 2]!);
+      const phase = -k0 * (d - lengthM);
+      const i = offset + 2 * (m * tx.size + n);
+      out[i] = g * Math.cos(phase);
+      out[i + 1] = g * Math.sin(phase);
     }
   }
 }
@@ -324,4 +505,3 @@ function checkRange(first: number, count: number, total: number): void {
     throw new RangeError(`ChannelGenerator: subframes [${first}, ${first + count}) lie outside [0, ${total})`);
   }
 }
-

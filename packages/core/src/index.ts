@@ -13,3 +13,5 @@ export * from './channel.js';
 export * from './kernels/accumulate.js';
 export * from './fading/index.js';
 export * from './signal/index.js';
+export * from './motion.js';
+export * from './timeline.js';

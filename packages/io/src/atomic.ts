@@ -10,6 +10,16 @@ import { basename, dirname, join } from 'node:path';
 
 const live = new Set<string>();
 
+/** Record a temporary file written by other means (e.g. a library that opens it itself), so a signal handler removes it. */
+export function trackTemporary(path: string): void {
+  live.add(path);
+}
+
+/** Forget a temporary file (after it was renamed or removed). */
+export function untrackTemporary(path: string): void {
+  live.delete(path);
+}
+
 /** Temporary files still open by this process (removed by `removeLiveTemporaryFiles`). */
 export function liveTemporaryFiles(): string[] {
   return [...live];

@@ -1,6 +1,8 @@
 /**
- * From a validated scenario to the core's ChannelSpec: degrees to unit vectors, decibels to
- * linear power, spacings in wavelengths to metres at the carrier, arrays with their orientation.
+ * From a validated scenario to the core's generators: degrees to unit vectors, decibels to
+ * linear power, spacings in wavelengths to metres at the carrier, arrays with their
+ * orientation, motion, explicit or traced paths, fading model, time resolution, and one
+ * generator per user (receiver).
  */
 import {
   AntennaArray,
@@ -10,9 +12,26 @@ import {
   unitFromDeg,
   wavelength,
   type ElementPattern,
+  type Scene,
+  type TracedPath,
   type Vec3,
 } from '@pathweave/geometry';
-import { ChannelGenerator, alignmentShiftS, type ChannelPath, type ChannelSpec, type OutputGrid, type Terminal } from '@pathweave/core';
+import {
+  ChannelGenerator,
+  ExplicitTimeline,
+  Motion,
+  TracedTimeline,
+  alignmentShiftS,
+  nrNumerology,
+  numerologyClock,
+  type ChannelSpec,
+  type ExplicitPath,
+  type FadingSpec,
+  type OutputGrid,
+  type PathTimeline,
+  type SymbolTiming,
+  type Terminal,
+} from '@pathweave/core';
 import type { ArrayConfig, PathConfig, Scenario, TerminalConfig } from './schema.js';
 import { ScenarioError } from './validate.js';
 
@@ -30,19 +49,45 @@ export interface PathRecord {
   aoaDeg: [number, number];
   dopplerHz: number;
   maxDopplerHz?: number | undefined;
+  lengthM?: number;
+  aodLocalDeg?: [number, number];
+  aoaLocalDeg?: [number, number];
+  interactions?: { type: string; object: string; point: number[] }[];
+  blockageDb?: number;
+}
+
+/** One user's channel: its receiver, generator and paths. */
+export interface UserChannel {
+  /** The user's identity: its `id`, else its index in `receivers` ("" for a lone `receiver` without id). */
+  id: string;
+  receiver: TerminalConfig;
+  generator: ChannelGenerator;
+  timeline: PathTimeline;
+  /** Paths at t = 0 (for tables and the path table). */
+  paths: PathRecord[];
+  spec: ChannelSpec;
 }
 
 /** A scenario made ready to generate. */
 export interface BuiltScenario {
   scenario: Scenario;
   domain: Domain;
-  spec: ChannelSpec;
+  /** One entry per receiver. */
+  users: UserChannel[];
+  /** True when the scenario uses `receivers` (the tensor has a user axis after S). */
+  multiUser: boolean;
+  /** Full tensor shape: [S, (U,) (symbols,) K or count, Nr, Nt]. */
+  shape: number[];
+  /** Complex values per subframe, all users. */
+  valuesPerSubframe: number;
+  /** The first user's generator and paths (the whole run when there is one receiver). */
   generator: ChannelGenerator;
   paths: PathRecord[];
   warnings: string[];
 }
 
-function vec3Of(p: readonly number[] | undefined): Vec3 {
+/** Vector of a 2- or 3-component point (z = 0 for 2-D). */
+export function vec3Of(p: readonly number[] | undefined): Vec3 {
   if (p === undefined) return [0, 0, 0];
   return [p[0] ?? 0, p[1] ?? 0, p[2] ?? 0];
 }
@@ -75,19 +120,15 @@ export function elementCount(config: ArrayConfig): number {
   return config.positions?.length ?? 0;
 }
 
-/** Velocity of a terminal at t = 0: its `velocity`, or the first leg of its trajectory. */
-export function initialVelocity(t: TerminalConfig): Vec3 {
-  if (t.trajectory !== undefined && t.trajectory.length >= 2) {
-    const [a, b] = t.trajectory as [NonNullable<TerminalConfig['trajectory']>[number], NonNullable<TerminalConfig['trajectory']>[number]];
-    const pa = vec3Of(a.position), pb = vec3Of(b.position);
-    const dt = b.t - a.t;
-    return [(pb[0] - pa[0]) / dt, (pb[1] - pa[1]) / dt, (pb[2] - pa[2]) / dt];
-  }
-  return vec3Of(t.velocity);
+/** The motion of a terminal: constant velocity or its trajectory. */
+export function motionOf(t: TerminalConfig): Motion {
+  const trajectory = t.trajectory?.map((w) => ({ t: w.t, position: vec3Of(w.position), orientation: w.orientation }));
+  return new Motion(vec3Of(trajectory?.[0]?.position ?? t.position), vec3Of(t.velocity), trajectory, t.array.orientation ?? {});
 }
 
 function buildTerminal(t: TerminalConfig, carrierHz: number): Terminal {
-  return { array: buildArray(t.array, carrierHz), position: vec3Of(t.position), velocity: initialVelocity(t) };
+  const motion = motionOf(t);
+  return { array: buildArray(t.array, carrierHz), position: motion.positionAt(0), velocity: motion.velocityAt(0), motion, wavefront: t.array.wavefront };
 }
 
 /** The stable id of explicit path i: its own `id`, else its place in the list. */
@@ -95,21 +136,10 @@ export function explicitPathId(p: PathConfig, index: number): string {
   return p.id ?? `paths[${index}]`;
 }
 
-/** Paths of the scenario in the assembler's form, with their table records. */
-export type PathSource = (scenario: Scenario, tx: Terminal, rx: Terminal) => { paths: ChannelPath[]; records: PathRecord[]; warnings: string[] };
-
-let traced: PathSource | undefined;
-
-/** Install the scene tracer (kept behind a seam so io does not require geometry scenes). */
-export function registerSceneTracer(source: PathSource): void {
-  traced = source;
-}
-
-function explicitPaths(scenario: Scenario): { paths: ChannelPath[]; records: PathRecord[]; warnings: string[] } {
-  const list = scenario.paths ?? [];
-  const paths: ChannelPath[] = [];
+function explicitPaths(scenario: Scenario): { paths: ExplicitPath[]; records: PathRecord[] } {
+  const paths: ExplicitPath[] = [];
   const records: PathRecord[] = [];
-  list.forEach((p, i) => {
+  (scenario.paths ?? []).forEach((p, i) => {
     const id = explicitPathId(p, i);
     const phaseDeg = p.phaseDeg ?? 0;
     paths.push({
@@ -124,7 +154,26 @@ function explicitPaths(scenario: Scenario): { paths: ChannelPath[]; records: Pat
     });
     records.push({ id, kind: 'explicit', delayS: p.delayS, powerDb: p.powerDb, phaseDeg, aodDeg: [...p.aodDeg], aoaDeg: [...p.aoaDeg], dopplerHz: p.dopplerHz ?? 0, maxDopplerHz: p.maxDopplerHz });
   });
-  return { paths, records, warnings: [] };
+  return { paths, records };
+}
+
+/** A traced path as a record (angles in degrees, phase = arg(rho) with carrier and reflection phases). */
+export function recordOfTraced(p: TracedPath): PathRecord {
+  return {
+    id: p.id,
+    kind: p.kind,
+    delayS: p.delayS,
+    powerDb: p.powerDb,
+    phaseDeg: p.phaseDeg,
+    aodDeg: [...p.aodDeg],
+    aoaDeg: [...p.aoaDeg],
+    dopplerHz: p.dopplerHz,
+    lengthM: p.lengthM,
+    aodLocalDeg: [...p.aodLocalDeg],
+    aoaLocalDeg: [...p.aoaLocalDeg],
+    interactions: p.interactions.map((i) => ({ type: i.type, object: i.object, point: [...i.point] })),
+    blockageDb: p.blockageDb,
+  };
 }
 
 /** Choose the output domain: the only one given, or `prefer` when the scenario has both. */
@@ -134,56 +183,148 @@ export function chooseDomain(scenario: Scenario, prefer?: Domain): Domain {
   return prefer ?? (scenario.band !== undefined ? 'frequency' : 'taps');
 }
 
-/** Build the generator of a validated scenario. */
+/** The receivers of a scenario with their identities. */
+export function receiversOf(scenario: Scenario): { id: string; config: TerminalConfig; streamKey: string | undefined }[] {
+  if (scenario.receivers !== undefined) {
+    return scenario.receivers.map((r, i) => ({ id: r.id ?? String(i), config: r, streamKey: r.id ?? String(i) }));
+  }
+  const r = scenario.receiver!;
+  return [{ id: r.id ?? '', config: r, streamKey: r.id }];
+}
+
+/** Symbol timing of a scenario (undefined: one step per subframe, no symbol axis). */
+export function symbolTimingOf(scenario: Scenario): SymbolTiming | undefined {
+  const t = scenario.timing;
+  if (t.numerology !== undefined) {
+    const nr = nrNumerology(t.numerology, t.cyclicPrefix ?? 'normal');
+    return { perSubframe: nr.symbolsPerSubframe, clock: numerologyClock(nr, 'start', t.subframeS) };
+  }
+  if (t.symbolsPerSubframe !== undefined) return { perSubframe: t.symbolsPerSubframe };
+  return undefined;
+}
+
+/** Subcarrier spacing: band.spacingHz, or 15 kHz 2^mu from the numerology. */
+export function spacingOf(scenario: Scenario): number {
+  const band = scenario.band!;
+  if (band.spacingHz !== undefined) return band.spacingHz;
+  return 15e3 * 2 ** (scenario.timing.numerology ?? 0);
+}
+
+function fadingOf(f: Scenario['fading']): FadingSpec {
+  switch (f.model) {
+    case 'static':
+      return { model: 'static' };
+    case 'gauss-markov':
+      return { model: 'gauss-markov', speedMps: f.speedMps };
+    case 'ar':
+      return { model: 'ar', order: f.order, speedMps: f.speedMps };
+    case 'sum-of-sinusoids':
+      return { model: 'sum-of-sinusoids', sinusoids: f.sinusoids, speedMps: f.speedMps };
+    case 'geometric':
+      return { model: 'geometric', ricianKDb: f.ricianKDb, sinusoids: f.sinusoids, speedMps: f.speedMps };
+  }
+}
+
+/** The geometry's scene from the scenario's `scene` object. */
+export function sceneOf(scenario: Scenario): Scene {
+  return scenario.scene as unknown as Scene;
+}
+
+/** Build the generators of a validated scenario. */
 export function buildScenario(scenario: Scenario, options: { domain?: Domain; seed?: number } = {}): BuiltScenario {
   const domain = chooseDomain(scenario, options.domain);
   const carrierHz = scenario.carrierHz;
-  const receiverConfig = scenario.receiver ?? scenario.receivers![0]!;
   const tx = buildTerminal(scenario.transmitter, carrierHz);
-  const rx = buildTerminal(receiverConfig, carrierHz);
-  if (scenario.scene !== undefined && traced === undefined) {
-    throw new ScenarioError([{ path: 'scene', message: 'tracing scenes is not available in this build; give explicit "paths"' }]);
-  }
-  const source = scenario.scene !== undefined ? traced!(scenario, tx, rx) : explicitPaths(scenario);
-  if (source.paths.length === 0) {
-    throw new ScenarioError([{ path: scenario.scene !== undefined ? 'scene' : 'paths', message: 'the geometry yields no path at all between the transmitter and the receiver' }]);
-  }
+  const symbols = symbolTimingOf(scenario);
   const grid: OutputGrid =
     domain === 'frequency'
-      ? { domain, subcarriers: scenario.band!.subcarriers, spacingHz: scenario.band!.spacingHz, beamSquint: scenario.band!.beamSquint ?? false }
+      ? { domain, subcarriers: scenario.band!.subcarriers, spacingHz: spacingOf(scenario), beamSquint: scenario.band!.beamSquint ?? false }
       : { domain, sampleRateHz: scenario.taps!.sampleRateHz, count: scenario.taps!.count, pulse: scenario.taps!.pulse ?? 'sinc', rollOff: scenario.taps!.rollOff ?? 0 };
-  const delayShiftS = scenario.taps?.alignFirstPath === true ? alignmentShiftS(source.paths.map((p) => p.delayS), scenario.taps.sampleRateHz) : 0;
-  if (scenario.fading.model !== 'static' && scenario.fading.model !== 'gauss-markov') {
-    throw new ScenarioError([{ path: 'fading.model', message: `"${scenario.fading.model}" is not available in this build; use "static" or "gauss-markov"` }]);
+  const S = scenario.timing.subframes;
+  const stepsPerSubframe = symbols?.perSubframe ?? 1;
+  const lastStepTime = symbols?.clock !== undefined ? symbols.clock.timeS(S * stepsPerSubframe - 1) : ((S * stepsPerSubframe - 1) * scenario.timing.subframeS) / stepsPerSubframe;
+  const warnings: string[] = [];
+  const users: UserChannel[] = [];
+  for (const r of receiversOf(scenario)) {
+    const rx = buildTerminal(r.config, carrierHz);
+    let timeline: PathTimeline;
+    let records: PathRecord[];
+    let delays: number[];
+    let totalPower: number;
+    if (scenario.scene !== undefined) {
+      const traced = new TracedTimeline(
+        sceneOf(scenario),
+        { motion: tx.motion!, polarization: scenario.transmitter.array.polarization, orientation: scenario.transmitter.array.orientation },
+        { motion: rx.motion!, polarization: r.config.array.polarization, orientation: r.config.array.orientation },
+        carrierHz,
+        lastStepTime,
+        scenario.timing.geometryUpdateS ?? scenario.timing.subframeS,
+      );
+      for (const w of traced.warnings) if (!warnings.includes(w)) warnings.push(w);
+      timeline = traced;
+      records = traced.pathsAt(0).map(recordOfTraced);
+      delays = traced.epochs.flatMap((m) => [...m.values()].map((p) => p.delayS));
+      totalPower = records.reduce((a, p) => a + 10 ** (p.powerDb / 10), 0);
+    } else {
+      const explicit = explicitPaths(scenario);
+      timeline = new ExplicitTimeline(explicit.paths);
+      records = explicit.records;
+      delays = explicit.paths.map((p) => p.delayS);
+      totalPower = explicit.paths.reduce((a, p) => a + p.power, 0);
+    }
+    if (timeline.ids.length === 0) {
+      const who = scenario.receivers !== undefined ? `receivers[${users.length}]` : 'receiver';
+      throw new ScenarioError([{ path: scenario.scene !== undefined ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
+    }
+    const delayShiftS = scenario.taps?.alignFirstPath === true ? alignmentShiftS(delays, scenario.taps.sampleRateHz) : 0;
+    const spec: ChannelSpec = {
+      carrierHz,
+      subframeS: scenario.timing.subframeS,
+      subframes: S,
+      transmitter: tx,
+      receiver: rx,
+      timeline,
+      fading: fadingOf(scenario.fading),
+      grid,
+      delayShiftS,
+      seed: options.seed ?? scenario.seed,
+      precision: scenario.precision ?? 'complex64',
+      symbols,
+      streamKey: r.streamKey,
+      amplitudeScale: scenario.fading.normalize === true && totalPower > 0 ? 1 / Math.sqrt(totalPower) : 1,
+    };
+    const generator = new ChannelGenerator(spec);
+    for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
+    users.push({ id: r.id, receiver: r.config, generator, timeline, paths: records, spec });
   }
-  if (scenario.fading.normalize === true) {
-    const total = source.paths.reduce((a, p) => a + p.power, 0);
-    for (const p of source.paths) p.power /= total;
-  }
-  const spec: ChannelSpec = {
-    carrierHz,
-    subframeS: scenario.timing.subframeS,
-    subframes: scenario.timing.subframes,
-    transmitter: tx,
-    receiver: rx,
-    paths: source.paths,
-    fading: scenario.fading.model === 'static' ? { model: 'static' } : { model: 'gauss-markov', speedMps: scenario.fading.speedMps },
-    grid,
-    delayShiftS,
-    seed: options.seed ?? scenario.seed,
-    precision: scenario.precision ?? 'complex64',
+  const first = users[0]!;
+  const multiUser = scenario.receivers !== undefined;
+  const userShape = first.generator.shape.slice(1);
+  const shape = multiUser ? [S, users.length, ...userShape] : [S, ...userShape];
+  return {
+    scenario,
+    domain,
+    users,
+    multiUser,
+    shape,
+    valuesPerSubframe: users.length * first.generator.valuesPerSubframe,
+    generator: first.generator,
+    paths: first.paths,
+    warnings,
   };
-  const generator = new ChannelGenerator(spec);
-  return { scenario, domain, spec, generator, paths: source.records, warnings: [...source.warnings, ...generator.warnings] };
 }
 
 /** Tensor shape and size of a scenario, computed without building anything. */
 export function outputEstimate(scenario: Scenario, domain: Domain, subframes = scenario.timing.subframes): { shape: number[]; bytes: number; bytesPerSubframe: number } {
-  const receiverConfig = scenario.receiver ?? scenario.receivers?.[0];
-  const nr = receiverConfig === undefined ? 0 : elementCount(receiverConfig.array);
+  const receivers = scenario.receivers ?? (scenario.receiver !== undefined ? [scenario.receiver] : []);
+  const nr = receivers.length === 0 ? 0 : elementCount(receivers[0]!.array);
   const nt = elementCount(scenario.transmitter.array);
   const bins = domain === 'frequency' ? (scenario.band?.subcarriers ?? 0) : (scenario.taps?.count ?? 0);
   const bytesPerValue = scenario.precision === 'complex128' ? 16 : 8;
-  const bytesPerSubframe = bins * nr * nt * bytesPerValue;
-  return { shape: [subframes, bins, nr, nt], bytes: subframes * bytesPerSubframe, bytesPerSubframe };
+  let symbols: number | undefined;
+  if (scenario.timing.numerology !== undefined) symbols = (scenario.timing.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** scenario.timing.numerology;
+  else symbols = scenario.timing.symbolsPerSubframe;
+  const shape = [subframes, ...(scenario.receivers !== undefined ? [receivers.length] : []), ...(symbols !== undefined ? [symbols] : []), bins, nr, nt];
+  const bytesPerSubframe = (shape.slice(1).reduce((a, b) => a * b, 1) || 0) * bytesPerValue;
+  return { shape, bytes: subframes * bytesPerSubframe, bytesPerSubframe };
 }

@@ -43,9 +43,10 @@ export const arraySchema = z.strictObject({
   orientation: orientationSchema.optional(),
   element: z.union([z.enum(['isotropic', '3gpp-38.901']), z.strictObject({ table: elementTableSchema })]).optional(),
   polarization: polarizationSchema.optional(),
+  wavefront: z.enum(['plane', 'spherical', 'auto']).optional(),
 });
 
-const waypointSchema = z.strictObject({ t: nonNegative, position: point });
+const waypointSchema = z.strictObject({ t: nonNegative, position: point, orientation: orientationSchema.optional() });
 
 /** A transmitter or receiver. */
 export const terminalSchema = z.strictObject({
@@ -117,7 +118,7 @@ export const scenarioSchema = z.strictObject({
   band: z
     .strictObject({
       subcarriers: count,
-      spacingHz: positive,
+      spacingHz: positive.optional(),
       beamSquint: z.boolean().optional(),
     })
     .optional(),

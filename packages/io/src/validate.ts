@@ -5,6 +5,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import type { z } from 'zod';
+import { validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
 import { scenarioSchema, type Scenario } from './schema.js';
 
@@ -242,13 +243,72 @@ function crossChecks(s: Scenario): Problem[] {
     if (ids.has(p.id)) problems.push({ path: `paths[${i}].id`, message: `duplicate path id ${JSON.stringify(p.id)}` });
     ids.add(p.id);
   });
+  // Receivers share one tensor, so they must have the same number of elements.
+  if (s.receivers !== undefined && s.receivers.length > 1) {
+    const count = (a: Scenario['transmitter']['array']): number => (a.kind === 'ula' ? (a.elements ?? 0) : a.kind === 'upa' ? (a.rows ?? 0) * (a.columns ?? 0) : (a.positions?.length ?? 0));
+    const n0 = count(s.receivers[0]!.array);
+    s.receivers.forEach((r, i) => {
+      if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} elements but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });
+    });
+    const ids = new Set<string>();
+    s.receivers.forEach((r, i) => {
+      const id = r.id ?? String(i);
+      if (ids.has(id)) problems.push({ path: `receivers[${i}].id`, message: `duplicate user id ${JSON.stringify(id)}` });
+      ids.add(id);
+    });
+  }
+  // Time resolution: numerology (3GPP TS 38.211 section 4) or a uniform symbol count.
+  const t = s.timing;
+  if (t.numerology !== undefined) {
+    if (t.numerology < 0 || t.numerology > 4) problems.push({ path: 'timing.numerology', message: `must be an integer from 0 to 4 (subcarrier spacing 15 kHz * 2^mu), got ${t.numerology}` });
+    else {
+      if (t.cyclicPrefix === 'extended' && t.numerology !== 2) problems.push({ path: 'timing.cyclicPrefix', message: `"extended" is allowed only with numerology 2 (60 kHz, TS 38.211 Table 4.2-1), got numerology ${t.numerology}` });
+      const symbols = (t.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** t.numerology;
+      if (t.symbolsPerSubframe !== undefined && t.symbolsPerSubframe !== symbols) problems.push({ path: 'timing.symbolsPerSubframe', message: `numerology ${t.numerology} has ${symbols} symbols per 1 ms subframe, got ${t.symbolsPerSubframe}` });
+      const spacing = 15e3 * 2 ** t.numerology;
+      if (s.band?.spacingHz !== undefined && s.band.spacingHz !== spacing) problems.push({ path: 'band.spacingHz', message: `numerology ${t.numerology} means ${spacing} Hz; give that or leave spacingHz out, got ${s.band.spacingHz}` });
+      if (t.subframeS < 1e-3) problems.push({ path: 'timing.subframeS', message: `an NR subframe is 1 ms: with a numerology it must be >= 0.001, got ${t.subframeS}` });
+    }
+  } else if (t.cyclicPrefix !== undefined) problems.push({ path: 'timing.cyclicPrefix', message: 'applies only with timing.numerology' });
+  if (s.band !== undefined && s.band.spacingHz === undefined && t.numerology === undefined) problems.push({ path: 'band.spacingHz', message: 'is required (or give timing.numerology, from which it follows)' });
+  // Fading options belong to their models.
+  const f = s.fading;
+  if (f.order !== undefined && f.model !== 'ar') problems.push({ path: 'fading.order', message: `applies only to model "ar", got model "${f.model}"` });
+  if (f.sinusoids !== undefined && f.model !== 'sum-of-sinusoids' && f.model !== 'geometric') problems.push({ path: 'fading.sinusoids', message: `applies only to models "sum-of-sinusoids" and "geometric", got model "${f.model}"` });
+  if (f.sinusoids !== undefined && f.sinusoids < 8) problems.push({ path: 'fading.sinusoids', message: `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${f.sinusoids}` });
+  if (f.ricianKDb !== undefined && f.model !== 'geometric') problems.push({ path: 'fading.ricianKDb', message: `applies only to model "geometric", got model "${f.model}"` });
+  if (f.model === 'static' && f.speedMps !== undefined) problems.push({ path: 'fading.speedMps', message: 'has no effect with model "static"' });
   for (const [i, p] of (s.paths ?? []).entries()) {
     for (const key of ['aodDeg', 'aoaDeg'] as const) {
       const el = p[key][1];
       if (el < -90 || el > 90) problems.push({ path: `paths[${i}].${key}[1]`, message: `elevation must lie in [-90, 90] degrees, got ${el}` });
     }
   }
+  if (s.scene !== undefined && problems.length === 0) {
+    const receivers = s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []);
+    receivers.forEach((r, i) => {
+      const at = s.receivers !== undefined ? `receivers[${i}]` : 'receiver';
+      for (const p of validateScene(s.scene as unknown as Scene, {
+        transmitter: terminalPoint(s.transmitter),
+        receiver: terminalPoint(r),
+        carrierHz: s.carrierHz,
+        scenePath: 'scene',
+        transmitterPath: 'transmitter.position',
+        receiverPath: `${at}.position`,
+      })) {
+        if (p.severity === 'error' && !problems.some((q) => q.path === p.path && q.message === p.message)) problems.push({ path: p.path, message: p.message });
+        else if (p.severity === 'warning') sceneWarnings.add(formatProblem(p));
+      }
+    });
+  }
   return problems;
+}
+
+const sceneWarnings = new Set<string>();
+
+function terminalPoint(t: Scenario['transmitter']): [number, number, number] {
+  const p = t.trajectory?.[0]?.position ?? t.position;
+  return [p[0]!, p[1]!, p[2] ?? 0];
 }
 
 /** Hooks a later stage (the scene tracer, fading models) can add checks through. */
@@ -273,8 +333,9 @@ export function safeParseScenario(input: unknown): ScenarioResult {
     const problems = result.error.issues.flatMap((issue) => issueToProblems(issue, input));
     return { ok: false, problems: dedupe(problems) };
   }
+  sceneWarnings.clear();
   const problems = crossChecks(result.data);
-  const warnings: string[] = [];
+  const warnings: string[] = [...sceneWarnings];
   if (problems.length === 0) {
     for (const check of extraChecks) {
       const r = check(result.data);

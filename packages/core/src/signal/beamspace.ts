@@ -314,11 +314,13 @@ export function trackBeamPairs(
   let read: (s: number) => { data: ComplexArray; offset: number };
   if ('fill' in source) {
     if (source.spec.grid.domain !== 'frequency') throw new RangeError(`${fn}: the generator must have a frequency-domain grid, got '${source.spec.grid.domain}'`);
-    [S, K, Nr, Nt] = source.shape;
+    if (source.shape.length !== 4) throw new RangeError(`${fn}: the generator must have no symbol axis, got shape [${source.shape.join(', ')}]`);
+    [S, K, Nr, Nt] = source.shape as [number, number, number, number];
     const one = source.allocate(1);
     read = (s) => ({ data: source.fill(one, s, 1), offset: 0 });
   } else {
-    [S, K, Nr, Nt] = source.shape;
+    if (source.shape.length !== 4) throw new RangeError(`${fn}: the generator must have no symbol axis, got shape [${source.shape.join(', ')}]`);
+    [S, K, Nr, Nt] = source.shape as [number, number, number, number];
     [S, K, Nr, Nt].forEach((v, i) => checkInteger(fn, `shape[${i}]`, v, 1));
     checkLength(fn, 'tensor', source.tensor, 2 * S * K * Nr * Nt, `[${S}, ${K}, ${Nr}, ${Nt}] complex interleaved`);
     read = (s) => ({ data: source.tensor, offset: 2 * s * K * Nr * Nt });

@@ -73,7 +73,8 @@ export class ChannelFilter {
     if (generator.spec.grid.domain !== 'taps') {
       throw new RangeError(`ChannelFilter.forGenerator(): the generator must have a tap-delay grid (grid.domain 'taps'), got '${generator.spec.grid.domain}'`);
     }
-    const [, count, Nr, Nt] = generator.shape;
+    const n = generator.shape.length;
+    const [count, Nr, Nt] = [generator.shape[n - 3]!, generator.shape[n - 2]!, generator.shape[n - 1]!];
     return new ChannelFilter({ transmitters: Nt, receivers: Nr, taps: count });
   }
 

@@ -126,7 +126,12 @@ async function generateCommand(argv: string[], io: Io): Promise<number> {
     if (range[0] === range[1]) throw new UsageError(`--shard ${shard.index}/${shard.count} holds no subframe of ${S}`);
   }
   const quiet = args.flags.has('quiet');
-  for (const w of warnings) io.err(`warning: ${w}`);
+  const warned = new Set<string>();
+  const warn = (w: string): void => {
+    if (!warned.has(w)) io.err(`warning: ${w}`);
+    warned.add(w);
+  };
+  for (const w of warnings) warn(w);
 
   const controller = new AbortController();
   let interrupted: string | undefined;
@@ -155,7 +160,7 @@ async function generateCommand(argv: string[], io: Io): Promise<number> {
       ...(seed !== undefined ? { seed } : {}),
       ...(domain !== undefined ? { domain } : {}),
     });
-    for (const w of report.warnings) io.err(`warning: ${w}`);
+    for (const w of report.warnings) warn(w);
     io.out(
       `wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] (subframes ${report.range[0]}:${report.range[1]}), ` +
         `${formatBytes(report.fileBytes)} (${report.fileBytes} bytes) in ${report.seconds.toFixed(2)} s`,
@@ -204,7 +209,7 @@ async function validateCommand(argv: string[], io: Io): Promise<number> {
   }
   const name = domain === 'frequency' ? 'H' : 'h';
   io.out(`  output       ${name} ${scenario.precision ?? 'complex64'} [${est.shape.join(', ')}], ${formatBytes(est.bytes)} (${est.bytes} bytes) as .npy`);
-  for (const w of [...warnings, ...built.warnings]) io.out(`  warning: ${w}`);
+  for (const w of new Set([...warnings, ...built.warnings])) io.out(`  warning: ${w}`);
   return 0;
 }
 

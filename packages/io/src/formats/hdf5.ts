@@ -28,7 +28,7 @@
 import { promises as fsp } from 'node:fs';
 import { endianness } from 'node:os';
 import h5wasm from 'h5wasm/node';
-import { temporaryPathFor } from '../atomic.js';
+import { temporaryPathFor, trackTemporary, untrackTemporary } from '../atomic.js';
 import {
   checkAttribute,
   checkNamedArray,
@@ -265,9 +265,11 @@ class Hdf5Sink implements DatasetSink {
       const status = this.release();
       if (status < 0) throw new Error(`${fn}(): H5Fclose failed (status ${status})`);
       await fsp.rename(this.temporaryPath, this.path);
+      untrackTemporary(this.temporaryPath);
       return (await fsp.stat(this.path)).size;
     } catch (err) {
       await fsp.rm(this.temporaryPath, { force: true });
+      untrackTemporary(this.temporaryPath);
       throw err;
     }
   }
@@ -279,6 +281,7 @@ class Hdf5Sink implements DatasetSink {
       this.release();
     } finally {
       await fsp.rm(this.temporaryPath, { force: true });
+      untrackTemporary(this.temporaryPath);
     }
   }
 }
@@ -304,6 +307,7 @@ export async function openHdf5Sink(path: string, options: Hdf5SinkOptions = {}):
   const module = await h5wasm.ready;
   const temporaryPath = temporaryPathFor(path);
   // "x": create, fail if a file of that name exists (the name is unique, so it never should).
+  trackTemporary(temporaryPath);
   const file = new h5wasm.File(temporaryPath, 'x', { libver: ['earliest', 'v110'] });
   if (file.file_id < 0n) throw new Error(`${fn}(): cannot create ${temporaryPath}`);
   return new Hdf5Sink(module, file, path, temporaryPath, maxWriteBytes);

@@ -1,6 +1,8 @@
 /** Output formats by name; each opens a DatasetSink writing to a temporary file first. */
 import type { DatasetSink } from './sink.js';
 import { NpySink } from './npy.js';
+import { openNpzSink } from './npz.js';
+import { openHdf5Sink } from './hdf5.js';
 
 /** File formats `generate` writes. */
 export type OutputFormat = 'npy' | 'npz' | 'h5';
@@ -21,7 +23,9 @@ export async function openSink(format: OutputFormat, path: string): Promise<Data
   switch (format) {
     case 'npy':
       return NpySink.open(path);
-    default:
-      throw new RangeError(`openSink(): format "${format}" is not available in this build`);
+    case 'npz':
+      return openNpzSink(path);
+    case 'h5':
+      return openHdf5Sink(path);
   }
 }

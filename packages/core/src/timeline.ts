@@ -1,0 +1,248 @@
+/**
+ * Path timelines: the L paths of a run and their parameters at any time. The path set is fixed
+ * for the whole run (the union over geometry updates, in a stable order), so gains [S, L] and
+ * every shard agree on what column l means. A frame holds the L paths at one time, as
+ * structure-of-arrays: delay [L], departure and arrival [3 L] (global unit vectors), complex
+ * amplitude [2 L] (interleaved; includes the visibility fade), signed Doppler [L], visibility [L].
+ */
+import {
+  AntennaArray,
+  prepareScene,
+  retracePaths,
+  rotationFromOrientation,
+  traceScene,
+  type Orientation,
+  type Polarization,
+  type PreparedScene,
+  type Scene,
+  type TraceOptions,
+  type TracedPath,
+  type Vec3,
+} from '@pathweave/geometry';
+import type { Motion } from './motion.js';
+
+/** The L paths at one time. */
+export class PathFrame {
+  readonly delayS: Float64Array;
+  readonly departure: Float64Array;
+  readonly arrival: Float64Array;
+  readonly amplitude: Float64Array;
+  readonly dopplerHz: Float64Array;
+  readonly visibility: Float64Array;
+  /** Unfolded length of each path, metres (for spherical wavefronts). */
+  readonly lengthM: Float64Array;
+  /** Line of sight between the terminals at this time (a LOS path is visible). */
+  lineOfSight = false;
+
+  constructor(readonly count: number) {
+    this.delayS = new Float64Array(count);
+    this.departure = new Float64Array(3 * count);
+    this.arrival = new Float64Array(3 * count);
+    this.amplitude = new Float64Array(2 * count);
+    this.dopplerHz = new Float64Array(count);
+    this.visibility = new Float64Array(count);
+    this.lengthM = new Float64Array(count);
+  }
+}
+
+/** A source of path frames over time. */
+export interface PathTimeline {
+  /** Stable path ids (keys of the random streams), column order of gains. */
+  readonly ids: readonly string[];
+  /** Path kinds ("explicit", "los", "reflection", "scatter"). */
+  readonly kinds: readonly string[];
+  /** True when no frame differs from the frame at t = 0. */
+  readonly constant: boolean;
+  /** Fill `frame` with the paths at time t (seconds). */
+  frameAt(timeS: number, frame: PathFrame): void;
+}
+
+/** One explicit path (design.md `paths`), in SI units. */
+export interface ExplicitPath {
+  id: string;
+  delayS: number;
+  /** E|rho|^2, linear. */
+  power: number;
+  phaseRad: number;
+  departure: Vec3;
+  arrival: Vec3;
+  dopplerHz?: number | undefined;
+  maxDopplerHz?: number | undefined;
+}
+
+/** Paths given explicitly: the same frame at every time. */
+export class ExplicitTimeline implements PathTimeline {
+  readonly ids: readonly string[];
+  readonly kinds: readonly string[];
+  readonly constant = true;
+
+  constructor(readonly paths: readonly ExplicitPath[]) {
+    this.ids = paths.map((p) => p.id);
+    this.kinds = paths.map(() => 'explicit');
+  }
+
+  frameAt(_timeS: number, frame: PathFrame): void {
+    this.paths.forEach((p, l) => {
+      frame.delayS[l] = p.delayS;
+      frame.departure.set(p.departure, 3 * l);
+      frame.arrival.set(p.arrival, 3 * l);
+      const a = Math.sqrt(p.power);
+      frame.amplitude[2 * l] = a * Math.cos(p.phaseRad);
+      frame.amplitude[2 * l + 1] = a * Math.sin(p.phaseRad);
+      frame.dopplerHz[l] = p.dopplerHz ?? 0;
+      frame.visibility[l] = 1;
+      frame.lengthM[l] = p.delayS * 299_792_458;
+    });
+    frame.lineOfSight = false;
+  }
+}
+
+/** A terminal as the traced timeline sees it. */
+export interface TracedTerminal {
+  motion: Motion;
+  polarization?: Polarization | undefined;
+  /** The array's own orientation (used when the motion does not turn). */
+  orientation?: Orientation | undefined;
+}
+
+/**
+ * Paths traced from a scene. Which paths exist is decided at each geometry update
+ * (t_e = e * updateS); between updates every present path is re-traced from its interaction
+ * list at the current positions (delay, angles, Doppler, spreading and carrier phase change
+ * continuously). A path present at one update and absent at the next fades linearly over the
+ * update interval (and likewise fades in), so nothing jumps.
+ */
+export class TracedTimeline implements PathTimeline {
+  readonly ids: string[];
+  readonly kinds: string[];
+  readonly constant: boolean;
+  /** Per update: id to traced path. */
+  readonly epochs: Map<string, TracedPath>[];
+  readonly epochTimesS: number[];
+  readonly warnings: string[] = [];
+  readonly prepared: PreparedScene;
+  private readonly index = new Map<string, number>();
+  private readonly scratchTx: Vec3 = [0, 0, 0];
+  private readonly scratchRx: Vec3 = [0, 0, 0];
+  private readonly scratchVt: Vec3 = [0, 0, 0];
+  private readonly scratchVr: Vec3 = [0, 0, 0];
+
+  /**
+   * @param endS time of the last step of the run (the updates cover [0, endS])
+   * @param updateS time between geometry updates (ignored when nothing moves)
+   */
+  constructor(
+    scene: Scene,
+    private readonly tx: TracedTerminal,
+    private readonly rx: TracedTerminal,
+    private readonly carrierHz: number,
+    endS: number,
+    private readonly updateS: number,
+    private readonly options: TraceOptions = {},
+  ) {
+    this.prepared = prepareScene(scene);
+    const moving = tx.motion.moves || rx.motion.moves || tx.motion.turns || rx.motion.turns;
+    const count = moving ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
+    this.epochTimesS = Array.from({ length: count }, (_, e) => e * updateS);
+    this.epochs = [];
+    this.ids = [];
+    this.kinds = [];
+    for (const t of this.epochTimesS) {
+      const r = traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
+      for (const w of r.warnings) {
+        const text = `${w.path}: ${w.message}`;
+        if (!this.warnings.includes(text)) this.warnings.push(text);
+      }
+      const map = new Map<string, TracedPath>();
+      for (const p of r.paths) {
+        map.set(p.id, p);
+        if (!this.index.has(p.id)) {
+          this.index.set(p.id, this.ids.length);
+          this.ids.push(p.id);
+          this.kinds.push(p.kind);
+        }
+      }
+      this.epochs.push(map);
+    }
+    this.constant = !moving;
+  }
+
+  private terminal(t: TracedTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
+    t.motion.positionAt(timeS, position);
+    t.motion.velocityAt(timeS, velocity);
+    const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
+    return { position, velocity, rotation: rotationFromOrientation(orientation), ...(t.polarization !== undefined ? { polarization: t.polarization } : {}) };
+  }
+
+  /** The update interval holding t, and the fraction of the way to the next update. */
+  private locate(t: number): { e: number; f: number } {
+    if (this.epochs.length === 1) return { e: 0, f: 0 };
+    const e = Math.min(this.epochs.length - 1, Math.max(0, Math.floor(t / this.updateS + 1e-12)));
+    const f = e + 1 < this.epochs.length ? Math.min(1, Math.max(0, (t - e * this.updateS) / this.updateS)) : 0;
+    return { e, f };
+  }
+
+  frameAt(timeS: number, frame: PathFrame): void {
+    frame.amplitude.fill(0);
+    frame.visibility.fill(0);
+    frame.lineOfSight = false;
+    const { e, f } = this.locate(timeS);
+    const now = this.epochs[e]!;
+    const next = this.epochs[e + 1];
+    const present: TracedPath[] = [];
+    const weights: number[] = [];
+    const seen = new Set<string>();
+    for (const [id, p] of now) {
+      const w = (1 - f) + (next?.has(id) === true || next === undefined ? f : 0);
+      present.push(p);
+      weights.push(w);
+      seen.add(id);
+    }
+    if (next !== undefined) {
+      for (const [id, p] of next) {
+        if (seen.has(id) || f === 0) continue;
+        present.push(p);
+        weights.push(f);
+      }
+    }
+    if (present.length === 0) return;
+    const refreshed =
+      this.constant
+        ? present
+        : retracePaths(this.prepared, present, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
+    refreshed.forEach((p, i) => {
+      const l = this.index.get(p.id)!;
+      const w = weights[i]!;
+      frame.delayS[l] = p.delayS;
+      frame.departure.set(p.departure, 3 * l);
+      frame.arrival.set(p.arrival, 3 * l);
+      frame.amplitude[2 * l] = w * p.amplitude[0];
+      frame.amplitude[2 * l + 1] = w * p.amplitude[1];
+      frame.dopplerHz[l] = p.dopplerHz;
+      frame.visibility[l] = w;
+      frame.lengthM[l] = p.lengthM;
+      if (p.kind === 'los' && w > 0) frame.lineOfSight = true;
+    });
+    // Paths absent at this time keep a defined direction so array responses stay finite.
+    for (let l = 0; l < this.ids.length; l++) {
+      if (frame.visibility[l] === 0 && frame.departure[3 * l] === 0 && frame.departure[3 * l + 1] === 0 && frame.departure[3 * l + 2] === 0) {
+        frame.departure[3 * l] = 1;
+        frame.arrival[3 * l] = 1;
+      }
+    }
+  }
+
+  /** The traced paths of the update holding time t (for listings). */
+  pathsAt(timeS: number): TracedPath[] {
+    const { e } = this.locate(timeS);
+    const list = [...this.epochs[e]!.values()];
+    if (timeS === this.epochTimesS[e]) return list;
+    return retracePaths(this.prepared, list, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
+  }
+}
+
+/** The array of a terminal at a time (a new AntennaArray only when the motion turns it). */
+export function arrayAt(base: AntennaArray, motion: Motion | undefined, timeS: number): AntennaArray {
+  if (motion === undefined || !motion.turns) return base;
+  return new AntennaArray(base.localOffsets, motion.orientationAt(timeS), base.pattern);
+}
