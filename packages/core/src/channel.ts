@@ -16,7 +16,7 @@ import { pathCorrelation, type PathCorrelation } from './doppler.js';
 import { createFadingGains, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type StepClock } from './fading/index.js';
 import { GaussMarkovGains, StaticGains, type GainPath, type GainProcess } from './gains.js';
 import { subcarrierOffsetsHz } from './grid.js';
-import { accumulatePathsPlain } from './kernels/accumulate.js';
+import { accumulatePaths } from './kernels/index.js';
 import type { Motion } from './motion.js';
 import { pulseFunction, type PulseShape } from './pulse.js';
 import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
@@ -412,7 +412,7 @@ export class ChannelGenerator {
         weights[2 * (k * L + l) + 1] = gr * ci + gi * cr;
       }
     }
-    if (this.squint === undefined) accumulatePathsPlain(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator);
+    if (this.squint === undefined) accumulatePaths(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator);
     else this.assembleSquinted(out, offset, L);
   }
 

@@ -10,7 +10,7 @@ export * from './gains.js';
 export * from './grid.js';
 export * from './pulse.js';
 export * from './channel.js';
-export * from './kernels/accumulate.js';
+export * from './kernels/index.js';
 export * from './fading/index.js';
 export * from './signal/index.js';
 export * from './motion.js';

@@ -8,7 +8,7 @@
  */
 import { createHash } from 'node:crypto';
 import { totalmem } from 'node:os';
-import { subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
+import { KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
 import { writeFileAtomic } from './atomic.js';
 import { buildScenario, chooseDomain, outputEstimate, spacingOf, type BuiltScenario, type Domain } from './build.js';
@@ -185,7 +185,7 @@ export async function generate(scenario: Scenario, scenarioText: string, options
     await sink.setAttribute({ name: 'subframeRange', dtype: 'string', value: `${first}:${end}` });
     await sink.setAttribute({ name: 'subframesTotal', dtype: 'int64', value: scenario.timing.subframes });
     await sink.setAttribute({ name: 'tensorSha256', dtype: 'string', value: sha256 });
-    await sink.setAttribute({ name: 'kernel', dtype: 'string', value: 'js-float64' });
+    await sink.setAttribute({ name: 'kernel', dtype: 'string', value: KERNEL_NAME });
     await sink.setAttribute({ name: 'formatVersion', dtype: 'int32', value: scenario.formatVersion ?? 1 });
     const fileBytes = await sink.commit();
     if (options.format === 'npy') await writeNpySideFile(options.out, built, { first, end, shape, tensorName, sha256, seed, scenarioText });

@@ -13,10 +13,14 @@ export interface ExplicitPathJson {
   dopplerHz: number;
   maxDopplerHz?: number;
   interactions?: unknown[];
+  lengthM?: number;
+  aodLocalDeg?: [number, number];
+  aoaLocalDeg?: [number, number];
+  blockageDb?: number;
 }
 
 /** The paths as the JSON array `pathweave paths --json` prints. */
-export function pathsJson(paths: readonly (PathRecord & { interactions?: unknown[] })[]): ExplicitPathJson[] {
+export function pathsJson(paths: readonly PathRecord[]): ExplicitPathJson[] {
   return paths.map((p) => ({
     id: p.id,
     kind: p.kind,
@@ -28,16 +32,19 @@ export function pathsJson(paths: readonly (PathRecord & { interactions?: unknown
     dopplerHz: p.dopplerHz,
     ...(p.maxDopplerHz !== undefined ? { maxDopplerHz: p.maxDopplerHz } : {}),
     ...(p.interactions !== undefined ? { interactions: p.interactions } : {}),
+    ...(p.lengthM !== undefined ? { lengthM: p.lengthM } : {}),
+    ...(p.aodLocalDeg !== undefined ? { aodLocalDeg: p.aodLocalDeg, aoaLocalDeg: p.aoaLocalDeg } : {}),
+    ...(p.blockageDb !== undefined ? { blockageDb: p.blockageDb } : {}),
   }));
 }
 
 /** A fixed-width table of paths (delay in ns, length in m, power in dB, angles in degrees). */
-export function pathsTable(paths: readonly (PathRecord & { lengthM?: number; interactionText?: string })[]): string {
+export function pathsTable(paths: readonly PathRecord[]): string {
   const header = ['#', 'kind', 'interactions', 'delay ns', 'length m', 'power dB', 'AoD az', 'AoD el', 'AoA az', 'AoA el', 'Doppler Hz'];
   const rows = paths.map((p, i) => [
     String(i),
     p.kind,
-    p.interactionText ?? p.id,
+    p.interactions !== undefined ? (p.interactions.length === 0 ? 'direct' : p.interactions.map((i) => `${i.type === 'reflection' ? 'R' : 'S'}:${i.object}`).join(' > ')) : p.id,
     (p.delayS * 1e9).toFixed(3),
     ((p.lengthM ?? p.delayS * 299_792_458) as number).toFixed(3),
     p.powerDb.toFixed(2),

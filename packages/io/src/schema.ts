@@ -67,6 +67,13 @@ export const pathSchema = z.strictObject({
   phaseDeg: finite.optional(),
   dopplerHz: finite.optional(),
   maxDopplerHz: nonNegative.optional(),
+  // Descriptive fields printed by `pathweave paths --json`, accepted (and ignored) when pasted back.
+  kind: z.string().max(40).optional(),
+  interactions: z.array(z.strictObject({ type: z.string(), object: z.string(), point: z.array(finite) })).optional(),
+  lengthM: nonNegative.optional(),
+  aodLocalDeg: directionDeg.optional(),
+  aoaLocalDeg: directionDeg.optional(),
+  blockageDb: nonNegative.optional(),
 });
 
 const materialSchema = z.union([

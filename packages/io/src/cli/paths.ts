@@ -1,0 +1,43 @@
+/** `pathweave paths`: the paths of a scenario as a table or as explicit-path JSON. */
+import { TracedTimeline } from '@pathweave/core';
+import { buildScenario, recordOfTraced } from '../build.js';
+import { pathsJson, pathsTable } from '../paths.js';
+import { loadScenario } from '../validate.js';
+import { parseArgs, parseInteger, UsageError } from './args.js';
+import { onePositional, type Command, type Io } from './common.js';
+
+async function run(argv: string[], io: Io): Promise<number> {
+  const args = parseArgs('paths', argv, { json: 'flag', at: 'value', user: 'value' });
+  const file = onePositional('paths', args.positionals, 'scenario file');
+  const { scenario } = await loadScenario(file);
+  let at = 0;
+  if (args.values.at !== undefined) {
+    at = Number(args.values.at);
+    if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0) throw new UsageError(`--at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
+  }
+  const built = buildScenario(scenario);
+  let userIndex = 0;
+  if (args.values.user !== undefined) {
+    userIndex = built.users.findIndex((u) => u.id === args.values.user);
+    if (userIndex < 0) userIndex = parseInteger('--user', args.values.user, 0, built.users.length - 1);
+  }
+  const user = built.users[userIndex]!;
+  const records = user.timeline instanceof TracedTimeline ? user.timeline.pathsAt(at).map(recordOfTraced) : user.paths;
+  if (records.length === 0) {
+    io.err(`no path exists at t = ${at} s between the transmitter and ${built.multiUser ? `user ${user.id}` : 'the receiver'}`);
+    return 1;
+  }
+  if (args.flags.has('json')) io.out(JSON.stringify(pathsJson(records), null, 2));
+  else {
+    const who = built.multiUser ? `, user ${user.id}` : '';
+    io.out(`${file}: ${records.length} path${records.length === 1 ? '' : 's'} at t = ${at} s${who}`);
+    io.out(pathsTable(records));
+  }
+  return 0;
+}
+
+/** The paths command. */
+export const pathsCommand: Command = {
+  usage: 'pathweave paths    <scenario.json> [--json] [--at <seconds>] [--user N]',
+  run,
+};
