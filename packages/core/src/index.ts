@@ -15,3 +15,4 @@ export * from './fading/index.js';
 export * from './signal/index.js';
 export * from './motion.js';
 export * from './timeline.js';
+export * from './stream.js';

@@ -123,7 +123,8 @@ export function decodeNpy(bytes: Uint8Array): NpyArray {
   const n = h.shape.reduce((a, b) => a * b, 1);
   const byteLength = n * DTYPE_BYTES[dtype];
   if (bytes.length - h.dataOffset < byteLength) throw new RangeError(`decodeNpy(): data need ${byteLength} bytes, got ${bytes.length - h.dataOffset}`);
-  const copy = bytes.slice(h.dataOffset, h.dataOffset + byteLength);
+  // Uint8Array.prototype.slice copies (a Node Buffer's own slice would return a view of its pool).
+  const copy = Uint8Array.prototype.slice.call(bytes, h.dataOffset, h.dataOffset + byteLength);
   const buf = copy.buffer;
   const data: ArrayData =
     dtype === 'complex64' || dtype === 'float32'
