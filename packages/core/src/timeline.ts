@@ -212,7 +212,15 @@ export class TracedTimeline implements PathTimeline {
         : retracePaths(this.prepared, present, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
     refreshed.forEach((p, i) => {
       const l = this.index.get(p.id)!;
-      const w = weights[i]!;
+      let w = weights[i]!;
+      // Blocker losses are found at the updates; between two updates where the path exists the
+      // loss is interpolated linearly in dB, so blockage rises and falls without steps.
+      const before = now.get(p.id);
+      const after = next?.get(p.id);
+      if (before !== undefined && after !== undefined && f > 0 && before.blockageDb !== after.blockageDb) {
+        const db = (1 - f) * before.blockageDb + f * after.blockageDb;
+        w *= 10 ** (-(db - p.blockageDb) / 20);
+      }
       frame.delayS[l] = p.delayS;
       frame.departure.set(p.departure, 3 * l);
       frame.arrival.set(p.arrival, 3 * l);
