@@ -1,9 +1,11 @@
 #!/usr/bin/env node
 // One-step set-up used by `npm run demo`, `npm test` and `npm run bench`:
 // installs the pinned pnpm (through npx, so nothing global is needed), the locked
-// dependencies, and builds the TypeScript packages. Safe to run again: each step is
-// a no-op when its result is already up to date.
+// dependencies, builds the TypeScript packages and compiles the WebAssembly SIMD kernel from
+// its AssemblyScript source (packages/core/assembly) with the pinned compiler from the npm
+// registry. Safe to run again: each step is a no-op when its result is already up to date.
 import { execFileSync } from 'node:child_process';
+import { existsSync, mkdirSync, statSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -16,4 +18,13 @@ function run(cmd, args) {
 }
 
 run('npx', ['--yes', PNPM, 'install', '--frozen-lockfile', '--reporter=silent']);
+// The SIMD kernel: rebuilt when missing or older than its source. It lands beside the compiled
+// kernels in dist/ (tsc -b, run next, leaves files it does not emit alone), where kernels/wasm.ts finds it.
+const kernelSource = join(root, 'packages', 'core', 'assembly', 'accumulate.ts');
+const kernelOut = join(root, 'packages', 'core', 'dist', 'kernels', 'accumulate.wasm');
+if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < statSync(kernelSource).mtimeMs) {
+  mkdirSync(dirname(kernelOut), { recursive: true });
+  run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', '--enable', 'simd', '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
+}
+
 run(join(root, 'node_modules', '.bin', 'tsc'), ['-b']);

@@ -1,10 +1,16 @@
 /**
  * The kernel in use for the assembler's inner loop. Chosen the same way on every run of a
- * machine and recorded in the output's metadata (design.md, Reproducibility).
+ * machine and recorded in the output's metadata (design.md, Reproducibility): the WebAssembly
+ * SIMD kernel when its compiled file is present and validates (128-bit SIMD), else the plain
+ * JavaScript one. `PATHWEAVE_KERNEL=js` forces the plain kernel (also recorded).
+ *
+ * Layouts: see accumulate.ts (weights [bins, L], products [L, M], out [bins, M], complex interleaved).
  */
 import { accumulatePathsPlain, type KernelOut } from './accumulate.js';
+import { loadWasmKernel, type WasmKernelFunction } from './wasm.js';
 
 export { accumulatePathsPlain, type KernelOut } from './accumulate.js';
+export { loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelFunction } from './wasm.js';
 
 /** Signature of an accumulate kernel (see accumulate.ts for the layouts). */
 export type AccumulateKernel = (
@@ -18,8 +24,44 @@ export type AccumulateKernel = (
   scratch: Float64Array,
 ) => void;
 
-/** Name of the kernel `accumulatePaths` runs, recorded in files as the `kernel` attribute. */
-export const KERNEL_NAME: string = 'js-float64';
+/** Name of the plain JavaScript kernel (float64 accumulation). */
+export const PLAIN_KERNEL_NAME = 'js-float64';
+/** Name of the SIMD kernel (float32 lanes for complex64 output, float64 lanes for complex128). */
+export const WASM_KERNEL_NAME = 'wasm-simd128';
 
-/** out[k, :] = sum_l w[k, l] P[l, :] with the kernel in use. */
-export const accumulatePaths: AccumulateKernel = accumulatePathsPlain;
+function choose(): { name: string; kernel: AccumulateKernel; reason: string } {
+  const forced = typeof process === 'object' ? process.env.PATHWEAVE_KERNEL : undefined;
+  if (forced === 'js') return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, reason: 'PATHWEAVE_KERNEL=js' };
+  let loaded: { kernel?: WasmKernelFunction; reason?: string };
+  try {
+    loaded = loadWasmKernel();
+  } catch (e) {
+    loaded = { reason: `could not instantiate the SIMD kernel: ${(e as Error).message}` };
+  }
+  const wasm = loaded.kernel;
+  if (wasm === undefined) return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, reason: loaded.reason ?? 'unknown' };
+  return { name: WASM_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => wasm(out, offset, w, p, bins, L, M), reason: 'WebAssembly SIMD validates' };
+}
+
+const chosen = choose();
+
+/**
+ * Name of the kernel `accumulatePaths` runs, recorded in files as the `kernel` attribute.
+ * @example KERNEL_NAME // "wasm-simd128" after setup on Node 20, else "js-float64"
+ */
+export const KERNEL_NAME: string = chosen.name;
+
+/**
+ * Why KERNEL_NAME was chosen (for benchmarks and bug reports).
+ * @example KERNEL_REASON // "WebAssembly SIMD validates"
+ */
+export const KERNEL_REASON: string = chosen.reason;
+
+/**
+ * out[k, :] = sum_l w[k, l] P[l, :] with the kernel in use.
+ * @example
+ * const out = new Float32Array(2);
+ * accumulatePaths(out, 0, Float64Array.of(0, 1), Float64Array.of(2, 0), 1, 1, 1, new Float64Array(2));
+ * out // Float32Array [0, 2]  (j * 2)
+ */
+export const accumulatePaths: AccumulateKernel = chosen.kernel;
