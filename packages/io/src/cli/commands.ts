@@ -11,4 +11,5 @@ export const COMMANDS: Record<string, Command> = {
   paths: pathsCommand,
   validate: validateCommand,
   inspect: inspectCommand,
+  merge: (await import('./merge.js')).mergeCommand,
 };

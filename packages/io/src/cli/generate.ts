@@ -1,9 +1,16 @@
-/** `pathweave generate`: a scenario to a dataset file, streamed, with progress and signal handling. */
-import { stat } from 'node:fs/promises';
+/**
+ * `pathweave generate`: a scenario to a dataset file, streamed, with progress and signal handling.
+ * With `--shard I/N` (or `auto`) the run writes the part file `partPath(out, I, N)` and its
+ * manifest (manifest.ts); a rerun keeps a part whose manifest verifies.
+ */
+import { stat, unlink } from 'node:fs/promises';
+import { KERNEL_NAME } from '@pathweave/core';
 import { removeLiveTemporaryFiles } from '../atomic.js';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
 import { DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate } from '../generate.js';
+import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../manifest.js';
 import { loadScenario } from '../validate.js';
+import { PATHWEAVE_VERSION } from '../version.js';
 import { parseArgs, parseBytes, parseInteger, parseRange, parseShard, shardRange, UsageError } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
 import { Progress } from './progress.js';
@@ -38,10 +45,26 @@ async function run(argv: string[], io: Io): Promise<number> {
   const S = scenario.timing.subframes;
   let range: [number, number] = [0, S];
   if (args.values.subframes !== undefined) range = parseRange('--subframes', args.values.subframes, S);
+  let shard: { index: number; count: number; source: string } | undefined;
   if (args.values.shard !== undefined) {
-    const shard = parseShard(args.values.shard, process.env);
+    shard = parseShard(args.values.shard, process.env);
     range = shardRange(shard.index, shard.count, S);
     if (range[0] === range[1]) throw new UsageError(`--shard ${shard.index}/${shard.count} holds no subframe of ${S}`);
+  }
+  // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
+  const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
+  const effectiveSeed = seed ?? scenario.seed;
+  if (shard !== undefined) {
+    const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
+    if (earlier.reusable) {
+      io.out(`skipped ${target}: part ${shard.index} of ${shard.count} (subframes ${range[0]}:${range[1]}) is already complete; its manifest verified (${earlier.manifest.fileBytes} bytes, tensor sha256 ${earlier.manifest.tensor.sha256})`);
+      return 0;
+    }
+    if (earlier.reason !== 'no manifest yet') {
+      io.err(`regenerating ${target}: ${earlier.reason}`);
+      // Never leave a manifest beside a file it does not describe.
+      await unlink(manifestPathOf(target)).catch(() => undefined);
+    }
   }
   const quiet = args.flags.has('quiet');
   const warned = new Set<string>();
@@ -53,28 +76,33 @@ async function run(argv: string[], io: Io): Promise<number> {
 
   const controller = new AbortController();
   let interrupted: string | undefined;
+  let done = 0;
+  const total = range[1] - range[0];
   const onSignal = (signal: NodeJS.Signals): void => {
     if (interrupted !== undefined) return;
     interrupted = signal;
     controller.abort(new Error(`interrupted by ${signal}`));
-    // A block in progress finishes quickly; if not, leave within a second regardless.
+    // The run stops at the next block boundary; should that take too long, leave regardless.
     setTimeout(() => {
       const removed = removeLiveTemporaryFiles();
-      io.err(`error: interrupted by ${signal}; removed ${removed.length} temporary file(s); nothing was written to ${out}`);
+      io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed.length} temporary file(s); nothing was written to ${target}`);
       process.exit(1);
     }, 900).unref();
   };
   process.on('SIGINT', onSignal);
   process.on('SIGTERM', onSignal);
   try {
-    const progress = new Progress(`generate ${out}`, range[1] - range[0], process.stderr, quiet);
+    const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
     const report = await generate(scenario, text, {
-      out,
+      out: target,
       format,
       range,
       maxBytes,
       signal: controller.signal,
-      onProgress: (done) => progress.update(done),
+      onProgress: (n) => {
+        done = n;
+        progress.update(n);
+      },
       ...(seed !== undefined ? { seed } : {}),
       ...(domain !== undefined ? { domain } : {}),
     });
@@ -83,10 +111,34 @@ async function run(argv: string[], io: Io): Promise<number> {
       `wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] (subframes ${report.range[0]}:${report.range[1]}), ` +
         `${formatBytes(report.fileBytes)} (${report.fileBytes} bytes) in ${report.seconds.toFixed(2)} s`,
     );
+    if (shard !== undefined) {
+      // Written last: a manifest exists only beside a complete part file.
+      const manifestPath = await writeManifest(
+        target,
+        manifestOf({
+          index: shard.index,
+          count: shard.count,
+          range,
+          subframesTotal: S,
+          partFile: target,
+          fileBytes: (await stat(target)).size,
+          format,
+          tensorName: report.tensorName,
+          dtype: report.dtype,
+          shape: report.shape,
+          sha256: report.sha256,
+          scenarioText: text,
+          seed: effectiveSeed,
+          pathweaveVersion: PATHWEAVE_VERSION,
+          kernel: KERNEL_NAME,
+        }),
+      );
+      if (!quiet) io.err(`manifest ${manifestPath} (part ${shard.index} of ${shard.count}, from the ${shard.source})`);
+    }
     return 0;
   } catch (e) {
     if (interrupted !== undefined) {
-      io.err(`error: interrupted by ${interrupted}; the temporary file was removed and nothing was written to ${out}`);
+      io.err(`error: interrupted by ${interrupted} after ${done} of ${total} subframes; the temporary file was removed and nothing was written to ${target}`);
       return 1;
     }
     throw e;

@@ -3,7 +3,20 @@
  * otherwise, nothing when quiet.
  */
 
-/** Reports progress of `total` units of work. */
+/** What Progress writes to: a stream, or anything with `write` (and `isTTY` for the bar). */
+export interface ProgressStream {
+  isTTY?: boolean;
+  write(text: string): unknown;
+}
+
+/**
+ * Reports progress of `total` subframes: on a terminal one bar redrawn in place (at most every
+ * 100 ms) with the rate and the time left; otherwise a plain line at most every 5 s or 10 %, and
+ * always at the end; nothing when quiet.
+ * @example
+ * const p = new Progress('generate run.h5', 400, process.stderr);
+ * p.update(400); // stderr (not a TTY): "generate run.h5: 400/400 subframes (100%), 212.5 subframes/s, 0.0s left"
+ */
 export class Progress {
   private readonly started = Date.now();
   private lastPrint = 0;
@@ -12,7 +25,7 @@ export class Progress {
   constructor(
     private readonly label: string,
     private readonly total: number,
-    private readonly stream: NodeJS.WriteStream = process.stderr,
+    private readonly stream: ProgressStream = process.stderr,
     private readonly quiet = false,
   ) {}
 
@@ -41,7 +54,7 @@ export class Progress {
   }
 }
 
-/** @example formatSeconds(75) // "1m15s" */
+/** A duration for people. @example formatSeconds(75) // "1m15s" */
 export function formatSeconds(s: number): string {
   if (!Number.isFinite(s)) return '?';
   if (s < 60) return `${s.toFixed(s < 10 ? 1 : 0)}s`;

@@ -1,5 +1,5 @@
 /**
- * Readers of the .npz and .h5 files the sinks write (for `inspect` and `merge`): list the named
+ * Readers of the .npy, .npz and .h5 files the sinks write (for `inspect` and `merge`): list the named
  * arrays and root attributes, read an array whole, or read rows [start, end) of axis 0 without
  * loading the rest (a tensor can be larger than memory).
  *
@@ -12,8 +12,10 @@
  * stores attributes so), stored entries are read in place and deflated ones are inflated as a
  * stream. NPZ keeps no units: `units` is undefined there.
  * HDF5: through h5wasm; every dataset's `units` attribute and the root attributes are read.
+ * NPY: the one array is the tensor; its name ("H" or "h") and the root attributes come from the
+ * side file `<file>.json` that generate writes beside it (without one the array is "tensor").
  */
-import { open, type FileHandle } from 'node:fs/promises';
+import { open, readFile, type FileHandle } from 'node:fs/promises';
 import { createReadStream } from 'node:fs';
 import { createInflateRaw } from 'node:zlib';
 import h5wasm from 'h5wasm/node';
@@ -33,7 +35,7 @@ export interface StoredArray {
 /** An open file written by pathweave. */
 export interface DatasetReader {
   readonly path: string;
-  readonly format: 'npz' | 'h5';
+  readonly format: 'npy' | 'npz' | 'h5';
   /** Every named array, the tensor included (NPZ: archive order; HDF5: sorted by path). */
   readonly arrays: readonly StoredArray[];
   /** Root attributes with their dtypes. */
@@ -47,10 +49,11 @@ export interface DatasetReader {
 }
 
 const ZIP_MAGIC = 0x04034b50;
+const NPY_MAGIC = Buffer.from([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]);
 const HDF5_MAGIC = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a]);
 
 /**
- * Open a .npz or .h5 written by the sinks; the format is told by the first bytes.
+ * Open a .npy, .npz or .h5 written by the sinks; the format is told by the first bytes.
  * @example
  * const reader = await openDatasetReader('run.h5');
  * reader.arrays.map((a) => a.name); // ["H", "frequenciesHz", "gains", "paths/delayS", ...]
@@ -68,8 +71,13 @@ export async function openDatasetReader(path: string): Promise<DatasetReader> {
       keep = true;
       return reader;
     }
+    if (head.subarray(0, 6).equals(NPY_MAGIC)) {
+      const reader = await NpyReader.open(path, handle);
+      keep = true;
+      return reader;
+    }
     if (head.equals(HDF5_MAGIC)) return await Hdf5Reader.open(path);
-    throw new RangeError(`openDatasetReader(): ${path} is neither a zip (.npz) nor an HDF5 file (first bytes ${head.toString('hex')})`);
+    throw new RangeError(`openDatasetReader(): ${path} is neither an NPY, a zip (.npz) nor an HDF5 file (first bytes ${head.toString('hex')})`);
   } finally {
     if (!keep) await handle.close();
   }
@@ -96,6 +104,121 @@ function safeNumber(fn: string, name: string, v: bigint): number {
   const n = Number(v);
   if (!Number.isSafeInteger(n)) throw new RangeError(`${fn}(): attribute ${name} = ${v} is beyond 2^53 and cannot be a number`);
   return n;
+}
+
+/**
+ * Rows [0, rows) of a numeric array in blocks of at most `blockRows` rows, in order, so a
+ * tensor larger than memory can be streamed.
+ * @example
+ * for await (const block of readRowBlocks(reader, 'H', 64)) hash.update(bytesOf(block)); // 64 subframes at a time
+ */
+export async function* readRowBlocks(reader: DatasetReader, name: string, blockRows: number): AsyncGenerator<ArrayData> {
+  if (!(Number.isSafeInteger(blockRows) && blockRows >= 1)) throw new RangeError(`readRowBlocks(): blockRows must be an integer >= 1, got ${blockRows}`);
+  const array = reader.arrays.find((a) => a.name === name);
+  if (array === undefined) throw new RangeError(`readRowBlocks(): no array ${JSON.stringify(name)} in ${reader.path}`);
+  const rows = array.shape[0] ?? 0;
+  for (let r = 0; r < rows; r += blockRows) yield await reader.readRows(name, r, Math.min(rows, r + blockRows));
+}
+
+/** The channel tensor of a file pathweave wrote: "H" (frequency domain) or "h" (tap-delay), or an NPY's only array. */
+export function tensorOf(reader: DatasetReader): StoredArray {
+  const t = reader.arrays.find((a) => a.name === 'H') ?? reader.arrays.find((a) => a.name === 'h') ?? (reader.format === 'npy' ? reader.arrays[0] : undefined);
+  if (t === undefined || (t.dtype !== 'complex64' && t.dtype !== 'complex128')) {
+    throw new RangeError(`tensorOf(): ${reader.path} holds no complex channel tensor H or h; it has ${reader.arrays.map((a) => a.name).join(', ') || 'no arrays'}`);
+  }
+  return t;
+}
+
+/** A root attribute's value by name (undefined when absent). @example attributeOf(reader, 'seed') // 42 */
+export function attributeOf(reader: DatasetReader, name: string): string | number | undefined {
+  return reader.attributes.find((a) => a.name === name)?.value;
+}
+
+// ---------------------------------------------------------------------------------------------
+// NPY (with its side file)
+
+/** The side file `<file>.json` generate writes beside a .npy (see generate.ts). */
+export interface NpySideFile {
+  pathweaveVersion?: string;
+  tensor?: { name?: string; dtype?: string; shape?: number[]; subframes?: [number, number]; subframesTotal?: number; sha256?: string };
+  seed?: number;
+  users?: { id: string; paths: { id: string; delayS: number; powerDb: number; aodDeg?: number[]; aoaDeg?: number[]; kind?: string }[] }[];
+  paths?: { id: string; delayS: number; powerDb: number; aodDeg?: number[]; aoaDeg?: number[]; kind?: string }[];
+  scenario?: unknown;
+  [key: string]: unknown;
+}
+
+/** A .npy read through the DatasetReader interface; `side` is its side file when present. */
+export class NpyReader implements DatasetReader {
+  readonly format = 'npy' as const;
+
+  private constructor(
+    readonly path: string,
+    private readonly handle: FileHandle,
+    private readonly dataOffset: number,
+    readonly arrays: StoredArray[],
+    readonly attributes: Attribute[],
+    readonly side: NpySideFile | undefined,
+  ) {}
+
+  /** Open `path` (its handle already open) and its side file. */
+  static async open(path: string, handle: FileHandle): Promise<NpyReader> {
+    const { size } = await handle.stat();
+    const info = parseNpyHeader(await readAt(handle, 0, Math.min(size, 12 + 0x10000)));
+    if (info.fortranOrder) throw new RangeError(`NpyReader: ${path} is Fortran-ordered; pathweave writes C order`);
+    const dtype = dtypeOfDescr(info.descr);
+    const need = info.dataOffset + elementCount(info.shape) * DTYPE_BYTES[dtype];
+    if (size < need) throw new RangeError(`NpyReader: ${path} is ${size} bytes, its header needs ${need}: the file is truncated`);
+    let side: NpySideFile | undefined;
+    try {
+      side = JSON.parse(await readFile(`${path}.json`, 'utf8')) as NpySideFile;
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'ENOENT') throw new RangeError(`NpyReader: side file ${path}.json cannot be read: ${(e as Error).message}`);
+    }
+    const name = side?.tensor?.name === 'H' || side?.tensor?.name === 'h' ? side.tensor.name : 'tensor';
+    const attributes: Attribute[] = [];
+    if (side !== undefined) {
+      if (side.scenario !== undefined) attributes.push({ name: 'scenario', dtype: 'string', value: JSON.stringify(side.scenario) });
+      if (typeof side.pathweaveVersion === 'string') attributes.push({ name: 'pathweaveVersion', dtype: 'string', value: side.pathweaveVersion });
+      if (typeof side.seed === 'number') attributes.push({ name: 'seed', dtype: 'int64', value: side.seed });
+      const t = side.tensor;
+      if (t?.subframes !== undefined) attributes.push({ name: 'subframeRange', dtype: 'string', value: `${t.subframes[0]}:${t.subframes[1]}` });
+      if (typeof t?.subframesTotal === 'number') attributes.push({ name: 'subframesTotal', dtype: 'int64', value: t.subframesTotal });
+      if (typeof t?.sha256 === 'string') attributes.push({ name: 'tensorSha256', dtype: 'string', value: t.sha256 });
+      for (const key of ['kernel', 'formatVersion'] as const) {
+        const v = side[key];
+        if (typeof v === 'string') attributes.push({ name: key, dtype: 'string', value: v });
+        else if (typeof v === 'number') attributes.push({ name: key, dtype: 'int32', value: v });
+      }
+    }
+    return new NpyReader(path, handle, info.dataOffset, [{ name, dtype, shape: info.shape, units: undefined }], attributes, side);
+  }
+
+  private find(fn: string, name: string): StoredArray {
+    const array = this.arrays.find((a) => a.name === name);
+    if (!array) throw new RangeError(`${fn}(): no array ${JSON.stringify(name)} in ${this.path}; it has ${this.arrays[0]!.name}`);
+    return array;
+  }
+
+  async readArray(name: string): Promise<NamedArray> {
+    const array = this.find('NpyReader.readArray', name);
+    const rows = array.shape[0] ?? 1;
+    return { name, dtype: array.dtype, shape: array.shape, data: await this.readRows(name, 0, rows), units: '' };
+  }
+
+  async readRows(name: string, start: number, end: number): Promise<ArrayData> {
+    const fn = 'NpyReader.readRows';
+    const array = this.find(fn, name);
+    checkRows(fn, array, start, end);
+    const dtype = array.dtype as Exclude<DType, 'string'>;
+    const rowBytes = elementCount(array.shape.slice(1)) * DTYPE_BYTES[dtype];
+    const bytes = await readAt(this.handle, this.dataOffset + start * rowBytes, (end - start) * rowBytes);
+    return typedArrayOf(dtype, bytes.buffer.slice(bytes.byteOffset, bytes.byteOffset + bytes.byteLength) as ArrayBuffer);
+  }
+
+  async close(): Promise<void> {
+    await this.handle.close();
+  }
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -1,0 +1,49 @@
+/** `pathweave merge`: the part files of a sharded run into one file (merge.ts). */
+import { formatBytes } from '../generate.js';
+import { merge } from '../merge.js';
+import { parseArgs, UsageError } from './args.js';
+import type { Command, Io } from './common.js';
+import { Progress } from './progress.js';
+
+async function run(argv: string[], io: Io): Promise<number> {
+  const args = parseArgs('merge', argv, { out: 'value', quiet: 'flag' });
+  const out = args.values.out;
+  if (out === undefined) throw new UsageError('merge: --out <file> is required');
+  if (args.positionals.length === 0) throw new UsageError('merge: give the part files, e.g. run.part-*-of-8.h5');
+  const controller = new AbortController();
+  let interrupted: string | undefined;
+  const onSignal = (signal: NodeJS.Signals): void => {
+    interrupted ??= signal;
+    controller.abort(new Error(`interrupted by ${signal}`));
+  };
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
+  let progress: Progress | undefined;
+  try {
+    const report = await merge(args.positionals, out, {
+      signal: controller.signal,
+      onProgress: (done, total) => {
+        progress ??= new Progress(`merge ${out}`, total, process.stderr, args.flags.has('quiet'));
+        progress.update(done);
+      },
+    });
+    for (const w of report.warnings) io.err(`warning: ${w}`);
+    io.out(`wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] from ${report.parts} parts, ${formatBytes(report.fileBytes)} (${report.fileBytes} bytes), tensor sha256 ${report.sha256}, in ${report.seconds.toFixed(2)} s`);
+    return 0;
+  } catch (e) {
+    if (interrupted !== undefined) {
+      io.err(`error: interrupted by ${interrupted}; the temporary file was removed and nothing was written to ${out}`);
+      return 1;
+    }
+    throw e;
+  } finally {
+    process.off('SIGINT', onSignal);
+    process.off('SIGTERM', onSignal);
+  }
+}
+
+/** The merge command. */
+export const mergeCommand: Command = {
+  usage: 'pathweave merge    <part files...> --out <file> [--quiet]',
+  run,
+};

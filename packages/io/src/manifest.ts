@@ -1,0 +1,246 @@
+/**
+ * Part manifests of a sharded run. `generate --shard I/N --out run.h5` writes the part file
+ * `run.part-I-of-N.h5` and, once that file is complete, a small JSON manifest beside it,
+ * `run.part-I-of-N.h5.manifest.json`. Each part owns its own manifest, so any number of machines
+ * can write theirs into one shared folder without a lock; each manifest is written atomically
+ * (temporary file, fsync, rename), so a reader sees a whole manifest or none.
+ *
+ * A manifest says what its part holds (range, shape, dtype, sha256 of the tensor bytes in the
+ * order written, scenario hash, seed, format, file name and size). A rerun skips a part whose
+ * manifest verifies; `merge` checks every manifest and checksum before it writes anything that
+ * could look complete.
+ */
+import { createHash } from 'node:crypto';
+import { readFile, stat } from 'node:fs/promises';
+import { basename, extname } from 'node:path';
+import { z } from 'zod';
+import { writeFileAtomic } from './atomic.js';
+import { bytesOf, DTYPE_BYTES } from './formats/npy.js';
+import { openDatasetReader, readRowBlocks, tensorOf } from './formats/read.js';
+import type { OutputFormat } from './formats/index.js';
+
+/** Value of a manifest's `kind` field. */
+export const MANIFEST_KIND = 'pathweave-part-manifest';
+
+/** Version of the manifest layout; a reader refuses other versions. */
+export const MANIFEST_VERSION = 1;
+
+/** Bytes of tensor read at a time when checksumming a file. */
+const HASH_BLOCK_BYTES = 16 * 2 ** 20;
+
+const manifestSchema = z.object({
+  kind: z.literal(MANIFEST_KIND),
+  manifestVersion: z.literal(MANIFEST_VERSION),
+  part: z.object({ index: z.number().int().min(0), count: z.number().int().min(1) }),
+  range: z.tuple([z.number().int().min(0), z.number().int().min(1)]),
+  subframesTotal: z.number().int().min(1),
+  file: z.string().min(1),
+  fileBytes: z.number().int().min(0),
+  format: z.enum(['npy', 'npz', 'h5']),
+  tensor: z.object({
+    name: z.enum(['H', 'h']),
+    dtype: z.enum(['complex64', 'complex128']),
+    shape: z.array(z.number().int().min(0)).min(3),
+    sha256: z.string().regex(/^[0-9a-f]{64}$/),
+  }),
+  scenarioSha256: z.string().regex(/^[0-9a-f]{64}$/),
+  seed: z.number().int().min(0),
+  pathweaveVersion: z.string(),
+  kernel: z.string(),
+});
+
+/** What one part of a sharded run holds (the JSON document of its manifest file). */
+export type PartManifest = z.infer<typeof manifestSchema>;
+
+/** A manifest that cannot be read or is not one pathweave writes. */
+export class ManifestError extends Error {
+  override name = 'ManifestError';
+}
+
+/**
+ * The part file of shard `index` of `count` for `--out out`: `.part-I-of-N` goes before the
+ * extension (after the whole name when there is none).
+ * @example partPath('data/run.h5', 2, 8) // "data/run.part-2-of-8.h5"
+ */
+export function partPath(out: string, index: number, count: number): string {
+  if (!(Number.isSafeInteger(count) && count >= 1 && Number.isSafeInteger(index) && index >= 0 && index < count)) {
+    throw new RangeError(`partPath(): need integers 0 <= index < count, got index ${index}, count ${count}`);
+  }
+  const ext = extname(out);
+  const stem = ext === '' ? out : out.slice(0, -ext.length);
+  return `${stem}.part-${index}-of-${count}${ext}`;
+}
+
+/** The manifest of a part file. @example manifestPathOf('data/run.part-2-of-8.h5') // "data/run.part-2-of-8.h5.manifest.json" */
+export function manifestPathOf(partFile: string): string {
+  return `${partFile}.manifest.json`;
+}
+
+/** JSON text with object keys sorted at every level (no spaces), for hashing. */
+export function canonicalJson(value: unknown): string {
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
+  if (value !== null && typeof value === 'object') {
+    const entries = Object.keys(value as Record<string, unknown>)
+      .sort()
+      .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
+      .map((k) => `${JSON.stringify(k)}:${canonicalJson((value as Record<string, unknown>)[k])}`);
+    return `{${entries.join(',')}}`;
+  }
+  return JSON.stringify(value) ?? 'null';
+}
+
+/**
+ * sha256 of a scenario's canonical JSON (keys sorted, no spaces): the same scenario written with
+ * other spacing or key order has the same hash.
+ * @example scenarioSha256('{"b": 1, "a": 2}') === scenarioSha256('{"a":2,"b":1}') // true
+ */
+export function scenarioSha256(scenarioText: string): string {
+  return createHash('sha256').update(canonicalJson(JSON.parse(scenarioText) as unknown)).digest('hex');
+}
+
+/** Write a part's manifest atomically beside it (`manifestPathOf(partFile)`). */
+export async function writeManifest(partFile: string, manifest: PartManifest): Promise<string> {
+  if (manifest.file !== basename(partFile)) throw new RangeError(`writeManifest(): manifest.file must be ${JSON.stringify(basename(partFile))}, got ${JSON.stringify(manifest.file)}`);
+  const path = manifestPathOf(partFile);
+  await writeFileAtomic(path, JSON.stringify(manifest, null, 2) + '\n');
+  return path;
+}
+
+/**
+ * Read and check a manifest file.
+ * @throws ManifestError when it is missing, not JSON, or not a pathweave part manifest.
+ */
+export async function readManifest(path: string): Promise<PartManifest> {
+  let text: string;
+  try {
+    text = await readFile(path, 'utf8');
+  } catch (e) {
+    throw new ManifestError(`${path}: cannot read the manifest (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+  }
+  let doc: unknown;
+  try {
+    doc = JSON.parse(text);
+  } catch (e) {
+    throw new ManifestError(`${path}: not JSON (${(e as Error).message})`);
+  }
+  const parsed = manifestSchema.safeParse(doc);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0]!;
+    throw new ManifestError(`${path}: not a pathweave part manifest: ${issue.path.join('.') || '(root)'}: ${issue.message}`);
+  }
+  const m = parsed.data;
+  if (!(m.part.index < m.part.count && m.range[0] < m.range[1] && m.range[1] <= m.subframesTotal && m.tensor.shape[0] === m.range[1] - m.range[0])) {
+    throw new ManifestError(`${path}: inconsistent manifest: part ${m.part.index} of ${m.part.count}, range ${m.range[0]}:${m.range[1]} of ${m.subframesTotal}, shape [${m.tensor.shape.join(', ')}]`);
+  }
+  return m;
+}
+
+/**
+ * sha256 of a file's channel tensor bytes, in the order written (row-major, interleaved re/im,
+ * little-endian), read back through formats/read.ts a block at a time.
+ * @example await tensorSha256OfFile('run.h5') // { sha256: "3f1c...", bytes: 13107200 }
+ */
+export async function tensorSha256OfFile(path: string): Promise<{ sha256: string; bytes: number }> {
+  const reader = await openDatasetReader(path);
+  try {
+    const tensor = tensorOf(reader);
+    const rowBytes = DTYPE_BYTES[tensor.dtype as 'complex64' | 'complex128'] * tensor.shape.slice(1).reduce((a, b) => a * b, 1);
+    const hash = createHash('sha256');
+    let bytes = 0;
+    for await (const block of readRowBlocks(reader, tensor.name, Math.max(1, Math.floor(HASH_BLOCK_BYTES / Math.max(1, rowBytes))))) {
+      hash.update(bytesOf(block));
+      bytes += block.byteLength;
+    }
+    return { sha256: hash.digest('hex'), bytes };
+  } finally {
+    await reader.close();
+  }
+}
+
+/** Outcome of checking a part file against its manifest. */
+export type PartCheck = { ok: true } | { ok: false; reason: string };
+
+/**
+ * Check a part file against its manifest: present, of the recorded size, and with tensor bytes
+ * whose sha256 is the recorded one (re-read from the file). `full: false` stops after the size.
+ * @example await verifyPart('run.part-0-of-4.h5', manifest) // { ok: true }
+ */
+export async function verifyPart(partFile: string, manifest: PartManifest, options: { full?: boolean } = {}): Promise<PartCheck> {
+  if (basename(partFile) !== manifest.file) return { ok: false, reason: `the manifest names ${manifest.file}, not ${basename(partFile)}` };
+  const st = await stat(partFile).catch(() => undefined);
+  if (st === undefined || !st.isFile()) return { ok: false, reason: `${partFile} is missing` };
+  if (st.size !== manifest.fileBytes) return { ok: false, reason: `${partFile} is ${st.size} bytes, the manifest says ${manifest.fileBytes}` };
+  if (options.full === false) return { ok: true };
+  let sha: { sha256: string; bytes: number };
+  try {
+    sha = await tensorSha256OfFile(partFile);
+  } catch (e) {
+    return { ok: false, reason: `${partFile} cannot be read: ${(e as Error).message}` };
+  }
+  const expectBytes = manifest.tensor.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[manifest.tensor.dtype];
+  if (sha.bytes !== expectBytes) return { ok: false, reason: `${partFile} holds ${sha.bytes} tensor bytes, the manifest's shape needs ${expectBytes}` };
+  if (sha.sha256 !== manifest.tensor.sha256) return { ok: false, reason: `${partFile}: tensor sha256 ${sha.sha256} differs from the manifest's ${manifest.tensor.sha256}` };
+  return { ok: true };
+}
+
+/** The facts of a finished part run that go into its manifest. */
+export interface PartFacts {
+  index: number;
+  count: number;
+  range: [number, number];
+  subframesTotal: number;
+  partFile: string;
+  fileBytes: number;
+  format: OutputFormat;
+  tensorName: 'H' | 'h';
+  dtype: 'complex64' | 'complex128';
+  shape: number[];
+  sha256: string;
+  scenarioText: string;
+  seed: number;
+  pathweaveVersion: string;
+  kernel: string;
+}
+
+/** The manifest document of a finished part. */
+export function manifestOf(f: PartFacts): PartManifest {
+  return {
+    kind: MANIFEST_KIND,
+    manifestVersion: MANIFEST_VERSION,
+    part: { index: f.index, count: f.count },
+    range: [f.range[0], f.range[1]],
+    subframesTotal: f.subframesTotal,
+    file: basename(f.partFile),
+    fileBytes: f.fileBytes,
+    format: f.format,
+    tensor: { name: f.tensorName, dtype: f.dtype, shape: [...f.shape], sha256: f.sha256 },
+    scenarioSha256: scenarioSha256(f.scenarioText),
+    seed: f.seed,
+    pathweaveVersion: f.pathweaveVersion,
+    kernel: f.kernel,
+  };
+}
+
+/**
+ * Whether an earlier part run can be kept for this request: its manifest exists, describes the
+ * same request (scenario, seed, range, format) and the file verifies. Returns the reason when not.
+ */
+export async function reusablePart(
+  partFile: string,
+  request: { scenarioText: string; seed: number; range: [number, number]; format: OutputFormat },
+): Promise<{ reusable: true; manifest: PartManifest } | { reusable: false; reason: string }> {
+  const path = manifestPathOf(partFile);
+  if ((await stat(path).catch(() => undefined)) === undefined) return { reusable: false, reason: 'no manifest yet' };
+  let m: PartManifest;
+  try {
+    m = await readManifest(path);
+  } catch (e) {
+    return { reusable: false, reason: (e as Error).message };
+  }
+  if (m.scenarioSha256 !== scenarioSha256(request.scenarioText)) return { reusable: false, reason: 'the manifest is of another scenario' };
+  if (m.seed !== request.seed) return { reusable: false, reason: `the manifest is of seed ${m.seed}, not ${request.seed}` };
+  if (m.range[0] !== request.range[0] || m.range[1] !== request.range[1]) return { reusable: false, reason: `the manifest covers ${m.range[0]}:${m.range[1]}, not ${request.range[0]}:${request.range[1]}` };
+  if (m.format !== request.format) return { reusable: false, reason: `the manifest is of format ${m.format}, not ${request.format}` };
+  const check = await verifyPart(partFile, m);
+  return check.ok ? { reusable: true, manifest: m } : { reusable: false, reason: check.reason };
+}
