@@ -129,3 +129,37 @@ describe('bad scene input', () => {
     expect(readdirSync(dir)).toEqual(['s.json']);
   });
 });
+
+describe('reciprocity of traced channels, polarisation included', () => {
+  it('swapping transmitter and receiver gives H^T (street corner, slant and vertical arrays)', () => {
+    const s = example('street-corner-28ghz.json');
+    s.timing.subframes = 1;
+    s.precision = 'complex128';
+    delete s.receiver.velocity;
+    s.transmitter.array.polarization = { slantDeg: 45 };
+    s.receiver.array.polarization = 'vertical';
+    const swapped = structuredClone(s);
+    swapped.transmitter = s.receiver;
+    swapped.receiver = s.transmitter;
+    const dir = tempDir();
+    expect(runCli(['generate', writeScenario(dir, 'a.json', s), '--out', join(dir, 'a.npy'), '--quiet']).status).toBe(0);
+    expect(runCli(['generate', writeScenario(dir, 'b.json', swapped), '--out', join(dir, 'b.npy'), '--quiet']).status).toBe(0);
+    const A = decodeNpy(readFileSync(join(dir, 'a.npy')));
+    const B = decodeNpy(readFileSync(join(dir, 'b.npy')));
+    const [, K, Nr, Nt] = A.shape as [number, number, number, number];
+    expect(B.shape).toEqual([1, K, Nt, Nr]);
+    const a = A.data as Float64Array, b = B.data as Float64Array;
+    let num = 0, den = 0;
+    for (let k = 0; k < K; k++) {
+      for (let m = 0; m < Nr; m++) {
+        for (let n = 0; n < Nt; n++) {
+          const i = 2 * ((k * Nr + m) * Nt + n);
+          const j = 2 * ((k * Nt + n) * Nr + m);
+          num += (a[i]! - b[j]!) ** 2 + (a[i + 1]! - b[j + 1]!) ** 2;
+          den += a[i]! ** 2 + a[i + 1]! ** 2;
+        }
+      }
+    }
+    expect(Math.sqrt(num / den)).toBeLessThan(1e-9);
+  });
+});
