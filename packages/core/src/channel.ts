@@ -10,16 +10,28 @@
  * and visibility fade), g_l a unit-power gain process keyed by the path's id. Deterministic
  * models (static, geometric) keep A's phase; stochastic ones (gauss-markov, ar,
  * sum-of-sinusoids) use |A| and draw the phase.
+ *
+ * Polarised ports (terminals with `ports`, or a cross-polar ratio `xprDb`): Nr and Nt count
+ * ports, port index = element * P + p. Path l then contributes rho_l r_rx,m r_tx,n c_l(a, b) to
+ * entry (m P_r + a, n P_t + b), c_l(a, b) = f_rx(a)^T T_l f_tx(b) (polarization-ports.ts), T_l the
+ * path's 2x2 transfer: the timeline's (traced), the identity (explicit), or a cross-polar
+ * transfer with random phases keyed by the path id for stochastic gains and diffuse sub-paths
+ * when `xprDb` is given. Without ports and xprDb, H is computed exactly as before.
  */
-import { AntennaArray, wavenumber, wavelength, type Vec3 } from '@pathweave/geometry';
+import { AntennaArray, polarizationVectorLocal, wavenumber, wavelength, type Polarization, type Vec3 } from '@pathweave/geometry';
 import { pathCorrelation, type PathCorrelation } from './doppler.js';
 import { createFadingGains, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type StepClock } from './fading/index.js';
 import { GaussMarkovGains, StaticGains, type GainPath, type GainProcess } from './gains.js';
 import { subcarrierOffsetsHz } from './grid.js';
 import { accumulatePaths } from './kernels/index.js';
 import type { Motion } from './motion.js';
+import { identityTransfers, isPolarimetricSource, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
 import { pulseFunction, type PulseShape } from './pulse.js';
+import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
+
+export * from './polarization-ports.js';
+export * from './cluster.js';
 
 /** How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length. */
 export type Wavefront = 'plane' | 'spherical' | 'auto';
@@ -35,6 +47,13 @@ export interface Terminal {
   motion?: Motion | undefined;
   /** Wavefront model of this array (default plane). */
   wavefront?: Wavefront | undefined;
+  /**
+   * Local polarisation vectors of each element's ports (two for a dual-polarised array, from
+   * geometry's dualPolarizedPortVectors); absent: one port of `polarization`.
+   */
+  ports?: readonly Vec3[] | undefined;
+  /** Polarisation of a single-port element when ports are in use (default vertical). */
+  polarization?: Polarization | undefined;
 }
 
 /** One explicit propagation path (the assembler's form of design.md's `paths`). */
@@ -87,6 +106,11 @@ export interface ChannelSpec {
   streamKey?: string | undefined;
   /** Multiply every amplitude by this factor (fading.normalize); default 1. */
   amplitudeScale?: number;
+  /**
+   * Cross-polar ratio (dB) of stochastic paths and of diffuse sub-paths (timelines with a
+   * `diffuse` flag); turns the polarised-port assembly on.
+   */
+  xprDb?: number | undefined;
 }
 
 /** Guard samples placed before the first arrival when delays are aligned. */
@@ -150,6 +174,10 @@ export class ChannelGenerator {
   private readonly varying: boolean;
   private readonly amplitudeScale: number;
   private preparedAt = -1;
+  /** Polarised-port assembly (module comment), undefined otherwise. */
+  private readonly ports:
+    | { rx: readonly Vec3[]; tx: readonly Vec3[]; transfers: Float64Array; fixed: Uint8Array; rxFields: Float64Array; txFields: Float64Array; coupling: Float64Array; elements: Float64Array; scratch: Float64Array }
+    | undefined;
 
   constructor(readonly spec: ChannelSpec) {
     const { transmitter: tx, receiver: rx, grid } = spec;
@@ -163,8 +191,17 @@ export class ChannelGenerator {
     this.timeline = spec.timeline ?? new ExplicitTimeline(spec.paths!);
     const L = this.timeline.ids.length;
     this.pathCountValue = L;
-    const Nr = rx.array.size;
-    const Nt = tx.array.size;
+    if (spec.xprDb !== undefined && !Number.isFinite(spec.xprDb)) throw new RangeError(`ChannelGenerator(): xprDb must be a finite number, got ${spec.xprDb}`);
+    const polarised = rx.ports !== undefined || tx.ports !== undefined || spec.xprDb !== undefined;
+    const portsOf = (t: Terminal, name: string): readonly Vec3[] => {
+      const p = t.ports ?? [polarizationVectorLocal(t.polarization ?? 'vertical')];
+      if (p.length < 1 || p.length > 2) throw new RangeError(`ChannelGenerator(): ${name}.ports must hold 1 or 2 polarisation vectors, got ${p.length}`);
+      return p;
+    };
+    const rxPorts = polarised ? portsOf(rx, 'receiver') : undefined;
+    const txPorts = polarised ? portsOf(tx, 'transmitter') : undefined;
+    const Nr = rx.array.size * (rxPorts?.length ?? 1);
+    const Nt = tx.array.size * (txPorts?.length ?? 1);
     this.elementPairs = Nr * Nt;
     this.stepsPerSubframe = spec.symbols?.perSubframe ?? 1;
     checkCount('symbols.perSubframe', this.stepsPerSubframe, 1);
@@ -177,6 +214,7 @@ export class ChannelGenerator {
       checkPositive('grid.spacingHz', grid.spacingHz);
       this.bins = grid.subcarriers;
       this.frequencies = subcarrierOffsetsHz(grid.subcarriers, grid.spacingHz);
+      if (grid.beamSquint === true && polarised) throw new RangeError('ChannelGenerator(): beam squint with polarised ports (ports or xprDb) is not supported; turn one of them off');
       this.squint = grid.beamSquint === true ? { rx: new Float64Array(2 * this.bins * L * Nr), tx: new Float64Array(2 * this.bins * L * Nt) } : undefined;
     } else {
       checkCount('grid.count', grid.count, 1);
@@ -243,6 +281,29 @@ export class ChannelGenerator {
         break;
     }
     if (model !== 'static') this.checkSampling(fadingPaths);
+    if (rxPorts !== undefined && txPorts !== undefined) {
+      // Transfers: cross-polar ones are fixed for the run; the others follow the timeline.
+      const transfers = identityTransfers(L);
+      const fixed = new Uint8Array(L);
+      const diffuse = (this.timeline as { diffuse?: readonly boolean[] }).diffuse;
+      this.timeline.ids.forEach((id, l) => {
+        if (spec.xprDb === undefined || (this.deterministic && diffuse?.[l] !== true)) return;
+        xprTransfer(transfers, 8 * l, spec.xprDb, new RandomStream(spec.seed, `${key(id)}/xpr`));
+        fixed[l] = 1;
+      });
+      this.ports = {
+        rx: rxPorts,
+        tx: txPorts,
+        transfers,
+        fixed,
+        rxFields: new Float64Array(2 * rxPorts.length),
+        txFields: new Float64Array(2 * txPorts.length),
+        coupling: new Float64Array(2 * rxPorts.length * txPorts.length),
+        elements: new Float64Array(2 * rx.array.size * tx.array.size),
+        scratch: new Float64Array(8 * L),
+      };
+      this.refreshTransfers(0);
+    } else this.ports = undefined;
     this.timeline.frameAt(0, this.frame);
     if (!this.varying) this.prepare(0);
   }
@@ -371,6 +432,10 @@ export class ChannelGenerator {
       return;
     }
     const k0 = wavenumber(spec.carrierHz);
+    if (this.ports !== undefined) {
+      this.preparePorts(rxArray, txArray, t, k0);
+      return;
+    }
     for (let l = 0; l < L; l++) {
       readVec(frame.arrival, l, arr);
       readVec(frame.departure, l, dep);
@@ -384,6 +449,60 @@ export class ChannelGenerator {
       this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
       this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
       outerProduct(this.products, 2 * l * this.elementPairs, this.rxScratch, this.txScratch, Nr, Nt);
+    }
+  }
+
+  /** The timeline's transfers at time t for the paths whose transfer is not a fixed cross-polar one. */
+  private refreshTransfers(timeS: number): void {
+    const ports = this.ports!;
+    if (!isPolarimetricSource(this.timeline)) return;
+    const L = this.pathCount;
+    const scratch = ports.scratch;
+    this.timeline.polarimetricAt(timeS, scratch);
+    for (let l = 0; l < L; l++) if (ports.fixed[l] === 0) ports.transfers.set(scratch.subarray(8 * l, 8 * l + 8), 8 * l);
+  }
+
+  /** Element products expanded to ports: P[l, (m Pr + a) Nt + n Pt + b] = e_l[m, n] c_l(a, b). */
+  private preparePorts(rxArray: AntennaArray, txArray: AntennaArray, timeS: number, k0: number): void {
+    const ports = this.ports!;
+    const spec = this.spec;
+    const frame = this.frame;
+    const L = this.pathCount;
+    if (this.varying) this.refreshTransfers(timeS);
+    const NrE = rxArray.size, NtE = txArray.size;
+    const Pr = ports.rx.length, Pt = ports.tx.length;
+    const Nt = NtE * Pt;
+    const dep: Vec3 = [0, 0, 0], arr: Vec3 = [0, 0, 0];
+    const e = ports.elements, c = ports.coupling;
+    for (let l = 0; l < L; l++) {
+      readVec(frame.arrival, l, arr);
+      readVec(frame.departure, l, dep);
+      const length = frame.lengthM[l]!;
+      const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
+      const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
+      if (rxSph && txSph && this.timeline.kinds[l] === 'los') pairwiseProducts(e, 0, rxArray, txArray, arr, length, k0);
+      else {
+        this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
+        this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
+        outerProduct(e, 0, this.rxScratch, this.txScratch, NrE, NtE);
+      }
+      portFieldComponents(ports.rxFields, ports.rx, rxArray.rotation, arr);
+      portFieldComponents(ports.txFields, ports.tx, txArray.rotation, dep);
+      portCoupling(c, ports.rxFields, ports.transfers, l, ports.txFields, Pr, Pt);
+      const base = 2 * l * this.elementPairs;
+      for (let m = 0; m < NrE; m++) {
+        for (let n = 0; n < NtE; n++) {
+          const er = e[2 * (m * NtE + n)]!, ei = e[2 * (m * NtE + n) + 1]!;
+          for (let a = 0; a < Pr; a++) {
+            for (let b = 0; b < Pt; b++) {
+              const cr = c[2 * (a * Pt + b)]!, ci = c[2 * (a * Pt + b) + 1]!;
+              const i = base + 2 * ((m * Pr + a) * Nt + n * Pt + b);
+              this.products[i] = er * cr - ei * ci;
+              this.products[i + 1] = er * ci + ei * cr;
+            }
+          }
+        }
+      }
     }
   }
 

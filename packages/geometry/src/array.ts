@@ -138,6 +138,21 @@ export class AntennaArray {
   }
 }
 
+/** Two ports per element: slant +45 / -45 degrees, or vertical / horizontal. */
+export type DualPolarization = 'slant45' | 'vh';
+
+/**
+ * The local polarisation unit vectors of the two ports of a dual-polarised element, in port
+ * order: "slant45" gives p = 0 at +45 degrees (from local +z towards local +y) and p = 1 at
+ * -45 degrees; "vh" gives p = 0 vertical (local +z) and p = 1 horizontal (local +y).
+ * @example dualPolarizedPortVectors('vh') // [[0, 0, 1], [0, 1, 0]]
+ */
+export function dualPolarizedPortVectors(scheme: DualPolarization): Vec3[] {
+  if (scheme === 'vh') return [[0, 0, 1], [0, 1, 0]];
+  if (scheme === 'slant45') return [[0, Math.SQRT1_2, Math.SQRT1_2], [0, -Math.SQRT1_2, Math.SQRT1_2]];
+  throw new TypeError(`dualPolarizedPortVectors(): scheme must be "slant45" or "vh", got ${JSON.stringify(scheme)}`);
+}
+
 function checkCount(fn: string, name: string, value: number): void {
   if (!Number.isInteger(value) || value < 1) throw new RangeError(`${fn}: ${name} must be an integer >= 1, got ${value}`);
 }

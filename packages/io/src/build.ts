@@ -6,6 +6,8 @@
  */
 import {
   AntennaArray,
+  degFromVector,
+  dualPolarizedPortVectors,
   isotropic,
   sector38901,
   tabulatedPattern,
@@ -18,13 +20,18 @@ import {
 } from '@pathweave/geometry';
 import {
   ChannelGenerator,
+  ClusteredTimeline,
   ExplicitTimeline,
+  PathFrame,
+  PolarimetricTracedTimeline,
+  clusterPreset,
   Motion,
   TracedTimeline,
   alignmentShiftS,
   nrNumerology,
   numerologyClock,
   type ChannelSpec,
+  type ClusterSpread,
   type ExplicitPath,
   type FadingSpec,
   type OutputGrid,
@@ -32,7 +39,7 @@ import {
   type SymbolTiming,
   type Terminal,
 } from '@pathweave/core';
-import type { ArrayConfig, PathConfig, Scenario, TerminalConfig } from './schema.js';
+import type { ArrayConfig, ClusterConfig, PathConfig, Scenario, TerminalConfig } from './schema.js';
 import { ScenarioError } from './validate.js';
 
 /** Output domain of a run. */
@@ -120,6 +127,69 @@ export function elementCount(config: ArrayConfig): number {
   return config.positions?.length ?? 0;
 }
 
+/**
+ * Number of ports (the Nr or Nt axis): elements, times 2 for a dual-polarised array.
+ * @example portCount({ kind: 'ula', elements: 4, dualPolarized: 'slant45' }) // 8
+ */
+export function portCount(config: ArrayConfig): number {
+  return elementCount(config) * (config.dualPolarized !== undefined ? 2 : 1);
+}
+
+/** True when a scenario needs the polarised-port assembly (a dual-polarised array or an XPR). */
+export function usesPorts(scenario: Scenario): boolean {
+  const arrays = [scenario.transmitter, ...(scenario.receivers ?? []), ...(scenario.receiver !== undefined ? [scenario.receiver] : [])].map((t) => t.array);
+  return scenario.fading.xprDb !== undefined || arrays.some((a) => a.dualPolarized !== undefined);
+}
+
+/**
+ * The cluster spread a scenario's cluster description asks for: the preset's values (38.901
+ * Table 7.5-6) with any key given replacing them; without a preset, method "gaussian",
+ * 20 sub-paths and zero spreads where not given.
+ * @example clusterSpreadOf({ preset: 'umi-los' }).azimuthSpreadArrivalDeg // 17
+ */
+export function clusterSpreadOf(c: ClusterConfig): ClusterSpread {
+  const base: ClusterSpread =
+    c.preset !== undefined
+      ? clusterPreset(c.preset)
+      : { subPaths: 20, method: 'gaussian', azimuthSpreadDepartureDeg: 0, elevationSpreadDepartureDeg: 0, azimuthSpreadArrivalDeg: 0, elevationSpreadArrivalDeg: 0, delaySpreadS: 0 };
+  return {
+    subPaths: c.subPaths ?? base.subPaths,
+    method: c.method ?? base.method,
+    azimuthSpreadDepartureDeg: c.azimuthSpreadDepartureDeg ?? base.azimuthSpreadDepartureDeg,
+    elevationSpreadDepartureDeg: c.elevationSpreadDepartureDeg ?? base.elevationSpreadDepartureDeg,
+    azimuthSpreadArrivalDeg: c.azimuthSpreadArrivalDeg ?? base.azimuthSpreadArrivalDeg,
+    elevationSpreadArrivalDeg: c.elevationSpreadArrivalDeg ?? base.elevationSpreadArrivalDeg,
+    delaySpreadS: c.delaySpreadS ?? base.delaySpreadS,
+  };
+}
+
+/** Records of a clustered timeline's sub-paths at t = 0 (the path table's rows). */
+function clusteredRecords(timeline: ClusteredTimeline, parents: PathRecord[]): PathRecord[] {
+  const frame = new PathFrame(timeline.ids.length);
+  timeline.frameAt(0, frame);
+  const byId = new Map(parents.map((p) => [p.id, p]));
+  const members = new Map<number, number>();
+  for (const l of timeline.parent) members.set(l, (members.get(l) ?? 0) + 1);
+  const a = frame.amplitude;
+  return timeline.ids.map((id, i) => {
+    const l = timeline.parent[i]!;
+    const parent = byId.get(timeline.inner.ids[l]!);
+    // A sub-path carries 1 / M of its path's power (the path's powerDb keeps its polarisation factor).
+    const powerDb = parent !== undefined ? parent.powerDb - 10 * Math.log10(members.get(l)!) : 10 * Math.log10(a[2 * i]! ** 2 + a[2 * i + 1]! ** 2);
+    return {
+      id,
+      kind: timeline.kinds[i]!,
+      delayS: frame.delayS[i]!,
+      powerDb,
+      phaseDeg: (Math.atan2(a[2 * i + 1]!, a[2 * i]!) * 180) / Math.PI,
+      aodDeg: degFromVector([frame.departure[3 * i]!, frame.departure[3 * i + 1]!, frame.departure[3 * i + 2]!]),
+      aoaDeg: degFromVector([frame.arrival[3 * i]!, frame.arrival[3 * i + 1]!, frame.arrival[3 * i + 2]!]),
+      dopplerHz: frame.dopplerHz[i]!,
+      maxDopplerHz: parent?.maxDopplerHz,
+    };
+  });
+}
+
 /** The motion of a terminal: constant velocity or its trajectory. */
 export function motionOf(t: TerminalConfig): Motion {
   const trajectory = t.trajectory?.map((w) => ({ t: w.t, position: vec3Of(w.position), orientation: w.orientation }));
@@ -128,7 +198,15 @@ export function motionOf(t: TerminalConfig): Motion {
 
 function buildTerminal(t: TerminalConfig, carrierHz: number): Terminal {
   const motion = motionOf(t);
-  return { array: buildArray(t.array, carrierHz), position: motion.positionAt(0), velocity: motion.velocityAt(0), motion, wavefront: t.array.wavefront };
+  return {
+    array: buildArray(t.array, carrierHz),
+    position: motion.positionAt(0),
+    velocity: motion.velocityAt(0),
+    motion,
+    wavefront: t.array.wavefront,
+    ...(t.array.dualPolarized !== undefined ? { ports: dualPolarizedPortVectors(t.array.dualPolarized) } : {}),
+    ...(t.array.polarization !== undefined ? { polarization: t.array.polarization } : {}),
+  };
 }
 
 /** The stable id of explicit path i: its own `id`, else its place in the list. */
@@ -251,8 +329,11 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
     let records: PathRecord[];
     let delays: number[];
     let totalPower: number;
+    const seed = options.seed ?? scenario.seed;
+    let spreads: (ClusterSpread | undefined)[];
     if (scenario.scene !== undefined) {
-      const traced = new TracedTimeline(
+      const Timeline = usesPorts(scenario) ? PolarimetricTracedTimeline : TracedTimeline;
+      const traced = new Timeline(
         sceneOf(scenario),
         { motion: tx.motion!, polarization: scenario.transmitter.array.polarization, orientation: scenario.transmitter.array.orientation },
         { motion: rx.motion!, polarization: r.config.array.polarization, orientation: r.config.array.orientation },
@@ -265,12 +346,22 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       records = traced.pathsAt(0).map(recordOfTraced);
       delays = traced.epochs.flatMap((m) => [...m.values()].map((p) => p.delayS));
       totalPower = records.reduce((a, p) => a + 10 ** (p.powerDb / 10), 0);
+      spreads = traced.ids.map(() => (scenario.clusters !== undefined ? clusterSpreadOf(scenario.clusters) : undefined));
     } else {
       const explicit = explicitPaths(scenario);
       timeline = new ExplicitTimeline(explicit.paths);
       records = explicit.records;
       delays = explicit.paths.map((p) => p.delayS);
       totalPower = explicit.paths.reduce((a, p) => a + p.power, 0);
+      spreads = (scenario.paths ?? []).map((p) => {
+        const c = p.cluster ?? scenario.clusters;
+        return c !== undefined ? clusterSpreadOf(c) : undefined;
+      });
+    }
+    if (spreads.some((c) => c !== undefined)) {
+      const clustered = new ClusteredTimeline(timeline, spreads, seed, r.streamKey);
+      records = clusteredRecords(clustered, records);
+      timeline = clustered;
     }
     if (timeline.ids.length === 0) {
       const who = scenario.receivers !== undefined ? `receivers[${users.length}]` : 'receiver';
@@ -287,11 +378,12 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       fading: fadingOf(scenario.fading),
       grid,
       delayShiftS,
-      seed: options.seed ?? scenario.seed,
+      seed,
       precision: scenario.precision ?? 'complex64',
       symbols,
       streamKey: r.streamKey,
       amplitudeScale: scenario.fading.normalize === true && totalPower > 0 ? 1 / Math.sqrt(totalPower) : 1,
+      ...(scenario.fading.xprDb !== undefined ? { xprDb: scenario.fading.xprDb } : {}),
     };
     const generator = new ChannelGenerator(spec);
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
@@ -317,8 +409,8 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
 /** Tensor shape and size of a scenario, computed without building anything. */
 export function outputEstimate(scenario: Scenario, domain: Domain, subframes = scenario.timing.subframes): { shape: number[]; bytes: number; bytesPerSubframe: number } {
   const receivers = scenario.receivers ?? (scenario.receiver !== undefined ? [scenario.receiver] : []);
-  const nr = receivers.length === 0 ? 0 : elementCount(receivers[0]!.array);
-  const nt = elementCount(scenario.transmitter.array);
+  const nr = receivers.length === 0 ? 0 : portCount(receivers[0]!.array);
+  const nt = portCount(scenario.transmitter.array);
   const bins = domain === 'frequency' ? (scenario.band?.subcarriers ?? 0) : (scenario.taps?.count ?? 0);
   const bytesPerValue = scenario.precision === 'complex128' ? 16 : 8;
   let symbols: number | undefined;

@@ -43,6 +43,8 @@ export const arraySchema = z.strictObject({
   orientation: orientationSchema.optional(),
   element: z.union([z.enum(['isotropic', '3gpp-38.901']), z.strictObject({ table: elementTableSchema })]).optional(),
   polarization: polarizationSchema.optional(),
+  /** Two ports per element (Nr, Nt count ports, port = 2 element + p): "slant45" (+45, -45) or "vh" (vertical, horizontal). */
+  dualPolarized: z.enum(['slant45', 'vh']).optional(),
   wavefront: z.enum(['plane', 'spherical', 'auto']).optional(),
 });
 
@@ -57,6 +59,21 @@ export const terminalSchema = z.strictObject({
   array: arraySchema,
 });
 
+/**
+ * A cluster of sub-paths around a path (docs/deployments.md): a 3GPP TR 38.901 preset by name,
+ * or spreads of its own (degrees, seconds; missing spreads are 0, or the preset's).
+ */
+export const clusterSchema = z.strictObject({
+  preset: z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional(),
+  method: z.enum(['gaussian', 'laplacian', 'offsets-38901']).optional(),
+  subPaths: count.max(1000).optional(),
+  azimuthSpreadDepartureDeg: nonNegative.optional(),
+  elevationSpreadDepartureDeg: nonNegative.optional(),
+  azimuthSpreadArrivalDeg: nonNegative.optional(),
+  elevationSpreadArrivalDeg: nonNegative.optional(),
+  delaySpreadS: nonNegative.optional(),
+});
+
 /** An explicit path (directions in the global frame). */
 export const pathSchema = z.strictObject({
   id: z.string().min(1).max(200).optional(),
@@ -67,6 +84,8 @@ export const pathSchema = z.strictObject({
   phaseDeg: finite.optional(),
   dopplerHz: finite.optional(),
   maxDopplerHz: nonNegative.optional(),
+  /** This path's own cluster (replaces the scenario's `clusters` for it). */
+  cluster: clusterSchema.optional(),
   // Descriptive fields printed by `pathweave paths --json`, accepted (and ignored) when pasted back.
   kind: z.string().max(40).optional(),
   interactions: z.array(z.strictObject({ type: z.string(), object: z.string(), point: z.array(finite) })).optional(),
@@ -143,6 +162,8 @@ export const scenarioSchema = z.strictObject({
   receivers: z.array(terminalSchema).min(1).optional(),
   scene: sceneSchema.optional(),
   paths: z.array(pathSchema).min(1).optional(),
+  /** Widen every path (traced or explicit) into a cluster of sub-paths. */
+  clusters: clusterSchema.optional(),
   fading: z.strictObject({
     model: z.enum(['static', 'gauss-markov', 'ar', 'sum-of-sinusoids', 'geometric']),
     speedMps: nonNegative.optional(),
@@ -150,6 +171,8 @@ export const scenarioSchema = z.strictObject({
     sinusoids: count.optional(),
     ricianKDb: finite.optional(),
     normalize: z.boolean().optional(),
+    /** Cross-polar ratio (dB) of stochastic paths and cluster sub-paths, with random initial phases. */
+    xprDb: finite.optional(),
   }),
   seed: z.number().int().min(0).max(2 ** 53 - 1),
   precision: z.enum(['complex64', 'complex128']).optional(),
@@ -161,6 +184,8 @@ export type Scenario = z.infer<typeof scenarioSchema>;
 export type ArrayConfig = z.infer<typeof arraySchema>;
 /** A terminal description of a scenario. */
 export type TerminalConfig = z.infer<typeof terminalSchema>;
+/** A cluster description of a scenario. */
+export type ClusterConfig = z.infer<typeof clusterSchema>;
 /** An explicit path of a scenario. */
 export type PathConfig = z.infer<typeof pathSchema>;
 
