@@ -17,6 +17,7 @@ import { bytesOf } from './formats/npy.js';
 import type { NamedArray } from './formats/sink.js';
 import type { Scenario } from './schema.js';
 import { PATHWEAVE_VERSION } from './version.js';
+import { BlockPool, defaultWorkers } from './workers/pool.js';
 
 /** Default refusal threshold for one output file, bytes (raise with --max-bytes). */
 export const DEFAULT_MAX_OUTPUT_BYTES = 64 * 2 ** 30;
@@ -39,6 +40,12 @@ export interface GenerateOptions {
   onProgress?: (done: number, total: number) => void;
   /** Checked between blocks; when aborted the temporary file is removed. */
   signal?: AbortSignal;
+  /**
+   * Threads that compute blocks of subframes (worker_threads; the main thread then hashes and
+   * writes). 1 computes on the main thread. Default: one per available core, 1 for runs of
+   * fewer than two blocks. The tensor bytes are the same for every count.
+   */
+  workers?: number;
 }
 
 /** What a run wrote. */
@@ -167,15 +174,50 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   const sink = await openSink(options.format, options.out);
   try {
     await sink.beginTensor({ name: tensorName, dtype: g.precision, shape, units: '1', chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
-    const buffer = new (g.precision === 'complex64' ? Float32Array : Float64Array)(2 * Math.min(block, count) * built.valuesPerSubframe);
-    for (let s = first; s < end; s += block) {
-      if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-      const n = Math.min(block, end - s);
-      const view = buffer.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
-      fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
+    const values = 2 * Math.min(block, count) * built.valuesPerSubframe;
+    const Tensor = g.precision === 'complex64' ? Float32Array : Float64Array;
+    const blocks = Math.ceil(count / block);
+    const workers = options.workers ?? defaultWorkers(blocks);
+    if (!Number.isInteger(workers) || workers < 1) throw new RangeError(`generate(): options.workers must be an integer >= 1, got ${workers}`);
+    const write = async (s: number, n: number, view: Float32Array | Float64Array): Promise<void> => {
       hash.update(bytesOf(view));
       await sink.writeRows(view);
       options.onProgress?.(s + n - first, count);
+    };
+    if (workers === 1) {
+      const buffer = new Tensor(values);
+      for (let s = first; s < end; s += block) {
+        if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+        const n = Math.min(block, end - s);
+        const view = buffer.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
+        fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
+        await write(s, n, view);
+      }
+    } else {
+      // Two blocks in flight per worker: one computing while the main thread writes the other.
+      const pool = new BlockPool(Math.min(workers, blocks), { scenario, domain, seed: options.seed, gainsPerSubframe });
+      try {
+        const depth = 2 * pool.size;
+        const inFlight: Array<Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }>> = [];
+        const ask = (b: number, tensor: ArrayBuffer, gainBuffer: ArrayBuffer): void => {
+          const s = first + b * block;
+          inFlight[b] = pool.request(s, Math.min(block, end - s), tensor, gainBuffer);
+          inFlight[b].catch(() => undefined); // awaited in order below; avoid an unhandled rejection meanwhile
+        };
+        for (let b = 0; b < Math.min(depth, blocks); b++) ask(b, new ArrayBuffer(values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe));
+        for (let b = 0; b < blocks; b++) {
+          if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+          const s = first + b * block;
+          const n = Math.min(block, end - s);
+          const done = await inFlight[b]!;
+          delete inFlight[b];
+          gains.set(new Float64Array(done.gains, 0, n * gainsPerSubframe), (s - first) * gainsPerSubframe);
+          await write(s, n, new Tensor(done.tensor, 0, 2 * n * built.valuesPerSubframe));
+          if (b + depth < blocks) ask(b + depth, done.tensor, done.gains);
+        }
+      } finally {
+        await pool.close();
+      }
     }
     const sha256 = hash.digest('hex');
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);

@@ -33,7 +33,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   const format = (args.values.format ?? formatFromPath(out) ?? 'npy') as OutputFormat;
   if (!OUTPUT_FORMATS.includes(format)) throw new UsageError(`--format must be one of ${OUTPUT_FORMATS.join(', ')}, got ${JSON.stringify(args.values.format)}`);
   const seed = args.values.seed === undefined ? undefined : parseInteger('--seed', args.values.seed, 0, 2 ** 53 - 1);
-  if (args.values.workers !== undefined) parseInteger('--workers', args.values.workers, 1, 256);
+  const workers = args.values.workers === undefined ? undefined : parseInteger('--workers', args.values.workers, 1, 256);
   const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
   const domain = parseDomain(args.values.domain);
   if (args.values.subframes !== undefined && args.values.shard !== undefined) throw new UsageError('generate: give --subframes or --shard, not both');
@@ -104,6 +104,7 @@ async function run(argv: string[], io: Io): Promise<number> {
         progress.update(n);
       },
       ...(seed !== undefined ? { seed } : {}),
+      ...(workers !== undefined ? { workers } : {}),
       ...(domain !== undefined ? { domain } : {}),
     });
     for (const w of report.warnings) warn(w);

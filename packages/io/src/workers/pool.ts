@@ -1,0 +1,113 @@
+/**
+ * A pool of worker threads that fill blocks of subframes for `generate` (design.md,
+ * Reproducibility: the same tensor bytes with any worker count). Every worker builds the
+ * scenario itself and runs ChannelGenerator.fill over the subframe range it is given, which is
+ * bit-identical whatever range a call covers (gain streams keyed by (seed, path id, block) and
+ * phase recurrences re-anchored at absolute indices), so the pool only decides who computes a
+ * block, never what is in it. Blocks come back in request order through `take`.
+ *
+ * Layouts: a block's tensor is [n, (U,) (symbols,) K or count, Nr, Nt] complex interleaved, its
+ * gains [n, (U,) (symbols,) Lmax] complex128, exactly as `fillBlock` writes them.
+ */
+import { availableParallelism } from 'node:os';
+import { Worker } from 'node:worker_threads';
+import type { Domain } from '../build.js';
+import type { Scenario } from '../schema.js';
+
+/** What each worker is started with. */
+export interface BlockWorkerData {
+  scenario: Scenario;
+  domain: Domain;
+  seed?: number | undefined;
+  /** Float64 values of gains per subframe (2 x complex count). */
+  gainsPerSubframe: number;
+}
+
+/** One block request (buffers are transferred to the worker and back). */
+export interface BlockRequest {
+  id: number;
+  first: number;
+  n: number;
+  tensor: ArrayBuffer;
+  gains: ArrayBuffer;
+}
+
+interface BlockReply {
+  id: number;
+  tensor?: ArrayBuffer;
+  gains?: ArrayBuffer;
+  error?: string;
+}
+
+/**
+ * Where the compiled worker lives: dist/workers/fill-worker.js, reached the same way from
+ * src/ (tests run the sources; worker threads need JavaScript) and from dist/.
+ */
+export const FILL_WORKER_URL: URL = new URL('../../dist/workers/fill-worker.js', import.meta.url);
+
+/**
+ * Default worker count of a run with `blocks` blocks: one per available core, never more
+ * than the blocks, and 1 (no thread at all) for runs of fewer than 2 blocks.
+ * @example defaultWorkers(1) // 1
+ */
+export function defaultWorkers(blocks: number): number {
+  return blocks < 2 ? 1 : Math.max(1, Math.min(availableParallelism(), blocks));
+}
+
+/** A fixed set of workers, each with up to `depth` blocks in flight, answering in request order. */
+export class BlockPool {
+  private readonly workers: Worker[];
+  private readonly pending = new Map<number, { resolve: (r: BlockReply) => void; reject: (e: Error) => void }>();
+  private nextId = 0;
+  private failure: Error | undefined;
+
+  constructor(count: number, data: BlockWorkerData) {
+    if (!Number.isInteger(count) || count < 1) throw new RangeError(`BlockPool(): count must be an integer >= 1, got ${count}`);
+    this.workers = Array.from({ length: count }, () => {
+      const w = new Worker(FILL_WORKER_URL, { workerData: data });
+      w.on('message', (reply: BlockReply) => this.settle(reply));
+      w.on('error', (e) => this.fail(e));
+      w.on('exit', (code) => {
+        if (code !== 0) this.fail(new Error(`generate worker exited with code ${code}`));
+      });
+      return w;
+    });
+  }
+
+  get size(): number {
+    return this.workers.length;
+  }
+
+  /** Ask for subframes [first, first + n) into `tensor` and `gains`; resolves with the filled buffers. */
+  request(first: number, n: number, tensor: ArrayBuffer, gains: ArrayBuffer): Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }> {
+    if (this.failure !== undefined) return Promise.reject(this.failure);
+    const id = this.nextId++;
+    const worker = this.workers[id % this.workers.length]!;
+    return new Promise((resolve, reject) => {
+      this.pending.set(id, {
+        resolve: (r) => (r.error !== undefined ? reject(new Error(`generate worker: ${r.error}`)) : resolve({ tensor: r.tensor!, gains: r.gains! })),
+        reject,
+      });
+      const message: BlockRequest = { id, first, n, tensor, gains };
+      worker.postMessage(message, [tensor, gains]);
+    });
+  }
+
+  /** Stop every worker (pending requests are rejected). */
+  async close(): Promise<void> {
+    this.fail(new Error('generate worker pool closed'));
+    await Promise.all(this.workers.map((w) => w.terminate()));
+  }
+
+  private settle(reply: BlockReply): void {
+    const p = this.pending.get(reply.id);
+    this.pending.delete(reply.id);
+    p?.resolve(reply);
+  }
+
+  private fail(e: Error): void {
+    this.failure ??= e;
+    for (const p of this.pending.values()) p.reject(e);
+    this.pending.clear();
+  }
+}
