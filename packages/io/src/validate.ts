@@ -221,6 +221,9 @@ function crossChecks(s: Scenario): Problem[] {
       forbid('columns');
       forbid('spacingWavelengths');
     }
+    if (a.dualPolarized !== undefined && a.polarization !== undefined) {
+      problems.push({ path: `${at}.polarization`, message: `does not apply to a dual-polarised array (dualPolarized "${a.dualPolarized}" sets both ports), got ${describeValue(a.polarization)}` });
+    }
     const table = a.element !== undefined && typeof a.element === 'object' ? a.element.table : undefined;
     if (table !== undefined && (table.gainsDbi.length !== table.elevationsDeg.length || table.gainsDbi.some((r) => r.length !== table.azimuthsDeg.length))) {
       problems.push({ path: `${at}.element.table.gainsDbi`, message: `must be ${table.elevationsDeg.length} rows (elevations) of ${table.azimuthsDeg.length} values (azimuths)` });
@@ -245,10 +248,11 @@ function crossChecks(s: Scenario): Problem[] {
   });
   // Receivers share one tensor, so they must have the same number of elements.
   if (s.receivers !== undefined && s.receivers.length > 1) {
-    const count = (a: Scenario['transmitter']['array']): number => (a.kind === 'ula' ? (a.elements ?? 0) : a.kind === 'upa' ? (a.rows ?? 0) * (a.columns ?? 0) : (a.positions?.length ?? 0));
+    const count = (a: Scenario['transmitter']['array']): number =>
+      (a.kind === 'ula' ? (a.elements ?? 0) : a.kind === 'upa' ? (a.rows ?? 0) * (a.columns ?? 0) : (a.positions?.length ?? 0)) * (a.dualPolarized !== undefined ? 2 : 1);
     const n0 = count(s.receivers[0]!.array);
     s.receivers.forEach((r, i) => {
-      if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} elements but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });
+      if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} ports (elements, twice for dualPolarized) but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });
     });
     const ids = new Set<string>();
     s.receivers.forEach((r, i) => {
@@ -277,6 +281,15 @@ function crossChecks(s: Scenario): Problem[] {
   if (f.sinusoids !== undefined && f.model !== 'sum-of-sinusoids' && f.model !== 'geometric') problems.push({ path: 'fading.sinusoids', message: `applies only to models "sum-of-sinusoids" and "geometric", got model "${f.model}"` });
   if (f.sinusoids !== undefined && f.sinusoids < 8) problems.push({ path: 'fading.sinusoids', message: `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${f.sinusoids}` });
   if (f.ricianKDb !== undefined && f.model !== 'geometric') problems.push({ path: 'fading.ricianKDb', message: `applies only to model "geometric", got model "${f.model}"` });
+  const polarised = f.xprDb !== undefined || terminals.some(([, t]) => t.array.dualPolarized !== undefined);
+  if (polarised && s.band?.beamSquint === true) problems.push({ path: 'band.beamSquint', message: 'is not supported together with dual-polarised arrays or fading.xprDb' });
+  const clusterChecks: [string, NonNullable<Scenario['clusters']>][] = [];
+  if (s.clusters !== undefined) clusterChecks.push(['clusters', s.clusters]);
+  s.paths?.forEach((p, i) => { if (p.cluster !== undefined) clusterChecks.push([`paths[${i}].cluster`, p.cluster]); });
+  for (const [at, c] of clusterChecks) {
+    const method = c.method ?? (c.preset !== undefined ? 'offsets-38901' : 'gaussian');
+    if (method === 'offsets-38901' && c.subPaths !== undefined && c.subPaths !== 20) problems.push({ path: `${at}.subPaths`, message: `method "offsets-38901" has 20 sub-paths (3GPP TR 38.901 Table 7.5-3), got ${c.subPaths}` });
+  }
   if (f.model === 'static' && f.speedMps !== undefined) problems.push({ path: 'fading.speedMps', message: 'has no effect with model "static"' });
   for (const [i, p] of (s.paths ?? []).entries()) {
     for (const key of ['aodDeg', 'aoaDeg'] as const) {
