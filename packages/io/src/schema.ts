@@ -125,6 +125,15 @@ export const sceneSchema = z.strictObject({
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
+  /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
+  atmosphere: z
+    .strictObject({
+      method: z.literal('p676-13-line-by-line'),
+      dryPressureHpa: positive.optional(),
+      temperatureK: positive.optional(),
+      waterVapourDensityGm3: nonNegative.optional(),
+    })
+    .optional(),
 });
 
 /** The whole scenario document. */

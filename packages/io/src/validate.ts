@@ -297,6 +297,8 @@ function crossChecks(s: Scenario): Problem[] {
       if (el < -90 || el > 90) problems.push({ path: `paths[${i}].${key}[1]`, message: `elevation must lie in [-90, 90] degrees, got ${el}` });
     }
   }
+  if (s.scene?.atmosphere !== undefined && s.scene.gasAttenuationDbPerKm !== undefined) problems.push({ path: 'scene.atmosphere', message: 'give either "atmosphere" (ITU-R P.676 line-by-line) or "gasAttenuationDbPerKm", not both' });
+  if (s.scene?.atmosphere !== undefined && !(s.carrierHz >= 1e9 && s.carrierHz <= 1e12)) problems.push({ path: 'scene.atmosphere', message: `the P.676 line-by-line method covers 1-1000 GHz, got a carrier of ${s.carrierHz / 1e9} GHz` });
   if (s.scene !== undefined && problems.length === 0) {
     const receivers = s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []);
     receivers.forEach((r, i) => {

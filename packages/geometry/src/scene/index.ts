@@ -8,6 +8,7 @@ export * from './fresnel.js';
 export * from './polarization.js';
 export * from './knife-edge.js';
 export * from './atmosphere.js';
+export * from './p676.js';
 export * from './scene.js';
 export * from './blockage.js';
 export * from './tracer.js';
