@@ -12,4 +12,5 @@ export const COMMANDS: Record<string, Command> = {
   validate: validateCommand,
   inspect: inspectCommand,
   merge: (await import('./merge.js')).mergeCommand,
+  plot: (await import('./plot.js')).plotCommand,
 };
