@@ -8,7 +8,7 @@
 import { readFile } from 'node:fs/promises';
 import { besselJ0, TracedTimeline } from '@pathweave/core';
 import { buildScenario, recordOfTraced, type BuiltScenario, type PathRecord } from '../build.js';
-import { fillBlock, maxPathCount } from '../generate.js';
+import { fillBlock, maxPathCount, RequestError } from '../generate.js';
 import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/read.js';
 import { parseScenarioText } from '../validate.js';
 import type { Scenario } from '../schema.js';
@@ -44,7 +44,7 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
   const reader = await openDatasetReader(file);
   try {
     const text = attributeOf(reader, 'scenario');
-    if (typeof text !== 'string') throw new RangeError(`openPlotSource(): ${file} carries no scenario attribute (was it written by pathweave generate?)`);
+    if (typeof text !== 'string') throw new RequestError(`${file} carries no scenario attribute (was it written by pathweave generate?)`);
     const { scenario } = parseScenarioText(text, `${file}: scenario`);
     const seed = attributeOf(reader, 'seed');
     const built = buildScenario(scenario, { domain: tensorOf(reader).name === 'h' ? 'taps' : reader.format === 'npy' ? undefined : 'frequency', ...(typeof seed === 'number' ? { seed } : {}) });
@@ -55,6 +55,14 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
   }
 }
 
+/**
+ * A source from a scenario object already in memory (validated: use parseScenarioText or safeParseScenario first).
+ * @example scenarioPlotSource(scenario, 'my scene').built.domain // "frequency"
+ */
+export function scenarioPlotSource(scenario: Scenario, label: string): PlotSource {
+  return { file: label, scenario, built: buildScenario(scenario) };
+}
+
 /** Release the file of a source (a no-op for a scenario). */
 export async function closePlotSource(source: PlotSource): Promise<void> {
   await source.reader?.close();
@@ -62,7 +70,7 @@ export async function closePlotSource(source: PlotSource): Promise<void> {
 
 function userIndex(source: PlotSource, user: number): number {
   const U = source.built.users.length;
-  if (!(Number.isInteger(user) && user >= 0 && user < U)) throw new RangeError(`user must be an integer in [0, ${U - 1}], got ${user}`);
+  if (!(Number.isInteger(user) && user >= 0 && user < U)) throw new RequestError(`user must be an integer in [0, ${U - 1}], got ${user}`);
   return user;
 }
 
@@ -78,7 +86,7 @@ export function pathsAt(source: PlotSource, atS = 0, user = 0): PathRecord[] {
  */
 export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigureInput {
   const s = source.scenario;
-  if (s.scene === undefined) throw new RangeError(`${source.file}: the scene figure needs a scenario with a scene; this one lists its paths explicitly`);
+  if (s.scene === undefined) throw new RequestError(`${source.file}: the scene figure needs a scenario with a scene; this one lists its paths explicitly`);
   const b = source.built;
   const end = (s.timing.subframes - 1) * s.timing.subframeS;
   const steps = 40;
@@ -162,7 +170,7 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
   const r = source.reader;
   const shape = r !== undefined ? tensorOf(r).shape : b.shape;
   const { bins, Nr, Nt, perUser } = subframeLayout(b, shape);
-  if (!(Number.isInteger(er) && er >= 0 && er < Nr && Number.isInteger(et) && et >= 0 && et < Nt)) throw new RangeError(`element must be [r, t] with r in [0, ${Nr - 1}] and t in [0, ${Nt - 1}], got [${er}, ${et}]`);
+  if (!(Number.isInteger(er) && er >= 0 && er < Nr && Number.isInteger(et) && et >= 0 && et < Nt)) throw new RequestError(`element must be [r, t] with r in [0, ${Nr - 1}] and t in [0, ${Nt - 1}], got [${er}, ${et}]`);
   const S = r !== undefined ? shape[0]! : Math.min(options.subframes ?? b.scenario.timing.subframes, b.scenario.timing.subframes, 2000);
   const out = new Float64Array(S * bins);
   const pick = (block: Float32Array | Float64Array, count: number, firstRow: number): void => {
@@ -235,7 +243,7 @@ export async function correlationOf(source: PlotSource, options: { user?: number
   };
   if (source.reader !== undefined) {
     const r = source.reader;
-    if (!r.arrays.some((a) => a.name === 'gains')) throw new RangeError(`${source.file} holds no gains array (an .npy holds the tensor only); plot the scenario or an .h5/.npz file`);
+    if (!r.arrays.some((a) => a.name === 'gains')) throw new RequestError(`${source.file} holds no gains array (an .npy holds the tensor only); plot the scenario or an .h5/.npz file`);
     const g = (await r.readArray('gains')).data as Float64Array;
     S = r.arrays.find((a) => a.name === 'gains')!.shape[0]!;
     rows = new Float64Array(2 * S * Lmax);
@@ -257,7 +265,7 @@ export async function correlationOf(source: PlotSource, options: { user?: number
   const fastest = Math.max(0, ...gen.correlations.flatMap((c) => c.dopplersHz));
   const periods = fastest > 0 ? Math.ceil(4 / (fastest * T)) : 200;
   const maxLag = Math.min(options.lags ?? Math.min(200, Math.max(20, periods), Math.floor(S / 4)), S);
-  if (maxLag < 2) throw new RangeError(`the correlation needs at least 8 subframes, got ${S}`);
+  if (maxLag < 2) throw new RequestError(`the correlation needs at least 8 subframes, got ${S}`);
   // Only the user's own L columns; the rest are padding.
   const own = new Float64Array(2 * S * L);
   for (let s = 0; s < S; s++) own.set(rows.subarray(2 * s * Lmax, 2 * (s * Lmax + L)), 2 * s * L);

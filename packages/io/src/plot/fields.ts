@@ -118,14 +118,14 @@ export function correlationFigure(input: { title: string; subtitle?: string; lag
   const n = input.lagsS.length;
   if (n < 2) throw new RangeError(`correlationFigure(): needs at least 2 lags, got ${n}`);
   for (const s of input.series) if (s.values.length !== n) throw new RangeError(`correlationFigure(): series "${s.label}" has ${s.values.length} values for ${n} lags`);
-  const W = 820, H = 500;
+  const W = 880, H = 500;
   const svg = new SvgDocument(W, H, input.title);
   svg.text(20, 26, input.title, { 'font-size': THEME.titleSize + 1, 'font-weight': 'bold', class: 'figure-title' });
   if (input.subtitle !== undefined) svg.text(20, 46, input.subtitle, { 'font-size': THEME.smallSize, class: 'subtitle' });
   const lags = Array.from(input.lagsS, (v) => v * 1e3);
   let yMin = -0.5;
   for (const s of input.series) for (const v of s.values) if (Number.isFinite(v)) yMin = Math.min(yMin, v);
-  const panel = new Panel({ x: 90, y: 70, width: W - 330, height: H - 160, xRange: [lags[0]!, lags[n - 1]!], yRange: [yMin, 1], xLabel: 'lag (ms)', yLabel: 'correlation (1)' });
+  const panel = new Panel({ x: 90, y: 70, width: W - 390, height: H - 160, xRange: [lags[0]!, lags[n - 1]!], yRange: [yMin, 1], xLabel: 'lag (ms)', yLabel: 'correlation (1)' });
   panel.drawAxes(svg);
   svg.line(panel.left, panel.py(0), panel.left + panel.width, panel.py(0), { stroke: THEME.frame, 'stroke-width': 0.8 });
   const inks = ['#1a1a1a', '#6b2a70', '#b8522e', '#7a7a7a'];
@@ -160,7 +160,7 @@ export function correlationFigure(input: { title: string; subtitle?: string; lag
   panel.frame(svg);
   svg.group({ class: 'legend' });
   legend.forEach((l, i) => {
-    const y = 90 + i * 24, x = W - 215;
+    const y = 90 + i * 24, x = W - 270;
     l.draw(x, y);
     svg.text(x + 20, y + 4, l.label, { 'font-size': THEME.smallSize });
   });
