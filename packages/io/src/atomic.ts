@@ -2,6 +2,12 @@
  * Atomic output files: data go to a temporary file in the destination's folder (unique per
  * process and call), which is fsynced and renamed over the final name only when complete.
  * A failure, abort or signal removes the temporary file and leaves any earlier file untouched.
+ *
+ * Faults of the file system (a full disk, a read-only or vanished folder, a destination that is
+ * a directory) surface as an OutputFileError that names the destination, the cause in words and
+ * the system's code; the temporary file is already removed when it is thrown. Several writers
+ * aimed at one destination each write their own temporary file; the last rename wins and no
+ * reader ever sees a partial file under the final name.
  */
 import { randomBytes } from 'node:crypto';
 import { open, rename, unlink, type FileHandle } from 'node:fs/promises';
@@ -42,12 +48,60 @@ export function removeLiveTemporaryFiles(): string[] {
 
 /**
  * The temporary name used for `target`: hidden, in the same folder (so rename is atomic),
- * unique per process and call.
- * @example temporaryPathFor('/data/run.npy') // "/data/.run.npy.4242-1a2b3c4d.part"
+ * unique per process and call (process id plus 64 random bits).
+ * @example temporaryPathFor('/data/run.npy') // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
  */
 export function temporaryPathFor(target: string): string {
-  return join(dirname(target), `.${basename(target)}.${process.pid}-${randomBytes(4).toString('hex')}.part`);
+  return join(dirname(target), `.${basename(target)}.${process.pid}-${randomBytes(8).toString('hex')}.part`);
 }
+
+/** What the system's error codes mean for an output file, in words. */
+const CAUSES: Record<string, string> = {
+  ENOSPC: 'no space left on the device',
+  EDQUOT: 'the disk quota is exhausted',
+  EROFS: 'the folder is on a read-only file system',
+  EACCES: 'permission denied',
+  EPERM: 'operation not permitted',
+  ENOENT: 'the folder does not exist (or was removed while writing)',
+  ENOTDIR: 'a part of the path is not a folder',
+  EISDIR: 'the output path is a directory',
+  EEXIST: 'the temporary name is taken',
+  EIO: 'an input/output error of the device',
+  EFBIG: 'the file is larger than the file system allows',
+  ENAMETOOLONG: 'the file name is too long',
+  EMFILE: 'too many open files',
+};
+
+/** Where an output file failed. */
+export type OutputFileStage = 'create' | 'write' | 'commit';
+
+/**
+ * A fault of the file system while writing an output file. The message names the destination,
+ * the cause in words and the system's code; the temporary file was removed and an earlier file
+ * of the destination's name left untouched.
+ * @example new OutputFileError('/full/out.npy', 'write', Object.assign(new Error('x'), { code: 'ENOSPC' })).message
+ * // "cannot write /full/out.npy: no space left on the device (ENOSPC); the temporary file was removed and any earlier /full/out.npy is untouched"
+ */
+export class OutputFileError extends Error {
+  override name = 'OutputFileError';
+  /** The system's error code (ENOSPC, EROFS, ...), or "" when there was none. */
+  readonly code: string;
+
+  constructor(
+    readonly target: string,
+    readonly stage: OutputFileStage,
+    cause: unknown,
+  ) {
+    const code = typeof (cause as NodeJS.ErrnoException | undefined)?.code === 'string' ? (cause as NodeJS.ErrnoException).code! : '';
+    const verb = stage === 'create' ? `cannot create ${target}` : stage === 'write' ? `cannot write ${target}` : `cannot finish ${target}`;
+    const why = CAUSES[code] ?? (cause instanceof Error ? cause.message : String(cause));
+    super(`${verb}: ${why}${code !== '' ? ` (${code})` : ''}; the temporary file was removed and any earlier ${target} is untouched`, { cause });
+    this.code = code;
+  }
+}
+
+/** Attempts at a fresh temporary name when one is already taken (EEXIST). */
+const CREATE_ATTEMPTS = 4;
 
 /** A file being written under a temporary name. */
 export class AtomicFile {
@@ -57,14 +111,35 @@ export class AtomicFile {
 
   private constructor(
     readonly target: string,
-    readonly temporary: string,
+    private temporaryName: string,
   ) {}
 
-  /** Create the temporary file next to `target`. */
+  /** The temporary file's path (beside the target). */
+  get temporary(): string {
+    return this.temporaryName;
+  }
+
+  /**
+   * Create the temporary file next to `target` ("wx": never opens a file that exists, so two
+   * writers cannot share one; a taken name is replaced by a fresh one).
+   * @example (await AtomicFile.create('/data/run.npy')).temporary // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
+   */
   static async create(target: string): Promise<AtomicFile> {
+    if (typeof target !== 'string' || target === '') throw new TypeError(`AtomicFile.create(): target must be a non-empty path, got ${JSON.stringify(target)}`);
     const f = new AtomicFile(target, temporaryPathFor(target));
-    f.handle = await open(f.temporary, 'wx', 0o644);
-    live.add(f.temporary);
+    for (let attempt = 1; ; attempt++) {
+      try {
+        f.handle = await open(f.temporaryName, 'wx', 0o644);
+        break;
+      } catch (e) {
+        if ((e as NodeJS.ErrnoException).code === 'EEXIST' && attempt < CREATE_ATTEMPTS) {
+          f.temporaryName = temporaryPathFor(target);
+          continue;
+        }
+        throw new OutputFileError(target, 'create', e);
+      }
+    }
+    live.add(f.temporaryName);
     return f;
   }
 
@@ -73,55 +148,76 @@ export class AtomicFile {
     return this.position;
   }
 
-  /** Append bytes. */
+  /** Append bytes. On a fault the temporary file is removed and an OutputFileError thrown. */
   async write(data: Uint8Array): Promise<void> {
     if (this.handle === undefined) throw new Error(`AtomicFile.write(): ${this.target} is already closed`);
-    let offset = 0;
-    while (offset < data.length) {
-      const { bytesWritten } = await this.handle.write(data, offset, data.length - offset, this.position);
-      offset += bytesWritten;
-      this.position += bytesWritten;
+    try {
+      let offset = 0;
+      while (offset < data.length) {
+        const { bytesWritten } = await this.handle.write(data, offset, data.length - offset, this.position);
+        offset += bytesWritten;
+        this.position += bytesWritten;
+      }
+    } catch (e) {
+      await this.abort();
+      throw new OutputFileError(this.target, 'write', e);
     }
   }
 
   /** Overwrite bytes at an absolute offset (e.g. a header finished at the end). */
   async writeAt(data: Uint8Array, at: number): Promise<void> {
     if (this.handle === undefined) throw new Error(`AtomicFile.writeAt(): ${this.target} is already closed`);
-    let offset = 0;
-    while (offset < data.length) {
-      const { bytesWritten } = await this.handle.write(data, offset, data.length - offset, at + offset);
-      offset += bytesWritten;
+    try {
+      let offset = 0;
+      while (offset < data.length) {
+        const { bytesWritten } = await this.handle.write(data, offset, data.length - offset, at + offset);
+        offset += bytesWritten;
+      }
+    } catch (e) {
+      await this.abort();
+      throw new OutputFileError(this.target, 'write', e);
     }
   }
 
-  /** fsync, close and rename over the target. */
+  /**
+   * fsync, close and rename over the target. On a fault (the device filled at fsync, the
+   * folder vanished, the target is a directory) the temporary file is removed and an
+   * OutputFileError thrown; the earlier target is untouched.
+   */
   async commit(): Promise<void> {
     if (this.handle === undefined) throw new Error(`AtomicFile.commit(): ${this.target} is already closed`);
     const h = this.handle;
     this.handle = undefined;
+    let stage: OutputFileStage = 'write';
     try {
-      await h.sync();
-    } finally {
-      await h.close();
+      try {
+        await h.sync();
+      } finally {
+        await h.close();
+      }
+      stage = 'commit';
+      await rename(this.temporaryName, this.target);
+    } catch (e) {
+      await this.abort();
+      throw new OutputFileError(this.target, stage, e);
     }
-    await rename(this.temporary, this.target);
-    live.delete(this.temporary);
+    live.delete(this.temporaryName);
     this.done = true;
   }
 
-  /** Close and remove the temporary file; a no-op after commit. */
+  /** Close and remove the temporary file; a no-op after commit or a second time. */
   async abort(): Promise<void> {
     if (this.done) return;
     this.done = true;
     const h = this.handle;
     this.handle = undefined;
     await h?.close().catch(() => undefined);
-    await unlink(this.temporary).catch(() => undefined);
-    live.delete(this.temporary);
+    await unlink(this.temporaryName).catch(() => undefined);
+    live.delete(this.temporaryName);
   }
 }
 
-/** Write a whole small file atomically. */
+/** Write a whole small file atomically (throws OutputFileError on a fault, leaving no temporary file). */
 export async function writeFileAtomic(target: string, data: Uint8Array | string): Promise<void> {
   const f = await AtomicFile.create(target);
   try {
