@@ -8,6 +8,7 @@ import {
   AntennaArray,
   degFromVector,
   dualPolarizedPortVectors,
+  gasAttenuationP676,
   isotropic,
   sector38901,
   tabulatedPattern,
@@ -72,6 +73,8 @@ export interface UserChannel {
   timeline: PathTimeline;
   /** Paths at t = 0 (for tables and the path table). */
   paths: PathRecord[];
+  /** With clusters: the specular paths at t = 0 that the sub-paths of `paths` come from. */
+  specularPaths?: PathRecord[];
   spec: ChannelSpec;
 }
 
@@ -305,7 +308,11 @@ function fadingOf(f: Scenario['fading']): FadingSpec {
 
 /** The geometry's scene from the scenario's `scene` object. */
 export function sceneOf(scenario: Scenario): Scene {
-  return scenario.scene as unknown as Scene;
+  const { atmosphere, ...scene } = scenario.scene!;
+  if (atmosphere === undefined) return scene as unknown as Scene;
+  // Narrowband: the specific attenuation at the carrier applies across the band.
+  const gas = gasAttenuationP676(scenario.carrierHz, atmosphere);
+  return { ...(scene as unknown as Scene), gasAttenuationDbPerKm: gas.totalDbPerKm };
 }
 
 /** Build the generators of a validated scenario. */
@@ -330,6 +337,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
     let delays: number[];
     let totalPower: number;
     const seed = options.seed ?? scenario.seed;
+    let specular: PathRecord[] | undefined;
     let spreads: (ClusterSpread | undefined)[];
     if (scenario.scene !== undefined) {
       const Timeline = usesPorts(scenario) ? PolarimetricTracedTimeline : TracedTimeline;
@@ -360,6 +368,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
     }
     if (spreads.some((c) => c !== undefined)) {
       const clustered = new ClusteredTimeline(timeline, spreads, seed, r.streamKey);
+      specular = records;
       records = clusteredRecords(clustered, records);
       timeline = clustered;
     }
@@ -387,7 +396,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
     };
     const generator = new ChannelGenerator(spec);
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
-    users.push({ id: r.id, receiver: r.config, generator, timeline, paths: records, spec });
+    users.push({ id: r.id, receiver: r.config, generator, timeline, paths: records, ...(specular !== undefined ? { specularPaths: specular } : {}), spec });
   }
   const first = users[0]!;
   const multiUser = scenario.receivers !== undefined;

@@ -1,5 +1,5 @@
 /** `pathweave paths`: the paths of a scenario as a table or as explicit-path JSON. */
-import { TracedTimeline } from '@pathweave/core';
+import { ClusteredTimeline, TracedTimeline } from '@pathweave/core';
 import { buildScenario, recordOfTraced } from '../build.js';
 import { pathsJson, pathsTable } from '../paths.js';
 import { loadScenario } from '../validate.js';
@@ -22,7 +22,13 @@ async function run(argv: string[], io: Io): Promise<number> {
     if (userIndex < 0) userIndex = parseInteger('--user', args.values.user, 0, built.users.length - 1);
   }
   const user = built.users[userIndex]!;
-  const records = user.timeline instanceof TracedTimeline ? user.timeline.pathsAt(at).map(recordOfTraced) : user.paths;
+  // With clusters the specular paths are listed (each stands for its sub-paths `${id}#k`).
+  const specular = user.timeline instanceof ClusteredTimeline ? user.timeline.inner : user.timeline;
+  const clustered = user.timeline instanceof ClusteredTimeline;
+  const records =
+    specular instanceof TracedTimeline
+      ? specular.pathsAt(at).map(recordOfTraced)
+      : (user.specularPaths ?? user.paths);
   if (records.length === 0) {
     io.err(`no path exists at t = ${at} s between the transmitter and ${built.multiUser ? `user ${user.id}` : 'the receiver'}`);
     return 1;
@@ -30,7 +36,8 @@ async function run(argv: string[], io: Io): Promise<number> {
   if (args.flags.has('json')) io.out(JSON.stringify(pathsJson(records), null, 2));
   else {
     const who = built.multiUser ? `, user ${user.id}` : '';
-    io.out(`${file}: ${records.length} path${records.length === 1 ? '' : 's'} at t = ${at} s${who}`);
+    const note = clustered ? `, each widened into a cluster of sub-paths (${user.timeline.ids.length} in all)` : '';
+    io.out(`${file}: ${records.length} path${records.length === 1 ? '' : 's'} at t = ${at} s${who}${note}`);
     io.out(pathsTable(records));
   }
   return 0;
