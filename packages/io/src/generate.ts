@@ -17,6 +17,7 @@ import { bytesOf } from './formats/npy.js';
 import type { NamedArray } from './formats/sink.js';
 import type { Scenario } from './schema.js';
 import { PATHWEAVE_VERSION } from './version.js';
+import { fillBlock, maxPathCount } from './workers/fill.js';
 import { BlockPool, defaultWorkers } from './workers/pool.js';
 
 /** Default refusal threshold for one output file, bytes (raise with --max-bytes). */
@@ -117,36 +118,7 @@ export function blockSubframes(bytesPerSubframe: number): number {
   return Math.max(1, Math.floor(BLOCK_TARGET_BYTES / Math.max(1, bytesPerSubframe)));
 }
 
-/** Largest path count over the users (the L axis of gains and tables). */
-export function maxPathCount(built: BuiltScenario): number {
-  return Math.max(...built.users.map((u) => u.generator.pathCount));
-}
-
-/**
- * Fill subframes [first, first + n) of every user into `out` (packed, users after S) and their
- * gains into `gains` ([n, (U,) (symbols,) Lmax], zero-padded).
- */
-export function fillBlock(built: BuiltScenario, out: Float32Array | Float64Array, first: number, n: number, gains?: Float64Array): void {
-  const userValues = built.users[0]!.generator.valuesPerSubframe;
-  const stride = 2 * built.valuesPerSubframe;
-  const Lmax = maxPathCount(built);
-  const U = built.users.length;
-  built.users.forEach((user, u) => {
-    const g = user.generator;
-    const L = g.pathCount;
-    const N = g.stepsPerSubframe;
-    const local = gains === undefined ? undefined : new Float64Array(2 * n * N * L);
-    g.fill(out, first, n, { offset: 2 * u * userValues, stride, ...(local !== undefined ? { gainsOut: local } : {}) });
-    if (gains !== undefined && local !== undefined) {
-      for (let s = 0; s < n; s++) {
-        for (let i = 0; i < N; i++) {
-          const dst = 2 * (((s * U + u) * N + i) * Lmax);
-          gains.set(local.subarray(2 * (s * N + i) * L, 2 * (s * N + i + 1) * L), dst);
-        }
-      }
-    }
-  });
-}
+export { fillBlock, maxPathCount } from './workers/fill.js';
 
 /** Run a generate request. */
 export async function generate(scenario: Scenario, scenarioText: string, options: GenerateOptions): Promise<GenerateReport> {
@@ -179,22 +151,27 @@ export async function generate(scenario: Scenario, scenarioText: string, options
     const blocks = Math.ceil(count / block);
     const workers = options.workers ?? defaultWorkers(blocks);
     if (!Number.isInteger(workers) || workers < 1) throw new RangeError(`generate(): options.workers must be an integer >= 1, got ${workers}`);
+    // The file write of one block (on libuv's thread pool) overlaps the hashing and filling of
+    // the next: at most one write is pending, and a buffer is reused only once its write is done.
+    let pendingWrite: Promise<void> = Promise.resolve();
     const write = async (s: number, n: number, view: Float32Array | Float64Array): Promise<void> => {
       hash.update(bytesOf(view));
-      await sink.writeRows(view);
-      options.onProgress?.(s + n - first, count);
+      await pendingWrite;
+      pendingWrite = sink.writeRows(view).then(() => options.onProgress?.(s + n - first, count));
+      pendingWrite.catch(() => undefined); // awaited before the next write and at the end
     };
     if (workers === 1) {
-      const buffer = new Tensor(values);
-      for (let s = first; s < end; s += block) {
+      const buffers = [new Tensor(values), ...(blocks > 1 ? [new Tensor(values)] : [])];
+      for (let s = first, b = 0; s < end; s += block, b++) {
         if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
         const n = Math.min(block, end - s);
-        const view = buffer.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
+        const view = buffers[b % buffers.length]!.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
         fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
         await write(s, n, view);
       }
     } else {
-      // Two blocks in flight per worker: one computing while the main thread writes the other.
+      // Two blocks in flight per worker (one computing while the main thread hashes the other),
+      // plus the one being written.
       const pool = new BlockPool(Math.min(workers, blocks), { scenario, domain, seed: options.seed, gainsPerSubframe });
       try {
         const depth = 2 * pool.size;
@@ -204,7 +181,9 @@ export async function generate(scenario: Scenario, scenarioText: string, options
           inFlight[b] = pool.request(s, Math.min(block, end - s), tensor, gainBuffer);
           inFlight[b].catch(() => undefined); // awaited in order below; avoid an unhandled rejection meanwhile
         };
-        for (let b = 0; b < Math.min(depth, blocks); b++) ask(b, new ArrayBuffer(values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe));
+        const fresh = (): [ArrayBuffer, ArrayBuffer] => [new ArrayBuffer(values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe)];
+        for (let b = 0; b < Math.min(depth, blocks); b++) ask(b, ...fresh());
+        let spare: [ArrayBuffer, ArrayBuffer] | undefined = blocks > depth ? fresh() : undefined;
         for (let b = 0; b < blocks; b++) {
           if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
           const s = first + b * block;
@@ -212,13 +191,17 @@ export async function generate(scenario: Scenario, scenarioText: string, options
           const done = await inFlight[b]!;
           delete inFlight[b];
           gains.set(new Float64Array(done.gains, 0, n * gainsPerSubframe), (s - first) * gainsPerSubframe);
+          // write() returns once the previous block's write is done: its buffers are free again.
           await write(s, n, new Tensor(done.tensor, 0, 2 * n * built.valuesPerSubframe));
-          if (b + depth < blocks) ask(b + depth, done.tensor, done.gains);
+          if (b + depth < blocks && spare !== undefined) ask(b + depth, ...spare);
+          spare = [done.tensor, done.gains];
         }
       } finally {
+        await pendingWrite.catch(() => undefined);
         await pool.close();
       }
     }
+    await pendingWrite;
     const sha256 = hash.digest('hex');
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);
     await sink.setAttribute({ name: 'scenario', dtype: 'string', value: scenarioText });

@@ -10,7 +10,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { buildScenario } from '../build.js';
-import { fillBlock } from '../generate.js';
+import { fillBlock } from './fill.js';
 import type { BlockRequest, BlockWorkerData } from './pool.js';
 
 const data = workerData as BlockWorkerData;

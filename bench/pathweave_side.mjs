@@ -1,0 +1,90 @@
+/**
+ * The pathweave side of the benchmark, one measurement per process (bench/run.mjs alternates it
+ * with numpy_side.py and times the whole process for end-to-end runs).
+ *
+ * usage: node bench/pathweave_side.mjs <workload.json> memory|e2e|tracer|rawdisk <workers> [out]
+ *   memory:  the fill loop over all subframes into reused block buffers (after a one-subframe
+ *            warm-up); with workers > 1 the blocks go to the worker pool of `generate`
+ *   e2e:     generate() to `out` (.npy, .npz), everything included
+ *   tracer:  traceScene on the 20-wall room at order 2, receiver moved a little per trace
+ *   rawdisk: write `bytes` (workload.rawBytes) to `out` in 16 MiB writes, then fsync
+ * Prints one JSON line.
+ */
+import { openSync, readFileSync, writeSync, fsyncSync, closeSync, unlinkSync } from 'node:fs';
+import { KERNEL_NAME } from '@pathweave/core';
+import { traceScene, prepareScene } from '@pathweave/geometry';
+import { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } from '@pathweave/io';
+import { BlockPool } from '../packages/io/dist/workers/pool.js';
+import { twentyWallRoom } from './workloads.mjs';
+
+const [file, mode, workersArg, out] = process.argv.slice(2);
+const cfg = JSON.parse(readFileSync(file, 'utf8'));
+const workers = Number(workersArg ?? 1);
+const rss = () => process.resourceUsage().maxRSS * 1024;
+const result = { side: 'pathweave', kernel: KERNEL_NAME, workers };
+
+if (mode === 'tracer') {
+  const ps = prepareScene(twentyWallRoom());
+  const tx = { position: [2, 5, 2.5] }, rx = { position: [17, 7, 1.5] };
+  const first = traceScene(ps, tx, rx, 28e9);
+  for (let k = 0; k < 100; k++) traceScene(ps, tx, rx, 28e9); // warm-up
+  const runs = 2000;
+  const t0 = performance.now();
+  for (let k = 0; k < runs; k++) traceScene(ps, tx, { position: [17, 7 + k * 1e-4, 1.5] }, 28e9);
+  const seconds = (performance.now() - t0) / 1000;
+  Object.assign(result, { loopSeconds: seconds, traces: runs, tracesPerSecond: runs / seconds, validPaths: first.paths.length, walls: ps.walls?.length ?? 20 });
+} else if (mode === 'rawdisk') {
+  const chunk = Buffer.alloc(16 * 2 ** 20, 0x5a);
+  const t0 = performance.now();
+  const fd = openSync(out, 'w');
+  let written = 0;
+  while (written < cfg.rawBytes) written += writeSync(fd, chunk, 0, Math.min(chunk.length, cfg.rawBytes - written));
+  fsyncSync(fd);
+  closeSync(fd);
+  const seconds = (performance.now() - t0) / 1000;
+  unlinkSync(out);
+  Object.assign(result, { loopSeconds: seconds, bytes: written, bytesPerSecond: written / seconds });
+} else {
+  const text = JSON.stringify(cfg.scenario);
+  const { scenario } = parseScenarioText(text);
+  if (mode === 'e2e') {
+    const report = await generate(scenario, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', workers });
+    Object.assign(result, { loopSeconds: report.seconds, fileBytes: report.fileBytes, coefficients: report.tensorBytes / 8 });
+  } else {
+    const built = buildScenario(scenario, {});
+    const S = scenario.timing.subframes;
+    const perSubframe = built.valuesPerSubframe;
+    const block = blockSubframes(perSubframe * 8);
+    const Tensor = Float32Array;
+    let seconds;
+    if (workers === 1) {
+      const buffer = new Tensor(2 * block * perSubframe);
+      fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up
+      const t0 = performance.now();
+      for (let s = 0; s < S; s += block) {
+        const n = Math.min(block, S - s);
+        fillBlock(built, buffer.subarray(0, 2 * n * perSubframe), s, n);
+      }
+      seconds = (performance.now() - t0) / 1000;
+    } else {
+      const gainsPerSubframe = 2 * built.generator.pathCount;
+      const pool = new BlockPool(workers, { scenario, domain: built.domain, gainsPerSubframe });
+      const fresh = () => [new ArrayBuffer(8 * block * perSubframe), new ArrayBuffer(8 * block * gainsPerSubframe)];
+      await Promise.all(Array.from({ length: workers }, () => pool.request(0, 1, ...fresh()))); // start-up and warm-up
+      const t0 = performance.now();
+      const blocks = Math.ceil(S / block);
+      const inFlight = [];
+      const ask = (b, bufs) => (inFlight[b] = pool.request(b * block, Math.min(block, S - b * block), ...bufs));
+      for (let b = 0; b < Math.min(2 * workers, blocks); b++) ask(b, fresh());
+      for (let b = 0; b < blocks; b++) {
+        const done = await inFlight[b];
+        if (b + 2 * workers < blocks) ask(b + 2 * workers, [done.tensor, done.gains]);
+      }
+      seconds = (performance.now() - t0) / 1000;
+      await pool.close();
+    }
+    Object.assign(result, { loopSeconds: seconds, coefficients: S * perSubframe, blockSubframes: block, blockTargetBytes: BLOCK_TARGET_BYTES });
+  }
+}
+result.maxRssBytes = rss();
+console.log(JSON.stringify(result));

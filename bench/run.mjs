@@ -1,0 +1,186 @@
+#!/usr/bin/env node
+/**
+ * `pnpm bench`: pathweave against the numpy a researcher would write (bench/numpy_side.py), in
+ * the same run, alternating the two sides pair by pair (the machine is shared and noisy), with
+ * the median and the spread (min-max) of each side and of the ratio.
+ *
+ * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--no-disk] [--no-scaling]
+ * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
+ * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
+ * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
+ * default = generate's default workers (one per available core).
+ * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
+import { availableParallelism, tmpdir } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { buildScenario, parseScenarioText } from '@pathweave/io';
+import { coefficientsOf, WORKLOADS } from './workloads.mjs';
+
+const here = dirname(fileURLToPath(import.meta.url));
+const argv = process.argv.slice(2);
+const flag = (name) => argv.includes(name);
+const value = (name, d) => (argv.includes(name) ? argv[argv.indexOf(name) + 1] : d);
+const JSON_OUT = flag('--json');
+const PAIRS = Number(value('--pairs', '5'));
+const ONLY = value('--only', 'dataset,wideband,taps,tracer').split(',');
+const PYTHON = process.env.PATHWEAVE_BENCH_PYTHON ?? 'python3';
+const MEMDIR = process.env.PATHWEAVE_BENCH_MEMDIR ?? '/dev/shm';
+const DISKDIR = process.env.PATHWEAVE_BENCH_DISKDIR ?? tmpdir();
+const log = (s) => (JSON_OUT ? process.stderr.write(s + '\n') : process.stdout.write(s + '\n'));
+
+const numpyEnv = (threads) => {
+  const env = { ...process.env };
+  delete env.OPENBLAS_CORETYPE;
+  delete env.OPENBLAS_L2_SIZE;
+  if (threads === 1) Object.assign(env, { OPENBLAS_NUM_THREADS: '1', OMP_NUM_THREADS: '1', MKL_NUM_THREADS: '1' });
+  return env;
+};
+
+function child(cmd, args, env = process.env) {
+  const t0 = process.hrtime.bigint();
+  const r = spawnSync(cmd, args, { env, encoding: 'utf8', maxBuffer: 1 << 24 });
+  const wall = Number(process.hrtime.bigint() - t0) / 1e9;
+  if (r.status !== 0) throw new Error(`${cmd} ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
+  const lines = r.stdout.trim().split('\n');
+  return { ...JSON.parse(lines[lines.length - 1]), wallSeconds: wall };
+}
+const pw = (args) => child(process.execPath, [join(here, 'pathweave_side.mjs'), ...args]);
+const np = (args, threads) => child(PYTHON, [join(here, 'numpy_side.py'), ...args], numpyEnv(threads));
+
+const median = (xs) => {
+  const s = [...xs].sort((a, b) => a - b);
+  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
+};
+const stats = (xs) => ({ median: median(xs), min: Math.min(...xs), max: Math.max(...xs), n: xs.length });
+const fmt = (x) => (x >= 1e4 || x < 1e-2 ? x.toExponential(2) : x.toFixed(2));
+const spread = (s) => `${fmt(s.median)} [${fmt(s.min)}-${fmt(s.max)}]`;
+
+function numpyInfo() {
+  const env = { ...numpyEnv(0), OPENBLAS_VERBOSE: '2' };
+  const r = spawnSync(PYTHON, ['-c', 'import sys, numpy; print(sys.executable, numpy.__version__); c = numpy.show_config(mode="dicts"); print(c["Build Dependencies"]["blas"]["name"], c["Build Dependencies"]["blas"].get("version", ""))'], { env, encoding: 'utf8' });
+  const core = /Core: (\S+)/.exec(r.stdout + r.stderr)?.[1] ?? 'unknown';
+  const [exe, blas] = r.stdout.trim().split('\n');
+  return { python: exe, blas, openblasCore: core };
+}
+
+const dir = mkdtempSync(join(MEMDIR, 'pathweave-bench-'));
+const results = [];
+const emit = (row) => {
+  results.push(row);
+  if (JSON_OUT) process.stdout.write(JSON.stringify(row) + '\n');
+};
+
+try {
+  const info = numpyInfo();
+  log(`pathweave bench: ${PAIRS} alternating pairs per figure; median [min-max]; ${availableParallelism()} cores; node ${process.version}`);
+  log(`numpy side: ${info.python}, numpy ${info.blas}, OpenBLAS core ${info.openblasCore} (OPENBLAS_CORETYPE/OPENBLAS_L2_SIZE unset for it)`);
+  for (const name of ONLY) {
+    const w = WORKLOADS[name];
+    if (w === undefined) throw new Error(`unknown workload ${name}; known: ${Object.keys(WORKLOADS).join(', ')}`);
+    if (w.tracer) {
+      writeFileSync(join(dir, 'tracer.json'), '{}');
+      const runs = Array.from({ length: PAIRS }, () => pw([join(dir, 'tracer.json'), 'tracer', '1']));
+      const tps = stats(runs.map((r) => r.tracesPerSecond));
+      const row = { workload: name, description: w.description, mode: 'tracer', threads: '1', tracesPerSecond: tps, validPaths: runs[0].validPaths, maxRssBytes: Math.max(...runs.map((r) => r.maxRssBytes)), numpy: 'n/a (no numpy counterpart of the image-method tracer)' };
+      emit(row);
+      log(`\n${name}: ${w.description}\n  traces/s ${spread(tps)} (${row.validPaths} valid paths), peak RSS ${(row.maxRssBytes / 2 ** 20).toFixed(0)} MiB`);
+      continue;
+    }
+    // The per-path alpha of the numpy side is pathweave's own (Clarke/Jakes J0 at the subframe lag).
+    const { scenario } = parseScenarioText(JSON.stringify(w.scenario));
+    const built = buildScenario(scenario, {});
+    const cfgFile = join(dir, `${name}.json`);
+    writeFileSync(cfgFile, JSON.stringify({ scenario: w.scenario, alpha: built.generator.correlations.map((c) => c.alpha), rawBytes: 2 ** 30 }));
+    const coefficients = coefficientsOf(w.scenario);
+
+    // Accuracy: pathweave's output (first subframes, with its gains) against the numpy code.
+    const checkScenario = { ...w.scenario, timing: { ...w.scenario.timing, subframes: Math.min(20, w.scenario.timing.subframes) } };
+    const checkCfg = join(dir, `${name}-check.json`);
+    writeFileSync(checkCfg, JSON.stringify({ scenario: checkScenario, alpha: built.generator.correlations.map((c) => c.alpha) }));
+    pw([checkCfg, 'e2e', '1', join(dir, `${name}-check.npz`)]);
+    const check = np([checkCfg, 'memory', '-', join(dir, `${name}-check.npz`)], 1);
+    log(`\n${name}: ${w.description}\n  ${coefficients.toExponential(3)} coefficients; pathweave vs numpy relative Frobenius error ${check.relativeFrobenius.toExponential(2)} (target 2e-5)`);
+
+    const modes = w.endToEnd ? ['memory', 'e2e'] : ['memory'];
+    for (const mode of modes) {
+      for (const threads of ['1', 'default']) {
+        const workers = threads === '1' ? 1 : availableParallelism();
+        const p = [], n = [];
+        for (let i = 0; i < PAIRS; i++) {
+          const out = join(dir, `${name}.npy`);
+          const first = i % 2 === 0; // alternate which side goes first
+          const runP = () => p.push(pw([cfgFile, mode, String(workers), out]));
+          const runN = () => n.push(np([cfgFile, mode, out], threads === '1' ? 1 : 0));
+          if (first) { runP(); runN(); } else { runN(); runP(); }
+          rmSync(out, { force: true });
+          rmSync(`${out}.json`, { force: true });
+        }
+        const seconds = (r) => (mode === 'e2e' ? r.wallSeconds : r.loopSeconds);
+        const ps = stats(p.map((r) => coefficients / seconds(r)));
+        const ns = stats(n.map((r) => coefficients / seconds(r)));
+        const ratio = stats(p.map((r, i) => seconds(n[i]) / seconds(r)));
+        const row = {
+          workload: name, description: w.description, mode, threads, pathweaveWorkers: workers, kernel: p[0].kernel,
+          coefficients, relativeFrobenius: check.relativeFrobenius,
+          pathweave: { coefficientsPerSecond: ps, bytesPerSecond: stats(p.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(p.map(seconds)), maxRssBytes: Math.max(...p.map((r) => r.maxRssBytes)) },
+          numpy: { coefficientsPerSecond: ns, bytesPerSecond: stats(n.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(n.map(seconds)), maxRssBytes: Math.max(...n.map((r) => r.maxRssBytes)), ...info },
+          ratio,
+        };
+        emit(row);
+        log(`  ${mode.padEnd(6)} threads ${threads.padEnd(7)} pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)}`);
+      }
+    }
+
+    if (w.endToEnd && !flag('--no-disk')) {
+      // Raw disk rate (16 MiB writes + fsync) beside pathweave's file rate to the same disk.
+      const diskDir = mkdtempSync(join(DISKDIR, 'pathweave-bench-disk-'));
+      try {
+        const raw = [], file = [];
+        for (let i = 0; i < Math.min(PAIRS, 3); i++) {
+          raw.push(pw([cfgFile, 'rawdisk', '1', join(diskDir, 'raw.bin')]).bytesPerSecond);
+          const r = pw([cfgFile, 'e2e', String(availableParallelism()), join(diskDir, 'x.npy')]);
+          file.push(r.fileBytes / r.loopSeconds);
+          for (const f of readdirSync(diskDir)) rmSync(join(diskDir, f), { force: true });
+        }
+        const row = { workload: name, mode: 'disk', disk: DISKDIR, rawBytesPerSecond: stats(raw), pathweaveFileBytesPerSecond: stats(file), fraction: stats(file.map((f, i) => f / raw[i])) };
+        emit(row);
+        log(`  disk ${DISKDIR}: raw write+fsync ${spread(stats(raw.map((x) => x / 2 ** 20)))} MiB/s, pathweave file ${spread(stats(file.map((x) => x / 2 ** 20)))} MiB/s (${spread(row.fraction)} of raw)`);
+      } finally {
+        rmSync(diskDir, { recursive: true, force: true });
+      }
+    }
+  }
+
+  if (!flag('--no-scaling')) {
+    // Cost against L, K, Nr Nt and S (one thread, in memory), and peak memory against S (end to end).
+    log('\nscaling (one thread, in memory; ns per coefficient-path = seconds / (S K Nr Nt L)):');
+    const base = WORKLOADS.dataset.scenario;
+    const variants = [];
+    for (const L of [4, 8, 16]) variants.push(['L', L, { ...base, timing: { ...base.timing, subframes: 100 }, paths: Array.from({ length: L }, (_, l) => ({ ...base.paths[l % 8], id: `p${l}`, delayS: base.paths[l % 8].delayS + 1e-9 * l })) }]);
+    for (const K of [128, 256, 512]) variants.push(['K', K, { ...base, timing: { ...base.timing, subframes: 100 }, band: { ...base.band, subcarriers: K } }]);
+    for (const [r, c] of [[2, 4], [4, 4], [8, 4]]) variants.push(['NrNt', r * c * 64, { ...base, timing: { ...base.timing, subframes: 100 }, receiver: { ...base.receiver, array: { kind: 'upa', rows: r, columns: c } } }]);
+    for (const S of [50, 100, 200, 600]) variants.push(['S', S, { ...base, timing: { ...base.timing, subframes: S } }]);
+    for (const [axis, v, sc] of variants) {
+      const f = join(dir, `scale-${axis}-${v}.json`);
+      writeFileSync(f, JSON.stringify({ scenario: sc }));
+      const runs = Array.from({ length: 3 }, () => pw([f, 'memory', '1']));
+      const sec = median(runs.map((r) => r.loopSeconds));
+      const L = sc.paths.length;
+      const nsPer = (sec / (coefficientsOf(sc) * L)) * 1e9;
+      const row = { mode: 'scaling', axis, value: v, seconds: sec, nsPerCoefficientPath: nsPer };
+      if (axis === 'S') {
+        const e = pw([f, 'e2e', '1', join(dir, 'scale.npy')]);
+        rmSync(join(dir, 'scale.npy'), { force: true });
+        rmSync(join(dir, 'scale.npy.json'), { force: true });
+        row.endToEndPeakRssBytes = e.maxRssBytes;
+      }
+      emit(row);
+      log(`  ${axis.padEnd(5)} ${String(v).padStart(5)}: ${sec.toFixed(3)} s, ${nsPer.toFixed(3)} ns per coefficient-path${row.endToEndPeakRssBytes ? `, end-to-end peak RSS ${(row.endToEndPeakRssBytes / 2 ** 20).toFixed(0)} MiB` : ''}`);
+    }
+  }
+} finally {
+  rmSync(dir, { recursive: true, force: true });
+}
