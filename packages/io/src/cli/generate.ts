@@ -2,12 +2,20 @@
  * `pathweave generate`: a scenario to a dataset file, streamed, with progress and signal handling.
  * With `--shard I/N` (or `auto`) the run writes the part file `partPath(out, I, N)` and its
  * manifest (manifest.ts); a rerun keeps a part whose manifest verifies.
+ *
+ * The run itself goes in a worker thread, so this thread stays free to answer SIGINT/SIGTERM at
+ * once whatever the run is doing (a long synchronous block, an HDF5 write): it stops the worker,
+ * removes the hidden temporary files of the output and exits with 1. (This module is also the
+ * worker's entry point; see the end of the file.)
  */
+import { readdirSync, unlinkSync } from 'node:fs';
 import { stat, unlink } from 'node:fs/promises';
+import { basename, dirname, join } from 'node:path';
+import { isMainThread, parentPort, Worker, workerData } from 'node:worker_threads';
 import { KERNEL_NAME } from '@pathweave/core';
-import { removeLiveTemporaryFiles } from '../atomic.js';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate } from '../generate.js';
+import { DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateOptions, type GenerateReport } from '../generate.js';
+import type { Scenario } from '../schema.js';
 import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../manifest.js';
 import { loadScenario } from '../validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
@@ -74,39 +82,40 @@ async function run(argv: string[], io: Io): Promise<number> {
   };
   for (const w of warnings) warn(w);
 
-  const controller = new AbortController();
   let interrupted: string | undefined;
   let done = 0;
   const total = range[1] - range[0];
+  const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
+  const job = startGenerate(scenario, text, {
+    out: target,
+    format,
+    range,
+    maxBytes,
+    ...(seed !== undefined ? { seed } : {}),
+    ...(workers !== undefined ? { workers } : {}),
+    ...(domain !== undefined ? { domain } : {}),
+  }, (n) => {
+    done = n;
+    progress.update(n);
+  });
+  let onInterrupted: (signal: string) => void = () => undefined;
+  const interruption = new Promise<string>((resolve) => (onInterrupted = resolve));
   const onSignal = (signal: NodeJS.Signals): void => {
     if (interrupted !== undefined) return;
     interrupted = signal;
-    controller.abort(new Error(`interrupted by ${signal}`));
-    // The run stops at the next block boundary; should that take too long, leave regardless.
-    setTimeout(() => {
-      const removed = removeLiveTemporaryFiles();
-      io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed.length} temporary file(s); nothing was written to ${target}`);
-      process.exit(1);
-    }, 900).unref();
+    // Remove the temporaries at once, stop the run, and remove any it made meanwhile.
+    let removed = removeTemporariesOf(target);
+    void job.stop().then(() => {
+      removed += removeTemporariesOf(target);
+      io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed} temporary file(s); nothing was written to ${target}`);
+      onInterrupted(signal);
+    });
   };
   process.on('SIGINT', onSignal);
   process.on('SIGTERM', onSignal);
   try {
-    const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
-    const report = await generate(scenario, text, {
-      out: target,
-      format,
-      range,
-      maxBytes,
-      signal: controller.signal,
-      onProgress: (n) => {
-        done = n;
-        progress.update(n);
-      },
-      ...(seed !== undefined ? { seed } : {}),
-      ...(workers !== undefined ? { workers } : {}),
-      ...(domain !== undefined ? { domain } : {}),
-    });
+    const report = await Promise.race([job.result, interruption]);
+    if (typeof report === 'string') return 1;
     for (const w of report.warnings) warn(w);
     io.out(
       `wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] (subframes ${report.range[0]}:${report.range[1]}), ` +
@@ -138,10 +147,7 @@ async function run(argv: string[], io: Io): Promise<number> {
     }
     return 0;
   } catch (e) {
-    if (interrupted !== undefined) {
-      io.err(`error: interrupted by ${interrupted} after ${done} of ${total} subframes; the temporary file was removed and nothing was written to ${target}`);
-      return 1;
-    }
+    if (interrupted !== undefined) return interruption.then(() => 1);
     throw e;
   } finally {
     process.off('SIGINT', onSignal);
@@ -157,3 +163,80 @@ export const generateCommand: Command = {
                    [--domain frequency|taps] [--max-bytes SIZE]`,
   run,
 };
+
+/** What the worker sends back: the report without the built scenario (not cloneable). */
+type WorkerReport = Omit<GenerateReport, 'built'>;
+type WorkerMessage = { type: 'progress'; done: number } | { type: 'done'; report: WorkerReport } | { type: 'error'; name: string; message: string; stack?: string };
+
+/**
+ * The hidden temporary files this process made for `target` (atomic.ts naming: the data file,
+ * the .npy side file, the manifest), removed synchronously. Returns how many were removed.
+ */
+function removeTemporariesOf(target: string): number {
+  const base = basename(target).replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+  const ours = new RegExp(`^\\.${base}\\.(?:json\\.|manifest\\.json\\.)?${process.pid}-[0-9a-f]+\\.part$`);
+  let removed = 0;
+  let names: string[] = [];
+  try {
+    names = readdirSync(dirname(target));
+  } catch {
+    return 0;
+  }
+  for (const name of names) {
+    if (!ours.test(name)) continue;
+    try {
+      unlinkSync(join(dirname(target), name));
+      removed++;
+    } catch {
+      // already gone
+    }
+  }
+  return removed;
+}
+
+/**
+ * Run generate in a worker thread (in this thread when running from the TypeScript sources,
+ * which a worker cannot load). `stop()` ends the run at once.
+ */
+function startGenerate(
+  scenario: Scenario,
+  text: string,
+  options: Omit<GenerateOptions, 'onProgress' | 'signal'>,
+  onProgress: (done: number) => void,
+): { result: Promise<WorkerReport>; stop: () => Promise<void> } {
+  if (import.meta.url.endsWith('.ts')) {
+    const controller = new AbortController();
+    const result = generate(scenario, text, { ...options, signal: controller.signal, onProgress });
+    return { result, stop: async () => controller.abort(new Error('stopped')) };
+  }
+  const worker = new Worker(new URL(import.meta.url), { workerData: { pathweaveGenerate: true, scenario, text, options } });
+  const result = new Promise<WorkerReport>((resolve, reject) => {
+    worker.on('message', (m: WorkerMessage) => {
+      if (m.type === 'progress') onProgress(m.done);
+      else if (m.type === 'done') resolve(m.report);
+      else {
+        // Refusals keep their class, so the exit code stays 2.
+        const e = m.name === 'RequestError' ? new RequestError(m.message) : new Error(m.message);
+        if (m.stack !== undefined) e.stack = m.stack;
+        reject(e);
+      }
+    });
+    worker.on('error', reject);
+    worker.on('exit', (code) => reject(new Error(`the generate worker stopped (exit code ${code}) before it finished`)));
+  });
+  result.catch(() => undefined);
+  return { result, stop: async () => void (await worker.terminate()) };
+}
+
+// Worker side: run the request and post progress and the outcome.
+if (!isMainThread && (workerData as { pathweaveGenerate?: boolean } | null)?.pathweaveGenerate === true) {
+  const { scenario, text, options } = workerData as { scenario: Scenario; text: string; options: GenerateOptions };
+  const port = parentPort!;
+  generate(scenario, text, { ...options, onProgress: (done) => port.postMessage({ type: 'progress', done } satisfies WorkerMessage) }).then(
+    ({ built: _built, ...report }) => port.postMessage({ type: 'done', report } satisfies WorkerMessage),
+    (e: unknown) => {
+      const err = e instanceof Error ? e : new Error(String(e));
+      port.postMessage({ type: 'error', name: err.name, message: err.message, ...(err.stack !== undefined ? { stack: err.stack } : {}) } satisfies WorkerMessage);
+    },
+  );
+}
