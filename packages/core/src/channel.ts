@@ -30,8 +30,6 @@ import { pulseFunction, type PulseShape } from './pulse.js';
 import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
 
-export * from './polarization-ports.js';
-export * from './cluster.js';
 
 /** How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length. */
 export type Wavefront = 'plane' | 'spherical' | 'auto';

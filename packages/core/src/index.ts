@@ -16,3 +16,5 @@ export * from './signal/index.js';
 export * from './motion.js';
 export * from './timeline.js';
 export * from './stream.js';
+export * from './polarization-ports.js';
+export * from './cluster.js';

@@ -1,5 +1,5 @@
 /** `pathweave validate`: every problem of a scenario, or a one-screen summary. */
-import { buildScenario, chooseDomain, elementCount, outputEstimate } from '../build.js';
+import { buildScenario, chooseDomain, elementCount, outputEstimate, portCount } from '../build.js';
 import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes } from '../generate.js';
 import { loadScenario } from '../validate.js';
 import { parseArgs, parseBytes } from './args.js';
@@ -19,7 +19,8 @@ async function run(argv: string[], io: Io): Promise<number> {
     const o = a.orientation ?? {};
     const layout = a.kind === 'ula' ? `ULA of ${a.elements}` : a.kind === 'upa' ? `UPA ${a.rows} rows x ${a.columns} columns` : `custom, ${a.positions!.length} elements`;
     const spacing = a.kind === 'custom' ? '' : `, spacing ${a.spacingWavelengths ?? 0.5} wavelengths`;
-    return `  ${name.padEnd(12)} ${layout}${spacing}, yaw ${o.yawDeg ?? 0} pitch ${o.pitchDeg ?? 0} roll ${o.rollDeg ?? 0} deg, ${elementCount(a)} elements`;
+    const ports = a.dualPolarized !== undefined ? `, dual-polarised (${a.dualPolarized}): ${portCount(a)} ports` : '';
+    return `  ${name.padEnd(12)} ${layout}${spacing}, yaw ${o.yawDeg ?? 0} pitch ${o.pitchDeg ?? 0} roll ${o.rollDeg ?? 0} deg, ${elementCount(a)} elements${ports}`;
   };
   io.out(`${file}: valid`);
   io.out(`  carrier      ${(scenario.carrierHz / 1e9).toFixed(3)} GHz, ${scenario.timing.subframes} subframes of ${scenario.timing.subframeS * 1e3} ms, fading ${scenario.fading.model}, seed ${scenario.seed}`);
