@@ -394,7 +394,16 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       amplitudeScale: scenario.fading.normalize === true && totalPower > 0 ? 1 / Math.sqrt(totalPower) : 1,
       ...(scenario.fading.xprDb !== undefined ? { xprDb: scenario.fading.xprDb } : {}),
     };
-    const generator = new ChannelGenerator(spec);
+    let generator: ChannelGenerator;
+    try {
+      generator = new ChannelGenerator(spec);
+    } catch (e) {
+      // The AR fit can refuse an order its Yule-Walker system cannot carry: that is the input's fault.
+      if (e instanceof RangeError && scenario.fading.model === 'ar' && /AutoregressiveGains|fitAutoregressive/.test(e.message)) {
+        throw new ScenarioError([{ path: 'fading.order', message: e.message.replace(/^.*?: (?=order|the )/, '') }]);
+      }
+      throw e;
+    }
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
     users.push({ id: r.id, receiver: r.config, generator, timeline, paths: records, ...(specular !== undefined ? { specularPaths: specular } : {}), spec });
   }
