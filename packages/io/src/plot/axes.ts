@@ -37,7 +37,10 @@ export function tickLabel(value: number, step: number): string {
   return t === '-0' || /^-0\.0*$/.test(t) ? t.slice(1) : t;
 }
 
-/** Where a panel sits in the figure and what its axes show. */
+/**
+ * Where a panel sits in the figure and what its axes show.
+ * @example const spec: PanelSpec = { x: 90, y: 70, width: 600, height: 300, xRange: [0, 200], yRange: [-120, -80], xLabel: 'delay (ns)', yLabel: 'path power (dB)' }; // ticks every 50 ns and 10 dB
+ */
 export interface PanelSpec {
   /** Left, top, width and height of the plotting area, pixels. */
   x: number;
@@ -205,6 +208,10 @@ export function relativeLuminance(hex: string): number {
 /**
  * A vertical colour bar: `steps` bands from `lo` (bottom, light) to `hi` (top, dark) with a labelled scale.
  * Strong values are dark so they stand out on white paper.
+ * @example
+ * const svg = new SvgDocument(200, 300, 'bar');
+ * colourBar(svg, 20, 20, 200, -110, -90, 'path power (dB)');
+ * svg.toString().match(/<rect/g).length // 34: background, 32 bands, frame
  */
 export function colourBar(svg: SvgDocument, x: number, y: number, height: number, lo: number, hi: number, label: string, steps = 32): void {
   const w = 14;
@@ -226,7 +233,10 @@ export function colourBar(svg: SvgDocument, x: number, y: number, height: number
   svg.end();
 }
 
-/** Ramp position of the weakest shown value: the ramp's last, palest part is left out so weak lines stay visible on white. */
+/**
+ * Ramp position of the weakest shown value: the ramp's last, palest part is left out so weak lines stay visible on white.
+ * @example rampColour(SHADE_LIGHTEST) // "#e89958", the colour of the weakest path
+ */
 export const SHADE_LIGHTEST = 0.82;
 
 /**

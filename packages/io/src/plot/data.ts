@@ -16,7 +16,10 @@ import type { FigureTerminal, SceneFigureInput } from './scene.js';
 import type { ProfilePath } from './profiles.js';
 import { gainCorrelation, type CorrelationSeries, type TimeFrequencyInput } from './fields.js';
 
-/** A scenario, built, and (for a file) the open file it came with. */
+/**
+ * A scenario, built, and (for a file) the open file it came with.
+ * @example (await openPlotSource('out/corner.h5')).reader?.format // "h5"
+ */
 export interface PlotSource {
   /** The file name given. */
   file: string;
@@ -63,7 +66,10 @@ export function scenarioPlotSource(scenario: Scenario, label: string): PlotSourc
   return { file: label, scenario, built: buildScenario(scenario) };
 }
 
-/** Release the file of a source (a no-op for a scenario). */
+/**
+ * Release the file of a source (a no-op for a scenario).
+ * @example await closePlotSource(await openPlotSource('out/corner.h5')) // the HDF5 file is closed
+ */
 export async function closePlotSource(source: PlotSource): Promise<void> {
   await source.reader?.close();
 }
@@ -74,7 +80,10 @@ function userIndex(source: PlotSource, user: number): number {
   return user;
 }
 
-/** Paths of a user at time t: traced again at t for a scene, the explicit list otherwise. */
+/**
+ * Paths of a user at time t: traced again at t for a scene, the explicit list otherwise.
+ * @example pathsAt(await openPlotSource('examples/street-corner-28ghz.json'))[0].kind // "los"
+ */
 export function pathsAt(source: PlotSource, atS = 0, user = 0): PathRecord[] {
   const u = source.built.users[userIndex(source, user)]!;
   return u.timeline instanceof TracedTimeline ? u.timeline.pathsAt(atS).map(recordOfTraced) : u.paths;
@@ -83,6 +92,7 @@ export function pathsAt(source: PlotSource, atS = 0, user = 0): PathRecord[] {
 /**
  * The scene figure's input at time t: the scenario's scene, the terminals (receiver tracks over
  * the run) and the paths of `user` at t. Explicit-path scenarios have no scene and are refused.
+ * @example sceneInputOf(await openPlotSource('examples/street-corner-28ghz.json')).paths.length // 8
  */
 export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigureInput {
   const s = source.scenario;
@@ -115,6 +125,7 @@ export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigure
 /**
  * Paths for the profile figures at time t: a file's own truth tables at the subframe holding t
  * (what the file carries), else the scenario's paths traced at t.
+ * @example (await profilePathsOf(await openPlotSource('out/corner.h5'))).origin // "out/corner.h5, truth tables at subframe 0 (t = 0.000 s)"
  */
 export async function profilePathsOf(source: PlotSource, atS = 0, user = 0): Promise<{ paths: ProfilePath[]; origin: string }> {
   const ui = userIndex(source, user);
@@ -142,7 +153,10 @@ export async function profilePathsOf(source: PlotSource, atS = 0, user = 0): Pro
   return { paths: pathsAt(source, atS, ui), origin: `${source.file}, paths at t = ${atS} s` };
 }
 
-/** Options of the data figures. */
+/**
+ * Options of the data figures.
+ * @example const o: FieldOptions = { element: [1, 0] }; // receive element 1, transmit element 0 of user 0
+ */
 export interface FieldOptions {
   user?: number;
   /** Receive and transmit element shown (default [0, 0]). */
@@ -162,6 +176,7 @@ function subframeLayout(built: BuiltScenario, shape: readonly number[]): { bins:
 /**
  * |H| in dB of one element pair (symbol 0 of each subframe) over time and subcarriers (or taps),
  * from the file's tensor or a run of the scenario in memory.
+ * @example (await timeFrequencyOf(await openPlotSource('examples/street-corner-28ghz.json'))).magnitudeDb.length // 12800: 200 subframes x 64 subcarriers
  */
 export async function timeFrequencyOf(source: PlotSource, options: FieldOptions = {}): Promise<Omit<TimeFrequencyInput, 'title'>> {
   const b = source.built;
@@ -222,6 +237,7 @@ function centredOffsets(K: number, b: BuiltScenario): Float64Array {
  * Gain correlation against lag: the estimate from the gains (the file's `gains`, or a run of the
  * scenario in memory) and the model's references, the Clarke/Jakes product of J0 per moving end
  * and, for Gauss-Markov, alpha^k. Paths are averaged (each normalised to its own power).
+ * @example (await correlationOf(await openPlotSource('examples/highway-39ghz.json'))).series.map((s) => s.style) // ["markers", "line"]
  */
 export async function correlationOf(source: PlotSource, options: { user?: number; lags?: number; subframes?: number } = {}): Promise<{ lagsS: Float64Array; series: CorrelationSeries[]; subtitle: string }> {
   const b = source.built;

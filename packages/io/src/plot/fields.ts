@@ -8,7 +8,10 @@
 import { Panel, colourBar, rampColour, SHADE_LIGHTEST } from './axes.js';
 import { SvgDocument, THEME } from './svg.js';
 
-/** Input of the time-frequency figure. */
+/**
+ * Input of the time-frequency figure.
+ * @example timeFrequencyFigure({ title: 't', magnitudeDb: Float64Array.of(-90, -91), timesS: Float64Array.of(0), bins: Float64Array.of(0, 1e-8), domain: 'taps' }).includes('delay (ns)') // true
+ */
 export interface TimeFrequencyInput {
   title: string;
   subtitle?: string;
@@ -23,10 +26,16 @@ export interface TimeFrequencyInput {
   dynamicRangeDb?: number;
 }
 
-/** Most cells drawn along each axis: finer data are averaged in power into this many bins. */
+/**
+ * Most cells drawn along each axis: finer data are averaged in power into this many bins.
+ * @example MAX_RASTER_CELLS // 200: a run of 800 subframes is drawn as 200 rows of 4 subframes each
+ */
 export const MAX_RASTER_CELLS = 200;
 
-/** Colour levels of the raster (equal neighbours merge into one rectangle). */
+/**
+ * Colour levels of the raster (equal neighbours merge into one rectangle).
+ * @example RASTER_LEVELS // 48: 30 dB of range in steps of 0.625 dB
+ */
 export const RASTER_LEVELS = 48;
 
 /**
@@ -99,7 +108,10 @@ export function timeFrequencyFigure(input: TimeFrequencyInput): string {
   return svg.toString();
 }
 
-/** One curve of the correlation figure. */
+/**
+ * One curve of the correlation figure.
+ * @example const j0: CorrelationSeries = { label: 'J0', values: [1, 0.99, 0.96], style: 'line' }; // a reference drawn as a solid line
+ */
 export interface CorrelationSeries {
   label: string;
   /** Correlation at lags[k]. */

@@ -19,13 +19,22 @@ export * from './profiles.js';
 export * from './fields.js';
 export * from './data.js';
 
-/** The kinds of figure `pathweave plot --kind` draws. */
+/**
+ * The kinds of figure `pathweave plot --kind` draws.
+ * @example PLOT_KINDS.length // 5
+ */
 export const PLOT_KINDS = ['scene', 'delay-profile', 'angles', 'time-frequency', 'correlation'] as const;
 
-/** One of PLOT_KINDS. */
+/**
+ * One of PLOT_KINDS.
+ * @example const kind: PlotKind = 'delay-profile'; // accepted by plotSource and `pathweave plot --kind`
+ */
 export type PlotKind = (typeof PLOT_KINDS)[number];
 
-/** Options of `plotSource` / `plotFile`. */
+/**
+ * Options of `plotSource` / `plotFile`.
+ * @example const o: PlotOptions = { atS: 0.1, user: 0 }; // paths traced again at t = 0.1 s
+ */
 export interface PlotOptions {
   /** Time of the path snapshot, seconds (scene, delay-profile, angles); default 0. */
   atS?: number;

@@ -7,7 +7,10 @@ import { rotationFromOrientation, applyRotation, type Orientation, type Scene, t
 import { Panel, colourBar, shade } from './axes.js';
 import { LabelPlacer, SvgDocument, THEME, escapeXml, fmt } from './svg.js';
 
-/** A terminal in the figure. */
+/**
+ * A terminal in the figure.
+ * @example const tx: FigureTerminal = { position: [0, 0, 6], orientation: { yawDeg: 30 }, label: 'Tx' }; // boresight arrow at azimuth 30 deg
+ */
 export interface FigureTerminal {
   position: Readonly<Vec3>;
   orientation?: Orientation | undefined;
@@ -17,7 +20,10 @@ export interface FigureTerminal {
   track?: readonly Readonly<Vec3>[];
 }
 
-/** A path in the figure: its polyline from the transmitter through its interactions to the receiver. */
+/**
+ * A path in the figure: its polyline from the transmitter through its interactions to the receiver.
+ * @example const p: FigurePath = { id: 'R:walls[0]', kind: 'reflection', powerDb: -95.6, interactions: [{ point: [16, 14, 3] }] }; // drawn Tx -> (16, 14, 3) -> Rx
+ */
 export interface FigurePath {
   id: string;
   kind: string;
@@ -25,7 +31,10 @@ export interface FigurePath {
   interactions?: readonly { point: readonly number[] }[] | undefined;
 }
 
-/** Everything the scene figure draws. */
+/**
+ * Everything the scene figure draws.
+ * @example sceneFigure({ title: 't', scene: { walls: [] }, transmitter: { position: [0, 0, 2], label: 'Tx' }, receivers: [{ position: [10, 0, 1.5], label: 'Rx' }], paths: [] }).includes('from the side') // true
+ */
 export interface SceneFigureInput {
   title: string;
   scene: Scene;

@@ -3,7 +3,10 @@
  * pathweave figure (fonts, sizes, greys). Coordinates are SVG user units (pixels at 1:1), y down.
  */
 
-/** The plain look shared by all kinds of figure. */
+/**
+ * The plain look shared by all kinds of figure.
+ * @example THEME.fontSize // 13
+ */
 export const THEME = Object.freeze({
   font: 'DejaVu Sans, Helvetica, Arial, sans-serif',
   fontSize: 13,
@@ -39,7 +42,10 @@ export function fmt(v: number): string {
   return Object.is(r, -0) ? '0' : String(r);
 }
 
-/** Attribute values of an element; undefined entries are left out. */
+/**
+ * Attribute values of an element; undefined entries are left out.
+ * @example new SvgDocument(10, 10, 't').rect(0, 0, 5, 5, { fill: '#000', stroke: undefined }).toString().includes('<rect x="0" y="0" width="5" height="5" fill="#000"/>') // true
+ */
 export type Attributes = Record<string, string | number | undefined>;
 
 function attributeText(attrs: Attributes): string {
