@@ -1,7 +1,13 @@
-/** Speed of light in vacuum, m/s (exact, SI definition of the metre). */
+/**
+ * Speed of light in vacuum, m/s (exact, SI definition of the metre).
+ * @example SPEED_OF_LIGHT * 80e-9 // 23.98339664: metres travelled in 80 ns
+ */
 export const SPEED_OF_LIGHT = 299_792_458;
 
-/** Degrees to radians. */
+/**
+ * Degrees to radians.
+ * @example 180 * DEG // 3.141592653589793
+ */
 export const DEG = Math.PI / 180;
 
 /**
