@@ -6,7 +6,10 @@
 import { DEG } from './constants.js';
 import type { Vec3 } from './vec3.js';
 
-/** A direction as [azimuth, elevation] in degrees. */
+/**
+ * A direction as [azimuth, elevation] in degrees.
+ * @example const down: AnglesDeg = [30, -10]; // azimuth 30 deg, 10 deg below the horizontal
+ */
 export type AnglesDeg = [number, number];
 
 /**
