@@ -18,7 +18,10 @@ import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import type { KernelOut } from './accumulate.js';
 
-/** Where setup puts the compiled kernel (the same file from src/kernels and dist/kernels). */
+/**
+ * Where setup puts the compiled kernel (the same file from src/kernels and dist/kernels).
+ * @example WASM_KERNEL_PATH // "/work/main/packages/core/dist/kernels/accumulate.wasm"
+ */
 export const WASM_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate.wasm', import.meta.url));
 
 /** Output bytes per kernel call: a chunk stays in L2 until it is copied out. */
@@ -119,5 +122,8 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: Wasm
   return { kernel };
 }
 
-/** The SIMD kernel's call signature (the plain kernel's, without a scratch array). */
+/**
+ * The SIMD kernel's call signature (the plain kernel's, without a scratch array).
+ * @example const k: WasmKernelFunction = loadWasmKernel().kernel!; k(out, 0, w, p, bins, L, M) // out[k, m] = sum_l w[k, l] p[l, m]
+ */
 export type WasmKernelFunction = (out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, paths: number, elementPairs: number) => void;

@@ -42,6 +42,7 @@ interface BlockReply {
 /**
  * Where the compiled worker lives: dist/workers/fill-worker.js, reached the same way from
  * src/ (tests run the sources; worker threads need JavaScript) and from dist/.
+ * @example FILL_WORKER_URL.pathname // "/work/main/packages/io/dist/workers/fill-worker.js"
  */
 export const FILL_WORKER_URL: URL = new URL('../../dist/workers/fill-worker.js', import.meta.url);
 
@@ -54,7 +55,13 @@ export function defaultWorkers(blocks: number): number {
   return blocks < 2 ? 1 : Math.max(1, Math.min(availableParallelism(), blocks));
 }
 
-/** A fixed set of workers, each with up to `depth` blocks in flight, answering in request order. */
+/**
+ * A fixed set of workers; request i goes to worker i mod size, and each answer resolves its own request.
+ * @example
+ * const pool = new BlockPool(2, { scenario, domain: 'frequency', gainsPerSubframe: 2 * L });
+ * const { tensor } = await pool.request(0, 8, new ArrayBuffer(bytes), new ArrayBuffer(16 * 8 * L)); // subframes 0-7
+ * await pool.close();
+ */
 export class BlockPool {
   private readonly workers: Worker[];
   private readonly pending = new Map<number, { resolve: (r: BlockReply) => void; reject: (e: Error) => void }>();
