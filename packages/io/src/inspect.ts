@@ -122,7 +122,10 @@ export function meanPower(data: Float32Array | Float64Array): number {
   return data.length === 0 ? 0 : sum / (data.length / 2);
 }
 
-/** The conditioning of the sampled matrices of a file's tensor (one subframe in memory at a time). */
+/**
+ * The conditioning of the sampled matrices of a file's tensor (one subframe in memory at a time).
+ * @example (await conditioningOf(reader, tensorOf(reader))).rank // { min: 4, median: 4, max: 4 }
+ */
 export async function conditioningOf(reader: DatasetReader, tensor: StoredArray, options: InspectOptions = {}): Promise<Conditioning> {
   const shape = tensor.shape;
   const Nr = shape[shape.length - 2]!, Nt = shape[shape.length - 1]!;

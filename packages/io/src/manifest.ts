@@ -76,7 +76,7 @@ export function manifestPathOf(partFile: string): string {
   return `${partFile}.manifest.json`;
 }
 
-/** JSON text with object keys sorted at every level (no spaces), for hashing. */
+/** JSON text with object keys sorted at every level (no spaces), for hashing. @example canonicalJson({ b: 1, a: [2, { d: 3, c: 4 }] }) // '{"a":[2,{"c":4,"d":3}],"b":1}' */
 export function canonicalJson(value: unknown): string {
   if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
   if (value !== null && typeof value === 'object') {
@@ -98,7 +98,7 @@ export function scenarioSha256(scenarioText: string): string {
   return createHash('sha256').update(canonicalJson(JSON.parse(scenarioText) as unknown)).digest('hex');
 }
 
-/** Write a part's manifest atomically beside it (`manifestPathOf(partFile)`). */
+/** Write a part's manifest atomically beside it (`manifestPathOf(partFile)`). @example await writeManifest('run.part-0-of-4.h5', manifest) // "run.part-0-of-4.h5.manifest.json" */
 export async function writeManifest(partFile: string, manifest: PartManifest): Promise<string> {
   if (manifest.file !== basename(partFile)) throw new RangeError(`writeManifest(): manifest.file must be ${JSON.stringify(basename(partFile))}, got ${JSON.stringify(manifest.file)}`);
   const path = manifestPathOf(partFile);
@@ -108,6 +108,7 @@ export async function writeManifest(partFile: string, manifest: PartManifest): P
 
 /**
  * Read and check a manifest file.
+ * @example (await readManifest('run.part-0-of-4.h5.manifest.json')).range // [0, 100]
  * @throws ManifestError when it is missing, not JSON, or not a pathweave part manifest.
  */
 export async function readManifest(path: string): Promise<PartManifest> {
@@ -202,7 +203,7 @@ export interface PartFacts {
   kernel: string;
 }
 
-/** The manifest document of a finished part. */
+/** The manifest document of a finished part. @example manifestOf({ index: 0, count: 4, partFile: 'run.part-0-of-4.h5', ... }).file // "run.part-0-of-4.h5" */
 export function manifestOf(f: PartFacts): PartManifest {
   return {
     kind: MANIFEST_KIND,
@@ -224,6 +225,7 @@ export function manifestOf(f: PartFacts): PartManifest {
 /**
  * Whether an earlier part run can be kept for this request: its manifest exists, describes the
  * same request (scenario, seed, range, format) and the file verifies. Returns the reason when not.
+ * @example await reusablePart('run.part-0-of-4.h5', request) // { reusable: false, reason: "no manifest yet" }
  */
 export async function reusablePart(
   partFile: string,

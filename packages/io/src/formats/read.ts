@@ -120,7 +120,7 @@ export async function* readRowBlocks(reader: DatasetReader, name: string, blockR
   for (let r = 0; r < rows; r += blockRows) yield await reader.readRows(name, r, Math.min(rows, r + blockRows));
 }
 
-/** The channel tensor of a file pathweave wrote: "H" (frequency domain) or "h" (tap-delay), or an NPY's only array. */
+/** The channel tensor of a file pathweave wrote: "H" (frequency domain) or "h" (tap-delay), or an NPY's only array. @example tensorOf(reader).shape // [400, 128, 8, 16] */
 export function tensorOf(reader: DatasetReader): StoredArray {
   const t = reader.arrays.find((a) => a.name === 'H') ?? reader.arrays.find((a) => a.name === 'h') ?? (reader.format === 'npy' ? reader.arrays[0] : undefined);
   if (t === undefined || (t.dtype !== 'complex64' && t.dtype !== 'complex128')) {
@@ -148,7 +148,7 @@ export interface NpySideFile {
   [key: string]: unknown;
 }
 
-/** A .npy read through the DatasetReader interface; `side` is its side file when present. */
+/** A .npy read through the DatasetReader interface; `side` is its side file when present. @example (await openDatasetReader('run.npy')).arrays[0].name // "H" (from run.npy.json) */
 export class NpyReader implements DatasetReader {
   readonly format = 'npy' as const;
 
