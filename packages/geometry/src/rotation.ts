@@ -5,7 +5,10 @@
 import { DEG } from './constants.js';
 import type { Vec3 } from './vec3.js';
 
-/** Orientation of an array or terminal in degrees; each angle defaults to 0. */
+/**
+ * Orientation of an array or terminal in degrees; each angle defaults to 0.
+ * @example const tilted: Orientation = { yawDeg: 90, pitchDeg: 10 }; // faces +y, boresight 10 deg down
+ */
 export interface Orientation {
   /** Rotation about global z (from +x towards +y). */
   yawDeg?: number;
@@ -15,10 +18,16 @@ export interface Orientation {
   rollDeg?: number;
 }
 
-/** A 3x3 rotation, row-major. */
+/**
+ * A 3x3 rotation, row-major.
+ * @example const flip: Mat3 = Float64Array.of(-1, 0, 0, 0, -1, 0, 0, 0, 1); // yaw 180 deg
+ */
 export type Mat3 = Float64Array;
 
-/** The identity rotation. */
+/**
+ * The identity rotation.
+ * @example identity() // Float64Array [1, 0, 0, 0, 1, 0, 0, 0, 1]
+ */
 export function identity(): Mat3 {
   return Float64Array.of(1, 0, 0, 0, 1, 0, 0, 0, 1);
 }
@@ -38,7 +47,10 @@ export function rotationFromOrientation(o: Orientation = {}): Mat3 {
   );
 }
 
-/** out = R v (local to global when R is an orientation). */
+/**
+ * out = R v (local to global when R is an orientation).
+ * @example applyRotation([0, 0, 0], rotationFromOrientation({ yawDeg: 90 }), [1, 0, 0]) // [6.1e-17, 1, 0]: local +x points along global +y
+ */
 export function applyRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
   const x = v[0], y = v[1], z = v[2];
   out[0] = r[0]! * x + r[1]! * y + r[2]! * z;
@@ -47,7 +59,10 @@ export function applyRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
   return out;
 }
 
-/** out = R^T v (global to local when R is an orientation). */
+/**
+ * out = R^T v (global to local when R is an orientation).
+ * @example applyInverseRotation([0, 0, 0], rotationFromOrientation({ yawDeg: 90 }), [0, 1, 0]) // [1, 6.1e-17, 0]: global +y is the local boresight
+ */
 export function applyInverseRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
   const x = v[0], y = v[1], z = v[2];
   out[0] = r[0]! * x + r[3]! * y + r[6]! * z;
