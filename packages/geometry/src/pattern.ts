@@ -6,7 +6,11 @@ import { DEG } from './constants.js';
 import { degFromVector } from './direction.js';
 import type { Vec3 } from './vec3.js';
 
-/** Field amplitude of one element towards a local unit direction. */
+/**
+ * Field amplitude of one element towards a local unit direction.
+ * @example const halfSpace: ElementPattern = { name: 'front', amplitude: (u) => (u[0] > 0 ? 1 : 0) };
+ * halfSpace.amplitude([-1, 0, 0]) // 0
+ */
 export interface ElementPattern {
   /** Short name recorded in metadata, e.g. "isotropic". */
   readonly name: string;
@@ -14,7 +18,10 @@ export interface ElementPattern {
   amplitude(uLocal: Readonly<Vec3>): number;
 }
 
-/** The isotropic element: unit amplitude everywhere. */
+/**
+ * The isotropic element: unit amplitude everywhere.
+ * @example isotropic.amplitude([0, 0, -1]) // 1
+ */
 export const isotropic: ElementPattern = Object.freeze({
   name: 'isotropic',
   amplitude: (): number => 1,
@@ -32,7 +39,11 @@ export function sectorElementGainDbi(azimuthDeg: number, elevationDeg: number): 
   return 8 - Math.min(-(vertical + horizontal), 30);
 }
 
-/** The 38.901 Table 7.3-1 element as a pattern (field amplitude 10^(A/20)). */
+/**
+ * The 38.901 Table 7.3-1 element as a pattern (field amplitude 10^(A/20)).
+ * @example sector38901.amplitude([1, 0, 0]) // 2.512 (8 dBi at boresight)
+ * sector38901.amplitude([-1, 0, 0]) // 0.0794 (-22 dBi: 30 dB below boresight)
+ */
 export const sector38901: ElementPattern = Object.freeze({
   name: '3gpp-38.901',
   amplitude(uLocal: Readonly<Vec3>): number {
@@ -44,6 +55,9 @@ export const sector38901: ElementPattern = Object.freeze({
 /**
  * A pattern tabulated by the user on a regular grid of local azimuth and elevation (degrees),
  * gains in dBi, row-major [elevation][azimuth], interpolated bilinearly.
+ * @example
+ * const table = tabulatedPattern([-90, 90], [-90, 90], [[0, 6], [0, 6]]);
+ * table.amplitude([1, 0, 0]) // 1.413 (3 dBi, halfway between 0 and 6 dBi)
  */
 export function tabulatedPattern(azimuthsDeg: readonly number[], elevationsDeg: readonly number[], gainsDbi: readonly (readonly number[])[]): ElementPattern {
   const checkAxis = (axis: readonly number[], name: string): void => {
@@ -78,5 +92,8 @@ export function tabulatedPattern(azimuthsDeg: readonly number[], elevationsDeg: 
   });
 }
 
-/** Degrees per radian, re-exported for pattern authors. */
+/**
+ * Degrees per radian, re-exported for pattern authors.
+ * @example RAD_TO_DEG * Math.PI // 180
+ */
 export const RAD_TO_DEG = 1 / DEG;
