@@ -9,7 +9,13 @@ import { isotropic, type ElementPattern } from './pattern.js';
 import { applyInverseRotation, applyRotation, rotationFromOrientation, type Mat3, type Orientation } from './rotation.js';
 import type { Vec3 } from './vec3.js';
 
-/** An array's elements, frame and element pattern. Immutable once built. */
+/**
+ * An array's elements, frame and element pattern. Immutable once built.
+ * @example
+ * const upa = AntennaArray.upa(2, 4, 0.0025, { yawDeg: 90 });
+ * upa.size // 8
+ * upa.aperture() // 0.00791 (the diagonal: hypot(3, 1) * 2.5 mm)
+ */
 export class AntennaArray {
   /** Number of elements N. */
   readonly size: number;
@@ -138,7 +144,10 @@ export class AntennaArray {
   }
 }
 
-/** Two ports per element: slant +45 / -45 degrees, or vertical / horizontal. */
+/**
+ * Two ports per element: slant +45 / -45 degrees, or vertical / horizontal.
+ * @example const ports: DualPolarization = 'slant45'; // p = 0 at +45 deg, p = 1 at -45 deg
+ */
 export type DualPolarization = 'slant45' | 'vh';
 
 /**
