@@ -4,7 +4,10 @@
  * path or per bounce, never per sample.
  */
 
-/** A complex number [re, im]. */
+/**
+ * A complex number [re, im].
+ * @example const j: Complex = [0, 1]; // the imaginary unit
+ */
 export type Complex = [number, number];
 
 /** a * b. @example cmul([0, 1], [0, 1]) // [-1, 0] */
