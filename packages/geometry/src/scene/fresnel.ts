@@ -19,7 +19,10 @@
 import { cdiv, csqrt, type Complex } from './complex.js';
 import type { Surface } from './materials.js';
 
-/** TE and TM reflection coefficients. */
+/**
+ * TE and TM reflection coefficients.
+ * @example const pec: FresnelCoefficients = { te: [-1, 0], tm: [1, 0] }; // a perfect conductor
+ */
 export interface FresnelCoefficients {
   te: Complex;
   tm: Complex;
