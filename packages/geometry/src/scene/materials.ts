@@ -13,10 +13,16 @@
  */
 import type { Complex } from './complex.js';
 
-/** Vacuum permittivity eps0 in F/m (CODATA 2018). */
+/**
+ * Vacuum permittivity eps0 in F/m (CODATA 2018).
+ * @example VACUUM_PERMITTIVITY // 8.8541878128e-12
+ */
 export const VACUUM_PERMITTIVITY = 8.8541878128e-12;
 
-/** Coefficients of the P.2040 model eps' = a f^b, sigma = c f^d (f in GHz). */
+/**
+ * Coefficients of the P.2040 model eps' = a f^b, sigma = c f^d (f in GHz).
+ * @example const glass: P2040Coefficients = { a: 6.31, b: 0, c: 0.0036, d: 1.3394, validRangesGHz: [[1, 40]] };
+ */
 export interface P2040Coefficients {
   a: number;
   b: number;
@@ -26,19 +32,31 @@ export interface P2040Coefficients {
   validRangesGHz: readonly (readonly [number, number])[];
 }
 
-/** Names of the tabulated P.2040 materials. */
+/**
+ * Names of the tabulated P.2040 materials.
+ * @example const name: P2040MaterialName = 'plasterboard';
+ */
 export type P2040MaterialName = 'concrete' | 'glass' | 'wood' | 'plasterboard' | 'brick';
 
-/** Every material name accepted in `Wall.material`. `metal` is a perfect conductor. */
+/**
+ * Every material name accepted in `Wall.material`. `metal` is a perfect conductor.
+ * @example const name: MaterialName = 'metal';
+ */
 export type MaterialName = P2040MaterialName | 'metal';
 
-/** A material given by its constants: eps' (> 0) and conductivity in S/m (>= 0). */
+/**
+ * A material given by its constants: eps' (> 0) and conductivity in S/m (>= 0).
+ * @example const drywall: CustomMaterial = { relativePermittivity: 2.9, conductivitySpm: 0.02 };
+ */
 export interface CustomMaterial {
   relativePermittivity: number;
   conductivitySpm: number;
 }
 
-/** A wall's material: a table name or custom constants. */
+/**
+ * A wall's material: a table name or custom constants.
+ * @example const specs: MaterialSpec[] = ['brick', { relativePermittivity: 5, conductivitySpm: 0.1 }];
+ */
 export type MaterialSpec = MaterialName | CustomMaterial;
 
 /**
@@ -53,10 +71,16 @@ export const P2040_MATERIALS: Readonly<Record<P2040MaterialName, Readonly<P2040C
   brick: { a: 3.91, b: 0, c: 0.0238, d: 0.16, validRangesGHz: [[1, 40]] },
 });
 
-/** Every accepted material name, in the order used in messages. */
+/**
+ * Every accepted material name, in the order used in messages.
+ * @example MATERIAL_NAMES.length // 6
+ */
 export const MATERIAL_NAMES: readonly MaterialName[] = ['concrete', 'glass', 'wood', 'plasterboard', 'brick', 'metal'];
 
-/** The material a wall gets when it names none. */
+/**
+ * The material a wall gets when it names none.
+ * @example DEFAULT_MATERIAL // "concrete"
+ */
 export const DEFAULT_MATERIAL: MaterialName = 'concrete';
 
 /**
@@ -65,13 +89,17 @@ export const DEFAULT_MATERIAL: MaterialName = 'concrete';
  * - `conductor`: perfect conductor, Gamma_TE = -1 and Gamma_TM = +1 (TM convention of fresnel.ts);
  * - `fixed`: a fixed loss replacing Fresnel, Gamma_TE = Gamma_TM = -10^(-L/20) (amplitude
  *   10^(-L/20), phase pi for both components in the basis of fresnel.ts).
+ * @example const lossy: Surface = { kind: 'fixed', amplitude: 0.5 }; // a 6 dB reflection loss
  */
 export type Surface =
   | { kind: 'dielectric'; eta: Complex }
   | { kind: 'conductor' }
   | { kind: 'fixed'; amplitude: number };
 
-/** A resolved surface and, when the frequency is outside the material's validated range, a warning. */
+/**
+ * A resolved surface and, when the frequency is outside the material's validated range, a warning.
+ * @example const metal: ResolvedSurface = { surface: { kind: 'conductor' } }; // no warning: valid at every frequency
+ */
 export interface ResolvedSurface {
   surface: Surface;
   warning?: string;
