@@ -57,7 +57,10 @@ const WATER: readonly (readonly number[])[] = [
   [1780.0, 17506.0, 0.952, 196.3, 2.0, 24.15, 5.0],
 ];
 
-/** Atmospheric conditions for the gas model. */
+/**
+ * Atmospheric conditions for the gas model.
+ * @example const dryDay: Atmosphere = { temperatureK: 303.15, waterVapourDensityGm3: 2 };
+ */
 export interface Atmosphere {
   /**
    * Dry-air pressure p, hPa (default 1013.25). P.676's p is the dry-air part; the total is
@@ -70,7 +73,10 @@ export interface Atmosphere {
   waterVapourDensityGm3?: number;
 }
 
-/** Specific attenuation split into its parts, dB/km. */
+/**
+ * Specific attenuation split into its parts, dB/km.
+ * @example gasAttenuationP676(28e9) // { oxygenDbPerKm: 0.0187, waterVapourDbPerKm: 0.0831, totalDbPerKm: 0.1018 }
+ */
 export interface GasAttenuation {
   oxygenDbPerKm: number;
   waterVapourDbPerKm: number;
