@@ -29,7 +29,10 @@ import type { Vec3 } from '../vec3.js';
 import { DEG } from '../constants.js';
 import type { FresnelCoefficients } from './fresnel.js';
 
-/** A terminal's polarisation: a name, or a slant angle in degrees from vertical towards horizontal. */
+/**
+ * A terminal's polarisation: a name, or a slant angle in degrees from vertical towards horizontal.
+ * @example const choices: Polarization[] = ['vertical', { slantDeg: 45 }];
+ */
 export type Polarization = 'vertical' | 'horizontal' | { slantDeg: number };
 
 /**
@@ -85,7 +88,7 @@ export function directionBasis(out: Float64Array, u: Readonly<Vec3>): Float64Arr
  * Reflect a complex field vector `e` (Float64Array(6)) travelling along unit kIn off a surface of
  * unit normal n into direction kOut, with the TE/TM convention of fresnel.ts; writes `out`
  * (may alias `e`). At normal incidence (k_in x n = 0) any s perpendicular to n gives the same result.
- * @example reflectField(out, Float64Array.of(1, 0, 0, 0, 0, 0), [0, 0, -1], [0, 0, 1], [0, 0, 1], fresnel([4, 0], 0))
+ * @example reflectField(new Float64Array(6), Float64Array.of(1, 0, 0, 0, 0, 0), [0, 0, -1], [0, 0, 1], [0, 0, 1], fresnel([4, 0], 0))
  * // [-0.3333, 0, 0, 0, 0, 0]: normal incidence on eta = 4
  */
 export function reflectField(out: Float64Array, e: Float64Array, kIn: Readonly<Vec3>, kOut: Readonly<Vec3>, n: Readonly<Vec3>, c: FresnelCoefficients): Float64Array {
@@ -116,7 +119,7 @@ export function reflectField(out: Float64Array, e: Float64Array, kIn: Readonly<V
 /**
  * Project a complex field vector on the plane perpendicular to unit k (no renormalisation):
  * the re-radiation of a small induced dipole, used for point scatterers.
- * @example projectFieldPerpendicular(out, Float64Array.of(0, 0, 1, 0, 0, 0), [Math.SQRT1_2, 0, Math.SQRT1_2]) // [-0.5, 0, 0.5, 0, 0, 0]
+ * @example projectFieldPerpendicular(new Float64Array(6), Float64Array.of(0, 0, 1, 0, 0, 0), [Math.SQRT1_2, 0, Math.SQRT1_2]) // [-0.5, 0, 0.5, 0, 0, 0]
  */
 export function projectFieldPerpendicular(out: Float64Array, e: Float64Array, k: Readonly<Vec3>): Float64Array {
   const cRe = e[0]! * k[0] + e[1]! * k[1] + e[2]! * k[2];
