@@ -20,12 +20,16 @@
 import type { Vec3 } from '../vec3.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
-/** A scene point: [x, y] in a 2-D scene, [x, y, z] in a 3-D one (metres). */
+/**
+ * A scene point: [x, y] in a 2-D scene, [x, y, z] in a 3-D one (metres).
+ * @example const corners: ScenePoint[] = [[0, 5], [4, 5, 2.5]]; // a 2-D point, a 3-D point
+ */
 export type ScenePoint = readonly number[];
 
 /**
  * A wall: a planar polygon (3-D, at least 3 coplanar vertices) or a segment (2-D, exactly 2
  * vertices, a vertical wall of unbounded height). Both sides reflect; walls are opaque.
+ * @example const facade: Wall = { vertices: [[0, 5], [20, 5]], material: 'glass' }; // 2-D: a vertical wall along y = 5
  */
 export interface Wall {
   vertices: readonly ScenePoint[];
@@ -35,13 +39,19 @@ export interface Wall {
   reflectionLossDb?: number;
 }
 
-/** A point scatterer with bistatic radar cross-section `rcsM2` (m^2, > 0). */
+/**
+ * A point scatterer with bistatic radar cross-section `rcsM2` (m^2, > 0).
+ * @example const lampPost: Scatterer = { position: [8, -3, 4], rcsM2: 0.5 };
+ */
 export interface Scatterer {
   position: ScenePoint;
   rcsM2: number;
 }
 
-/** An axis-aligned box blocker. */
+/**
+ * An axis-aligned box blocker.
+ * @example const van: BoxBlocker = { shape: 'box', min: [5, -1, 0], max: [10, 1, 2.5], lossDb: 20 };
+ */
 export interface BoxBlocker {
   shape: 'box';
   min: ScenePoint;
@@ -50,7 +60,10 @@ export interface BoxBlocker {
   lossDb?: number;
 }
 
-/** A vertical cylinder blocker standing on `base` (the centre of its bottom disc). */
+/**
+ * A vertical cylinder blocker standing on `base` (the centre of its bottom disc).
+ * @example const person: CylinderBlocker = { shape: 'cylinder', base: [6, 0, 0], radiusM: 0.25, heightM: 1.8 }; // knife-edge diffraction
+ */
 export interface CylinderBlocker {
   shape: 'cylinder';
   base: ScenePoint;
@@ -60,10 +73,16 @@ export interface CylinderBlocker {
   lossDb?: number;
 }
 
-/** A blocker: an obstacle that attenuates the path segments passing through or near it. */
+/**
+ * A blocker: an obstacle that attenuates the path segments passing through or near it.
+ * @example const pillar: Blocker = { shape: 'cylinder', base: [3, 2], radiusM: 0.3, heightM: 3 };
+ */
 export type Blocker = BoxBlocker | CylinderBlocker;
 
-/** The scene objects traced into paths, with the tracer's settings (the `scene` key of design.md). */
+/**
+ * The scene objects traced into paths, with the tracer's settings (the `scene` key of design.md).
+ * @example const street: Scene = { walls: [{ vertices: [[0, 10], [50, 10]] }, { vertices: [[0, -10], [50, -10]] }], maxReflectionOrder: 1 };
+ */
 export interface Scene {
   /** Include the direct path (default true). */
   lineOfSight?: boolean;
@@ -80,14 +99,20 @@ export interface Scene {
   gasAttenuationDbPerKm?: number;
 }
 
-/** One problem of a scene: dotted path, message naming the value and what is allowed, severity. */
+/**
+ * One problem of a scene: dotted path, message naming the value and what is allowed, severity.
+ * @example validateScene({ maxReflectionOrder: 9 }) // [{ path: 'scene.maxReflectionOrder', message: 'must be an integer from 0 to 6, got 9', severity: 'error' }]
+ */
 export interface SceneProblem {
   path: string;
   message: string;
   severity: 'error' | 'warning';
 }
 
-/** Where the terminals are and at which carrier, for the checks that need them. */
+/**
+ * Where the terminals are and at which carrier, for the checks that need them.
+ * @example validateScene({ walls: [{ vertices: [[0, 0], [10, 0]] }] }, { transmitter: [0, 5, 1], receiver: [5, 0, 1] }) // [{ path: 'transmitter.position', message: 'must have z = 0 in a 2-D scene, got z = 1', severity: 'error' }, { path: 'receiver.position', ... }]
+ */
 export interface SceneContext {
   transmitter?: Readonly<Vec3>;
   receiver?: Readonly<Vec3>;
@@ -99,13 +124,25 @@ export interface SceneContext {
   receiverPath?: string;
 }
 
-/** The highest reflection order accepted (candidate count grows as W (W - 1)^(order - 1)). */
+/**
+ * The highest reflection order accepted (candidate count grows as W (W - 1)^(order - 1)).
+ * @example MAX_REFLECTION_ORDER // 6
+ */
 export const MAX_REFLECTION_ORDER = 6;
-/** Default `maxReflectionOrder`. */
+/**
+ * Default `maxReflectionOrder`.
+ * @example DEFAULT_REFLECTION_ORDER // 2
+ */
 export const DEFAULT_REFLECTION_ORDER = 2;
-/** Coplanarity tolerance: a vertex may sit this far from the wall's plane, times max(1, extent in m). */
+/**
+ * Coplanarity tolerance: a vertex may sit this far from the wall's plane, times max(1, extent in m).
+ * @example COPLANAR_TOLERANCE_M // 1e-6
+ */
 export const COPLANAR_TOLERANCE_M = 1e-6;
-/** Points per ring used for a cylinder's silhouette in 3-D (an inscribed polygon, 0.5 % of r inside). */
+/**
+ * Points per ring used for a cylinder's silhouette in 3-D (an inscribed polygon, 0.5 % of r inside).
+ * @example 1 - Math.cos(Math.PI / CYLINDER_RING_POINTS) // 0.0048: the inscribed polygon reaches 0.5 % of r inside the circle
+ */
 export const CYLINDER_RING_POINTS = 32;
 
 const fmt = (v: unknown): string => (typeof v === 'number' ? String(v) : JSON.stringify(v) ?? String(v));
