@@ -32,7 +32,10 @@ import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
-/** A terminal for the tracer: position (m), velocity (m/s), array rotation (local to global), polarisation. */
+/**
+ * A terminal for the tracer: position (m), velocity (m/s), array rotation (local to global), polarisation.
+ * @example const ue: TraceTerminal = { position: [20, 3, 1.5], velocity: [0, 1.4, 0], rotation: rotationFromOrientation({ yawDeg: 180 }) };
+ */
 export interface TraceTerminal {
   position: Readonly<Vec3>;
   /** Default [0, 0, 0]. */
@@ -43,7 +46,10 @@ export interface TraceTerminal {
   polarization?: Polarization;
 }
 
-/** Tracer settings; each defaults to the scene's key of the same name. */
+/**
+ * Tracer settings; each defaults to the scene's key of the same name.
+ * @example const strongest: TraceOptions = { maxReflectionOrder: 1, maxPaths: 4, dynamicRangeDb: 40 };
+ */
 export interface TraceOptions {
   lineOfSight?: boolean;
   maxReflectionOrder?: number;
@@ -54,7 +60,12 @@ export interface TraceOptions {
   keepNullPaths?: boolean;
 }
 
-/** One interaction of a path, in order from the transmitter. */
+/**
+ * One interaction of a path, in order from the transmitter.
+ * @example
+ * const wall = { vertices: [[0, 5], [20, 5]] };
+ * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: 'walls[0]', point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
+ */
 export interface PathInteraction {
   type: 'reflection' | 'scatter';
   /** "walls[3]" or "scatterers[2]": index into the scene's lists. */
@@ -67,10 +78,18 @@ export interface PathInteraction {
   coefficients?: FresnelCoefficients;
 }
 
-/** 2x2 complex polarimetric transfer [[tt, tp], [pt, pp]] (basis of polarization.ts: row = arrival component, column = departure component). */
+/**
+ * 2x2 complex polarimetric transfer [[tt, tp], [pt, pp]] (basis of polarization.ts: row = arrival component, column = departure component).
+ * @example traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.polarimetric // [[[1, 0], [0, 0]], [[0, 0], [-1, 0]]]: direct path: no depolarisation, the horizontal basis vector at arrival (towards -x) points along -y
+ */
 export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
 
-/** A traced path (all angles in degrees, design.md convention; lengths m; times s). */
+/**
+ * A traced path (all angles in degrees, design.md convention; lengths m; times s).
+ * @example
+ * const [los]: TracedPath[] = traceScene({}, { position: [0, 0, 1] }, { position: [10, 10, 1] }, 28e9).paths;
+ * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
+ */
 export interface TracedPath {
   /** Stable id from the interaction list: "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
   id: string;
@@ -110,7 +129,13 @@ export interface TracedPath {
   polarimetric: PolarimetricMatrix;
 }
 
-/** Result of a trace: the paths (strongest first, pruned) and warnings (material ranges). */
+/**
+ * Result of a trace: the paths (strongest first, pruned) and warnings (material ranges).
+ * @example
+ * const result: TraceResult = traceScene({ walls: [{ vertices: [[0, 5], [20, 5]], material: 'wood' }] }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 60e9);
+ * result.paths.map((p) => p.id) // ['los', 'R:walls[0]']
+ * result.warnings[0]!.message // 'material "wood" is validated for 1-40 GHz, got 60 GHz; the ITU-R P.2040 fit is used outside its range'
+ */
 export interface TraceResult {
   paths: TracedPath[];
   warnings: SceneProblem[];
