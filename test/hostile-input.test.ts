@@ -144,24 +144,8 @@ const hostileDocument: fc.Arbitrary<string> = fc.oneof(
   { weight: 1, arbitrary: fc.string({ unit: 'binary', maxLength: 200 }) },
 );
 
-/**
- * Regions where `validate` is known not to refuse cleanly today (reported in issue 10, each
- * with a test below that is expected to fail until fixed). The property skips them (fc.pre) so
- * it keeps guarding everything else; remove an entry when its fix lands.
- */
-function knownGap(text: string): string | undefined {
-  let doc: any;
-  try {
-    doc = JSON.parse(text);
-  } catch {
-    return undefined;
-  }
-  const f = doc?.fading;
-  if (f !== null && typeof f === 'object') {
-    if (typeof f.order === 'number' && f.order > 256) return 'fading.order unbounded (AR fit is cubic in the order)';
-    if (typeof f.sinusoids === 'number' && f.sinusoids > 100_000) return 'fading.sinusoids unbounded';
-    if (typeof f.speedMps === 'number' && f.speedMps > 1e200) return 'fading.speedMps overflows the Doppler to Infinity';
-  }
+/** No region is excluded any more (the extremes it once held are refused up front); kept as the hook to list one. */
+function knownGap(_text: string): string | undefined {
   return undefined;
 }
 
@@ -332,11 +316,9 @@ describe('sizes beyond the machine are refused up front with the estimate', () =
 });
 
 /**
- * Known gaps found by this file (issue 10 report). Each asserts the behaviour the contract asks
- * for and is expected to fail today (`it.fails`); when a fix lands the test turns red, and the
- * entry (and its knownGap() line) are to be removed so the case joins the property above.
+ * Cases this file first found failing (issue 10): each is now refused up front with exit 2.
  */
-describe('known gaps (expected to fail until fixed)', () => {
+describe('extreme values found by the property test, refused up front', () => {
   const refusedQuickly = (scenario: Json, args: string[] = []): void => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', scenario);
@@ -344,13 +326,13 @@ describe('known gaps (expected to fail until fixed)', () => {
     const r = spawnSync(process.execPath, [CLI, 'validate', file, ...args], { encoding: 'utf8', timeout: 8_000 });
     expect(r.status).toBe(2);
   };
-  it.fails('fading.speedMps 1e300 (Doppler overflows): refused with exit 2, not "alpha must lie in [-1, 1], got NaN" with exit 1', () => {
+  it('fading.speedMps 1e300 (Doppler overflows): refused with exit 2, not "alpha must lie in [-1, 1], got NaN" with exit 1', () => {
     refusedQuickly(variant(streetCorner, (s) => (s.fading = { model: 'gauss-markov', speedMps: 1e300 })));
   });
-  it.fails('fading.order 5000 for model "ar": refused with exit 2 rather than fitting for minutes', () => {
+  it('fading.order 5000 for model "ar": refused with exit 2 rather than fitting for minutes', () => {
     refusedQuickly(variant(streetCorner, (s) => (s.fading = { model: 'ar', order: 5000, speedMps: 3 })));
   }, 20_000);
-  it.fails('generate with 1e9 subframes of one value: the S x L side arrays are refused up front (exit 2), not "Invalid typed array length" (exit 1)', () => {
+  it('generate with 1e9 subframes of one value: the S x L side arrays are refused up front (exit 2), not "Invalid typed array length" (exit 1)', () => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', variant(staticPaths, (s) => {
       s.timing.subframes = 1e9;
@@ -361,7 +343,10 @@ describe('known gaps (expected to fail until fixed)', () => {
     const r = runCli(['generate', file, '--out', join(dir, 'o.npy')]);
     expect(r.status).toBe(2);
   });
-  it.fails('powerDb 1e300 is refused rather than written as NaN', () => {
+  it('fading.sinusoids 1e9 is refused rather than drawing for minutes', () => {
+    refusedQuickly(variant(streetCorner, (s) => (s.fading = { model: 'sum-of-sinusoids', sinusoids: 1e9, speedMps: 3 })));
+  });
+  it('powerDb 1e300 is refused rather than written as NaN', () => {
     refusedQuickly(variant(staticPaths, (s) => (s.paths[0].powerDb = 1e300)));
   });
 });

@@ -109,9 +109,9 @@ describe('numerology and symbols', () => {
 
   it('refuses an AR order too high for the conditioning', () => {
     const dir = tempDir();
-    const file = writeScenario(dir, 's.json', edit((s) => (s.fading = { model: 'ar', order: 400, speedMps: 0.05 })));
+    const file = writeScenario(dir, 's.json', edit((s) => (s.fading = { model: 'ar', order: 250, speedMps: 0.02 })));
     const r = runCli(['generate', file, '--out', join(dir, 'x.npy')]);
     expect(r.status).toBe(2);
-    expect(r.stderr).toMatch(/fading\.order: order 400 is too high for this correlation: the loaded Yule-Walker matrix has condition number/);
+    expect(r.stderr).toMatch(/fading\.order: order 250 is too high for this correlation: the loaded Yule-Walker matrix has condition number/);
   });
 });

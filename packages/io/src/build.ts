@@ -438,3 +438,16 @@ export function outputEstimate(scenario: Scenario, domain: Domain, subframes = s
   const bytesPerSubframe = (shape.slice(1).reduce((a, b) => a * b, 1) || 0) * bytesPerValue;
   return { shape, bytes: subframes * bytesPerSubframe, bytesPerSubframe };
 }
+
+/**
+ * Bytes of the per-subframe side arrays held in memory until the file is committed (gains and
+ * ground truth: S x U x L values each), for `count` subframes and `pathCount` paths per user.
+ * @example sideArrayBytes(scenario, 1000, 8) // 1000 * (16 * 8 + 56 * 8 + 145) for one user, no symbols
+ */
+export function sideArrayBytes(scenario: Scenario, count: number, pathCount: number): number {
+  const users = scenario.receivers?.length ?? 1;
+  const symbols = symbolTimingOf(scenario)?.perSubframe ?? 1;
+  const gains = 16 * users * symbols * pathCount;
+  const truth = 56 * users * pathCount + 72 * (1 + users) + users;
+  return count * (gains + truth);
+}

@@ -15,4 +15,8 @@ export * from './generate.js';
 export * from './paths.js';
 export * from './inspect.js';
 export * from './version.js';
+export * from './plot/index.js';
+export * from './manifest.js';
+export * from './merge.js';
+export * from './formats/read.js';
 export { main } from './cli/main.js';

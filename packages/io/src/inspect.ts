@@ -59,15 +59,9 @@ type SvdModule = { SingularValueDecomposition: new (m: number[][], o: { computeL
 
 let svdModule: SvdModule | undefined;
 
-/** ml-matrix, resolved from this package or, until it declares it, through @pathweave/core which does. */
+/** ml-matrix (a dependency of this package), loaded on first use so importing io stays cheap. */
 function mlMatrix(): SvdModule {
-  if (svdModule !== undefined) return svdModule;
-  const require = createRequire(import.meta.url);
-  try {
-    svdModule = require('ml-matrix') as SvdModule;
-  } catch {
-    svdModule = createRequire(require.resolve('@pathweave/core'))('ml-matrix') as SvdModule;
-  }
+  svdModule ??= createRequire(import.meta.url)('ml-matrix') as SvdModule;
   return svdModule;
 }
 

@@ -12,8 +12,13 @@ const finite = z.number();
 const positive = z.number().positive();
 const nonNegative = z.number().nonnegative();
 const count = z.number().int().min(1);
-const point = z.union([z.tuple([finite, finite, finite]), z.tuple([finite, finite])]);
-const vector3 = z.tuple([finite, finite, finite]);
+// Coordinates within 10 000 km and speeds below the speed of light keep every distance, delay
+// and Doppler finite (hostile input must be refused, not turned into NaN).
+const coordinate = z.number().min(-1e7).max(1e7);
+const point = z.union([z.tuple([coordinate, coordinate, coordinate]), z.tuple([coordinate, coordinate])]);
+const speedComponent = z.number().min(-1e8).max(1e8);
+const velocity = z.union([z.tuple([speedComponent, speedComponent, speedComponent]), z.tuple([speedComponent, speedComponent])]);
+const vector3 = z.tuple([coordinate, coordinate, coordinate]);
 const directionDeg = z.tuple([finite, finite]).describe('[azimuth, elevation] in degrees');
 
 /** Array orientation in degrees: R = Rz(yaw) Ry(pitch) Rx(roll). */
@@ -54,7 +59,7 @@ const waypointSchema = z.strictObject({ t: nonNegative, position: point, orienta
 export const terminalSchema = z.strictObject({
   id: z.string().min(1).max(200).optional(),
   position: point,
-  velocity: point.optional(),
+  velocity: velocity.optional(),
   trajectory: z.array(waypointSchema).min(2).optional(),
   array: arraySchema,
 });
@@ -80,7 +85,8 @@ export const pathSchema = z.strictObject({
   aodDeg: directionDeg,
   aoaDeg: directionDeg,
   delayS: nonNegative,
-  powerDb: finite,
+  // Path powers are absolute E|rho|^2 in dB; +-400 dB covers any physical link and keeps 10^(P/10) finite.
+  powerDb: z.number().min(-400).max(400),
   phaseDeg: finite.optional(),
   dopplerHz: finite.optional(),
   maxDopplerHz: nonNegative.optional(),
@@ -106,7 +112,7 @@ export const sceneSchema = z.strictObject({
   walls: z
     .array(
       z.strictObject({
-        vertices: z.array(z.array(finite).min(2).max(3)).min(2),
+        vertices: z.array(z.array(coordinate).min(2).max(3)).min(2),
         material: materialSchema.optional(),
         reflectionLossDb: nonNegative.optional(),
       }),
@@ -175,9 +181,11 @@ export const scenarioSchema = z.strictObject({
   clusters: clusterSchema.optional(),
   fading: z.strictObject({
     model: z.enum(['static', 'gauss-markov', 'ar', 'sum-of-sinusoids', 'geometric']),
-    speedMps: nonNegative.optional(),
-    order: count.optional(),
-    sinusoids: count.optional(),
+    // Below the speed of light, so Doppler spreads stay finite.
+    speedMps: nonNegative.max(1e8).optional(),
+    // Orders above a few dozen are ill-conditioned anyway (AR_MAX_CONDITION refuses them); the cap keeps the fit's cost bounded.
+    order: count.max(256).optional(),
+    sinusoids: count.max(4096).optional(),
     ricianKDb: finite.optional(),
     normalize: z.boolean().optional(),
     /** Cross-polar ratio (dB) of stochastic paths and cluster sub-paths, with random initial phases. */

@@ -9,15 +9,17 @@
  * worker's entry point; see the end of the file.)
  */
 import { readdirSync, unlinkSync } from 'node:fs';
+import { totalmem } from 'node:os';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { isMainThread, parentPort, Worker, workerData } from 'node:worker_threads';
 import { KERNEL_NAME } from '@pathweave/core';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateOptions, type GenerateReport } from '../generate.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateOptions, type GenerateReport } from '../generate.js';
 import type { Scenario } from '../schema.js';
+import { chooseDomain, sideArrayBytes } from '../build.js';
 import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../manifest.js';
-import { loadScenario } from '../validate.js';
+import { loadScenario, ScenarioError, type Problem } from '../validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { parseArgs, parseBytes, parseInteger, parseRange, parseShard, shardRange, UsageError } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
@@ -58,6 +60,13 @@ async function run(argv: string[], io: Io): Promise<number> {
     shard = parseShard(args.values.shard, process.env);
     range = shardRange(shard.index, shard.count, S);
     if (range[0] === range[1]) throw new UsageError(`--shard ${shard.index}/${shard.count} holds no subframe of ${S}`);
+  }
+  // The output-size and memory refusals first (they name the size), then the side arrays
+  // (gains, ground truth), which stay in memory until the commit.
+  checkRequest(scenario, chooseDomain(scenario, domain), range, maxBytes, scenario.paths?.length ?? 1);
+  const side = sideArrayBytes(scenario, range[1] - range[0], scenario.paths?.length ?? 1);
+  if (side > totalmem() / 4) {
+    throw new RequestError(`the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory for ${range[1] - range[0]} subframes; generate fewer subframes per file (--subframes or --shard)`);
   }
   // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
   const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
@@ -166,7 +175,10 @@ export const generateCommand: Command = {
 
 /** What the worker sends back: the report without the built scenario (not cloneable). */
 type WorkerReport = Omit<GenerateReport, 'built'>;
-type WorkerMessage = { type: 'progress'; done: number } | { type: 'done'; report: WorkerReport } | { type: 'error'; name: string; message: string; stack?: string };
+type WorkerMessage =
+  | { type: 'progress'; done: number }
+  | { type: 'done'; report: WorkerReport }
+  | { type: 'error'; name: string; message: string; stack?: string; problems?: Problem[]; source?: string };
 
 /**
  * The hidden temporary files this process made for `target` (atomic.ts naming: the data file,
@@ -216,7 +228,12 @@ function startGenerate(
       else if (m.type === 'done') resolve(m.report);
       else {
         // Refusals keep their class, so the exit code stays 2.
-        const e = m.name === 'RequestError' ? new RequestError(m.message) : new Error(m.message);
+        const e =
+          m.name === 'RequestError'
+            ? new RequestError(m.message)
+            : m.name === 'ScenarioError' && m.problems !== undefined
+              ? new ScenarioError(m.problems, m.source)
+              : new Error(m.message);
         if (m.stack !== undefined) e.stack = m.stack;
         reject(e);
       }
@@ -236,7 +253,8 @@ if (!isMainThread && (workerData as { pathweaveGenerate?: boolean } | null)?.pat
     ({ built: _built, ...report }) => port.postMessage({ type: 'done', report } satisfies WorkerMessage),
     (e: unknown) => {
       const err = e instanceof Error ? e : new Error(String(e));
-      port.postMessage({ type: 'error', name: err.name, message: err.message, ...(err.stack !== undefined ? { stack: err.stack } : {}) } satisfies WorkerMessage);
+      const scenarioProblems = err instanceof ScenarioError ? { problems: err.problems, source: err.source } : {};
+      port.postMessage({ type: 'error', name: err.name, message: err.message, ...(err.stack !== undefined ? { stack: err.stack } : {}), ...scenarioProblems } satisfies WorkerMessage);
     },
   );
 }

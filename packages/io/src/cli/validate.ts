@@ -1,6 +1,7 @@
 /** `pathweave validate`: every problem of a scenario, or a one-screen summary. */
-import { buildScenario, chooseDomain, elementCount, outputEstimate, portCount } from '../build.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes } from '../generate.js';
+import { totalmem } from 'node:os';
+import { buildScenario, chooseDomain, elementCount, outputEstimate, portCount, sideArrayBytes } from '../build.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, RequestError } from '../generate.js';
 import { loadScenario } from '../validate.js';
 import { parseArgs, parseBytes } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
@@ -13,6 +14,8 @@ async function run(argv: string[], io: Io): Promise<number> {
   const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
   // The same up-front refusals as generate (size limit, memory), before building anything.
   checkRequest(scenario, domain, [0, scenario.timing.subframes], maxBytes, scenario.paths?.length ?? 1);
+  const side = sideArrayBytes(scenario, scenario.timing.subframes, scenario.paths?.length ?? 1);
+  if (side > totalmem() / 4) throw new RequestError(`the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory; generate the run in shards (--shard)`);
   const built = buildScenario(scenario, { domain });
   const est = outputEstimate(scenario, domain);
   const arrayLine = (name: string, a: typeof scenario.transmitter.array): string => {
