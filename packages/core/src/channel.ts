@@ -31,10 +31,16 @@ import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
 
 
-/** How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length. */
+/**
+ * How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length.
+ * @example const nearField: Wavefront = 'auto'; // spherical only inside the Fraunhofer distance
+ */
 export type Wavefront = 'plane' | 'spherical' | 'auto';
 
-/** A terminal: its array, where it is and how it moves. */
+/**
+ * A terminal: its array, where it is and how it moves.
+ * @example const bs: Terminal = { array: AntennaArray.ula(8, 0.0054), position: [0, 0, 10], velocity: [0, 0, 0] };
+ */
 export interface Terminal {
   array: AntennaArray;
   /** Reference point of the array at t = 0, metres, global frame. */
@@ -54,15 +60,24 @@ export interface Terminal {
   polarization?: Polarization | undefined;
 }
 
-/** One explicit propagation path (the assembler's form of design.md's `paths`). */
+/**
+ * One explicit propagation path (the assembler's form of design.md's `paths`).
+ * @example const los: ChannelPath = { id: 'los', delayS: 50e-9, power: 1e-8, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] };
+ */
 export type ChannelPath = ExplicitPath;
 
-/** The output grid: frequency domain or tap-delay. */
+/**
+ * The output grid: frequency domain or tap-delay.
+ * @example const grids: OutputGrid[] = [{ domain: 'frequency', subcarriers: 64, spacingHz: 120e3 }, { domain: 'taps', sampleRateHz: 1e9, count: 32 }];
+ */
 export type OutputGrid =
   | { domain: 'frequency'; subcarriers: number; spacingHz: number; beamSquint?: boolean }
   | { domain: 'taps'; sampleRateHz: number; count: number; pulse?: PulseShape; rollOff?: number };
 
-/** Gain models (scenario key fading.model) with their options. */
+/**
+ * Gain models (scenario key fading.model) with their options.
+ * @example const fading: FadingSpec = { model: 'ar', order: 8, speedMps: 3 };
+ */
 export type FadingSpec =
   | { model: 'static' }
   | { model: 'gauss-markov'; speedMps?: number | undefined }
@@ -70,10 +85,16 @@ export type FadingSpec =
   | { model: 'sum-of-sinusoids'; sinusoids?: number | undefined; speedMps?: number | undefined }
   | { model: 'geometric'; ricianKDb?: number | undefined; sinusoids?: number | undefined; speedMps?: number | undefined };
 
-/** Complex sample type of the output. */
+/**
+ * Complex sample type of the output.
+ * @example const precision: Precision = 'complex128'; // 16 bytes per value
+ */
 export type Precision = 'complex64' | 'complex128';
 
-/** Time resolution finer than a subframe. */
+/**
+ * Time resolution finer than a subframe.
+ * @example const perSymbol: SymbolTiming = { perSubframe: 14 }; // 14 uniform steps per subframe
+ */
 export interface SymbolTiming {
   /** Symbols per subframe (the symbol axis length). */
   perSubframe: number;
@@ -81,7 +102,18 @@ export interface SymbolTiming {
   clock?: StepClock | undefined;
 }
 
-/** Everything the generator needs, in SI units. */
+/**
+ * Everything the generator needs, in SI units.
+ * @example
+ * const still = { array: AntennaArray.ula(1, 0), velocity: [0, 0, 0] as Vec3 };
+ * const spec: ChannelSpec = {
+ *   carrierHz: 28e9, subframeS: 1e-3, subframes: 2, seed: 1, fading: { model: 'static' },
+ *   transmitter: { ...still, position: [0, 0, 0] }, receiver: { ...still, position: [10, 0, 0] },
+ *   paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }],
+ *   grid: { domain: 'frequency', subcarriers: 4, spacingHz: 120e3 },
+ * };
+ * new ChannelGenerator(spec).shape // [2, 4, 1, 1]: [S, K, Nr, Nt]
+ */
 export interface ChannelSpec {
   carrierHz: number;
   subframeS: number;
@@ -111,7 +143,10 @@ export interface ChannelSpec {
   xprDb?: number | undefined;
 }
 
-/** Guard samples placed before the first arrival when delays are aligned. */
+/**
+ * Guard samples placed before the first arrival when delays are aligned.
+ * @example ALIGN_GUARD_SAMPLES / 1e9 // 4e-9: 4 ns of guard at 1 GS/s
+ */
 export const ALIGN_GUARD_SAMPLES = 4;
 
 /**
@@ -123,7 +158,10 @@ export function alignmentShiftS(delaysS: readonly number[], sampleRateHz: number
   return Math.min(...delaysS) - ALIGN_GUARD_SAMPLES / sampleRateHz;
 }
 
-/** Output tensor type for a precision. */
+/**
+ * Output tensor type for a precision.
+ * @example const block: TensorArray = new Float32Array(2 * 4); // four complex64 values
+ */
 export type TensorArray = Float32Array | Float64Array;
 
 const DETERMINISTIC = new Set(['static', 'geometric']);
@@ -132,6 +170,16 @@ const DETERMINISTIC = new Set(['static', 'geometric']);
  * Builds per-subframe channel tensors. The constructor validates the spec and precomputes what
  * does not change (element products r_rx r_tx^T, the delay kernel) when the geometry is
  * constant; each step then costs one complex multiply-add per output value and path.
+ * @example
+ * const still = { array: AntennaArray.ula(1, 0), velocity: [0, 0, 0] as Vec3 };
+ * const generator = new ChannelGenerator({
+ *   carrierHz: 28e9, subframeS: 1e-3, subframes: 2, seed: 1, fading: { model: 'static' },
+ *   transmitter: { ...still, position: [0, 0, 0] }, receiver: { ...still, position: [10, 0, 0] },
+ *   paths: [{ id: 'los', delayS: 0, power: 0.25, phaseRad: Math.PI / 2, departure: [1, 0, 0], arrival: [-1, 0, 0] }],
+ *   grid: { domain: 'frequency', subcarriers: 2, spacingHz: 120e3 },
+ * });
+ * generator.shape // [2, 2, 1, 1]
+ * generator.fill(generator.allocate(1), 0, 1) // Float32Array [3.1e-17, 0.5, 3.1e-17, 0.5]: rho = 0.5 j on both subcarriers
  */
 export class ChannelGenerator {
   /** Tensor shape [S, K or count, Nr, Nt], or [S, symbols, K or count, Nr, Nt]. */
