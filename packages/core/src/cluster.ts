@@ -25,10 +25,18 @@ import { isPolarimetricSource, type PolarimetricSource } from './polarization-po
 import { RandomStream } from './random.js';
 import { PathFrame, type PathTimeline } from './timeline.js';
 
-/** How sub-path offsets are drawn (see the module comment). */
+/**
+ * How sub-path offsets are drawn (see the module comment).
+ * @example const method: ClusterMethod = 'laplacian';
+ */
 export type ClusterMethod = 'gaussian' | 'laplacian' | 'offsets-38901';
 
-/** The spread of one cluster. Angles in degrees, delay in seconds; every value >= 0. */
+/**
+ * The spread of one cluster. Angles in degrees, delay in seconds; every value >= 0.
+ * @example
+ * const narrow: ClusterSpread = { subPaths: 10, method: 'gaussian', azimuthSpreadDepartureDeg: 2, elevationSpreadDepartureDeg: 1,
+ *   azimuthSpreadArrivalDeg: 10, elevationSpreadArrivalDeg: 5, delaySpreadS: 5e-9 };
+ */
 export interface ClusterSpread {
   /** Number of sub-paths M (20 for "offsets-38901"). */
   subPaths: number;
@@ -43,6 +51,7 @@ export interface ClusterSpread {
 /**
  * Ray offset angles alpha_m of 3GPP TR 38.901 Table 7.5-3 for rays m = 1..20 (basis vector of
  * offsets for a unit rms spread; first values V in a secondary copy, the rest from memory, M).
+ * @example [RAY_OFFSETS_38901.length, RAY_OFFSETS_38901[0], RAY_OFFSETS_38901[19]] // [20, 0.0447, -2.1551]: 10 offsets and their negatives
  */
 export const RAY_OFFSETS_38901: readonly number[] = Object.freeze(
   [0.0447, 0.1413, 0.2492, 0.3715, 0.5129, 0.6797, 0.8844, 1.1481, 1.5195, 2.1551].flatMap((a) => [a, -a]),
@@ -52,7 +61,10 @@ export const RAY_OFFSETS_38901: readonly number[] = Object.freeze(
 const SUBCLUSTER_OF_RAY: readonly number[] = [0, 0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2, 1, 1, 0, 0];
 const SUBCLUSTER_DELAY = [0, 1.28, 2.56];
 
-/** Names of the per-environment cluster spreads of 38.901 Table 7.5-6. */
+/**
+ * Names of the per-environment cluster spreads of 38.901 Table 7.5-6.
+ * @example const preset: ClusterPreset = 'indoor-office-nlos';
+ */
 export type ClusterPreset = 'umi-los' | 'umi-nlos' | 'indoor-office-los' | 'indoor-office-nlos' | 'indoor-factory-los' | 'indoor-factory-nlos';
 
 /**
