@@ -22,10 +22,16 @@ export function clarkeCorrelation(dopplerHz: number, lagS: number): number {
   return besselJ0(2 * Math.PI * dopplerHz * lagS);
 }
 
-/** Where a path's Doppler spread came from (design.md precedence). */
+/**
+ * Where a path's Doppler spread came from (design.md precedence).
+ * @example const source: DopplerSource = 'terminals'; // from the terminals' speeds
+ */
 export type DopplerSource = 'path' | 'fading.speedMps' | 'terminals' | 'none';
 
-/** The Doppler spread(s) of one path and the resulting lag-1 correlation. */
+/**
+ * The Doppler spread(s) of one path and the resulting lag-1 correlation.
+ * @example const still: PathCorrelation = { dopplersHz: [], alpha: 1, source: 'none' }; // nothing moves
+ */
 export interface PathCorrelation {
   /** Doppler spreads of the moving ends, Hz (one or two entries; empty when nothing moves). */
   dopplersHz: number[];
@@ -38,6 +44,7 @@ export interface PathCorrelation {
 /**
  * Resolve a path's correlation by the precedence of design.md: its own `maxDopplerHz`, else
  * `fading.speedMps` (one moving end), else the terminals' speeds (one or both ends).
+ * @example pathCorrelation({ carrierHz: 28e9, stepS: 1e-3, transmitterSpeedMps: 0, receiverSpeedMps: 3 }) // { dopplersHz: [280.19], alpha: 0.3629, source: 'terminals' }: J0(2 pi 280.19 Hz * 1 ms)
  */
 export function pathCorrelation(opts: {
   carrierHz: number;
