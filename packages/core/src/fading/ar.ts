@@ -26,19 +26,31 @@ import type { GainProcess } from '../gains.js';
 import { BlockedStreams, RandomStream } from '../random.js';
 import { checkFadingPaths, checkGainOut, type FadingPath } from './clock.js';
 
-/** Default diagonal loading epsilon added to R(0) (Baddour & Beaulieu use the 1e-6 scale). */
+/**
+ * Default diagonal loading epsilon added to R(0) (Baddour & Beaulieu use the 1e-6 scale).
+ * @example AR_DEFAULT_LOADING // 1e-6
+ */
 export const AR_DEFAULT_LOADING = 1e-6;
 /**
  * Largest accepted condition number of the loaded Yule-Walker matrix. The solution then keeps
  * about 8 significant digits (condition * 2^-52 < 2.3e-8), well below the loading itself.
  * With epsilon = 1e-6 the condition is close to p / epsilon for small f_D T, so about order 100
  * is the limit there; faster fading allows more.
+ * @example AR_MAX_CONDITION * 2 ** -52 // 2.2e-8: about 8 significant digits left
  */
 export const AR_MAX_CONDITION = 1e8;
-/** Lane of the stream that draws the stationary start state. */
+/**
+ * Lane of the stream that draws the stationary start state.
+ * @example AR_START_LANE // 1
+ */
 export const AR_START_LANE = 1;
 
-/** An AR(p) model fitted to a target correlation. */
+/**
+ * An AR(p) model fitted to a target correlation.
+ * @example
+ * const fit: ArFit = fitAutoregressive(Float64Array.of(1, 0.9), 0);
+ * [fit.order, fit.coefficients[0], fit.innovationVariance] // [1, 0.9, 0.19]: x_n = 0.9 x_(n-1) + w_n, sigma^2 = 1 - 0.9^2
+ */
 export interface ArFit {
   order: number;
   /** a_1..a_p of x_n = sum a_k x_(n-k) + w_n. */
@@ -127,7 +139,10 @@ export function arPowerSpectralDensity(fit: ArFit, frequencyHz: number, stepS: n
   return (fit.innovationVariance * stepS) / (re * re + im * im);
 }
 
-/** Options of AutoregressiveGains. */
+/**
+ * Options of AutoregressiveGains.
+ * @example const perSymbol: AutoregressiveOptions = { order: 20, stepS: 1e-3 / 14 };
+ */
 export interface AutoregressiveOptions {
   /** Model order p >= 1 (scenario key fading.order). */
   order: number;
