@@ -11,7 +11,10 @@
 import type { GainPath } from '../gains.js';
 import { nrNominalSymbolStepS, nrSymbolTimesS, NR_SUBFRAME_S, type NrNumerology, type SymbolReference } from './numerology.js';
 
-/** When each step of a gain process happens. */
+/**
+ * When each step of a gain process happens.
+ * @example const everyHalfMs: StepClock = { stepS: 5e-4, timeS: (step) => step * 5e-4 };
+ */
 export interface StepClock {
   /** Nominal uniform step, seconds (the step of discrete recursions). */
   readonly stepS: number;
@@ -49,6 +52,7 @@ export function numerologyClock(numerology: NrNumerology, reference: SymbolRefer
 /**
  * One path as the fading models of this folder see it: the GainPath fields except the
  * Gauss-Markov alpha, plus the Doppler figures the models need.
+ * @example const walker: FadingPath = { id: 'los', power: 1, phaseRad: 0, dopplersHz: [280], dopplerHz: -120 };
  */
 export interface FadingPath extends Pick<GainPath, 'id' | 'power' | 'phaseRad'> {
   /**
@@ -61,7 +65,14 @@ export interface FadingPath extends Pick<GainPath, 'id' | 'power' | 'phaseRad'> 
   dopplerHz?: number | undefined;
 }
 
-/** A gain process that can also be evaluated at arbitrary times (continuous-time models). */
+/**
+ * A gain process that can also be evaluated at arbitrary times (continuous-time models).
+ * @example
+ * const shift: ContinuousGainProcess = new GeometricGains([{ id: 'los', power: 4, phaseRad: 0, dopplersHz: [], dopplerHz: 250 }], 0, { clock: uniformClock(1e-3) });
+ * const out = new Float64Array(2);
+ * shift.fillAtTimes(out, [1e-3]);
+ * out // Float64Array [1.2e-16, 2]: amplitude 2, turned by 2 pi 250 Hz * 1 ms
+ */
 export interface ContinuousGainProcess {
   readonly pathCount: number;
   /**
@@ -71,7 +82,10 @@ export interface ContinuousGainProcess {
   fillAtTimes(out: Float64Array, timesS: ArrayLike<number>): void;
 }
 
-/** Shared validation of a path list (programming errors). */
+/**
+ * Shared validation of a path list (programming errors).
+ * @example checkFadingPaths('f()', [{ id: 'a', power: -1, phaseRad: 0, dopplersHz: [] }]) // throws RangeError "f(): path a: power must be a finite number >= 0, got -1"
+ */
 export function checkFadingPaths(fn: string, paths: readonly FadingPath[]): void {
   const seen = new Set<string>();
   for (const p of paths) {
@@ -89,7 +103,10 @@ export function checkFadingPaths(fn: string, paths: readonly FadingPath[]): void
   }
 }
 
-/** Shared check of an output array for `count` steps of `paths` paths. */
+/**
+ * Shared check of an output array for `count` steps of `paths` paths.
+ * @example checkGainOut('f()', new Float64Array(4), 0, 3, 1) // throws RangeError "f(): out needs 6 values, got 4"
+ */
 export function checkGainOut(fn: string, out: Float64Array, first: number, count: number, paths: number): void {
   if (!Number.isInteger(first) || first < 0) throw new RangeError(`${fn}: first must be an integer >= 0, got ${first}`);
   if (!Number.isInteger(count) || count < 0) throw new RangeError(`${fn}: count must be an integer >= 0, got ${count}`);
