@@ -14,7 +14,10 @@ import type { GainProcess } from '../gains.js';
 import { checkFadingPaths, checkGainOut, type ContinuousGainProcess, type FadingPath, type StepClock } from './clock.js';
 import { SOS_DEFAULT_SINUSOIDS, SumOfSinusoidsGains } from './sum-of-sinusoids.js';
 
-/** Options of GeometricGains. */
+/**
+ * Options of GeometricGains.
+ * @example const rician: GeometricOptions = { clock: uniformClock(1e-3), ricianKDb: 6 };
+ */
 export interface GeometricOptions {
   /** When each step happens. */
   clock: StepClock;
