@@ -16,13 +16,22 @@ export * from './ar.js';
 export * from './sum-of-sinusoids.js';
 export * from './geometric.js';
 
-/** The fading models of this folder (scenario key fading.model). */
+/**
+ * The fading models of this folder (scenario key fading.model).
+ * @example const model: FadingModelName = 'sum-of-sinusoids';
+ */
 export type FadingModelName = 'ar' | 'sum-of-sinusoids' | 'geometric';
 
-/** A default for fading.order. */
+/**
+ * A default for fading.order.
+ * @example AR_DEFAULT_ORDER // 20
+ */
 export const AR_DEFAULT_ORDER = 20;
 
-/** Options of createFadingGains, named after the scenario keys. */
+/**
+ * Options of createFadingGains, named after the scenario keys.
+ * @example const options: FadingGainsOptions = { clock: uniformClock(1e-3), order: 10 };
+ */
 export interface FadingGainsOptions {
   clock: StepClock;
   /** fading.order (ar), default AR_DEFAULT_ORDER. */
