@@ -13,22 +13,45 @@
  * Arrays returned here are per symbol of one subframe, index l = 0 .. symbolsPerSubframe - 1.
  */
 
-/** The NR basic time unit T_c = 1 / (480 kHz * 4096) in seconds. */
+/**
+ * The NR basic time unit T_c = 1 / (480 kHz * 4096) in seconds.
+ * @example NR_TC_S // 5.086e-10
+ */
 export const NR_TC_S = 1 / (480e3 * 4096);
-/** kappa = T_s / T_c = 64 (T_s = 1 / (15 kHz * 2048), the LTE unit). */
+/**
+ * kappa = T_s / T_c = 64 (T_s = 1 / (15 kHz * 2048), the LTE unit).
+ * @example 1 / (15e3 * 2048) / NR_TC_S // 64
+ */
 export const NR_KAPPA = 64;
-/** One NR subframe, 1 ms, in T_c units (1 966 080). */
+/**
+ * One NR subframe, 1 ms, in T_c units (1 966 080).
+ * @example NR_SUBFRAME_TC // 1966080
+ */
 export const NR_SUBFRAME_TC = 480e3 * 4096 * 1e-3;
-/** The NR subframe duration in seconds. */
+/**
+ * The NR subframe duration in seconds.
+ * @example NR_SUBFRAME_S // 0.001
+ */
 export const NR_SUBFRAME_S = 1e-3;
 
-/** Cyclic prefix kind of TS 38.211. */
+/**
+ * Cyclic prefix kind of TS 38.211.
+ * @example nrNumerology(2, 'extended' satisfies CyclicPrefix).symbolsPerSlot // 12
+ */
 export type CyclicPrefix = 'normal' | 'extended';
 
-/** Where within a symbol its time is taken. */
+/**
+ * Where within a symbol its time is taken.
+ * @example nrSymbolTimesS(nrNumerology(0), 'useful' satisfies SymbolReference)[0] // 5.2083e-6: the first useful sample of mu = 0 (CP of 160 T_s)
+ */
 export type SymbolReference = 'start' | 'useful' | 'middle';
 
-/** One numerology, with the per-symbol lengths of a subframe in integer T_c units. */
+/**
+ * One numerology, with the per-symbol lengths of a subframe in integer T_c units.
+ * @example
+ * const mu3: NrNumerology = nrNumerology(3);
+ * [mu3.subcarrierSpacingHz, mu3.symbolsPerSubframe, mu3.usefulTc] // [120000, 112, 16384]
+ */
 export interface NrNumerology {
   /** mu, 0..4. */
   mu: number;
@@ -129,7 +152,12 @@ export function nrNominalSymbolStepS(numerology: NrNumerology): number {
   return NR_SUBFRAME_S / numerology.symbolsPerSubframe;
 }
 
-/** Lengths of one symbol in samples at a given FFT size (sample rate fftSize * subcarrier spacing). */
+/**
+ * Lengths of one symbol in samples at a given FFT size (sample rate fftSize * subcarrier spacing).
+ * @example
+ * const s: NrSymbolSamples = nrSymbolSamples(nrNumerology(0), 2048);
+ * [s.useful, s.cp[0], s.cp[1], s.perSubframe, s.sampleRateHz] // [2048, 160, 144, 30720, 30720000]
+ */
 export interface NrSymbolSamples {
   /** FFT size N (useful part in samples). */
   useful: number;
