@@ -7,7 +7,10 @@
  * frequencies f_max satisfies f_max * stepS <= 0.5 (Nyquist), i.e. stepS <= 0.5 / f_max.
  */
 
-/** Highest frequency of a path's gain: the sum of its spreads, or |dopplerHz| if larger. */
+/**
+ * Highest frequency of a path's gain: the sum of its spreads, or |dopplerHz| if larger.
+ * @example gainBandwidthHz([280, 93], -500) // 500: |dopplerHz| exceeds the summed spreads 373
+ */
 export function gainBandwidthHz(dopplersHz: readonly number[], dopplerHz = 0): number {
   let spread = 0;
   for (const f of dopplersHz) spread += f;
