@@ -29,16 +29,28 @@ import type { GainProcess } from '../gains.js';
 import { RandomStream } from '../random.js';
 import { checkFadingPaths, checkGainOut, type ContinuousGainProcess, type FadingPath, type StepClock } from './clock.js';
 
-/** Fewest sinusoids accepted (fourth-order statistics are good from M = 8, Zheng & Xiao). */
+/**
+ * Fewest sinusoids accepted (fourth-order statistics are good from M = 8, Zheng & Xiao).
+ * @example new SumOfSinusoidsGains([{ id: 'a', power: 1, phaseRad: 0, dopplersHz: [100] }], 1, { sinusoids: 4, clock: uniformClock(1e-3) }) // throws RangeError "SumOfSinusoidsGains(): sinusoids must be an integer >= 8, got 4"
+ */
 export const SOS_MIN_SINUSOIDS = 8;
-/** A default for fading.sinusoids. */
+/**
+ * A default for fading.sinusoids.
+ * @example SOS_DEFAULT_SINUSOIDS // 16
+ */
 export const SOS_DEFAULT_SINUSOIDS = 16;
-/** Lane of the stream that draws a path's angles and phases. */
+/**
+ * Lane of the stream that draws a path's angles and phases.
+ * @example SOS_LANE // 2
+ */
 export const SOS_LANE = 2;
 
 const TWO_PI = 2 * Math.PI;
 
-/** Options of SumOfSinusoidsGains. */
+/**
+ * Options of SumOfSinusoidsGains.
+ * @example const options: SumOfSinusoidsOptions = { sinusoids: 32, clock: uniformClock(1e-3) };
+ */
 export interface SumOfSinusoidsOptions {
   /** M >= SOS_MIN_SINUSOIDS (scenario key fading.sinusoids); per end for the double ring. */
   sinusoids: number;
