@@ -6,7 +6,10 @@
  */
 import { BlockedStreams, type RandomStream } from './random.js';
 
-/** One path as the gain process sees it. */
+/**
+ * One path as the gain process sees it.
+ * @example const los: GainPath = { id: 'los', power: 0.5, phaseRad: 0, alpha: 0.99 };
+ */
 export interface GainPath {
   /** Stable identity (keys the random streams). */
   id: string;
@@ -18,7 +21,14 @@ export interface GainPath {
   alpha: number;
 }
 
-/** A source of per-step complex path gains. */
+/**
+ * A source of per-step complex path gains.
+ * @example
+ * const gains: GainProcess = new StaticGains([{ id: 'a', power: 4, phaseRad: 0, alpha: 1 }]);
+ * const out = new Float64Array(4);
+ * gains.fill(out, 0, 2);
+ * out // Float64Array [2, 0, 2, 0]: sqrt(4) at both steps
+ */
 export interface GainProcess {
   /** Number of paths L. */
   readonly pathCount: number;
@@ -29,7 +39,13 @@ export interface GainProcess {
   fill(out: Float64Array, first: number, count: number): void;
 }
 
-/** rho_l = sqrt(gamma_l) exp(j phase_l), the same at every step. */
+/**
+ * rho_l = sqrt(gamma_l) exp(j phase_l), the same at every step.
+ * @example
+ * const out = new Float64Array(2);
+ * new StaticGains([{ id: 'a', power: 0.25, phaseRad: Math.PI, alpha: 1 }]).fill(out, 5, 1);
+ * out // Float64Array [-0.5, 6.1e-17]: the same at every step
+ */
 export class StaticGains implements GainProcess {
   readonly pathCount: number;
   private readonly values: Float64Array;
@@ -59,6 +75,12 @@ const drawOneComplex = (stream: RandomStream): void => {
  * Gauss-Markov (AR(1)) gains of design.md: rho_s = alpha rho_(s-1) + sqrt(1 - alpha^2) nu_s,
  * nu ~ CN(0, gamma) i.i.d., rho_0 ~ CN(0, gamma) (stationary start). Step s draws one complex
  * normal from the stream of (seed, path id, s div RANDOM_BLOCK_STEPS); rho_0 is that draw at s = 0.
+ * @example
+ * const g = new GaussMarkovGains([{ id: 'los', power: 1, phaseRad: 0, alpha: 0.9 }], 7);
+ * const whole = new Float64Array(6), tail = new Float64Array(2);
+ * g.fill(whole, 0, 3);
+ * new GaussMarkovGains([{ id: 'los', power: 1, phaseRad: 0, alpha: 0.9 }], 7).fill(tail, 2, 1);
+ * tail[0] === whole[4] // true: step 2 does not depend on where the run starts
  */
 export class GaussMarkovGains implements GainProcess {
   readonly pathCount: number;
