@@ -6,7 +6,10 @@
  */
 import type { Orientation, Vec3 } from '@pathweave/geometry';
 
-/** A timed waypoint. */
+/**
+ * A timed waypoint.
+ * @example const turn: Waypoint = { t: 2, position: [10, 0, 1.5], orientation: { yawDeg: 90 } };
+ */
 export interface Waypoint {
   /** Time, seconds; strictly increasing along a trajectory. */
   t: number;
@@ -15,7 +18,13 @@ export interface Waypoint {
   orientation?: Orientation | undefined;
 }
 
-/** How a terminal moves over time. */
+/**
+ * How a terminal moves over time.
+ * @example
+ * const walk = new Motion([0, 0, 0], [0, 0, 0], [{ t: 0, position: [0, 0, 1.5] }, { t: 10, position: [14, 0, 1.5] }]);
+ * walk.positionAt(2.5) // [3.5, 0, 1.5]
+ * walk.positionAt(20) // [14, 0, 1.5]: holds the last waypoint
+ */
 export class Motion {
   /** True when the position changes over time. */
   readonly moves: boolean;
