@@ -15,7 +15,14 @@ import { directionBasis, terminalFieldVector, type Mat3, type Vec3 } from '@path
 import type { RandomStream } from './random.js';
 import { PathFrame, TracedTimeline, type PathTimeline } from './timeline.js';
 
-/** A timeline that also knows each path's polarimetric transfer. */
+/**
+ * A timeline that also knows each path's polarimetric transfer.
+ * @example
+ * const identity: PolarimetricSource = { polarimetricAt: (_t, out) => out.set([1, 0, 0, 0, 0, 0, 1, 0]) };
+ * const t = new Float64Array(8);
+ * identity.polarimetricAt(0, t);
+ * t // Float64Array [1, 0, 0, 0, 0, 0, 1, 0]
+ */
 export interface PolarimetricSource {
   /** Fill `out` (8 L values, layout above) with every path's transfer at time t (seconds). */
   polarimetricAt(timeS: number, out: Float64Array): void;
@@ -111,6 +118,12 @@ export function portCoupling(out: Float64Array, rxFields: Float64Array, transfer
  * `polarization`, vertical by default); dividing by F (complex division, relative accuracy
  * kept) removes it. Which paths exist and their pruning therefore follow the power between
  * those trace polarisations; a path with F = 0 exactly is dropped by the tracer.
+ * @example
+ * const still = (position: Vec3) => ({ motion: new Motion(position) });
+ * const timeline = new PolarimetricTracedTimeline({}, still([0, 0, 0]), still([10, 0, 0]), 28e9, 0, 1e-3);
+ * const t = new Float64Array(8);
+ * timeline.polarimetricAt(0, t);
+ * [timeline.ids, t] // [['los'], Float64Array [1, 0, 0, 0, 0, 0, -1, 0]]: the direct path's transfer
  */
 export class PolarimetricTracedTimeline extends TracedTimeline implements PolarimetricSource {
   override frameAt(timeS: number, frame: PathFrame): void {
