@@ -3,7 +3,10 @@
  * (x = t / T). Both are 1 at x = 0 and 0 at the other integers (Nyquist pulses).
  */
 
-/** Pulse shapes offered for the tap-delay output. */
+/**
+ * Pulse shapes offered for the tap-delay output.
+ * @example const pulse: PulseShape = 'raised-cosine';
+ */
 export type PulseShape = 'sinc' | 'raised-cosine';
 
 /**
@@ -31,7 +34,10 @@ export function raisedCosinePulse(x: number, rollOff: number): number {
   return (sincPulse(x) * Math.cos(Math.PI * rollOff * x)) / denominator;
 }
 
-/** The pulse as a function of x = t / T. */
+/**
+ * The pulse as a function of x = t / T.
+ * @example pulseFunction('raised-cosine', 0.25)(0.5) // 0.6274
+ */
 export function pulseFunction(shape: PulseShape, rollOff = 0): (x: number) => number {
   if (shape === 'sinc') return sincPulse;
   if (!(rollOff >= 0 && rollOff <= 1)) throw new RangeError(`pulseFunction(): rollOff must lie in [0, 1], got ${rollOff}`);
