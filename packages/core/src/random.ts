@@ -7,7 +7,10 @@
  * running the same Node major version.
  */
 
-/** Subframes (or time steps) per random block: a constant of the format, never tuned. */
+/**
+ * Subframes (or time steps) per random block: a constant of the format, never tuned.
+ * @example Math.floor(1000 / RANDOM_BLOCK_STEPS) // 3: steps 768..1023 form block 3
+ */
 export const RANDOM_BLOCK_STEPS = 256;
 
 const TWO_PI = 2 * Math.PI;
@@ -38,7 +41,13 @@ export function hashKey(key: string): [number, number] {
   return [mix32(a ^ key.length), mix32(b + 0x9e3779b9)];
 }
 
-/** A seeded stream of uniform and Gaussian numbers. */
+/**
+ * A seeded stream of uniform and Gaussian numbers.
+ * @example
+ * const a = new RandomStream(42, 'los'), b = new RandomStream(42, 'los');
+ * a.nextUniform() === b.nextUniform() // true
+ * new RandomStream(42, 'los').nextUniform() // 0.6190338581222481 (the same on every run)
+ */
 export class RandomStream {
   private s0 = 0;
   private s1 = 0;
@@ -111,6 +120,9 @@ export class RandomStream {
  * The stream that serves time step `step` of consumer `key`: one stream per block of
  * RANDOM_BLOCK_STEPS steps. Callers draw the same count of numbers for every step, so a step's
  * numbers are found by skipping within its block only.
+ * @example
+ * const streams = new BlockedStreams(42, 'los', (s) => s.nextUniform());
+ * streams.at(300).nextUniform() === new BlockedStreams(42, 'los', (s) => s.nextUniform()).at(300).nextUniform() // true: block 1 is replayed from its start
  */
 export class BlockedStreams {
   private block = -1;
