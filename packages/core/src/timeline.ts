@@ -21,7 +21,13 @@ import {
 } from '@pathweave/geometry';
 import type { Motion } from './motion.js';
 
-/** The L paths at one time. */
+/**
+ * The L paths at one time.
+ * @example
+ * const frame = new PathFrame(1);
+ * new ExplicitTimeline([{ id: 'los', delayS: 33e-9, power: 0.25, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }]).frameAt(0, frame);
+ * [frame.delayS, frame.amplitude] // [Float64Array [3.3e-8], Float64Array [0.5, 0]]: amplitude sqrt(0.25)
+ */
 export class PathFrame {
   readonly delayS: Float64Array;
   readonly departure: Float64Array;
@@ -45,7 +51,12 @@ export class PathFrame {
   }
 }
 
-/** A source of path frames over time. */
+/**
+ * A source of path frames over time.
+ * @example
+ * const timeline: PathTimeline = new ExplicitTimeline([{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }]);
+ * [timeline.ids, timeline.kinds, timeline.constant] // [['los'], ['explicit'], true]
+ */
 export interface PathTimeline {
   /** Stable path ids (keys of the random streams), column order of gains. */
   readonly ids: readonly string[];
@@ -57,7 +68,10 @@ export interface PathTimeline {
   frameAt(timeS: number, frame: PathFrame): void;
 }
 
-/** One explicit path (design.md `paths`), in SI units. */
+/**
+ * One explicit path (design.md `paths`), in SI units.
+ * @example const echo: ExplicitPath = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
+ */
 export interface ExplicitPath {
   id: string;
   delayS: number;
@@ -70,7 +84,10 @@ export interface ExplicitPath {
   maxDopplerHz?: number | undefined;
 }
 
-/** Paths given explicitly: the same frame at every time. */
+/**
+ * Paths given explicitly: the same frame at every time.
+ * @example new ExplicitTimeline([{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }]).ids // ['los']
+ */
 export class ExplicitTimeline implements PathTimeline {
   readonly ids: readonly string[];
   readonly kinds: readonly string[];
@@ -97,7 +114,10 @@ export class ExplicitTimeline implements PathTimeline {
   }
 }
 
-/** A terminal as the traced timeline sees it. */
+/**
+ * A terminal as the traced timeline sees it.
+ * @example const ue: TracedTerminal = { motion: new Motion([10, 0, 1.5], [0, 1, 0]), polarization: 'horizontal' };
+ */
 export interface TracedTerminal {
   motion: Motion;
   polarization?: Polarization | undefined;
@@ -111,6 +131,10 @@ export interface TracedTerminal {
  * list at the current positions (delay, angles, Doppler, spreading and carrier phase change
  * continuously). A path present at one update and absent at the next fades linearly over the
  * update interval (and likewise fades in), so nothing jumps.
+ * @example
+ * const scene = { walls: [{ vertices: [[0, 5], [40, 5]] }] };
+ * const timeline = new TracedTimeline(scene, { motion: new Motion([0, 0, 0]) }, { motion: new Motion([10, 0, 0], [1, 0, 0]) }, 28e9, 1, 0.5);
+ * [timeline.ids, timeline.epochTimesS] // [['los', 'R:walls[0]'], [0, 0.5, 1]]: updates every 0.5 s over [0, 1] s
  */
 export class TracedTimeline implements PathTimeline {
   readonly ids: string[];
@@ -249,7 +273,14 @@ export class TracedTimeline implements PathTimeline {
   }
 }
 
-/** The array of a terminal at a time (a new AntennaArray only when the motion turns it). */
+/**
+ * The array of a terminal at a time (a new AntennaArray only when the motion turns it).
+ * @example
+ * const base = AntennaArray.ula(2, 0.005);
+ * const spin = new Motion([0, 0, 0], [0, 0, 0], [{ t: 0, position: [0, 0, 0] }, { t: 1, position: [0, 0, 0], orientation: { yawDeg: 90 } }]);
+ * arrayAt(base, undefined, 0.5) === base // true
+ * arrayAt(base, spin, 1).globalOffsets // Float64Array [0.0025, -1.5e-19, 0, -0.0025, 1.5e-19, 0]: turned 90 degrees, the line now along x
+ */
 export function arrayAt(base: AntennaArray, motion: Motion | undefined, timeS: number): AntennaArray {
   if (motion === undefined || !motion.turns) return base;
   return new AntennaArray(base.localOffsets, motion.orientationAt(timeS), base.pattern);
