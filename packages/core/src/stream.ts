@@ -11,7 +11,19 @@
 import type { ChannelGenerator, TensorArray } from './channel.js';
 import type { PathFrame } from './timeline.js';
 
-/** One subframe of a stream. */
+/**
+ * One subframe of a stream.
+ * @example
+ * const still = { array: AntennaArray.ula(1, 0), velocity: [0, 0, 0] as Vec3 };
+ * const generator = new ChannelGenerator({
+ *   carrierHz: 28e9, subframeS: 1e-3, subframes: 4, seed: 1, fading: { model: 'static' },
+ *   transmitter: { ...still, position: [0, 0, 0] }, receiver: { ...still, position: [10, 0, 0] },
+ *   paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }],
+ *   grid: { domain: 'frequency', subcarriers: 2, spacingHz: 120e3 },
+ * });
+ * const item: SubframeItem = streamSubframes(generator, { first: 3 }).next().value!;
+ * [item.index, item.timeS, item.tensor.length, item.gains] // [3, 0.003, 4, Float64Array [1, 0]]: [K = 2, 1, 1] complex values
+ */
 export interface SubframeItem {
   /** Absolute subframe index s. */
   index: number;
@@ -25,7 +37,19 @@ export interface SubframeItem {
   paths: PathFrame;
 }
 
-/** Range of a stream: subframes [first, first + count). */
+/**
+ * Range of a stream: subframes [first, first + count).
+ * @example
+ * const still = { array: AntennaArray.ula(1, 0), velocity: [0, 0, 0] as Vec3 };
+ * const generator = new ChannelGenerator({
+ *   carrierHz: 28e9, subframeS: 1e-3, subframes: 4, seed: 1, fading: { model: 'static' },
+ *   transmitter: { ...still, position: [0, 0, 0] }, receiver: { ...still, position: [10, 0, 0] },
+ *   paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }],
+ *   grid: { domain: 'frequency', subcarriers: 2, spacingHz: 120e3 },
+ * });
+ * const range: StreamRange = { first: 1, count: 2 };
+ * [...streamSubframes(generator, range)].length // 2
+ */
 export interface StreamRange {
   first?: number;
   count?: number;
