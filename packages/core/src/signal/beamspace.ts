@@ -20,10 +20,18 @@ import type { ChannelGenerator } from '../channel.js';
 import { checkInteger, checkLength, checkPositive, type ComplexArray } from './checks.js';
 import { budgetNoisePowerW, dbmToWatts, type LinkBudget } from './link-budget.js';
 
-/** Which end a codebook serves. */
+/**
+ * Which end a codebook serves.
+ * @example ulaCodebook(2, { side: 'receive' satisfies CodebookSide }).weights // Float64Array [4.3e-17, 0.7071, 0.7071, 0, 4.3e-17, -0.7071, 0.7071, 0]: [N, B] complex, the responses towards u_y = -1 and 0
+ */
 export type CodebookSide = 'transmit' | 'receive';
 
-/** A set of unit-norm beam weight vectors. */
+/**
+ * A set of unit-norm beam weight vectors.
+ * @example
+ * const book: Codebook = ulaCodebook(2);
+ * [book.elements, book.beams, book.side, book.directionCosines] // [2, 2, 'transmit', Float64Array [-1, 0, 0, 0]]: beams towards u_y = -1 and 0
+ */
 export interface Codebook {
   /** Array elements N. */
   readonly elements: number;
@@ -37,7 +45,10 @@ export interface Codebook {
   readonly directionCosines: Float64Array;
 }
 
-/** Options of the DFT codebooks. */
+/**
+ * Options of the DFT codebooks.
+ * @example ulaCodebook(4, { oversampling: 4, spacingWavelengths: 0.5 } satisfies CodebookOptions).beams // 16
+ */
 export interface CodebookOptions {
   /** Beams per element (oversampling factor O), integer >= 1. Default 1 (orthogonal beams). */
   oversampling?: number;
@@ -63,7 +74,10 @@ export function ulaCodebook(elements: number, options: CodebookOptions = {}): Co
   return { elements, beams, side, weights, directionCosines };
 }
 
-/** Options of the UPA codebook: oversampling may differ along rows and columns. */
+/**
+ * Options of the UPA codebook: oversampling may differ along rows and columns.
+ * @example upaCodebook(2, 4, { oversampling: [1, 2] } satisfies UpaCodebookOptions).beams // 16: 2 x 8 beams
+ */
 export interface UpaCodebookOptions extends Omit<CodebookOptions, 'oversampling'> {
   /** O, or [O_rows, O_columns]. Default 1. */
   oversampling?: number | readonly [number, number];
@@ -193,7 +207,10 @@ export function effectiveChannel(H: ComplexArray, subcarriers: number, w: Float6
   return out;
 }
 
-/** The best beam pair of one subframe. */
+/**
+ * The best beam pair of one subframe.
+ * @example bestBeamPair(Float64Array.of(1, 0, 1, 0), 1, ulaCodebook(1, { side: 'receive' }), ulaCodebook(2)) // { receiveBeam: 0, transmitBeam: 1, gain: 2, meanGain: 2 }: the broadside beam
+ */
 export interface BeamPair {
   /** Receive beam index (column of W). */
   receiveBeam: number;
@@ -212,6 +229,10 @@ export interface BeamPair {
 /**
  * Exhaustive beam-pair search plan: max over (w, f) in W x F of sum_k |w^H H[k] f|^2, with
  * scratch owned by the plan so a search per subframe allocates nothing but its result.
+ * @example
+ * const plan = new BeamSearch(ulaCodebook(1, { side: 'receive' }), ulaCodebook(2), 1);
+ * plan.search(Float64Array.of(1, 0, -1, 0)).transmitBeam // 0: the beam towards u_y = -1 (phases 0 and pi)
+ * plan.gains // Float64Array [2, 0]
  */
 export class BeamSearch {
   /** Subcarriers K. */
@@ -283,7 +304,12 @@ export function bestBeamPair(H: ComplexArray, subcarriers: number, W: Codebook, 
   return new BeamSearch(W, F, subcarriers, budget).search(H);
 }
 
-/** Best beam pair per subframe. */
+/**
+ * Best beam pair per subframe.
+ * @example
+ * const track: BeamTrack = { first: 0, receiveBeam: Int32Array.of(0, 0), transmitBeam: Int32Array.of(3, 4),
+ *   gain: Float64Array.of(7.9, 7.6), meanGain: Float64Array.of(0.62, 0.59) };
+ */
 export interface BeamTrack {
   /** First subframe tracked. */
   first: number;
