@@ -3,7 +3,10 @@
  * the project's policy: `fnName(): what is wrong, got X`.
  */
 
-/** Complex interleaved samples, numpy complex64 or complex128 bytes. */
+/**
+ * Complex interleaved samples, numpy complex64 or complex128 bytes.
+ * @example const samples: ComplexArray = Float32Array.of(1, 0, 0, -1); // 1, then -j
+ */
 export type ComplexArray = Float32Array | Float64Array;
 
 /** Throws unless `value` is an integer >= min. */
