@@ -11,7 +11,10 @@
 import type { ChannelGenerator } from '../channel.js';
 import { allocateLike, checkComplexArray, checkInteger, checkLength, checkSignal, type ComplexArray } from './checks.js';
 
-/** Sizes of a ChannelFilter. */
+/**
+ * Sizes of a ChannelFilter.
+ * @example const twoByFour: ChannelFilterOptions = { transmitters: 2, receivers: 4, taps: 32 };
+ */
 export interface ChannelFilterOptions {
   /** Transmit streams Nt (rows of the input). */
   transmitters: number;
