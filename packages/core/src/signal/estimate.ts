@@ -146,7 +146,10 @@ export function normalizedMse(estimate: ComplexArray, truth: ComplexArray): numb
   return err / ref;
 }
 
-/** Inputs of the LS theory. */
+/**
+ * Inputs of the LS theory.
+ * @example lsNmseTheory({ noiseVariance: 0.01, pilotLength: 4, pilotPower: 2, meanChannelPower: 0.5 } satisfies LsTheoryInput) // 0.0025 (= 0.01 / (4 * 2 * 0.5))
+ */
 export interface LsTheoryInput {
   /** Noise power per complex sample sigma^2. */
   noiseVariance: number;
