@@ -46,7 +46,10 @@ export function applyFrequencyOffset(
   return out;
 }
 
-/** Options of a PhaseNoise process. */
+/**
+ * Options of a PhaseNoise process.
+ * @example const receiverOscillator: PhaseNoiseOptions = { seed: 3, linewidthHz: 100, sampleRateHz: 122.88e6, key: 'phase-noise/rx' };
+ */
 export interface PhaseNoiseOptions {
   /** Seed of the run, integer in [0, 2^53). */
   seed: number;
