@@ -12,13 +12,22 @@
  */
 import { checkFinite, checkInteger, checkLength, checkPositive, type ComplexArray } from './checks.js';
 
-/** Boltzmann's constant, J/K (CODATA 2018; exact in the 2019 SI). */
+/**
+ * Boltzmann's constant, J/K (CODATA 2018; exact in the 2019 SI).
+ * @example 10 * Math.log10(BOLTZMANN_J_PER_K * REFERENCE_TEMPERATURE_K * 1e3) // -173.975 (dBm in 1 Hz at 290 K)
+ */
 export const BOLTZMANN_J_PER_K = 1.380649e-23;
 
-/** Reference noise temperature T0 = 290 K (common practice, as in the noise-figure definition). */
+/**
+ * Reference noise temperature T0 = 290 K (common practice, as in the noise-figure definition).
+ * @example REFERENCE_TEMPERATURE_K // 290
+ */
 export const REFERENCE_TEMPERATURE_K = 290;
 
-/** What the link budget states. */
+/**
+ * What the link budget states.
+ * @example budgetNoisePowerW({ transmitPowerDbm: 23, bandwidthHz: 100e6, noiseFigureDb: 7 } satisfies LinkBudget) // 2.0067e-12 (-86.98 dBm)
+ */
 export interface LinkBudget {
   /** Total transmit power over all transmit antennas, dBm. */
   transmitPowerDbm: number;
@@ -92,7 +101,12 @@ export function channelPowerGain(tensor: ComplexArray, shape: readonly [number, 
   return out;
 }
 
-/** Received power and SNR per subframe. */
+/**
+ * Received power and SNR per subframe.
+ * @example
+ * const snr: ReceivedSnr = receivedSnr(Float64Array.of(1e-5, 0), [1, 1, 1, 1], 'frequency', { transmitPowerDbm: 30, bandwidthHz: 1e8 });
+ * [snr.receivedPowerW[0], snr.noisePowerW] // [1e-10, 4.0039e-13]
+ */
 export interface ReceivedSnr {
   /** Mean received power per antenna P_r(s), watts. */
   receivedPowerW: Float64Array;
