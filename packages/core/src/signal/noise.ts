@@ -14,7 +14,10 @@
 import { BlockedStreams, RandomStream } from '../random.js';
 import { checkFinite, checkInteger, checkNonNegative, checkPositive, checkSignal, type ComplexArray } from './checks.js';
 
-/** Options of a NoiseSource. */
+/**
+ * Options of a NoiseSource.
+ * @example const interference: NoiseSourceOptions = { seed: 1, streams: 4, key: 'interference' };
+ */
 export interface NoiseSourceOptions {
   /** Seed of the run, integer in [0, 2^53). */
   seed: number;
@@ -24,7 +27,10 @@ export interface NoiseSourceOptions {
   key?: string;
 }
 
-/** What `addAtSnr` used. */
+/**
+ * What `addAtSnr` used.
+ * @example new NoiseSource({ seed: 1, streams: 1 }).addAtSnr(Float64Array.of(2, 0, 0, 2), 2, 10) satisfies NoiseLevel // { signalPower: 4, noiseVariance: 0.4 }
+ */
 export interface NoiseLevel {
   /** Mean signal power per antenna P_s the SNR refers to (measured or the reference given). */
   signalPower: number;
