@@ -14,7 +14,10 @@
 import FFT from 'fft.js';
 import { allocateLike, checkInteger, checkLength, checkSignal, type ComplexArray } from './checks.js';
 
-/** Options of an OFDM modem. */
+/**
+ * Options of an OFDM modem.
+ * @example new OfdmModem({ subcarriers: 64, cyclicPrefix: 16 } satisfies OfdmOptions).subcarriers // 64
+ */
 export interface OfdmOptions {
   /** Subcarriers K = FFT size, a power of two >= 2. */
   subcarriers: number;
