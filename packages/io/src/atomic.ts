@@ -16,22 +16,46 @@ import { basename, dirname, join } from 'node:path';
 
 const live = new Set<string>();
 
-/** Record a temporary file written by other means (e.g. a library that opens it itself), so a signal handler removes it. */
+/**
+ * Record a temporary file written by other means (e.g. a library that opens it itself), so a signal handler removes it.
+ * @example
+ * trackTemporary('/tmp/.run.h5.part');
+ * liveTemporaryFiles().includes('/tmp/.run.h5.part') // true
+ */
 export function trackTemporary(path: string): void {
   live.add(path);
 }
 
-/** Forget a temporary file (after it was renamed or removed). */
+/**
+ * Forget a temporary file (after it was renamed or removed).
+ * @example
+ * trackTemporary('/tmp/.run.h5.part');
+ * untrackTemporary('/tmp/.run.h5.part');
+ * liveTemporaryFiles().includes('/tmp/.run.h5.part') // false
+ */
 export function untrackTemporary(path: string): void {
   live.delete(path);
 }
 
-/** Temporary files still open by this process (removed by `removeLiveTemporaryFiles`). */
+/**
+ * Temporary files still open by this process (removed by `removeLiveTemporaryFiles`).
+ * @example
+ * const file = await AtomicFile.create(join(mkdtempSync(join(tmpdir(), 'pw-')), 'run.npy'));
+ * liveTemporaryFiles().includes(file.temporary) // true
+ * await file.abort();
+ * liveTemporaryFiles().includes(file.temporary) // false
+ */
 export function liveTemporaryFiles(): string[] {
   return [...live];
 }
 
-/** Synchronously remove every temporary file this process still holds (for signal handlers). */
+/**
+ * Synchronously remove every temporary file this process still holds (for signal handlers).
+ * @example
+ * const file = await AtomicFile.create(join(mkdtempSync(join(tmpdir(), 'pw-')), 'run.npy'));
+ * removeLiveTemporaryFiles().includes(file.temporary) // true
+ * existsSync(file.temporary) // false
+ */
 export function removeLiveTemporaryFiles(): string[] {
   const removed: string[] = [];
   for (const p of live) {
@@ -72,7 +96,10 @@ const CAUSES: Record<string, string> = {
   EMFILE: 'too many open files',
 };
 
-/** Where an output file failed. */
+/**
+ * Where an output file failed.
+ * @example const stage: OutputFileStage = 'commit'; // the rename onto the target
+ */
 export type OutputFileStage = 'create' | 'write' | 'commit';
 
 /**
@@ -103,7 +130,16 @@ export class OutputFileError extends Error {
 /** Attempts at a fresh temporary name when one is already taken (EEXIST). */
 const CREATE_ATTEMPTS = 4;
 
-/** A file being written under a temporary name. */
+/**
+ * A file being written under a temporary name.
+ * @example
+ * const target = join(mkdtempSync(join(tmpdir(), 'pw-')), 'run.bin');
+ * const file = await AtomicFile.create(target);
+ * await file.write(Uint8Array.of(1, 2, 3));
+ * existsSync(target) // false: nothing at the target until commit
+ * await file.commit();
+ * readFileSync(target) // Buffer [1, 2, 3]
+ */
 export class AtomicFile {
   private handle: FileHandle | undefined;
   private position = 0;
@@ -217,7 +253,13 @@ export class AtomicFile {
   }
 }
 
-/** Write a whole small file atomically (throws OutputFileError on a fault, leaving no temporary file). */
+/**
+ * Write a whole small file atomically (throws OutputFileError on a fault, leaving no temporary file).
+ * @example
+ * const dir = mkdtempSync(join(tmpdir(), 'pw-'));
+ * await writeFileAtomic(join(dir, 'notes.txt'), 'hello');
+ * readdirSync(dir) // ['notes.txt']: no temporary file left
+ */
 export async function writeFileAtomic(target: string, data: Uint8Array | string): Promise<void> {
   const f = await AtomicFile.create(target);
   try {
