@@ -26,7 +26,13 @@ const defaultIo: Io = {
   err: (s) => process.stderr.write(s + '\n'),
 };
 
-/** Run the command line; resolves to the exit code. */
+/**
+ * Run the command line; resolves to the exit code.
+ * @example
+ * const printed: string[] = [];
+ * await main(['--version'], { out: (s) => printed.push(s), err: (s) => printed.push(s) }) // 0
+ * printed // ['0.1.0']
+ */
 export async function main(argv: readonly string[], io: Io = defaultIo): Promise<number> {
   const [command, ...rest] = argv;
   try {
