@@ -4,10 +4,16 @@ import { NpySink } from './npy.js';
 import { openNpzSink } from './npz.js';
 import { openHdf5Sink } from './hdf5.js';
 
-/** File formats `generate` writes. */
+/**
+ * File formats `generate` writes.
+ * @example const format: OutputFormat = 'h5';
+ */
 export type OutputFormat = 'npy' | 'npz' | 'h5';
 
-/** The formats available, in the order the CLI lists them. */
+/**
+ * The formats available, in the order the CLI lists them.
+ * @example OUTPUT_FORMATS.join(', ') // "npy, npz, h5"
+ */
 export const OUTPUT_FORMATS: readonly OutputFormat[] = ['npy', 'npz', 'h5'];
 
 /** The format implied by a file name's extension, if any. @example formatFromPath('a/b.h5') // "h5" */
@@ -18,7 +24,16 @@ export function formatFromPath(path: string): OutputFormat | undefined {
   return ext === 'hdf5' ? 'h5' : (ext as OutputFormat);
 }
 
-/** Open a sink of the given format at `path`. */
+/**
+ * Open a sink of the given format at `path`.
+ * @example
+ * const path = join(mkdtempSync(join(tmpdir(), 'pw-')), 'H.npy');
+ * const sink = await openSink('npy', path);
+ * await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [1, 2], units: '1' });
+ * await sink.writeRows(Float32Array.of(1, 0, 0, 1));
+ * await sink.commit() // 144: a 128-byte header and 2 complex64 values
+ * (await readNpy(path)).data // Float32Array [1, 0, 0, 1]
+ */
 export async function openSink(format: OutputFormat, path: string): Promise<DatasetSink> {
   switch (format) {
     case 'npy':
