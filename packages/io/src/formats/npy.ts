@@ -9,7 +9,10 @@ import { open } from 'node:fs/promises';
 import { AtomicFile } from '../atomic.js';
 import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 
-/** numpy descr of each dtype. */
+/**
+ * numpy descr of each dtype.
+ * @example NPY_DESCR.complex128 // "<c16"
+ */
 export const NPY_DESCR: Record<Exclude<DType, 'string'>, string> = {
   complex64: '<c8',
   complex128: '<c16',
@@ -20,7 +23,10 @@ export const NPY_DESCR: Record<Exclude<DType, 'string'>, string> = {
   int64: '<i8',
 };
 
-/** Bytes per element (per complex value for complex dtypes). */
+/**
+ * Bytes per element (per complex value for complex dtypes).
+ * @example DTYPE_BYTES.complex64 // 8
+ */
 export const DTYPE_BYTES: Record<Exclude<DType, 'string'>, number> = { complex64: 8, complex128: 16, float32: 4, float64: 8, int32: 4, uint8: 1, int64: 8 };
 
 /**
@@ -50,7 +56,10 @@ export function npyHeader(descr: string, shape: readonly number[], fortranOrder 
   return out;
 }
 
-/** A parsed NPY header. */
+/**
+ * A parsed NPY header.
+ * @example parseNpyHeader(npyHeader('<c8', [2, 3])) satisfies NpyHeaderInfo // { version: [1, 0], descr: '<c8', fortranOrder: false, shape: [2, 3], dataOffset: 128 }
+ */
 export interface NpyHeaderInfo {
   version: [number, number];
   descr: string;
@@ -60,7 +69,10 @@ export interface NpyHeaderInfo {
   dataOffset: number;
 }
 
-/** Parse an NPY header from the first bytes of a file. */
+/**
+ * Parse an NPY header from the first bytes of a file.
+ * @example parseNpyHeader(npyHeader('<f8', [70000], false, true)).version // [2, 0]
+ */
 export function parseNpyHeader(bytes: Uint8Array): NpyHeaderInfo {
   const magic = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
   if (bytes.length < 10 || magic.some((b, i) => bytes[i] !== b)) throw new RangeError('parseNpyHeader(): not an NPY file (bad magic)');
@@ -84,18 +96,27 @@ export function parseNpyHeader(bytes: Uint8Array): NpyHeaderInfo {
   return { version: [major, minor], descr, fortranOrder: fortran === 'True', shape, dataOffset: prefix + length };
 }
 
-/** The dtype of a numpy descr we write. */
+/**
+ * The dtype of a numpy descr we write.
+ * @example dtypeOfDescr('|u1') // "uint8"
+ */
 export function dtypeOfDescr(descr: string): Exclude<DType, 'string'> {
   for (const [k, v] of Object.entries(NPY_DESCR)) if (v === descr || v.replace('<', '|') === descr) return k as Exclude<DType, 'string'>;
   throw new RangeError(`dtypeOfDescr(): unsupported descr ${JSON.stringify(descr)}; allowed: ${Object.values(NPY_DESCR).join(', ')}`);
 }
 
-/** Byte view of a typed array (no copy). */
+/**
+ * Byte view of a typed array (no copy).
+ * @example bytesOf(Int32Array.of(1)) // Uint8Array [1, 0, 0, 0]: little-endian
+ */
 export function bytesOf(data: ArrayData): Uint8Array {
   return new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
 }
 
-/** Bytes of a whole in-memory NPY file. */
+/**
+ * Bytes of a whole in-memory NPY file.
+ * @example encodeNpy({ dtype: 'float32', shape: [2], data: Float32Array.of(1, 2) }).length // 136: 128 header bytes, 8 data bytes
+ */
 export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>, options: { forceVersion2?: boolean } = {}): Uint8Array {
   if (array.dtype === 'string' || array.data === undefined) throw new TypeError('encodeNpy(): dtype "string" is not supported here');
   const header = npyHeader(NPY_DESCR[array.dtype], array.shape, false, options.forceVersion2 === true);
@@ -108,14 +129,20 @@ export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>, o
   return out;
 }
 
-/** An NPY file read back. */
+/**
+ * An NPY file read back.
+ * @example const back: NpyArray = decodeNpy(encodeNpy({ dtype: 'int32', shape: [1, 2], data: Int32Array.of(5, 6) })); // { dtype: 'int32', shape: [1, 2], data: Int32Array [5, 6] }
+ */
 export interface NpyArray {
   dtype: Exclude<DType, 'string'>;
   shape: number[];
   data: ArrayData;
 }
 
-/** Decode NPY bytes (little-endian C-order arrays of the dtypes we write). */
+/**
+ * Decode NPY bytes (little-endian C-order arrays of the dtypes we write).
+ * @example decodeNpy(encodeNpy({ dtype: 'complex64', shape: [1], data: Float32Array.of(0.5, -1) })) // { dtype: 'complex64', shape: [1], data: Float32Array [0.5, -1] }
+ */
 export function decodeNpy(bytes: Uint8Array): NpyArray {
   const h = parseNpyHeader(bytes);
   if (h.fortranOrder) throw new RangeError('decodeNpy(): Fortran-order arrays are not supported');
@@ -139,7 +166,13 @@ export function decodeNpy(bytes: Uint8Array): NpyArray {
   return { dtype, shape: h.shape, data };
 }
 
-/** Read a whole .npy file. */
+/**
+ * Read a whole .npy file.
+ * @example
+ * const file = join(mkdtempSync(join(tmpdir(), 'pw-')), 'x.npy');
+ * writeFileSync(file, encodeNpy({ dtype: 'float64', shape: [3], data: Float64Array.of(1, 2, 3) }));
+ * await readNpy(file) // { dtype: 'float64', shape: [3], data: Float64Array [1, 2, 3] }
+ */
 export async function readNpy(file: string): Promise<NpyArray> {
   const h = await open(file, 'r');
   try {
@@ -152,7 +185,13 @@ export async function readNpy(file: string): Promise<NpyArray> {
   }
 }
 
-/** Read only the header of a .npy file. */
+/**
+ * Read only the header of a .npy file.
+ * @example
+ * const file = join(mkdtempSync(join(tmpdir(), 'pw-')), 'x.npy');
+ * writeFileSync(file, encodeNpy({ dtype: 'float64', shape: [3], data: Float64Array.of(1, 2, 3) }));
+ * await readNpyHeader(file) // { version: [1, 0], descr: '<f8', fortranOrder: false, shape: [3], dataOffset: 128, fileBytes: 152 }
+ */
 export async function readNpyHeader(file: string): Promise<NpyHeaderInfo & { fileBytes: number }> {
   const h = await open(file, 'r');
   try {
@@ -168,6 +207,15 @@ export async function readNpyHeader(file: string): Promise<NpyHeaderInfo & { fil
 /**
  * A DatasetSink writing one .npy: the streamed tensor. NPY holds a single array, so the other
  * named arrays and the attributes are handed to `onSideData` (the caller writes a side file).
+ * @example
+ * const path = join(mkdtempSync(join(tmpdir(), 'pw-')), 'H.npy');
+ * const sink = await NpySink.open(path);
+ * await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [1, 2], units: '1' });
+ * await sink.writeRows(Float32Array.of(1, 0, 0, 1));
+ * await sink.addArray({ name: 'gains', dtype: 'float64', shape: [1], data: Float64Array.of(1), units: '1' });
+ * await sink.commit() // 144
+ * sink.sideArrays.map((a) => a.name) // ['gains']: left for a side file
+ * (await readNpy(path)).data // Float32Array [1, 0, 0, 1]
  */
 export class NpySink implements DatasetSink {
   private header: StreamedArrayHeader | undefined;
