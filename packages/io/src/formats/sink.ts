@@ -8,13 +8,22 @@
  * Data are row-major; complex dtypes are interleaved re/im (numpy's complex64/complex128 bytes).
  */
 
-/** Element types the formats carry. */
+/**
+ * Element types the formats carry.
+ * @example const dtype: DType = 'complex64'; // numpy <c8
+ */
 export type DType = 'complex64' | 'complex128' | 'float32' | 'float64' | 'int32' | 'uint8' | 'int64' | 'string';
 
-/** A typed array holding data of a DType (complex: interleaved; string: see `strings`). */
+/**
+ * A typed array holding data of a DType (complex: interleaved; string: see `strings`).
+ * @example const ids: ArrayData = BigInt64Array.of(7n, 9n); // dtype int64
+ */
 export type ArrayData = Float32Array | Float64Array | Int32Array | Uint8Array | BigInt64Array;
 
-/** A named array held in memory. */
+/**
+ * A named array held in memory.
+ * @example const delays: NamedArray = { name: 'paths/delayS', dtype: 'float64', shape: [2], data: Float64Array.of(3.3e-8, 5.1e-8), units: 's' };
+ */
 export interface NamedArray {
   /** Name in the container; "/" separates groups ("paths/delayS"). */
   name: string;
@@ -28,10 +37,16 @@ export interface NamedArray {
   units: string;
 }
 
-/** A root attribute with an explicit dtype (never inferred: see DEVELOPERS.md). */
+/**
+ * A root attribute with an explicit dtype (never inferred: see DEVELOPERS.md).
+ * @example const attributes: Attribute[] = [{ name: 'seed', dtype: 'int64', value: 42 }, { name: 'domain', dtype: 'string', value: 'frequency' }];
+ */
 export type Attribute = { name: string; dtype: 'string'; value: string } | { name: string; dtype: 'float64' | 'int64' | 'int32'; value: number };
 
-/** The streamed main tensor's description. */
+/**
+ * The streamed main tensor's description.
+ * @example const header: StreamedArrayHeader = { name: 'H', dtype: 'complex64', shape: [100, 64, 4, 8], units: '1', chunkRows: 10, deflate: 0 };
+ */
 export interface StreamedArrayHeader {
   name: string;
   dtype: 'complex64' | 'complex128';
@@ -44,7 +59,16 @@ export interface StreamedArrayHeader {
   deflate?: number;
 }
 
-/** An open output file. */
+/**
+ * An open output file.
+ * @example
+ * const path = join(mkdtempSync(join(tmpdir(), 'pw-')), 'H.npy');
+ * const sink: DatasetSink = await NpySink.open(path);
+ * await sink.beginTensor({ name: 'H', dtype: 'complex64', shape: [1, 2], units: '1' });
+ * await sink.writeRows(Float32Array.of(1, 0, 0, 1));
+ * await sink.commit() // 144
+ * (await readNpy(path)).data // Float32Array [1, 0, 0, 1]
+ */
 export interface DatasetSink {
   /** Start the streamed tensor; must be called once, before writeRows. */
   beginTensor(header: StreamedArrayHeader): Promise<void>;
