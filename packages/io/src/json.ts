@@ -4,7 +4,13 @@
  * scenario files). Nesting is limited so hostile input cannot exhaust the stack.
  */
 
-/** A JSON syntax problem with its 1-based line and column. */
+/**
+ * A JSON syntax problem with its 1-based line and column.
+ * @example
+ * let problem: unknown;
+ * try { parseJson('{"a": 1,\n}'); } catch (e) { problem = e; }
+ * problem instanceof JsonSyntaxError && [problem.line, problem.column, problem.message] // [2, 1, "expected a key in double quotes but found '}' at line 2, column 1"]
+ */
 export class JsonSyntaxError extends Error {
   constructor(
     message: string,
@@ -16,7 +22,10 @@ export class JsonSyntaxError extends Error {
   }
 }
 
-/** Deepest nesting of arrays and objects accepted. */
+/**
+ * Deepest nesting of arrays and objects accepted.
+ * @example parseJson('['.repeat(MAX_JSON_DEPTH + 1) + ']'.repeat(MAX_JSON_DEPTH + 1)) // throws JsonSyntaxError "nesting deeper than 64 levels at line 1, column 65"
+ */
 export const MAX_JSON_DEPTH = 64;
 
 /**
