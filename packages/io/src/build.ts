@@ -43,10 +43,24 @@ import {
 import type { ArrayConfig, ClusterConfig, PathConfig, Scenario, TerminalConfig } from './schema.js';
 import { ScenarioError } from './validate.js';
 
-/** Output domain of a run. */
+/**
+ * Output domain of a run.
+ * @example const domain: Domain = 'taps'; // tap-delay output, [S, count, Nr, Nt]
+ */
 export type Domain = 'frequency' | 'taps';
 
-/** A path as listed by `pathweave paths` and stored in the path table. */
+/**
+ * A path as listed by `pathweave paths` and stored in the path table.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * const [record]: PathRecord[] = buildScenario(scenario).paths;
+ * record // { id: 'paths[0]', kind: 'explicit', delayS: 1.7e-7, powerDb: -90, phaseDeg: 0, aodDeg: [0, -10], aoaDeg: [180, 10], dopplerHz: 0, maxDopplerHz: undefined }
+ */
 export interface PathRecord {
   id: string;
   kind: string;
@@ -64,7 +78,18 @@ export interface PathRecord {
   blockageDb?: number;
 }
 
-/** One user's channel: its receiver, generator and paths. */
+/**
+ * One user's channel: its receiver, generator and paths.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * const [user]: UserChannel[] = buildScenario(scenario).users;
+ * [user!.id, user!.generator.shape, user!.paths.length] // ['', [10, 64, 2, 4], 1]: a lone receiver without id
+ */
 export interface UserChannel {
   /** The user's identity: its `id`, else its index in `receivers` ("" for a lone `receiver` without id). */
   id: string;
@@ -78,7 +103,18 @@ export interface UserChannel {
   spec: ChannelSpec;
 }
 
-/** A scenario made ready to generate. */
+/**
+ * A scenario made ready to generate.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * const built: BuiltScenario = buildScenario(scenario);
+ * [built.domain, built.multiUser, built.shape, built.valuesPerSubframe] // ['frequency', false, [10, 64, 2, 4], 512]
+ */
 export interface BuiltScenario {
   scenario: Scenario;
   domain: Domain;
@@ -96,7 +132,10 @@ export interface BuiltScenario {
   warnings: string[];
 }
 
-/** Vector of a 2- or 3-component point (z = 0 for 2-D). */
+/**
+ * Vector of a 2- or 3-component point (z = 0 for 2-D).
+ * @example vec3Of([4, 5]) // [4, 5, 0]
+ */
 export function vec3Of(p: readonly number[] | undefined): Vec3 {
   if (p === undefined) return [0, 0, 0];
   return [p[0] ?? 0, p[1] ?? 0, p[2] ?? 0];
@@ -108,7 +147,10 @@ function patternOf(element: ArrayConfig['element']): ElementPattern {
   return tabulatedPattern(element.table.azimuthsDeg, element.table.elevationsDeg, element.table.gainsDbi);
 }
 
-/** Build the array of a scenario terminal at the given carrier. */
+/**
+ * Build the array of a scenario terminal at the given carrier.
+ * @example buildArray({ kind: 'ula', elements: 2 }, 30e9).localOffsets // Float64Array [0, -0.002498, 0, 0, 0.002498, 0]: half a wavelength (4.997 mm at 30 GHz) apart
+ */
 export function buildArray(config: ArrayConfig, carrierHz: number): AntennaArray {
   const spacingM = (config.spacingWavelengths ?? 0.5) * wavelength(carrierHz);
   const pattern = patternOf(config.element);
@@ -123,7 +165,10 @@ export function buildArray(config: ArrayConfig, carrierHz: number): AntennaArray
   }
 }
 
-/** Number of elements of an array description without building it. */
+/**
+ * Number of elements of an array description without building it.
+ * @example elementCount({ kind: 'upa', rows: 4, columns: 8, dualPolarized: 'vh' }) // 32: ports are counted by portCount
+ */
 export function elementCount(config: ArrayConfig): number {
   if (config.kind === 'ula') return config.elements ?? 0;
   if (config.kind === 'upa') return (config.rows ?? 0) * (config.columns ?? 0);
@@ -138,7 +183,18 @@ export function portCount(config: ArrayConfig): number {
   return elementCount(config) * (config.dualPolarized !== undefined ? 2 : 1);
 }
 
-/** True when a scenario needs the polarised-port assembly (a dual-polarised array or an XPR). */
+/**
+ * True when a scenario needs the polarised-port assembly (a dual-polarised array or an XPR).
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * usesPorts(scenario) // false
+ * usesPorts({ ...scenario, fading: { model: 'ar', xprDb: 9 } }) // true
+ */
 export function usesPorts(scenario: Scenario): boolean {
   const arrays = [scenario.transmitter, ...(scenario.receivers ?? []), ...(scenario.receiver !== undefined ? [scenario.receiver] : [])].map((t) => t.array);
   return scenario.fading.xprDb !== undefined || arrays.some((a) => a.dualPolarized !== undefined);
@@ -193,7 +249,10 @@ function clusteredRecords(timeline: ClusteredTimeline, parents: PathRecord[]): P
   });
 }
 
-/** The motion of a terminal: constant velocity or its trajectory. */
+/**
+ * The motion of a terminal: constant velocity or its trajectory.
+ * @example motionOf({ position: [0, 0], velocity: [1, 2], array: { kind: 'ula', elements: 1 } }).positionAt(3) // [3, 6, 0]
+ */
 export function motionOf(t: TerminalConfig): Motion {
   const trajectory = t.trajectory?.map((w) => ({ t: w.t, position: vec3Of(w.position), orientation: w.orientation }));
   return new Motion(vec3Of(trajectory?.[0]?.position ?? t.position), vec3Of(t.velocity), trajectory, t.array.orientation ?? {});
@@ -212,7 +271,10 @@ function buildTerminal(t: TerminalConfig, carrierHz: number): Terminal {
   };
 }
 
-/** The stable id of explicit path i: its own `id`, else its place in the list. */
+/**
+ * The stable id of explicit path i: its own `id`, else its place in the list.
+ * @example explicitPathId({ aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 0, powerDb: -80 }, 2) // "paths[2]"
+ */
 export function explicitPathId(p: PathConfig, index: number): string {
   return p.id ?? `paths[${index}]`;
 }
@@ -238,7 +300,10 @@ function explicitPaths(scenario: Scenario): { paths: ExplicitPath[]; records: Pa
   return { paths, records };
 }
 
-/** A traced path as a record (angles in degrees, phase = arg(rho) with carrier and reflection phases). */
+/**
+ * A traced path as a record (angles in degrees, phase = arg(rho) with carrier and reflection phases).
+ * @example recordOfTraced(traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!) // { id: 'los', kind: 'los', delayS: 3.3356e-8, powerDb: -81.391, phaseDeg: 7.392, aodDeg: [0, 0], aoaDeg: [180, 0], dopplerHz: 0, lengthM: 10, aodLocalDeg: [0, 0], aoaLocalDeg: [180, 0], interactions: [], blockageDb: 0 }
+ */
 export function recordOfTraced(p: TracedPath): PathRecord {
   return {
     id: p.id,
@@ -257,14 +322,36 @@ export function recordOfTraced(p: TracedPath): PathRecord {
   };
 }
 
-/** Choose the output domain: the only one given, or `prefer` when the scenario has both. */
+/**
+ * Choose the output domain: the only one given, or `prefer` when the scenario has both.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * chooseDomain(scenario) // "frequency"
+ * chooseDomain({ ...scenario, taps: { sampleRateHz: 1e9, count: 16 } }, 'taps') // "taps"
+ */
 export function chooseDomain(scenario: Scenario, prefer?: Domain): Domain {
   if (prefer === 'taps' && scenario.taps === undefined) throw new ScenarioError([{ path: 'taps', message: 'is required for tap-delay output (--domain taps)' }]);
   if (prefer === 'frequency' && scenario.band === undefined) throw new ScenarioError([{ path: 'band', message: 'is required for frequency-domain output (--domain frequency)' }]);
   return prefer ?? (scenario.band !== undefined ? 'frequency' : 'taps');
 }
 
-/** The receivers of a scenario with their identities. */
+/**
+ * The receivers of a scenario with their identities.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * const { receiver, ...common } = scenario;
+ * receiversOf({ ...common, receivers: [receiver!, { ...receiver!, id: 'ue-b' }] }).map((r) => [r.id, r.streamKey]) // [['0', '0'], ['ue-b', 'ue-b']]: ids (and stream keys) from id, else the index
+ */
 export function receiversOf(scenario: Scenario): { id: string; config: TerminalConfig; streamKey: string | undefined }[] {
   if (scenario.receivers !== undefined) {
     return scenario.receivers.map((r, i) => ({ id: r.id ?? String(i), config: r, streamKey: r.id ?? String(i) }));
@@ -273,7 +360,18 @@ export function receiversOf(scenario: Scenario): { id: string; config: TerminalC
   return [{ id: r.id ?? '', config: r, streamKey: r.id }];
 }
 
-/** Symbol timing of a scenario (undefined: one step per subframe, no symbol axis). */
+/**
+ * Symbol timing of a scenario (undefined: one step per subframe, no symbol axis).
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * symbolTimingOf(scenario) // undefined
+ * symbolTimingOf({ ...scenario, timing: { subframeS: 1e-3, subframes: 10, symbolsPerSubframe: 14 } })!.perSubframe // 14
+ */
 export function symbolTimingOf(scenario: Scenario): SymbolTiming | undefined {
   const t = scenario.timing;
   if (t.numerology !== undefined) {
@@ -284,7 +382,18 @@ export function symbolTimingOf(scenario: Scenario): SymbolTiming | undefined {
   return undefined;
 }
 
-/** Subcarrier spacing: band.spacingHz, or 15 kHz 2^mu from the numerology. */
+/**
+ * Subcarrier spacing: band.spacingHz, or 15 kHz 2^mu from the numerology.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * spacingOf(scenario) // 120000
+ * spacingOf({ ...scenario, band: { subcarriers: 64 }, timing: { subframeS: 1e-3, subframes: 10, numerology: 3 } }) // 120000 (15 kHz * 2^3)
+ */
 export function spacingOf(scenario: Scenario): number {
   const band = scenario.band!;
   if (band.spacingHz !== undefined) return band.spacingHz;
@@ -306,7 +415,18 @@ function fadingOf(f: Scenario['fading']): FadingSpec {
   }
 }
 
-/** The geometry's scene from the scenario's `scene` object. */
+/**
+ * The geometry's scene from the scenario's `scene` object.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * const { paths, ...traced } = scenario;
+ * sceneOf({ ...traced, scene: { walls: [{ vertices: [[0, 20], [80, 20]] }], atmosphere: { method: 'p676-13-line-by-line' } } }).gasAttenuationDbPerKm // 0.1018: ITU-R P.676 at 28 GHz, sea level
+ */
 export function sceneOf(scenario: Scenario): Scene {
   const { atmosphere, ...scene } = scenario.scene!;
   if (atmosphere === undefined) return scene as unknown as Scene;
@@ -315,7 +435,17 @@ export function sceneOf(scenario: Scenario): Scene {
   return { ...(scene as unknown as Scene), gasAttenuationDbPerKm: gas.totalDbPerKm };
 }
 
-/** Build the generators of a validated scenario. */
+/**
+ * Build the generators of a validated scenario.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * buildScenario(scenario, { domain: 'frequency' }).generator.shape // [10, 64, 2, 4]: [S, K, Nr, Nt]
+ */
 export function buildScenario(scenario: Scenario, options: { domain?: Domain; seed?: number } = {}): BuiltScenario {
   const domain = chooseDomain(scenario, options.domain);
   const carrierHz = scenario.carrierHz;
@@ -424,7 +554,17 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
   };
 }
 
-/** Tensor shape and size of a scenario, computed without building anything. */
+/**
+ * Tensor shape and size of a scenario, computed without building anything.
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
+ *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * };
+ * outputEstimate(scenario, 'frequency') // { shape: [10, 64, 2, 4], bytes: 40960, bytesPerSubframe: 4096 }: complex64
+ */
 export function outputEstimate(scenario: Scenario, domain: Domain, subframes = scenario.timing.subframes): { shape: number[]; bytes: number; bytesPerSubframe: number } {
   const receivers = scenario.receivers ?? (scenario.receiver !== undefined ? [scenario.receiver] : []);
   const nr = receivers.length === 0 ? 0 : portCount(receivers[0]!.array);
