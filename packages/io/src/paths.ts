@@ -1,7 +1,10 @@
 /** Printing path lists: a readable table, and the explicit-path JSON form of design.md. */
 import type { PathRecord } from './build.js';
 
-/** A path in the explicit `paths` form of design.md, plus descriptive fields. */
+/**
+ * A path in the explicit `paths` form of design.md, plus descriptive fields.
+ * @example const los: ExplicitPathJson = { id: 'los', kind: 'los', aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 3.3e-8, powerDb: -81.4, phaseDeg: 12, dopplerHz: 0 };
+ */
 export interface ExplicitPathJson {
   id: string;
   kind: string;
@@ -19,7 +22,10 @@ export interface ExplicitPathJson {
   blockageDb?: number;
 }
 
-/** The paths as the JSON array `pathweave paths --json` prints. */
+/**
+ * The paths as the JSON array `pathweave paths --json` prints.
+ * @example pathsJson([recordOfTraced(traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!)]) // [{ id: 'los', kind: 'los', aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 3.3356e-8, powerDb: -81.391, phaseDeg: 7.392, dopplerHz: 0, interactions: [], lengthM: 10, aodLocalDeg: [0, 0], aoaLocalDeg: [180, 0], blockageDb: 0 }]
+ */
 export function pathsJson(paths: readonly PathRecord[]): ExplicitPathJson[] {
   return paths.map((p) => ({
     id: p.id,
@@ -38,7 +44,10 @@ export function pathsJson(paths: readonly PathRecord[]): ExplicitPathJson[] {
   }));
 }
 
-/** A fixed-width table of paths (delay in ns, length in m, power in dB, angles in degrees). */
+/**
+ * A fixed-width table of paths (delay in ns, length in m, power in dB, angles in degrees).
+ * @example pathsTable([recordOfTraced(traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!)]) // "#  kind  interactions  delay ns  length m  power dB  AoD az ..." then "0  los   direct  33.356  10.000  -81.39  0.00  0.00  180.00  0.00  0.00" (padded columns)
+ */
 export function pathsTable(paths: readonly PathRecord[]): string {
   const header = ['#', 'kind', 'interactions', 'delay ns', 'length m', 'power dB', 'AoD az', 'AoD el', 'AoA az', 'AoA el', 'Doppler Hz'];
   const rows = paths.map((p, i) => [
