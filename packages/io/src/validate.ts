@@ -9,7 +9,10 @@ import { validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
 import { scenarioSchema, type Scenario } from './schema.js';
 
-/** One problem of a scenario. */
+/**
+ * One problem of a scenario.
+ * @example const problem: Problem = { path: 'receiver.array.spacingWavelengths', message: 'must be > 0, got -0.5' };
+ */
 export interface Problem {
   /** Dotted path, e.g. "transmitter.array.rows" or "paths[2].delayS" ("" for the document). */
   path: string;
@@ -17,10 +20,18 @@ export interface Problem {
   message: string;
 }
 
-/** Result of `safeParseScenario`. */
+/**
+ * Result of `safeParseScenario`.
+ * @example
+ * const result: ScenarioResult = safeParseScenario({ carrierHz: 28e9 });
+ * result.ok ? result.warnings : result.problems.slice(0, 2) // [{ path: 'timing', message: 'is required (object)' }, { path: 'transmitter', message: 'is required (object)' }]
+ */
 export type ScenarioResult = { ok: true; scenario: Scenario; warnings: string[] } | { ok: false; problems: Problem[] };
 
-/** Thrown by `parseScenario` and `loadScenario`; carries every problem. */
+/**
+ * Thrown by `parseScenario` and `loadScenario`; carries every problem.
+ * @example new ScenarioError([{ path: 'seed', message: 'must be an integer >= 0, got -1' }], 'run.json').message // "run.json: 1 problem\nseed: must be an integer >= 0, got -1"
+ */
 export class ScenarioError extends Error {
   constructor(
     readonly problems: Problem[],
@@ -31,12 +42,18 @@ export class ScenarioError extends Error {
   }
 }
 
-/** "path: message" (or just the message for the document itself). */
+/**
+ * "path: message" (or just the message for the document itself).
+ * @example formatProblem({ path: 'paths[2].delayS', message: 'must be >= 0, got -1e-9' }) // "paths[2].delayS: must be >= 0, got -1e-9"
+ */
 export function formatProblem(p: Problem): string {
   return p.path === '' ? p.message : `${p.path}: ${p.message}`;
 }
 
-/** Dotted path from zod's path segments: a.b[2].c */
+/**
+ * Dotted path from zod's path segments: a.b[2].c
+ * @example dottedPath(['scene', 'walls', 2, 'vertices', 0]) // "scene.walls[2].vertices[0]"
+ */
 export function dottedPath(segments: readonly PropertyKey[]): string {
   let out = '';
   for (const s of segments) {
@@ -46,7 +63,10 @@ export function dottedPath(segments: readonly PropertyKey[]): string {
   return out;
 }
 
-/** A short rendering of a value for messages. */
+/**
+ * A short rendering of a value for messages.
+ * @example [describeValue(undefined), describeValue('x'), describeValue([1, 2]), describeValue({ a: 1 })] // ['nothing', '"x"', '[1,2]', 'an object']
+ */
 export function describeValue(v: unknown): string {
   if (v === undefined) return 'nothing';
   if (typeof v === 'string') return JSON.stringify(v.length > 60 ? `${v.slice(0, 57)}...` : v);
@@ -326,11 +346,17 @@ function terminalPoint(t: Scenario['transmitter']): [number, number, number] {
   return [p[0]!, p[1]!, p[2] ?? 0];
 }
 
-/** Hooks a later stage (the scene tracer, fading models) can add checks through. */
+/**
+ * Hooks a later stage (the scene tracer, fading models) can add checks through.
+ * @example const seedNotZero: ScenarioCheck = (scenario) => ({ problems: scenario.seed === 0 ? [{ path: 'seed', message: 'must not be 0 here, got 0' }] : [], warnings: [] });
+ */
 export type ScenarioCheck = (scenario: Scenario) => { problems: Problem[]; warnings: string[] };
 const extraChecks: ScenarioCheck[] = [];
 
-/** Register an extra semantic check run after the schema and the cross-field checks pass. */
+/**
+ * Register an extra semantic check run after the schema and the cross-field checks pass.
+ * @example registerScenarioCheck((s) => ({ problems: [], warnings: s.name === undefined ? ['the scenario has no name'] : [] })) // undefined; every later safeParseScenario runs the check
+ */
 export function registerScenarioCheck(check: ScenarioCheck): void {
   extraChecks.push(check);
 }
@@ -371,7 +397,10 @@ function dedupe(problems: Problem[]): Problem[] {
   });
 }
 
-/** Parse scenario text (JSON); throws ScenarioError with every problem. */
+/**
+ * Parse scenario text (JSON); throws ScenarioError with every problem.
+ * @example parseScenarioText('{"carrierHz": 28e9,}') // throws ScenarioError "scenario: 1 problem\nnot valid JSON: expected a key in double quotes but found '}' at line 1, column 20"
+ */
 export function parseScenarioText(text: string, source = 'scenario'): { scenario: Scenario; warnings: string[] } {
   let json: unknown;
   try {
@@ -385,7 +414,10 @@ export function parseScenarioText(text: string, source = 'scenario'): { scenario
   return { scenario: r.scenario, warnings: r.warnings };
 }
 
-/** Read and validate a scenario file; throws ScenarioError (also for an unreadable file). */
+/**
+ * Read and validate a scenario file; throws ScenarioError (also for an unreadable file).
+ * @example await loadScenario('/nonexistent/run.json') // throws ScenarioError "/nonexistent/run.json: 1 problem\ncannot read the file: ENOENT"
+ */
 export async function loadScenario(file: string): Promise<{ scenario: Scenario; warnings: string[]; text: string }> {
   let text: string;
   try {
