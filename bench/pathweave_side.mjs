@@ -4,14 +4,15 @@
  *
  * usage: node bench/pathweave_side.mjs <workload.json> memory|e2e|tracer|rawdisk <workers> [out]
  *   memory:  the fill loop over all subframes into reused block buffers (after a one-subframe
- *            warm-up); with workers > 1 the blocks go to the worker pool of `generate`
+ *            warm-up; the buffers come from allocateKernelArray, as in `generate`); with
+ *            workers > 1 the blocks go to the worker pool of `generate`
  *   e2e:     generate() to `out` (.npy, .npz), everything included
  *   tracer:  traceScene on the 20-wall room at order 2, receiver moved a little per trace
  *   rawdisk: write `bytes` (workload.rawBytes) to `out` in 16 MiB writes, then fsync
  * Prints one JSON line.
  */
 import { openSync, readFileSync, writeSync, fsyncSync, closeSync, unlinkSync } from 'node:fs';
-import { KERNEL_NAME } from '@pathweave/core';
+import { allocateKernelArray, KERNEL_NAME } from '@pathweave/core';
 import { traceScene, prepareScene } from '@pathweave/geometry';
 import { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } from '@pathweave/io';
 import { BlockPool } from '../packages/io/dist/workers/pool.js';
@@ -58,7 +59,7 @@ if (mode === 'tracer') {
     const Tensor = Float32Array;
     let seconds;
     if (workers === 1) {
-      const buffer = new Tensor(2 * block * perSubframe);
+      const buffer = allocateKernelArray(2 * block * perSubframe, Tensor); // as generate() allocates its block buffers
       fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up
       const t0 = performance.now();
       for (let s = 0; s < S; s += block) {

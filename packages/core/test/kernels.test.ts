@@ -7,12 +7,13 @@
  * the contract. The f64 kernel differs from the plain one only by the order of two additions
  * per term, a few ulps: 1e-13.
  */
-import { describe, expect, it } from 'vitest';
-import { accumulatePaths, accumulatePathsPlain, KERNEL_NAME, loadWasmKernel, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME, WASM_KERNEL_PATH } from '../src/kernels/index.js';
+import { describe, expect, it, vi } from 'vitest';
+import { accumulatePaths, accumulatePathsPlain, allocateKernelArray, KERNEL_NAME, loadWasmKernel, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME, WASM_KERNEL_PATH } from '../src/kernels/index.js';
 import { hasPython, pythonJson } from '../../../test/support/python.js';
 
 const loaded = loadWasmKernel();
 const wasm = loaded.kernel;
+const allocate = loaded.allocate;
 
 /** Deterministic pseudo-random values in [-1, 1) (a small LCG, so the test needs no seed source). */
 function values(n: number, seed: number): Float64Array {
@@ -102,6 +103,131 @@ describe.runIf(wasm !== undefined)('SIMD kernel against the plain kernel', () =>
     const out = new Float32Array(8).fill(3);
     wasm!(out, 0, new Float64Array(0), new Float64Array(0), 2, 0, 2);
     expect(Array.from(out)).toEqual(Array(8).fill(0));
+  });
+});
+
+/** Bit patterns of a float array (exact comparison, -0 and NaN included). */
+const bits = (a: Float32Array | Float64Array): Uint32Array => new Uint32Array(a.buffer, a.byteOffset, a.byteLength / 4);
+
+describe.runIf(wasm !== undefined)('SIMD kernel writing in place into its own memory (allocate)', () => {
+  // The same sweep as above, the output at an offset inside an allocated array: against the
+  // plain kernel, and bit for bit against the copying path (the same arithmetic per lane).
+  it.each(SIZES)('complex64: bins %i, L %i, M %i: plain within 1e-6, copying path bit for bit', (bins, L, M) => {
+    const w = values(2 * bins * L, 31 + bins + 100 * L), p = values(2 * L * M, 37 + M);
+    const off = 6; // not a multiple of 4 floats: unaligned vector stores
+    const plain = new Float32Array(2 * bins * M), copied = new Float32Array(2 * bins * M);
+    const inPlace = allocate!(off + 2 * bins * M + 2, Float32Array).fill(99);
+    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    wasm!(copied, 0, w, p, bins, L, M);
+    wasm!(inPlace, off, w, p, bins, L, M);
+    const mine = inPlace.subarray(off, off + 2 * bins * M);
+    expect(relativeFrobenius(mine, plain)).toBeLessThan(1e-6);
+    expect(bits(mine)).toEqual(bits(copied));
+    expect(Array.from(inPlace.subarray(0, off))).toEqual(Array(off).fill(99));
+    expect(Array.from(inPlace.subarray(off + 2 * bins * M))).toEqual([99, 99]);
+  });
+
+  it.each(SIZES.filter(([bins]) => bins !== 33))('complex128: bins %i, L %i, M %i: plain within 1e-13, copying path bit for bit', (bins, L, M) => {
+    const w = values(2 * bins * L, 41 + bins + 100 * L), p = values(2 * L * M, 43 + M);
+    const plain = new Float64Array(2 * bins * M), copied = new Float64Array(2 * bins * M);
+    const inPlace = allocate!(2 + 2 * bins * M, Float64Array);
+    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    wasm!(copied, 0, w, p, bins, L, M);
+    wasm!(inPlace, 2, w, p, bins, L, M);
+    expect(relativeFrobenius(inPlace.subarray(2), plain)).toBeLessThan(1e-13);
+    expect(bits(inPlace.subarray(2))).toEqual(bits(copied));
+  });
+
+  it('gives each bin the same bits whichever bins a call covers (bins paired differently, odd last bin)', () => {
+    const bins = 70, L = 8, M = 1030; // M not a multiple of 4: tail columns too
+    const w = values(2 * bins * L, 52), p = values(2 * L * M, 53);
+    const whole = allocate!(2 * bins * M, Float32Array);
+    wasm!(whole, 0, w, p, bins, L, M);
+    for (const [k0, n] of [[61, 5], [0, 1], [69, 1], [3, 64]] as const) {
+      const part = allocate!(2 * n * M, Float32Array);
+      wasm!(part, 0, w.subarray(2 * k0 * L, 2 * (k0 + n) * L), p, n, L, M);
+      expect(bits(part), `bins ${k0}..${k0 + n - 1}`).toEqual(bits(whole.subarray(2 * k0 * M, 2 * (k0 + n) * M)));
+    }
+  });
+
+  it('sees products changed in place between calls (nothing stale is cached)', () => {
+    const bins = 4, L = 3, M = 9;
+    const w = values(2 * bins * L, 58), p = values(2 * L * M, 59);
+    const fast = allocate!(2 * bins * M, Float32Array), plain = new Float32Array(2 * bins * M);
+    wasm!(fast, 0, w, p, bins, L, M);
+    p.set(values(p.length, 60));
+    wasm!(fast, 0, w, p, bins, L, M);
+    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+  });
+
+  it('rounds products and weights to float32 as a Float32Array store does, and turns Q by +90 degrees', () => {
+    // With w = 1 the sum is 0 + (1 P + 0 Q) = P exactly; with w = j it is Q = (-im, re); with
+    // P = 1 it is the weight itself: the kernel's float32 inputs, bit for bit.
+    const M = 7, p = values(2 * M, 61).map((x) => x * 1e3 + 1 / 3);
+    const out = allocate!(2 * M, Float32Array);
+    wasm!(out, 0, Float64Array.of(1, 0), p, 1, 1, M);
+    expect(bits(out)).toEqual(bits(Float32Array.from(p)));
+    wasm!(out, 0, Float64Array.of(0, 1), p, 1, 1, M);
+    const turned = new Float32Array(2 * M);
+    for (let m = 0; m < M; m++) {
+      turned[2 * m] = -Math.fround(p[2 * m + 1]!);
+      turned[2 * m + 1] = Math.fround(p[2 * m]!);
+    }
+    expect(bits(out)).toEqual(bits(turned));
+    const w = values(2 * 3, 62).map((x) => x / 7); // 6 weights: a SIMD group of 4 and a tail of 2
+    const out3 = allocate!(2 * 3, Float32Array);
+    wasm!(out3, 0, w, Float64Array.of(1, 0), 3, 1, 1);
+    expect(bits(out3)).toEqual(bits(Float32Array.from(w)));
+  });
+
+  it('falls back to the copying path when a call needs more workspace than an allocated array reserves', () => {
+    const bins = 3, L = 33, M = 20000; // products alone 10 MiB as float64, over the 4 MiB reserved
+    const w = values(2 * bins * L, 63), p = values(2 * L * M, 64);
+    const fast = allocate!(2 * bins * M, Float32Array), copied = new Float32Array(2 * bins * M), plain = new Float32Array(2 * bins * M);
+    wasm!(fast, 0, w, p, bins, L, M);
+    wasm!(copied, 0, w, p, bins, L, M);
+    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    expect(fast.length).toBe(2 * bins * M); // the view was not detached by a memory grow
+    expect(bits(fast)).toEqual(bits(copied));
+    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+  });
+
+  it('hands out zeroed arrays of the asked type and length that do not overlap', () => {
+    const a = allocate!(1000, Float32Array), b = allocate!(1000, Float32Array), c = allocate!(3, Float64Array);
+    expect([a.length, b.length, c.length, a instanceof Float32Array, c instanceof Float64Array]).toEqual([1000, 1000, 3, true, true]);
+    expect(a.every((x) => x === 0) && b.every((x) => x === 0) && c.every((x) => x === 0)).toBe(true);
+    a.fill(5);
+    expect(b.every((x) => x === 0)).toBe(true);
+    expect(() => allocate!(-1, Float32Array)).toThrow(RangeError);
+  });
+});
+
+describe('allocateKernelArray', () => {
+  it('gives arrays the kernel in use fills like any other', () => {
+    const bins = 5, L = 3, M = 11;
+    const w = values(2 * bins * L, 71), p = values(2 * L * M, 72);
+    const out = allocateKernelArray(2 * bins * M, Float32Array), ref = new Float32Array(2 * bins * M);
+    accumulatePaths(out, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    accumulatePathsPlain(ref, 0, w, p, bins, L, M, new Float64Array(2 * M));
+    expect(relativeFrobenius(out, ref)).toBeLessThan(1e-6);
+    expect(() => allocateKernelArray(4, Int32Array as unknown as typeof Float32Array)).toThrow(TypeError);
+  });
+
+  it('gives ordinary typed arrays with the plain kernel (PATHWEAVE_KERNEL=js)', async () => {
+    vi.stubEnv('PATHWEAVE_KERNEL', 'js');
+    vi.resetModules();
+    try {
+      const js = await import('../src/kernels/index.js');
+      expect(js.KERNEL_NAME).toBe(PLAIN_KERNEL_NAME);
+      const a = js.allocateKernelArray(6, Float64Array);
+      expect([a.length, a.buffer.byteLength, a instanceof Float64Array]).toEqual([6, 48, true]);
+      js.accumulatePaths(a, 0, Float64Array.of(0, 1, 2, 0, 1, 1), Float64Array.of(2, 0), 3, 1, 1, new Float64Array(2));
+      expect(Array.from(a)).toEqual([0, 2, 4, 0, 2, 2]); // j 2, 2 2, (1 + j) 2
+    } finally {
+      vi.unstubAllEnvs();
+      vi.resetModules();
+    }
   });
 });
 

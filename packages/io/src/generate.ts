@@ -8,7 +8,7 @@
  */
 import { createHash } from 'node:crypto';
 import { totalmem } from 'node:os';
-import { KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
+import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
 import { writeFileAtomic } from './atomic.js';
 import { buildScenario, chooseDomain, outputEstimate, spacingOf, type BuiltScenario, type Domain } from './build.js';
@@ -161,7 +161,8 @@ export async function generate(scenario: Scenario, scenarioText: string, options
       pendingWrite.catch(() => undefined); // awaited before the next write and at the end
     };
     if (workers === 1) {
-      const buffers = [new Tensor(values), ...(blocks > 1 ? [new Tensor(values)] : [])];
+      // Block buffers the kernel writes in place (WebAssembly memory with the SIMD kernel: no copy per chunk).
+      const buffers = [allocateKernelArray(values, Tensor), ...(blocks > 1 ? [allocateKernelArray(values, Tensor)] : [])];
       for (let s = first, b = 0; s < end; s += block, b++) {
         if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
         const n = Math.min(block, end - s);

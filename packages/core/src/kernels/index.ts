@@ -7,10 +7,10 @@
  * Layouts: see accumulate.ts (weights [bins, L], products [L, M], out [bins, M], complex interleaved).
  */
 import { accumulatePathsPlain, type KernelOut } from './accumulate.js';
-import { loadWasmKernel, type WasmKernelFunction } from './wasm.js';
+import { loadWasmKernel, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
 export { accumulatePathsPlain, type KernelOut } from './accumulate.js';
-export { loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelFunction } from './wasm.js';
+export { loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
 /** Signature of an accumulate kernel (see accumulate.ts for the layouts). */
 export type AccumulateKernel = (
@@ -29,18 +29,21 @@ export const PLAIN_KERNEL_NAME = 'js-float64';
 /** Name of the SIMD kernel (float32 lanes for complex64 output, float64 lanes for complex128). */
 export const WASM_KERNEL_NAME = 'wasm-simd128';
 
-function choose(): { name: string; kernel: AccumulateKernel; reason: string } {
+/** Plain typed arrays, for the plain kernel (it writes any array equally fast). */
+const plainAllocate: WasmKernelAllocate = (length, type) => new type(length) as InstanceType<typeof type>;
+
+function choose(): { name: string; kernel: AccumulateKernel; allocate: WasmKernelAllocate; reason: string } {
   const forced = typeof process === 'object' ? process.env.PATHWEAVE_KERNEL : undefined;
-  if (forced === 'js') return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, reason: 'PATHWEAVE_KERNEL=js' };
-  let loaded: { kernel?: WasmKernelFunction; reason?: string };
+  if (forced === 'js') return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: 'PATHWEAVE_KERNEL=js' };
+  let loaded: { kernel?: WasmKernelFunction; allocate?: WasmKernelAllocate; reason?: string };
   try {
     loaded = loadWasmKernel();
   } catch (e) {
     loaded = { reason: `could not instantiate the SIMD kernel: ${(e as Error).message}` };
   }
   const wasm = loaded.kernel;
-  if (wasm === undefined) return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, reason: loaded.reason ?? 'unknown' };
-  return { name: WASM_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => wasm(out, offset, w, p, bins, L, M), reason: 'WebAssembly SIMD validates' };
+  if (wasm === undefined) return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: loaded.reason ?? 'unknown' };
+  return { name: WASM_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => wasm(out, offset, w, p, bins, L, M), allocate: loaded.allocate!, reason: 'WebAssembly SIMD validates' };
 }
 
 const chosen = choose();
@@ -65,3 +68,19 @@ export const KERNEL_REASON: string = chosen.reason;
  * out // Float32Array [0, 2]  (j * 2)
  */
 export const accumulatePaths: AccumulateKernel = chosen.kernel;
+
+/**
+ * A zeroed Float32Array or Float64Array of `length` values that `accumulatePaths` fills without
+ * an extra copy: with the SIMD kernel it lives in WebAssembly memory of its own (use it for
+ * large, reused output buffers such as a block of subframes; each call reserves a few MiB
+ * besides); with the plain kernel it is an ordinary typed array. Any other array works as
+ * `out` too, through a copy.
+ * @example
+ * const out = allocateKernelArray(4, Float32Array);
+ * accumulatePaths(out, 0, Float64Array.of(0, 1, 1, 0), Float64Array.of(2, 0), 2, 1, 1, new Float64Array(2));
+ * out // Float32Array [0, 2, 2, 0]  (j * 2, then 1 * 2)
+ */
+export function allocateKernelArray<T extends typeof Float32Array | typeof Float64Array>(length: number, type: T): InstanceType<T> {
+  if (type !== Float32Array && type !== Float64Array) throw new TypeError(`allocateKernelArray(): type must be Float32Array or Float64Array, got ${String(type)}`);
+  return chosen.allocate(length, type);
+}

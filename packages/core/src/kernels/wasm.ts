@@ -4,15 +4,21 @@
  * the plain one.
  *
  * Layouts (complex interleaved re/im, row-major), as in accumulate.ts:
- *   weights  [bins, L]  float64 in, rounded to the kernel's float type
- *   products [L, M]     float64 in, rounded likewise; with them the kernel's memory holds
+ *   weights  [bins, L]  float64 in, copied into the kernel's memory (and rounded to float32 there
+ *                       for complex64 output)
+ *   products [L, M]     float64 in, copied likewise; from them the kernel's memory holds P and
  *                       Q [L, M] = products turned by +90 degrees, (-im, re), so the inner loop
  *                       needs no shuffle
  *   out      [bins, M]  from `outOffset`; a Float32Array is accumulated in float32 lanes, a
  *                       Float64Array in float64 lanes (complex128 keeps double precision)
- * The products are converted on every call (2 L M values against 8 bins L M flops): nothing is
- * cached, so products that change in place between calls (moving geometry) are always seen.
- * Bins are processed in chunks of about CHUNK_BYTES of output and copied out while in cache.
+ * The products are copied and converted on every call (a memcpy of 16 L M bytes and one SIMD
+ * pass, against 8 bins L M flops): nothing is cached, so products that change in place between
+ * calls (moving geometry) are always seen.
+ *
+ * Output: an array from `allocate` lives in the WebAssembly memory of an instance of its own
+ * (grown once, never again, so the view stays valid); the kernel then writes all bins of a call
+ * straight into it. Any other array gets the output in chunks of about CHUNK_BYTES, computed in
+ * the shared instance's memory and copied out while in cache.
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
@@ -24,10 +30,12 @@ import type { KernelOut } from './accumulate.js';
  */
 export const WASM_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate.wasm', import.meta.url));
 
-/** Output bytes per kernel call: a chunk stays in L2 until it is copied out. */
+/** Output bytes per kernel call: a chunk stays in L2 while the column tiles sweep it (and, on the copying path, until it is copied out). */
 const CHUNK_BYTES = 128 * 1024;
-/** Bytes of P and Q columns kept hot in L1 per tile. */
-const TILE_BYTES = 24 * 1024;
+/** Bytes of P and Q columns kept hot in L1 per column tile (4-32 KiB measured on the bench machine: 16 best). */
+const TILE_BYTES = 16 * 1024;
+/** Workspace (products, Q, weights) reserved beside an allocated output array; calls needing more take the copying path. */
+const PINNED_WORKSPACE_BYTES = 4 * 2 ** 20;
 const PAGE = 65536;
 
 /** The part of the WebAssembly global this module uses (the ES2022 lib does not declare it). */
@@ -35,91 +43,168 @@ interface WasmMemory {
   readonly buffer: ArrayBuffer;
   grow(pages: number): number;
 }
+interface WasmModule {
+  readonly compiled: unknown;
+}
 interface WasmApi {
   validate(bytes: Uint8Array): boolean;
-  Module: new (bytes: Uint8Array) => object;
-  Instance: new (module: object, imports: object) => { exports: unknown };
+  Module: new (bytes: Uint8Array) => WasmModule;
+  Instance: new (module: WasmModule, imports: object) => { exports: unknown };
 }
 const wasmApi = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
 
 interface KernelExports {
   memory: WasmMemory;
+  prepareF32(p: number, q: number, src: number, n: number): void;
+  roundF32(dst: number, src: number, n: number): void;
+  turnF64(q: number, p: number, n: number): void;
   accumulateF32(out: number, w: number, p: number, q: number, bins: number, L: number, M: number, tile: number): void;
   accumulateF64(out: number, w: number, p: number, q: number, bins: number, L: number, M: number, tile: number): void;
 }
 
-/** The SIMD kernel instance of this thread, with its linear-memory workspace. */
-class WasmKernel {
-  private base: number;
-  private f32: Float32Array;
-  private f64: Float64Array;
+const align = (n: number): number => Math.ceil(n / 16) * 16;
 
-  constructor(private readonly exports: KernelExports) {
+/** Workspace bytes of one call: staged float64 products and weights, then P, Q and weights in the kernel's float type. */
+function workspaceBytes(bins: number, L: number, M: number, double: boolean): number {
+  const staged = align(16 * L * M) + align(16 * bins * L);
+  return double ? staged + align(16 * L * M) : staged + 2 * align(8 * L * M) + align(8 * bins * L);
+}
+
+/** One instance of the SIMD kernel with its linear-memory workspace at [base, base + workspace). */
+class WasmKernel {
+  private readonly base: number;
+  private f64: Float64Array;
+  private f32: Float32Array;
+
+  /** `fixedWorkspace`: the memory was sized once and must never grow (an allocated output array lives in it). */
+  constructor(
+    private readonly exports: KernelExports,
+    private readonly fixedWorkspace?: number,
+  ) {
     // Our buffers live in pages grown past the module's own (it has no static data, but stay clear).
     this.base = exports.memory.buffer.byteLength;
-    this.f32 = new Float32Array(exports.memory.buffer);
+    if (fixedWorkspace !== undefined) exports.memory.grow(Math.ceil(fixedWorkspace / PAGE));
     this.f64 = new Float64Array(exports.memory.buffer);
+    this.f32 = new Float32Array(exports.memory.buffer);
+  }
+
+  get memory(): WasmMemory {
+    return this.exports.memory;
+  }
+
+  /** Byte address where the fixed workspace ends (the start of an allocated array). */
+  get workspaceEnd(): number {
+    return this.base + (this.fixedWorkspace ?? 0);
+  }
+
+  /** Whether a call of this size fits the fixed workspace (always true for a growable one). */
+  fits(bins: number, L: number, M: number, double: boolean): boolean {
+    return this.fixedWorkspace === undefined || workspaceBytes(bins, L, M, double) <= this.fixedWorkspace;
   }
 
   private reserve(bytes: number): void {
     const need = this.base + bytes;
     const have = this.exports.memory.buffer.byteLength;
-    if (need > have) this.exports.memory.grow(Math.ceil((need - have) / PAGE));
-    if (this.f32.buffer !== this.exports.memory.buffer) {
-      this.f32 = new Float32Array(this.exports.memory.buffer);
+    if (need > have) {
+      if (this.fixedWorkspace !== undefined) throw new RangeError(`WasmKernel: workspace of ${bytes} bytes exceeds the fixed ${this.fixedWorkspace}`);
+      this.exports.memory.grow(Math.ceil((need - have) / PAGE));
+    }
+    if (this.f64.buffer !== this.exports.memory.buffer) {
       this.f64 = new Float64Array(this.exports.memory.buffer);
+      this.f32 = new Float32Array(this.exports.memory.buffer);
     }
   }
 
-  run(out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, L: number, M: number): void {
+  /**
+   * Stage weights and products and run the kernel. `target` is the byte address of out[outOffset]
+   * when out lives in this instance's memory, else undefined (chunks copied into `out`).
+   */
+  run(out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, L: number, M: number, target: number | undefined): void {
     const double = out instanceof Float64Array;
-    if (bins === 0 || M === 0) return;
-    if (L === 0) {
-      out.fill(0, outOffset, outOffset + 2 * bins * M);
+    const eb = double ? 16 : 8; // bytes per complex value
+    const chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
+    const stageP = this.base;
+    const stageW = stageP + align(16 * L * M);
+    let p: number, q: number, w: number, o: number;
+    if (double) {
+      p = stageP;
+      w = stageW;
+      q = stageW + align(16 * bins * L);
+      o = q + align(16 * L * M);
+    } else {
+      p = stageW + align(16 * bins * L);
+      q = p + align(8 * L * M);
+      w = q + align(8 * L * M);
+      o = w + align(8 * bins * L);
+    }
+    this.reserve(o - this.base + (target === undefined ? align(chunkBins * M * eb) : 0));
+    const f64 = this.f64;
+    f64.set(products.subarray(0, 2 * L * M), stageP / 8);
+    f64.set(weights.subarray(0, 2 * bins * L), stageW / 8);
+    const lanes = 4; // complex values per register block of the kernel (f32: 2 bins x 4, f64: 1 bin x 4)
+    const tile = Math.max(lanes, Math.floor(TILE_BYTES / (2 * L * eb * lanes)) * lanes); // P and Q columns of one tile fill about TILE_BYTES
+    if (double) {
+      this.exports.turnF64(q, p, L * M);
+    } else {
+      this.exports.prepareF32(p, q, stageP, L * M);
+      this.exports.roundF32(w, stageW, 2 * bins * L);
+    }
+    const kernel = double ? this.exports.accumulateF64 : this.exports.accumulateF32;
+    if (target !== undefined) {
+      // Straight into the caller's array, still chunk by chunk: a chunk's rows stay in L2 while
+      // the column tiles sweep over them (one pass over all bins thrashes the cache sets).
+      for (let k0 = 0; k0 < bins; k0 += chunkBins) kernel(target + k0 * M * eb, w + k0 * L * eb, p, q, Math.min(chunkBins, bins - k0), L, M, tile);
       return;
     }
-    const eb = double ? 16 : 8; // bytes per complex value
-    const align = (n: number): number => Math.ceil(n / 16) * 16;
-    const chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
-    const pBytes = align(L * M * eb);
-    const wBytes = align(bins * L * eb);
-    const oBytes = align(chunkBins * M * eb);
-    this.reserve(2 * pBytes + wBytes + oBytes);
-    const p = this.base, q = p + pBytes, w = q + pBytes, o = w + wBytes;
-    const lanes = double ? 4 : 8; // complex values per register block of the kernel
-    const tile = Math.max(lanes, Math.floor(TILE_BYTES / (2 * L * eb * lanes)) * lanes); // P and Q columns of one tile fill about TILE_BYTES
-    const view = double ? this.f64 : this.f32;
     const scale = double ? 8 : 4; // bytes per float
-    const p0 = p / scale, q0 = q / scale;
-    view.set(products.subarray(0, 2 * L * M), p0);
-    for (let i = 0; i < L * M; i++) {
-      view[q0 + 2 * i] = -view[p0 + 2 * i + 1]!;
-      view[q0 + 2 * i + 1] = view[p0 + 2 * i]!;
-    }
-    view.set(weights.subarray(0, 2 * bins * L), w / scale);
-    const kernel = double ? this.exports.accumulateF64 : this.exports.accumulateF32;
+    const view = double ? this.f64 : this.f32;
+    const o0 = o / scale;
     for (let k0 = 0; k0 < bins; k0 += chunkBins) {
       const n = Math.min(chunkBins, bins - k0);
       kernel(o, w + k0 * L * eb, p, q, n, L, M, tile);
-      out.set(view.subarray(o / scale, o / scale + 2 * n * M), outOffset + 2 * k0 * M);
+      out.set(view.subarray(o0, o0 + 2 * n * M), outOffset + 2 * k0 * M);
     }
   }
 }
 
+/** Output arrays handed out by `allocate`, by their buffer: the instance whose memory holds them. */
+const pinned = new WeakMap<ArrayBuffer, WasmKernel>();
+
 /**
- * Compile and instantiate the SIMD kernel, or say why it cannot be used here.
+ * Compile and instantiate the SIMD kernel, or say why it cannot be used here. `allocate` gives
+ * zeroed output arrays that the kernel writes without a copy.
  * @example loadWasmKernel().kernel !== undefined // true after setup on Node 20
  */
-export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: WasmKernelFunction; reason?: string } {
+export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: WasmKernelFunction; allocate?: WasmKernelAllocate; reason?: string } {
   const WebAssembly = wasmApi;
   if (WebAssembly === undefined) return { reason: 'no WebAssembly in this runtime' };
   if (!existsSync(path)) return { reason: `${path} is missing (run node scripts/setup.mjs)` };
   const bytes = readFileSync(path);
   if (!WebAssembly.validate(bytes)) return { reason: `${path} does not validate here (no 128-bit SIMD?)` };
-  const instance = new WebAssembly.Instance(new WebAssembly.Module(bytes), {});
-  const k = new WasmKernel(instance.exports as unknown as KernelExports);
-  const kernel: WasmKernelFunction = (out, outOffset, weights, products, bins, paths, elementPairs) => k.run(out, outOffset, weights, products, bins, paths, elementPairs);
-  return { kernel };
+  const module = new WebAssembly.Module(bytes);
+  const instantiate = (): KernelExports => new WebAssembly.Instance(module, {}).exports as unknown as KernelExports;
+  const shared = new WasmKernel(instantiate());
+  const kernel: WasmKernelFunction = (out, outOffset, weights, products, bins, paths, elementPairs) => {
+    if (bins === 0 || elementPairs === 0) return;
+    if (paths === 0) {
+      out.fill(0, outOffset, outOffset + 2 * bins * elementPairs);
+      return;
+    }
+    const own = pinned.get(out.buffer as ArrayBuffer);
+    if (own !== undefined && own.fits(bins, paths, elementPairs, out instanceof Float64Array)) {
+      own.run(out, outOffset, weights, products, bins, paths, elementPairs, out.byteOffset + outOffset * out.BYTES_PER_ELEMENT);
+    } else shared.run(out, outOffset, weights, products, bins, paths, elementPairs, undefined);
+  };
+  const allocate: WasmKernelAllocate = (length, type) => {
+    if (!Number.isInteger(length) || length < 0) throw new RangeError(`allocate(): length must be an integer >= 0, got ${length}`);
+    const k = new WasmKernel(instantiate(), PINNED_WORKSPACE_BYTES);
+    const start = k.workspaceEnd;
+    k.memory.grow(Math.ceil((length * type.BYTES_PER_ELEMENT) / PAGE));
+    const array = new type(k.memory.buffer, start, length) as InstanceType<typeof type>;
+    pinned.set(k.memory.buffer, k);
+    return array;
+  };
+  return { kernel, allocate };
 }
 
 /**
@@ -127,3 +212,9 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: Wasm
  * @example const k: WasmKernelFunction = loadWasmKernel().kernel!; k(out, 0, w, p, bins, L, M) // out[k, m] = sum_l w[k, l] p[l, m]
  */
 export type WasmKernelFunction = (out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, paths: number, elementPairs: number) => void;
+
+/**
+ * Allocates a zeroed output array in a kernel instance's own WebAssembly memory (written without a copy).
+ * @example const a = loadWasmKernel().allocate!(8, Float32Array); a.length // 8
+ */
+export type WasmKernelAllocate = <T extends typeof Float32Array | typeof Float64Array>(length: number, type: T) => InstanceType<T>;
