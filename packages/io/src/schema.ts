@@ -5,7 +5,10 @@
  */
 import { z } from 'zod';
 
-/** The scenario format this build writes and reads by default. */
+/**
+ * The scenario format this build writes and reads by default.
+ * @example CURRENT_FORMAT_VERSION // 1
+ */
 export const CURRENT_FORMAT_VERSION = 1;
 
 const finite = z.number();
@@ -21,12 +24,17 @@ const velocity = z.union([z.tuple([speedComponent, speedComponent, speedComponen
 const vector3 = z.tuple([coordinate, coordinate, coordinate]);
 const directionDeg = z.tuple([finite, finite]).describe('[azimuth, elevation] in degrees');
 
-/** Array orientation in degrees: R = Rz(yaw) Ry(pitch) Rx(roll). */
-export const orientationSchema = z.strictObject({
+const orientationDefinition = z.strictObject({
   yawDeg: finite.optional(),
   pitchDeg: finite.optional(),
   rollDeg: finite.optional(),
 });
+
+/**
+ * Array orientation in degrees: R = Rz(yaw) Ry(pitch) Rx(roll).
+ * @example orientationSchema.safeParse({ yawDeg: 90, tiltDeg: 5 }).success // false: unknown key tiltDeg
+ */
+export const orientationSchema: z.ZodType<z.output<typeof orientationDefinition>, z.input<typeof orientationDefinition>> = orientationDefinition;
 
 const elementTableSchema = z.strictObject({
   azimuthsDeg: z.array(finite).min(2),
@@ -34,11 +42,15 @@ const elementTableSchema = z.strictObject({
   gainsDbi: z.array(z.array(finite)).min(2),
 });
 
-/** Polarisation of an array's elements: a name, or a slant angle in degrees from vertical. */
-export const polarizationSchema = z.union([z.enum(['vertical', 'horizontal']), z.strictObject({ slantDeg: finite })]);
+const polarizationDefinition = z.union([z.enum(['vertical', 'horizontal']), z.strictObject({ slantDeg: finite })]);
 
-/** An antenna array (ULA along local +y, UPA in the local y-z plane, or custom positions). */
-export const arraySchema = z.strictObject({
+/**
+ * Polarisation of an array's elements: a name, or a slant angle in degrees from vertical.
+ * @example [polarizationSchema.safeParse({ slantDeg: 45 }).success, polarizationSchema.safeParse('circular').success] // [true, false]
+ */
+export const polarizationSchema: z.ZodType<z.output<typeof polarizationDefinition>, z.input<typeof polarizationDefinition>> = polarizationDefinition;
+
+const arrayDefinition = z.strictObject({
   kind: z.enum(['ula', 'upa', 'custom']),
   elements: count.max(65536).optional(),
   rows: count.max(4096).optional(),
@@ -53,10 +65,15 @@ export const arraySchema = z.strictObject({
   wavefront: z.enum(['plane', 'spherical', 'auto']).optional(),
 });
 
+/**
+ * An antenna array (ULA along local +y, UPA in the local y-z plane, or custom positions).
+ * @example arraySchema.parse({ kind: 'upa', rows: 4, columns: 8, dualPolarized: 'slant45' }) // { kind: 'upa', rows: 4, columns: 8, dualPolarized: 'slant45' }
+ */
+export const arraySchema: z.ZodType<z.output<typeof arrayDefinition>, z.input<typeof arrayDefinition>> = arrayDefinition;
+
 const waypointSchema = z.strictObject({ t: nonNegative, position: point, orientation: orientationSchema.optional() });
 
-/** A transmitter or receiver. */
-export const terminalSchema = z.strictObject({
+const terminalDefinition = z.strictObject({
   id: z.string().min(1).max(200).optional(),
   position: point,
   velocity: velocity.optional(),
@@ -65,10 +82,12 @@ export const terminalSchema = z.strictObject({
 });
 
 /**
- * A cluster of sub-paths around a path (docs/deployments.md): a 3GPP TR 38.901 preset by name,
- * or spreads of its own (degrees, seconds; missing spreads are 0, or the preset's).
+ * A transmitter or receiver.
+ * @example terminalSchema.safeParse({ position: [0, 0, 10], array: { kind: 'ula', elements: 0 } }).error?.issues[0]?.path // ['array', 'elements']: must be >= 1
  */
-export const clusterSchema = z.strictObject({
+export const terminalSchema: z.ZodType<z.output<typeof terminalDefinition>, z.input<typeof terminalDefinition>> = terminalDefinition;
+
+const clusterDefinition = z.strictObject({
   preset: z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional(),
   method: z.enum(['gaussian', 'laplacian', 'offsets-38901']).optional(),
   subPaths: count.max(1000).optional(),
@@ -79,8 +98,14 @@ export const clusterSchema = z.strictObject({
   delaySpreadS: nonNegative.optional(),
 });
 
-/** An explicit path (directions in the global frame). */
-export const pathSchema = z.strictObject({
+/**
+ * A cluster of sub-paths around a path (docs/deployments.md): a 3GPP TR 38.901 preset by name,
+ * or spreads of its own (degrees, seconds; missing spreads are 0, or the preset's).
+ * @example clusterSchema.parse({ preset: 'umi-nlos', delaySpreadS: 5e-9 }) // { preset: 'umi-nlos', delaySpreadS: 5e-9 }
+ */
+export const clusterSchema: z.ZodType<z.output<typeof clusterDefinition>, z.input<typeof clusterDefinition>> = clusterDefinition;
+
+const pathDefinition = z.strictObject({
   id: z.string().min(1).max(200).optional(),
   aodDeg: directionDeg,
   aoaDeg: directionDeg,
@@ -101,13 +126,18 @@ export const pathSchema = z.strictObject({
   blockageDb: nonNegative.optional(),
 });
 
+/**
+ * An explicit path (directions in the global frame).
+ * @example pathSchema.safeParse({ aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 1e-7, powerDb: 500 }).success // false: powerDb is limited to [-400, 400] dB
+ */
+export const pathSchema: z.ZodType<z.output<typeof pathDefinition>, z.input<typeof pathDefinition>> = pathDefinition;
+
 const materialSchema = z.union([
   z.string().min(1),
   z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
 ]);
 
-/** Scene objects traced into paths. */
-export const sceneSchema = z.strictObject({
+const sceneDefinition = z.strictObject({
   lineOfSight: z.boolean().optional(),
   walls: z
     .array(
@@ -142,8 +172,13 @@ export const sceneSchema = z.strictObject({
     .optional(),
 });
 
-/** The whole scenario document. */
-export const scenarioSchema = z.strictObject({
+/**
+ * Scene objects traced into paths.
+ * @example sceneSchema.parse({ walls: [{ vertices: [[0, 5], [20, 5]], material: 'glass' }], maxReflectionOrder: 1 }).walls!.length // 1
+ */
+export const sceneSchema: z.ZodType<z.output<typeof sceneDefinition>, z.input<typeof sceneDefinition>> = sceneDefinition;
+
+const scenarioDefinition = z.strictObject({
   formatVersion: z.number().int().min(1).max(CURRENT_FORMAT_VERSION).optional(),
   name: z.string().max(200).optional(),
   description: z.string().max(2000).optional(),
@@ -195,15 +230,47 @@ export const scenarioSchema = z.strictObject({
   precision: z.enum(['complex64', 'complex128']).optional(),
 });
 
-/** A scenario as parsed (defaults not yet applied). */
+/**
+ * The whole scenario document.
+ * @example
+ * const result = scenarioSchema.safeParse({
+ *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
+ *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } }, receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
+ *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+ * });
+ * result.success // true
+ */
+export const scenarioSchema: z.ZodType<z.output<typeof scenarioDefinition>, z.input<typeof scenarioDefinition>> = scenarioDefinition;
+
+/**
+ * A scenario as parsed (defaults not yet applied).
+ * @example
+ * const scenario: Scenario = {
+ *   carrierHz: 60e9, timing: { subframeS: 1e-3, subframes: 100 }, taps: { sampleRateHz: 2e9, count: 64 },
+ *   transmitter: { position: [0, 0, 3], array: { kind: 'upa', rows: 4, columns: 4 } }, receiver: { position: [8, 2, 1], array: { kind: 'ula', elements: 1 } },
+ *   scene: { walls: [{ vertices: [[-5, 6, 0], [20, 6, 0], [20, 6, 4]] }] }, fading: { model: 'geometric' }, seed: 7,
+ * };
+ */
 export type Scenario = z.infer<typeof scenarioSchema>;
-/** An array description of a scenario. */
+/**
+ * An array description of a scenario.
+ * @example const array: ArrayConfig = { kind: 'ula', elements: 8, spacingWavelengths: 0.5, element: '3gpp-38.901', orientation: { yawDeg: 180 } };
+ */
 export type ArrayConfig = z.infer<typeof arraySchema>;
-/** A terminal description of a scenario. */
+/**
+ * A terminal description of a scenario.
+ * @example const walker: TerminalConfig = { id: 'ue-1', position: [10, 0, 1.5], velocity: [0, 1.4, 0], array: { kind: 'ula', elements: 2 } };
+ */
 export type TerminalConfig = z.infer<typeof terminalSchema>;
-/** A cluster description of a scenario. */
+/**
+ * A cluster description of a scenario.
+ * @example const cluster: ClusterConfig = { method: 'laplacian', subPaths: 10, azimuthSpreadArrivalDeg: 8 };
+ */
 export type ClusterConfig = z.infer<typeof clusterSchema>;
-/** An explicit path of a scenario. */
+/**
+ * An explicit path of a scenario.
+ * @example const echo: PathConfig = { id: 'wall', aodDeg: [30, 0], aoaDeg: [150, 0], delayS: 2.1e-7, powerDb: -97, phaseDeg: 180 };
+ */
 export type PathConfig = z.infer<typeof pathSchema>;
 
 /**
