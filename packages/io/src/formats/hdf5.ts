@@ -27,8 +27,9 @@
  */
 import { promises as fsp } from 'node:fs';
 import { endianness } from 'node:os';
+import { dirname } from 'node:path';
 import h5wasm from 'h5wasm/node';
-import { temporaryPathFor, trackTemporary, untrackTemporary } from '../atomic.js';
+import { OutputFileError, temporaryPathFor, trackTemporary, untrackTemporary, type OutputFileStage } from '../atomic.js';
 import {
   checkAttribute,
   checkNamedArray,
@@ -191,6 +192,15 @@ class Hdf5Sink implements DatasetSink {
     const rest = tensor.rows.header.shape.slice(1).map(BigInt);
     const zeros = rest.map(() => 0n);
     const strides = [1n, ...rest.map(() => 1n)];
+    try {
+      this.writePieces(tensor, rows, bytes, rowBytes, rest, zeros, strides, fn);
+    } catch (err) {
+      throw await this.failure('write', err);
+    }
+    tensor.rows.rowsWritten += rows;
+  }
+
+  private writePieces(tensor: NonNullable<Hdf5Sink['tensor']>, rows: number, bytes: Uint8Array, rowBytes: number, rest: bigint[], zeros: bigint[], strides: bigint[], fn: string): void {
     for (let done = 0; done < rows; ) {
       const piece = Math.min(tensor.rowsPerPiece, rows - done);
       // HEAPU8 is re-read each time: the heap's buffer is replaced when memory grows.
@@ -206,7 +216,23 @@ class Hdf5Sink implements DatasetSink {
       if (status < 0) throw new Error(`${fn}(): H5Dwrite of rows ${tensor.rows.rowsWritten + done}..${tensor.rows.rowsWritten + done + piece} failed (status ${status})`);
       done += piece;
     }
-    tensor.rows.rowsWritten += rows;
+  }
+
+  /**
+   * An HDF5 failure as an OutputFileError with its cause: HDF5 reports a failed write or close
+   * without the system's reason, so a full disk or a vanished folder is found by asking the
+   * file system, and only the first line of HDF5's own report is kept.
+   */
+  private async failure(stage: OutputFileStage, err: unknown): Promise<Error> {
+    const first = (err instanceof Error ? err.message : String(err)).split('\n').find((l) => /minor:|Error|failed/.test(l))?.trim() ?? 'HDF5 write failed';
+    let code = '';
+    try {
+      const fsInfo = await fsp.statfs(dirname(this.path));
+      if (Number(fsInfo.bavail) * Number(fsInfo.bsize) < 4 << 20) code = 'ENOSPC';
+    } catch (e) {
+      code = (e as NodeJS.ErrnoException).code ?? '';
+    }
+    return new OutputFileError(this.path, stage, Object.assign(new Error(first), code !== '' ? { code } : {}));
   }
 
   async addArray(array: NamedArray): Promise<void> {
@@ -262,9 +288,16 @@ class Hdf5Sink implements DatasetSink {
     }
     this.state = 'committed';
     try {
-      const status = this.release();
-      if (status < 0) throw new Error(`${fn}(): H5Fclose failed (status ${status})`);
-      await fsp.rename(this.temporaryPath, this.path);
+      let status: number;
+      try {
+        status = this.release();
+        if (status < 0) throw new Error(`${fn}(): H5Fclose failed (status ${status})`);
+      } catch (err) {
+        throw await this.failure('commit', err);
+      }
+      await fsp.rename(this.temporaryPath, this.path).catch((e: unknown) => {
+        throw new OutputFileError(this.path, 'commit', e);
+      });
       untrackTemporary(this.temporaryPath);
       return (await fsp.stat(this.path)).size;
     } catch (err) {
@@ -279,6 +312,8 @@ class Hdf5Sink implements DatasetSink {
     this.state = 'aborted';
     try {
       this.release();
+    } catch {
+      // the file is being thrown away; a failing close changes nothing
     } finally {
       await fsp.rm(this.temporaryPath, { force: true });
       untrackTemporary(this.temporaryPath);
@@ -305,10 +340,25 @@ export async function openHdf5Sink(path: string, options: Hdf5SinkOptions = {}):
     throw new RangeError(`${fn}(): options.maxWriteBytes must be a positive integer, got ${String(options.maxWriteBytes)}`);
   }
   const module = await h5wasm.ready;
+  // HDF5 errors become exceptions (instead of HDF5-DIAG pages on stderr); they are wrapped below.
+  module.activate_throwing_error_handler();
   const temporaryPath = temporaryPathFor(path);
+  // Create the file with Node first, so a read-only, missing or full folder reports its cause.
+  try {
+    await (await fsp.open(temporaryPath, 'wx', 0o644)).close();
+  } catch (e) {
+    throw new OutputFileError(path, 'create', e);
+  }
   // "x": create, fail if a file of that name exists (the name is unique, so it never should).
   trackTemporary(temporaryPath);
-  const file = new h5wasm.File(temporaryPath, 'x', { libver: ['earliest', 'v110'] });
-  if (file.file_id < 0n) throw new Error(`${fn}(): cannot create ${temporaryPath}`);
+  let file: InstanceType<typeof h5wasm.File>;
+  try {
+    file = new h5wasm.File(temporaryPath, 'w', { libver: ['earliest', 'v110'] });
+    if (file.file_id < 0n) throw new Error(`${fn}(): cannot create ${temporaryPath}`);
+  } catch (e) {
+    await fsp.rm(temporaryPath, { force: true });
+    untrackTemporary(temporaryPath);
+    throw new OutputFileError(path, 'create', e);
+  }
   return new Hdf5Sink(module, file, path, temporaryPath, maxWriteBytes);
 }
