@@ -9,12 +9,20 @@
  * out[k, m] = sum_l weights[k, l] products[l, m]: a complex matrix product.
  */
 
-/** Output element type of the kernels. */
+/**
+ * Output element type of the kernels.
+ * @example const out: KernelOut = new Float32Array(2 * 4); // [bins = 1, M = 4] complex64
+ */
 export type KernelOut = Float32Array | Float64Array;
 
 /**
  * Plain JavaScript reference: out[k, :] = sum_l w[k, l] P[l, :], accumulated in float64 in
  * `scratch` (2 M values) and stored once per bin.
+ * @example
+ * const out = new Float64Array(2);
+ * // one bin, two paths, M = 1: (1 + j) * 2 + (0 + 1j) * (0 + 1j)
+ * accumulatePathsPlain(out, 0, Float64Array.of(1, 1, 0, 1), Float64Array.of(2, 0, 0, 1), 1, 2, 1, new Float64Array(2));
+ * out // Float64Array [1, 2]
  */
 export function accumulatePathsPlain(
   out: KernelOut,
