@@ -12,7 +12,14 @@ import { loadWasmKernel, type WasmKernelAllocate, type WasmKernelFunction } from
 export { accumulatePathsPlain, type KernelOut } from './accumulate.js';
 export { loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
-/** Signature of an accumulate kernel (see accumulate.ts for the layouts). */
+/**
+ * Signature of an accumulate kernel (see accumulate.ts for the layouts).
+ * @example
+ * const kernel: AccumulateKernel = accumulatePathsPlain;
+ * const out = new Float32Array(2);
+ * kernel(out, 0, Float64Array.of(0.5, 0), Float64Array.of(0, 2), 1, 1, 1, new Float64Array(2));
+ * out // Float32Array [0, 1]: 0.5 * 2j
+ */
 export type AccumulateKernel = (
   out: KernelOut,
   outOffset: number,
@@ -24,9 +31,15 @@ export type AccumulateKernel = (
   scratch: Float64Array,
 ) => void;
 
-/** Name of the plain JavaScript kernel (float64 accumulation). */
+/**
+ * Name of the plain JavaScript kernel (float64 accumulation).
+ * @example PLAIN_KERNEL_NAME // "js-float64"
+ */
 export const PLAIN_KERNEL_NAME = 'js-float64';
-/** Name of the SIMD kernel (float32 lanes for complex64 output, float64 lanes for complex128). */
+/**
+ * Name of the SIMD kernel (float32 lanes for complex64 output, float64 lanes for complex128).
+ * @example [PLAIN_KERNEL_NAME, WASM_KERNEL_NAME].includes(KERNEL_NAME) // true: KERNEL_NAME is one of the two
+ */
 export const WASM_KERNEL_NAME = 'wasm-simd128';
 
 /** Plain typed arrays, for the plain kernel (it writes any array equally fast). */
