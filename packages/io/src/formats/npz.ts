@@ -261,6 +261,9 @@ function checkLevel(fn: string, what: string, level: unknown): number {
 
 type SinkState = 'open' | 'committing' | 'committed' | 'aborted';
 
+/** Bytes handed to the zip writer at a time (bounds the memory held in its pipeline). */
+const NPZ_PIECE_BYTES = 1 << 20;
+
 class NpzSink implements DatasetSink {
   private readonly zip = new yazl.ZipFile();
   private readonly names = new Set<string>();
@@ -340,19 +343,22 @@ class NpzSink implements DatasetSink {
     if (!tensor) throw new RangeError(`${fn}(): call beginTensor() first`);
     const rows = tensor.rows.accept(fn, data);
     if (rows === 0) return;
-    // A copy: the caller may reuse its block as soon as this resolves, while the bytes may still
-    // sit in the zip pipeline. Waiting for the next read() keeps about one block in flight.
-    const chunk = Buffer.from(new Uint8Array(data.buffer, data.byteOffset, data.byteLength));
-    const drained = new Promise<void>((resolve) => {
-      this.wakeWriter = resolve;
-    });
-    const more = tensor.stream.push(chunk);
+    // Pushed in pieces of NPZ_PIECE_BYTES, each copied (the caller reuses its block as soon as this
+    // resolves, while bytes may still sit in the zip pipeline) and each waiting for the consumer
+    // when the stream's buffer is full: about one piece is in flight, not one whole block.
+    const bytes = new Uint8Array(data.buffer, data.byteOffset, data.byteLength);
     tensor.rows.rowsWritten += rows;
-    if (tensor.rows.complete) tensor.stream.push(null); // no read() follows the end: do not wait
-    if (more || tensor.rows.complete) {
-      this.wakeWriter = undefined;
-    } else {
-      await drained;
+    for (let at = 0; at < bytes.length; at += NPZ_PIECE_BYTES) {
+      const piece = Buffer.from(bytes.subarray(at, Math.min(bytes.length, at + NPZ_PIECE_BYTES)));
+      const drained = new Promise<void>((resolve) => {
+        this.wakeWriter = resolve;
+      });
+      const more = tensor.stream.push(piece);
+      const last = at + NPZ_PIECE_BYTES >= bytes.length;
+      if (last && tensor.rows.complete) tensor.stream.push(null); // no read() follows the end: do not wait
+      if (more || (last && tensor.rows.complete)) this.wakeWriter = undefined;
+      else await drained;
+      if (this.failure) throw this.failure;
     }
     if (this.failure) throw this.failure;
   }
