@@ -18,6 +18,7 @@ import type { NamedArray } from './formats/sink.js';
 import type { Scenario } from './schema.js';
 import { PATHWEAVE_VERSION } from './version.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
+import { HashThread } from './workers/hash.js';
 import { BlockPool, defaultWorkers } from './workers/pool.js';
 
 /** Default refusal threshold for one output file, bytes (raise with --max-bytes). */
@@ -43,7 +44,8 @@ export interface GenerateOptions {
   signal?: AbortSignal;
   /**
    * Threads that compute blocks of subframes (worker_threads; the main thread then hashes and
-   * writes). 1 computes on the main thread. Default: one per available core, 1 for runs of
+   * writes). 1 computes on the main thread (with two blocks or more, a thread of its own hashes
+   * the tensor for `tensorSha256` meanwhile). Default: one per available core, 1 for runs of
    * fewer than two blocks. The tensor bytes are the same for every count.
    */
   workers?: number;
@@ -160,15 +162,39 @@ export async function generate(scenario: Scenario, scenarioText: string, options
       pendingWrite = sink.writeRows(view).then(() => options.onProgress?.(s + n - first, count));
       pendingWrite.catch(() => undefined); // awaited before the next write and at the end
     };
-    if (workers === 1) {
-      // Block buffers the kernel writes in place (WebAssembly memory with the SIMD kernel: no copy per chunk).
-      const buffers = [allocateKernelArray(values, Tensor), ...(blocks > 1 ? [allocateKernelArray(values, Tensor)] : [])];
-      for (let s = first, b = 0; s < end; s += block, b++) {
-        if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-        const n = Math.min(block, end - s);
-        const view = buffers[b % buffers.length]!.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
-        fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
-        await write(s, n, view);
+    let digest: (() => Promise<string>) | undefined;
+    if (workers === 1 && blocks === 1) {
+      // One block: the kernel writes in place (WebAssembly memory with the SIMD kernel), hashed here.
+      const view = allocateKernelArray(2 * count * built.valuesPerSubframe, Tensor);
+      fillBlock(built, view, first, count, gains);
+      await write(first, count, view);
+    } else if (workers === 1) {
+      // The main thread fills; a thread of its own hashes each block (SHA-256 is slower than the
+      // kernel) while the next is filled, and the file write overlaps both. A buffer is filled
+      // again once its hash and its write are done; three buffers keep all three busy.
+      const hasher = new HashThread();
+      digest = () => hasher.digest().finally(() => hasher.close());
+      const buffers = [0, 1, 2].map((): Float32Array | Float64Array => (g.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * values)) : new Float64Array(new SharedArrayBuffer(8 * values))));
+      const free: Array<Promise<void>> = buffers.map(() => Promise.resolve());
+      try {
+        let writes: Promise<void> = Promise.resolve();
+        for (let s = first, b = 0; s < end; s += block, b++) {
+          if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+          const n = Math.min(block, end - s);
+          const i = b % buffers.length;
+          await free[i];
+          const view = buffers[i]!.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
+          fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
+          const hashed = hasher.update(view);
+          writes = writes.then(() => sink.writeRows(view)).then(() => options.onProgress?.(s + n - first, count));
+          free[i] = Promise.all([hashed, writes]).then(() => undefined);
+          free[i]!.catch(() => undefined); // awaited when the buffer comes round again, or below
+        }
+        await Promise.all(free);
+      } catch (e) {
+        await Promise.allSettled(free); // no write in flight when the sink is aborted
+        await hasher.close();
+        throw e;
       }
     } else {
       // Two blocks in flight per worker (one computing while the main thread hashes the other),
@@ -203,7 +229,7 @@ export async function generate(scenario: Scenario, scenarioText: string, options
       }
     }
     await pendingWrite;
-    const sha256 = hash.digest('hex');
+    const sha256 = digest !== undefined ? await digest() : hash.digest('hex');
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);
     await sink.setAttribute({ name: 'scenario', dtype: 'string', value: scenarioText });
     await sink.setAttribute({ name: 'pathweaveVersion', dtype: 'string', value: PATHWEAVE_VERSION });
