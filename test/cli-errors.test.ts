@@ -96,7 +96,9 @@ describe('refused input', () => {
     expect(missing.status).toBe(2);
     expect(missing.stderr).toContain('cannot read the file: ENOENT');
     const dir = tempDir();
-    expect(runCli(['generate', join(ROOT, 'test', 'fixtures', 'three-path-static.json'), '--out', dir]).stderr).toContain('is a directory');
+    const intoDir = runCli(['generate', join(ROOT, 'test', 'fixtures', 'three-path-static.json'), '--out', dir]);
+    expect(intoDir.status).toBe(1); // a fault of the destination (issue 10), not of the input
+    expect(intoDir.stderr).toContain('the output path is a directory (EISDIR)');
   });
 
   it('validate prints a one-screen summary of a valid scenario', () => {

@@ -161,14 +161,14 @@ describe('a missing or vanished folder', () => {
 });
 
 describe('an output path that is a directory', () => {
-  it('the CLI refuses it before any work (exit 2: the command line is refused) and leaves the directory as it was', () => {
+  it('the CLI refuses it before any work (exit 1, a fault of the destination) and leaves the directory as it was', () => {
     const dir = tempDir();
     const out = join(dir, 'out.npy');
     mkdirSync(out);
     writeFileSync(join(out, 'inside'), EARLIER);
     const r = runCli(['generate', bigFile, '--out', out]);
-    expect(r.status).toBe(2);
-    expect(r.stderr).toContain(`error: --out ${out} is a directory; give a file name`);
+    expect(r.status).toBe(1);
+    expect(r.stderr).toContain(`error: cannot create ${out}: the output path is a directory (EISDIR)`);
     expect(readdirSync(dir)).toEqual(['out.npy']);
     expect(readFileSync(join(out, 'inside'), 'utf8')).toBe(EARLIER);
   });

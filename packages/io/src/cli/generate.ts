@@ -10,6 +10,7 @@
  */
 import { readdirSync, unlinkSync } from 'node:fs';
 import { totalmem } from 'node:os';
+import { OutputFileError } from '../atomic.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { isMainThread, parentPort, Worker, workerData } from 'node:worker_threads';
@@ -49,7 +50,8 @@ async function run(argv: string[], io: Io): Promise<number> {
   if (args.values.subframes !== undefined && args.values.shard !== undefined) throw new UsageError('generate: give --subframes or --shard, not both');
 
   const outStat = await stat(out).catch(() => undefined);
-  if (outStat?.isDirectory()) throw new UsageError(`--out ${out} is a directory; give a file name`);
+  // A fault of the destination, like a full disk or a read-only folder: exit 1 (issue 10), found before any work.
+  if (outStat?.isDirectory()) throw new OutputFileError(out, 'create', Object.assign(new Error('is a directory'), { code: 'EISDIR' }));
 
   const { scenario, warnings, text } = await loadScenario(file);
   const S = scenario.timing.subframes;
