@@ -100,7 +100,7 @@ describe('files written record the format version', () => {
 
 describe('versions this build does not know are refused, naming the field', () => {
   for (const [value, message] of [
-    [CURRENT_FORMAT_VERSION + 1, `formatVersion: must be <= ${CURRENT_FORMAT_VERSION}, got ${CURRENT_FORMAT_VERSION + 1}`],
+    [CURRENT_FORMAT_VERSION + 1, `formatVersion: this build reads scenario format versions 1 to ${CURRENT_FORMAT_VERSION}; version ${CURRENT_FORMAT_VERSION + 1} comes from a newer pathweave`],
     [0, 'formatVersion: must be >= 1, got 0'],
     [1.5, 'formatVersion: must be an integer, got 1.5'],
     ['1', 'formatVersion: must be a number, got "1"'],

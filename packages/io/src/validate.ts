@@ -7,7 +7,7 @@ import { readFile } from 'node:fs/promises';
 import type { z } from 'zod';
 import { validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
-import { scenarioSchema, type Scenario } from './schema.js';
+import { CURRENT_FORMAT_VERSION, scenarioSchema, type Scenario } from './schema.js';
 
 /**
  * One problem of a scenario.
@@ -184,6 +184,7 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
         return [{ path, message: `must have at most ${issue.maximum as number} ${what}s, ${got}` }];
       }
       if (issue.origin === 'number' && issue.maximum === 2 ** 53 - 1) return [{ path, message: `must be an integer below 2^53, ${got}` }];
+      if (path === 'formatVersion') return [{ path, message: `this build reads scenario format versions 1 to ${CURRENT_FORMAT_VERSION}; version ${describeValue(value)} comes from a newer pathweave; older versions load with the same meaning` }];
       return [{ path, message: `must be ${boundText(issue.inclusive, issue.maximum, false)}, ${got}` }];
     case 'invalid_value':
       return [{ path, message: `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
