@@ -30,9 +30,12 @@ export function niceTicks(lo: number, hi: number, target = 6): number[] {
 /**
  * A tick label: no more digits than the tick step needs.
  * @example tickLabel(2.5, 0.5) // "2.5"
+ * @example tickLabel(7.5, 2.5) // "7.5" (not "8")
  */
 export function tickLabel(value: number, step: number): string {
-  const decimals = Math.max(0, Math.min(6, -Math.floor(Math.log10(Math.abs(step)) + 1e-9)));
+  // As many decimals as the step itself needs (2.5 needs one, 20 none), at most 6.
+  let decimals = 0;
+  while (decimals < 6 && Math.abs(Math.round(step * 10 ** decimals) - step * 10 ** decimals) > 1e-6 * 10 ** decimals * Math.abs(step)) decimals++;
   const t = value.toFixed(decimals);
   return t === '-0' || /^-0\.0*$/.test(t) ? t.slice(1) : t;
 }
