@@ -18,7 +18,10 @@ import { DTYPE_BYTES } from './formats/npy.js';
 import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, NpyReader, type DatasetReader, type StoredArray } from './formats/read.js';
 import { formatBytes, RequestError } from './generate.js';
 
-/** Options of `inspectFile`. */
+/**
+ * Options of `inspectFile`.
+ * @example const quick: InspectOptions = { subframeSamples: 2, binSamples: 4 }; // subframes [0, S-1], bins [0, 21, 42, 63] of 64: 8 SVDs
+ */
 export interface InspectOptions {
   /** Subframes sampled for the singular values (evenly spaced, first and last included). Default 16. */
   subframeSamples?: number;
@@ -26,20 +29,38 @@ export interface InspectOptions {
   binSamples?: number;
 }
 
-/** Summary of one file: text for people, data for --json. */
+/**
+ * Summary of one file: text for people, data for --json.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const summary: InspectSummary = await inspectFile('run.h5');
+ * summary.text.split('\n')[0] // "run.h5: h5, 285.8 KiB (292648 bytes)"
+ */
 export interface InspectSummary {
   text: string;
   data: Record<string, unknown>;
 }
 
-/** Min, median and max of a set of numbers. */
+/**
+ * Min, median and max of a set of numbers.
+ * @example const s: Spread = spreadOf([3, 1, 2]); // { min: 1, median: 2, max: 3 }
+ */
 export interface Spread {
   min: number;
   median: number;
   max: number;
 }
 
-/** The conditioning of the sampled channel matrices. */
+/**
+ * The conditioning of the sampled channel matrices.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const reader = await openDatasetReader('run.h5');
+ * const c: Conditioning = await conditioningOf(reader, tensorOf(reader), { subframeSamples: 2, binSamples: 2 });
+ * [c.Nr, c.Nt, c.subframes, c.bins, c.conditionNumber.min] // [4, 32, [0, 3], [0, 63], 11.471]
+ */
 export interface Conditioning {
   Nr: number;
   Nt: number;
@@ -118,7 +139,11 @@ export function meanPower(data: Float32Array | Float64Array): number {
 
 /**
  * The conditioning of the sampled matrices of a file's tensor (one subframe in memory at a time).
- * @example (await conditioningOf(reader, tensorOf(reader))).rank // { min: 4, median: 4, max: 4 }
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const reader = await openDatasetReader('run.h5');
+ * (await conditioningOf(reader, tensorOf(reader))).rank // { min: 4, median: 4, max: 4 }: every sampled 4 x 32 matrix has full rank
  */
 export async function conditioningOf(reader: DatasetReader, tensor: StoredArray, options: InspectOptions = {}): Promise<Conditioning> {
   const shape = tensor.shape;
@@ -222,8 +247,10 @@ const db = (x: number, per = 10): string => (x > 0 && Number.isFinite(x) ? `${(p
 /**
  * Summarise a file pathweave wrote.
  * @example
- * const { text, data } = await inspectFile('run.h5');
- * data.conditioning.rank // { min: 4, median: 4, max: 4 }
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const { data } = await inspectFile('run.h5');
+ * [data.meanPowerDb, data.conditioning.rank] // [-79.44, { min: 4, median: 4, max: 4 }]
  */
 export async function inspectFile(file: string, options: InspectOptions = {}): Promise<InspectSummary> {
   const fileBytes = await stat(file).then(
