@@ -23,7 +23,10 @@ import { dtypeOfDescr, parseNpyHeader, DTYPE_BYTES } from './npy.js';
 import { elementCount } from './npz.js';
 import type { ArrayData, Attribute, DType, NamedArray } from './sink.js';
 
-/** One array as listed by a reader. */
+/**
+ * One array as listed by a reader.
+ * @example const H: StoredArray = { name: 'H', dtype: 'complex64', shape: [4, 64, 4, 32], units: '1' }; // tensorOf() of the .h5 in openDatasetReader's example
+ */
 export interface StoredArray {
   name: string;
   dtype: DType;
@@ -32,7 +35,15 @@ export interface StoredArray {
   units: string | undefined;
 }
 
-/** An open file written by pathweave. */
+/**
+ * An open file written by pathweave.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const reader: DatasetReader = await openDatasetReader('run.h5');
+ * [reader.format, reader.arrays.length, reader.attributes.length] // ['h5', 23, 8]
+ * await reader.close();
+ */
 export interface DatasetReader {
   readonly path: string;
   readonly format: 'npy' | 'npz' | 'h5';
@@ -55,9 +66,11 @@ const HDF5_MAGIC = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a])
 /**
  * Open a .npy, .npz or .h5 written by the sinks; the format is told by the first bytes.
  * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
  * const reader = await openDatasetReader('run.h5');
- * reader.arrays.map((a) => a.name); // ["H", "frequenciesHz", "gains", "paths/delayS", ...]
- * const first = await reader.readRows('H', 0, 1); // Float32Array of one subframe, re/im interleaved
+ * reader.arrays.map((a) => a.name); // ['H', 'frequenciesHz', 'gains', 'paths/aoaDeg', ... 23 names]
+ * const first = await reader.readRows('H', 0, 1); // Float32Array(16384): one subframe, 64 x 4 x 32 complex, re/im interleaved
  * await reader.close();
  */
 export async function openDatasetReader(path: string): Promise<DatasetReader> {
@@ -110,7 +123,11 @@ function safeNumber(fn: string, name: string, v: bigint): number {
  * Rows [0, rows) of a numeric array in blocks of at most `blockRows` rows, in order, so a
  * tensor larger than memory can be streamed.
  * @example
- * for await (const block of readRowBlocks(reader, 'H', 64)) hash.update(bytesOf(block)); // 64 subframes at a time
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const reader = await openDatasetReader('run.h5'), lengths: number[] = [];
+ * for await (const block of readRowBlocks(reader, 'H', 3)) lengths.push(block.length);
+ * lengths // [49152, 16384]: 3 subframes, then the last one (64 x 4 x 32 complex each)
  */
 export async function* readRowBlocks(reader: DatasetReader, name: string, blockRows: number): AsyncGenerator<ArrayData> {
   if (!(Number.isSafeInteger(blockRows) && blockRows >= 1)) throw new RangeError(`readRowBlocks(): blockRows must be an integer >= 1, got ${blockRows}`);
@@ -120,7 +137,13 @@ export async function* readRowBlocks(reader: DatasetReader, name: string, blockR
   for (let r = 0; r < rows; r += blockRows) yield await reader.readRows(name, r, Math.min(rows, r + blockRows));
 }
 
-/** The channel tensor of a file pathweave wrote: "H" (frequency domain) or "h" (tap-delay), or an NPY's only array. @example tensorOf(reader).shape // [400, 128, 8, 16] */
+/**
+ * The channel tensor of a file pathweave wrote: "H" (frequency domain) or "h" (tap-delay), or an NPY's only array.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * tensorOf(await openDatasetReader('run.h5')) // { name: 'H', dtype: 'complex64', shape: [4, 64, 4, 32], units: '1' }
+ */
 export function tensorOf(reader: DatasetReader): StoredArray {
   const t = reader.arrays.find((a) => a.name === 'H') ?? reader.arrays.find((a) => a.name === 'h') ?? (reader.format === 'npy' ? reader.arrays[0] : undefined);
   if (t === undefined || (t.dtype !== 'complex64' && t.dtype !== 'complex128')) {
@@ -129,7 +152,14 @@ export function tensorOf(reader: DatasetReader): StoredArray {
   return t;
 }
 
-/** A root attribute's value by name (undefined when absent). @example attributeOf(reader, 'seed') // 42 */
+/**
+ * A root attribute's value by name (undefined when absent).
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * const reader = await openDatasetReader('run.h5');
+ * [attributeOf(reader, 'seed'), attributeOf(reader, 'subframeRange'), attributeOf(reader, 'nothing')] // [20261201, '0:4', undefined]
+ */
 export function attributeOf(reader: DatasetReader, name: string): string | number | undefined {
   return reader.attributes.find((a) => a.name === name)?.value;
 }
@@ -137,7 +167,14 @@ export function attributeOf(reader: DatasetReader, name: string): string | numbe
 // ---------------------------------------------------------------------------------------------
 // NPY (with its side file)
 
-/** The side file `<file>.json` generate writes beside a .npy (see generate.ts). */
+/**
+ * The side file `<file>.json` generate writes beside a .npy (see generate.ts).
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] }); // run.npy and run.npy.json
+ * const side: NpySideFile = JSON.parse(readFileSync('run.npy.json', 'utf8'));
+ * side.tensor // { name: 'H', dtype: 'complex64', shape: [4, 64, 4, 32], subframes: [0, 4], subframesTotal: 200, sha256: 'b68c65c0...' }
+ */
 export interface NpySideFile {
   pathweaveVersion?: string;
   tensor?: { name?: string; dtype?: string; shape?: number[]; subframes?: [number, number]; subframesTotal?: number; sha256?: string };
@@ -148,7 +185,14 @@ export interface NpySideFile {
   [key: string]: unknown;
 }
 
-/** A .npy read through the DatasetReader interface; `side` is its side file when present. @example (await openDatasetReader('run.npy')).arrays[0].name // "H" (from run.npy.json) */
+/**
+ * A .npy read through the DatasetReader interface; `side` is its side file when present.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] }); // run.npy and run.npy.json
+ * const reader = await openDatasetReader('run.npy');
+ * [reader instanceof NpyReader, reader.arrays[0]!.name] // [true, 'H']: the name comes from run.npy.json
+ */
 export class NpyReader implements DatasetReader {
   readonly format = 'npy' as const;
 
