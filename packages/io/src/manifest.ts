@@ -19,10 +19,10 @@ import { bytesOf, DTYPE_BYTES } from './formats/npy.js';
 import { openDatasetReader, readRowBlocks, tensorOf } from './formats/read.js';
 import type { OutputFormat } from './formats/index.js';
 
-/** Value of a manifest's `kind` field. */
+/** Value of a manifest's `kind` field. @example MANIFEST_KIND // "pathweave-part-manifest" */
 export const MANIFEST_KIND = 'pathweave-part-manifest';
 
-/** Version of the manifest layout; a reader refuses other versions. */
+/** Version of the manifest layout; a reader refuses other versions. @example MANIFEST_VERSION // 1 */
 export const MANIFEST_VERSION = 1;
 
 /** Bytes of tensor read at a time when checksumming a file. */
@@ -49,10 +49,19 @@ const manifestSchema = z.object({
   kernel: z.string(),
 });
 
-/** What one part of a sharded run holds (the JSON document of its manifest file). */
+/**
+ * What one part of a sharded run holds (the JSON document of its manifest file).
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * const m: PartManifest = await readManifest('run.part-0-of-2.h5.manifest.json');
+ * [m.part, m.range, m.tensor.shape, m.seed] // [{ index: 0, count: 2 }, [0, 100], [100, 64, 4, 32], 20261201]
+ */
 export type PartManifest = z.infer<typeof manifestSchema>;
 
-/** A manifest that cannot be read or is not one pathweave writes. */
+/**
+ * A manifest that cannot be read or is not one pathweave writes.
+ * @example await readManifest('missing.json') // throws ManifestError "missing.json: cannot read the manifest (ENOENT)"
+ */
 export class ManifestError extends Error {
   override name = 'ManifestError';
 }
@@ -98,7 +107,14 @@ export function scenarioSha256(scenarioText: string): string {
   return createHash('sha256').update(canonicalJson(JSON.parse(scenarioText) as unknown)).digest('hex');
 }
 
-/** Write a part's manifest atomically beside it (`manifestPathOf(partFile)`). @example await writeManifest('run.part-0-of-4.h5', manifest) // "run.part-0-of-4.h5.manifest.json" */
+/**
+ * Write a part's manifest atomically beside it (`manifestPathOf(partFile)`).
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * const m = await readManifest('run.part-0-of-2.h5.manifest.json');
+ * await writeManifest('run.part-0-of-2.h5', m) // "run.part-0-of-2.h5.manifest.json" (written again, atomically)
+ * await writeManifest('other.h5', m) // throws RangeError 'writeManifest(): manifest.file must be "other.h5", got "run.part-0-of-2.h5"'
+ */
 export async function writeManifest(partFile: string, manifest: PartManifest): Promise<string> {
   if (manifest.file !== basename(partFile)) throw new RangeError(`writeManifest(): manifest.file must be ${JSON.stringify(basename(partFile))}, got ${JSON.stringify(manifest.file)}`);
   const path = manifestPathOf(partFile);
@@ -108,7 +124,9 @@ export async function writeManifest(partFile: string, manifest: PartManifest): P
 
 /**
  * Read and check a manifest file.
- * @example (await readManifest('run.part-0-of-4.h5.manifest.json')).range // [0, 100]
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * (await readManifest('run.part-0-of-2.h5.manifest.json')).range // [0, 100]
  * @throws ManifestError when it is missing, not JSON, or not a pathweave part manifest.
  */
 export async function readManifest(path: string): Promise<PartManifest> {
@@ -139,7 +157,10 @@ export async function readManifest(path: string): Promise<PartManifest> {
 /**
  * sha256 of a file's channel tensor bytes, in the order written (row-major, interleaved re/im,
  * little-endian), read back through formats/read.ts a block at a time.
- * @example await tensorSha256OfFile('run.h5') // { sha256: "3f1c...", bytes: 13107200 }
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * await tensorSha256OfFile('run.h5') // { sha256: 'b68c65c0...', bytes: 262144 }: 4 x 64 x 4 x 32 x 8 bytes, the sha256 the file records as tensorSha256
  */
 export async function tensorSha256OfFile(path: string): Promise<{ sha256: string; bytes: number }> {
   const reader = await openDatasetReader(path);
@@ -158,13 +179,22 @@ export async function tensorSha256OfFile(path: string): Promise<{ sha256: string
   }
 }
 
-/** Outcome of checking a part file against its manifest. */
+/**
+ * Outcome of checking a part file against its manifest.
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * const check: PartCheck = await verifyPart('run.part-0-of-2.h5', await readManifest('run.part-0-of-2.h5.manifest.json')); // { ok: true }
+ */
 export type PartCheck = { ok: true } | { ok: false; reason: string };
 
 /**
  * Check a part file against its manifest: present, of the recorded size, and with tensor bytes
  * whose sha256 is the recorded one (re-read from the file). `full: false` stops after the size.
- * @example await verifyPart('run.part-0-of-4.h5', manifest) // { ok: true }
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * const m = await readManifest('run.part-0-of-2.h5.manifest.json');
+ * [await verifyPart('run.part-0-of-2.h5', m), await verifyPart('other.h5', m)]
+ * // [{ ok: true }, { ok: false, reason: 'the manifest names run.part-0-of-2.h5, not other.h5' }]
  */
 export async function verifyPart(partFile: string, manifest: PartManifest, options: { full?: boolean } = {}): Promise<PartCheck> {
   if (basename(partFile) !== manifest.file) return { ok: false, reason: `the manifest names ${manifest.file}, not ${basename(partFile)}` };
@@ -184,7 +214,14 @@ export async function verifyPart(partFile: string, manifest: PartManifest, optio
   return { ok: true };
 }
 
-/** The facts of a finished part run that go into its manifest. */
+/**
+ * The facts of a finished part run that go into its manifest.
+ * @example
+ * const facts: PartFacts = { index: 0, count: 2, range: [0, 100], subframesTotal: 200, partFile: 'out/run.part-0-of-2.h5', fileBytes: 6656680,
+ *   format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
+ *   seed: 1, pathweaveVersion: '0.1.0', kernel: 'js-float64' };
+ * manifestOf(facts).part // { index: 0, count: 2 }
+ */
 export interface PartFacts {
   index: number;
   count: number;
@@ -203,7 +240,15 @@ export interface PartFacts {
   kernel: string;
 }
 
-/** The manifest document of a finished part. @example manifestOf({ index: 0, count: 4, partFile: 'run.part-0-of-4.h5', ... }).file // "run.part-0-of-4.h5" */
+/**
+ * The manifest document of a finished part.
+ * @example
+ * const facts: PartFacts = { index: 0, count: 2, range: [0, 100], subframesTotal: 200, partFile: 'out/run.part-0-of-2.h5', fileBytes: 6656680,
+ *   format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
+ *   seed: 1, pathweaveVersion: '0.1.0', kernel: 'js-float64' };
+ * const m = manifestOf(facts);
+ * [m.file, m.scenarioSha256 === scenarioSha256('{"seed":1}')] // ['run.part-0-of-2.h5', true]: the base name; the scenario hashed canonically
+ */
 export function manifestOf(f: PartFacts): PartManifest {
   return {
     kind: MANIFEST_KIND,
@@ -225,7 +270,8 @@ export function manifestOf(f: PartFacts): PartManifest {
 /**
  * Whether an earlier part run can be kept for this request: its manifest exists, describes the
  * same request (scenario, seed, range, format) and the file verifies. Returns the reason when not.
- * @example await reusablePart('run.part-0-of-4.h5', request) // { reusable: false, reason: "no manifest yet" }
+ * @example
+ * await reusablePart('run.part-0-of-4.h5', { scenarioText: '{}', seed: 1, range: [0, 50], format: 'h5' }) // { reusable: false, reason: 'no manifest yet' }
  */
 export async function reusablePart(
   partFile: string,
