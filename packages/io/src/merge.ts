@@ -22,7 +22,15 @@ import type { ArrayData, Attribute, NamedArray } from './formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
 import { manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
 
-/** Options of a merge. */
+/**
+ * Options of a merge.
+ * @example
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
+ * const done: number[] = [];
+ * const options: MergeOptions = { format: 'npz', onProgress: (subframes) => done.push(subframes) };
+ * (await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.npz', options)).format // 'npz'; done is [100, 200]
+ */
 export interface MergeOptions {
   /** Output format; by default from the extension of `out`. */
   format?: OutputFormat;
@@ -32,7 +40,14 @@ export interface MergeOptions {
   signal?: AbortSignal;
 }
 
-/** What a merge wrote. */
+/**
+ * What a merge wrote.
+ * @example
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
+ * const report: MergeReport = await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.h5');
+ * [report.shape, report.parts, report.warnings] // [[200, 64, 4, 32], 2, []]
+ */
 export interface MergeReport {
   out: string;
   format: OutputFormat;
@@ -156,8 +171,10 @@ async function checkParts(partFiles: string[]): Promise<{ manifest: PartManifest
  * overlap, parts of another scenario or seed, a part whose size or tensor checksum differs
  * from its manifest (tampered or truncated).
  * @example
- * await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.h5');
- * // { out: "run.h5", shape: [400, 128, 8, 16], parts: 2, sha256: (the unsharded run's), ... }
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
+ * (await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.h5')).sha256
+ * // 'f367d319...': the tensorSha256 of the same 200 subframes generated in one run
  */
 export async function merge(partFiles: string[], out: string, options: MergeOptions = {}): Promise<MergeReport> {
   const started = process.hrtime.bigint();
