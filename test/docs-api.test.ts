@@ -25,11 +25,6 @@ interface Reflection {
  * Every other exported enum, variable, function, class, interface and type alias needs one.
  */
 const EXAMPLES_EXCLUDED: Record<string, string> = {
-  // Being rewritten by another contributor while the examples were added (issue 8): their examples come with that work.
-  'packages/io/src/inspect.ts': 'owned by the dataset-tools contributor, being edited (issue 8)',
-  'packages/io/src/merge.ts': 'owned by the dataset-tools contributor, being edited (issue 8)',
-  'packages/io/src/manifest.ts': 'owned by the dataset-tools contributor, being edited (issue 8)',
-  'packages/io/src/formats/read.ts': 'owned by the dataset-tools contributor, being edited (issue 8)',
   'packages/io/src/generate.ts': 'had uncommitted changes of another contributor during the examples pass (issue 8)',
 };
 
