@@ -481,7 +481,10 @@ export class PreparedScene {
 
   /**
    * Problems of two terminal positions against this scene (validateScene's terminal checks).
-   * @example ps.terminalProblems([0, 0, 1], [0, 0, 1]) // [{ path: 'receiver.position', message: 'coincides with the transmitter at [0,0,1]; ...', severity: 'error' }]
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
+   * ps.terminalProblems([0, 0, 1], [0, 0, 1])
+   * // [{ path: 'receiver.position', message: 'coincides with the transmitter at [0,0,1]; the two terminals must be apart', severity: 'error' }]
    */
   terminalProblems(transmitter: Readonly<Vec3>, receiver: Readonly<Vec3>): SceneProblem[] {
     const problems: SceneProblem[] = [];
@@ -506,7 +509,9 @@ export class PreparedScene {
   /**
    * True when the point (assumed on the wall's plane) lies inside wall w's polygon (3-D) or
    * within its segment (2-D, any height), boundary included within `tol` metres.
-   * @example ps.insideWall(0, 0.5, 0.2, 0, 0) // true for the triangle [[0,0,0],[1,0,0],[1,1,0]]
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
+   * [ps.insideWall(0, 0.5, 0.2, 0, 0), ps.insideWall(0, 0.2, 0.5, 0, 0)] // [true, false]: (0.2, 0.5) lies above the diagonal
    */
   insideWall(w: number, x: number, y: number, z: number, tol: number): boolean {
     if (this.is2D) {
@@ -544,7 +549,9 @@ export class PreparedScene {
   /**
    * True when the open segment a -> b crosses any wall other than `skipA` and `skipB` (use -1 for
    * none). Grazing along a wall's plane does not count as crossing it.
-   * @example ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1) // true: crosses the triangle above
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
+   * [ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1), ps.segmentHitsWall(0.2, 0.8, 1, 0.2, 0.8, -1, -1, -1)] // [true, false]: only the first crosses the triangle
    */
   segmentHitsWall(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number): boolean {
     const pl = this.planes;
