@@ -181,7 +181,10 @@ export function traceScene(scene: Scene | PreparedScene, tx: TraceTerminal, rx: 
  * spreading, carrier phase and gas absorption follow the current positions. The reflection points
  * are found from the images of the new transmitter position through the same walls (without the
  * validity tests). Paths keep their order and ids (no re-sorting or pruning).
- * @example retracePaths(ps, paths, tx, { ...rx, position: [10.1, 0, 0] }, 28e9)[0].lengthM // 10.1
+ * @example
+ * const ps = prepareScene({ walls: [{ vertices: [[0, 5], [20, 5]] }] }), tx: TraceTerminal = { position: [0, 0, 0] };
+ * const { paths } = traceScene(ps, tx, { position: [10, 0, 0] }, 28e9); // 'los' 10 m, 'R:walls[0]' 14.142 m
+ * retracePaths(ps, paths, tx, { position: [10.1, 0, 0] }, 28e9).map((p) => p.lengthM) // [10.1, 14.213]
  */
 export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx: TraceTerminal, rx: TraceTerminal, carrierHz: number, options: TraceOptions = {}): TracedPath[] {
   if (!Number.isFinite(carrierHz) || carrierHz <= 0) throw new RangeError(`retracePaths(): carrierHz must be a finite number > 0, got ${carrierHz}`);
@@ -209,7 +212,9 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
  * Sort by power (strongest first; ties by id, so the order is stable), drop paths more than
  * `dynamicRangeDb` below the strongest, keep at most `maxPaths`; paths of zero amplitude
  * (powerDb -Infinity) are dropped unless `keepNullPaths`.
- * @example prunePaths(paths, 10, 30) // the 10 strongest within 30 dB of the first
+ * @example
+ * const { paths } = traceScene({ walls: [{ vertices: [[0, 5], [20, 5]] }] }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9);
+ * [prunePaths(paths).length, prunePaths(paths, Infinity, 6).map((p) => p.id)] // [2, ['los']]: the reflection is 8.846 dB below the direct path
  */
 export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRangeDb = Infinity, keepNullPaths = false): TracedPath[] {
   const sorted = [...paths].sort((a, b) => (b.powerDb - a.powerDb) || (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
