@@ -144,7 +144,9 @@ export function codebookColumn(codebook: Codebook, beam: number, out = new Float
 /**
  * Beam-space channel W^H H[k] F for every subcarrier: H [K, Nr, Nt], W a receive codebook of
  * Nr elements, F a transmit codebook of Nt elements; out [K, Bw, Bf].
- * @example beamspaceChannel(H, K, ulaCodebook(Nr, { side: 'receive' }), ulaCodebook(Nt)) // [K, Nr, Nt] beams
+ * @example
+ * const W = ulaCodebook(1, { side: 'receive' }), F = ulaCodebook(2); // 1 receive beam; transmit beams towards u_y = -1 and 0
+ * beamspaceChannel(Float64Array.of(1, 0, 1, 0), 1, W, F) // Float64Array [8.7e-17, 0, 1.4142, 0]: [1, 1, 2], H = [1, 1] falls in the broadside beam
  */
 export function beamspaceChannel(H: ComplexArray, subcarriers: number, W: Codebook, F: Codebook, out?: Float64Array): Float64Array {
   const fn = 'beamspaceChannel()';
@@ -298,7 +300,7 @@ export class BeamSearch {
 
 /**
  * The best beam pair of one subframe H [K, Nr, Nt] (see BeamSearch).
- * @example bestBeamPair(H, K, ulaCodebook(Nr, { side: 'receive' }), ulaCodebook(Nt)) // { receiveBeam, transmitBeam, gain, meanGain }
+ * @example bestBeamPair(Float64Array.of(1, 0, -1, 0), 1, ulaCodebook(1, { side: 'receive' }), ulaCodebook(2)) // { receiveBeam: 0, transmitBeam: 0, gain: 2, meanGain: 2 }: H = [1, -1] is beam 0 (u_y = -1)
  */
 export function bestBeamPair(H: ComplexArray, subcarriers: number, W: Codebook, F: Codebook, budget?: LinkBudget): BeamPair {
   return new BeamSearch(W, F, subcarriers, budget).search(H);
@@ -325,7 +327,9 @@ export interface BeamTrack {
  * Track the best beam pair over subframes [first, first + count) of a frequency-domain
  * ChannelGenerator (pulled one subframe at a time, so memory stays at one subframe), or of a
  * tensor [S, K, Nr, Nt] given with its shape.
- * @example trackBeamPairs(generator, W, F).transmitBeam // Int32Array of S beam indices
+ * @example
+ * const W = ulaCodebook(1, { side: 'receive' }), F = ulaCodebook(2);
+ * trackBeamPairs({ tensor: Float64Array.of(1, 0, 1, 0, 1, 0, -1, 0), shape: [2, 1, 1, 2] }, W, F).transmitBeam // Int32Array [1, 0]: H = [1, 1], then [1, -1]
  */
 export function trackBeamPairs(
   source: ChannelGenerator | { tensor: ComplexArray; shape: readonly [number, number, number, number] },
