@@ -70,7 +70,12 @@ export class ChannelFilter {
 
   /**
    * A filter sized for a tap-delay ChannelGenerator (shape [S, count, Nr, Nt]).
-   * @example ChannelFilter.forGenerator(gen).taps // gen.shape[1]
+   * @example
+   * const end = (position: Vec3, elements: number) => ({ position, velocity: [0, 0, 0] as Vec3, array: AntennaArray.ula(elements, 0.005) });
+   * const gen = new ChannelGenerator({ carrierHz: 28e9, subframeS: 1e-3, subframes: 1, seed: 1, fading: { model: 'static' }, transmitter: end([0, 0, 0], 2),
+   *   receiver: end([10, 0, 0], 4), paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }], grid: { domain: 'taps', sampleRateHz: 1e9, count: 16 } });
+   * const f = ChannelFilter.forGenerator(gen); // gen.shape is [1, 16, 4, 2]
+   * [f.taps, f.receivers, f.transmitters] // [16, 4, 2]
    */
   static forGenerator(generator: ChannelGenerator): ChannelFilter {
     if (generator.spec.grid.domain !== 'taps') {
