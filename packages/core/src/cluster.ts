@@ -153,7 +153,10 @@ function drawCluster(spread: ClusterSpread, stream: RandomStream): { offsets: Fl
 /**
  * A timeline whose paths are widened into clusters of sub-paths (module comment). Paths with no
  * spread (undefined) pass through unchanged, with their own ids.
- * @example new ClusteredTimeline(new ExplicitTimeline([p]), [clusterPreset('umi-los')], 1).ids[3] // "p#3"
+ * @example
+ * const p: ExplicitPath = { id: 'p', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] };
+ * const t = new ClusteredTimeline(new ExplicitTimeline([p]), [clusterPreset('umi-los')], 1);
+ * [t.ids.length, t.ids[3]] // [20, 'p#3']: the preset's 20 sub-paths
  */
 export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
   readonly ids: string[] = [];
