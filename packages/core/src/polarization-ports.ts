@@ -54,7 +54,9 @@ export function identityTransfers(L: number, out: Float64Array = new Float64Arra
  * steps 9 to 11 (from memory, M): [[e^(j Phi_tt), k^-1/2 e^(j Phi_tp)], [k^-1/2 e^(j Phi_pt), e^(j Phi_pp)]],
  * k = 10^(xprDb / 10), the four phases uniform on (-pi, pi) drawn from `stream` in the order
  * tt, tp, pt, pp. Written at out[offset .. offset + 8).
- * @example xprTransfer(out, 0, 10, stream) // |out[0..1]| = 1, |out[2..3]| = 0.3162
+ * @example
+ * const T = xprTransfer(new Float64Array(8), 0, 10, new RandomStream(1, 'xpr'));
+ * [0, 1, 2, 3].map((e) => Math.hypot(T[2 * e]!, T[2 * e + 1]!)) // [1, 0.3162, 0.3162, 1]: |tt|, |tp|, |pt|, |pp| at XPR 10 dB
  */
 export function xprTransfer(out: Float64Array, offset: number, xprDb: number, stream: RandomStream): Float64Array {
   if (!Number.isFinite(xprDb)) throw new RangeError(`xprTransfer(): xprDb must be a finite number, got ${xprDb}`);
@@ -92,7 +94,7 @@ export function portFieldComponents(out: Float64Array, portsLocal: readonly Read
 /**
  * Port coupling c_(a,b) = f_rx(a)^T T f_tx(b) for one path: T at transfers[8 l ..], rxFields
  * [Pr, 2], txFields [Pt, 2]; writes [Pr, Pt] complex into `out`.
- * @example portCoupling(out, Float64Array.of(1, 0), identityTransfers(1), 0, Float64Array.of(1, 0), 1, 1) // [1, 0]
+ * @example portCoupling(new Float64Array(2), Float64Array.of(1, 0), identityTransfers(1), 0, Float64Array.of(1, 0), 1, 1) // Float64Array [1, 0]: theta to theta through T = I
  */
 export function portCoupling(out: Float64Array, rxFields: Float64Array, transfers: Float64Array, l: number, txFields: Float64Array, Pr: number, Pt: number): Float64Array {
   const o = 8 * l;
