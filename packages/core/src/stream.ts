@@ -68,7 +68,12 @@ function resolve(generator: ChannelGenerator, range: StreamRange): [number, numb
 /**
  * Iterate subframes synchronously.
  * @example
- * for (const item of streamSubframes(generator, { first: 10, count: 5 })) use(item.tensor); // subframes 10..14
+ * const end = (position: Vec3) => ({ position, velocity: [0, 0, 0] as Vec3, array: AntennaArray.ula(1, 0) });
+ * const generator = new ChannelGenerator({ carrierHz: 28e9, subframeS: 1e-3, subframes: 20, seed: 1, fading: { model: 'static' }, transmitter: end([0, 0, 0]),
+ *   receiver: end([10, 0, 0]), paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }], grid: { domain: 'frequency', subcarriers: 2, spacingHz: 120e3 } });
+ * const seen: number[] = [];
+ * for (const item of streamSubframes(generator, { first: 10, count: 5 })) seen.push(item.index); // item.tensor: Float32Array [1, 0, 1, 0]
+ * seen // [10, 11, 12, 13, 14]
  */
 export function* streamSubframes(generator: ChannelGenerator, range: StreamRange = {}): Generator<SubframeItem, void, undefined> {
   const [first, count] = resolve(generator, range);
@@ -85,7 +90,12 @@ export function* streamSubframes(generator: ChannelGenerator, range: StreamRange
  * Iterate subframes asynchronously, yielding to the event loop between subframes so a test
  * bench can interleave I/O.
  * @example
- * for await (const item of streamSubframesAsync(generator)) await send(item.tensor);
+ * const end = (position: Vec3) => ({ position, velocity: [0, 0, 0] as Vec3, array: AntennaArray.ula(1, 0) });
+ * const generator = new ChannelGenerator({ carrierHz: 28e9, subframeS: 1e-3, subframes: 20, seed: 1, fading: { model: 'static' }, transmitter: end([0, 0, 0]),
+ *   receiver: end([10, 0, 0]), paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }], grid: { domain: 'frequency', subcarriers: 2, spacingHz: 120e3 } });
+ * const seen: number[] = [];
+ * for await (const item of streamSubframesAsync(generator, { first: 18 })) seen.push(item.index);
+ * seen // [18, 19]
  */
 export async function* streamSubframesAsync(generator: ChannelGenerator, range: StreamRange = {}): AsyncGenerator<SubframeItem, void, undefined> {
   for (const item of streamSubframes(generator, range)) {
