@@ -44,7 +44,9 @@ export interface FadingGainsOptions {
 
 /**
  * The gain process of a fading model: "ar" steps by clock.stepS, the others evaluate at clock.timeS.
- * @example createFadingGains('ar', paths, 7, { clock: uniformClock(1e-3), order: 20 }) // an AutoregressiveGains
+ * @example
+ * const paths: FadingPath[] = [{ id: 'a', power: 1, phaseRad: 0, dopplersHz: [100] }]; // one path, 100 Hz maximum Doppler
+ * createFadingGains('ar', paths, 7, { clock: uniformClock(1e-3), order: 20 }) instanceof AutoregressiveGains // true
  */
 export function createFadingGains(model: FadingModelName, paths: readonly FadingPath[], seed: number, options: FadingGainsOptions): GainProcess {
   switch (model) {
