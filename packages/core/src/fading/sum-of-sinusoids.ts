@@ -63,7 +63,7 @@ export interface SumOfSinusoidsOptions {
  * non-zero spread, double ring for two.
  * @example
  *   const g = new SumOfSinusoidsGains([{ id: 'a', power: 1, phaseRad: 0, dopplersHz: [100] }], 1, { sinusoids: 16, clock: uniformClock(1e-3) });
- *   g.fillAtTimes(new Float64Array(2), [0.0123]); // the gain at t = 12.3 ms
+ *   g.fillAtTimes(new Float64Array(2), [0.0123]); // Float64Array [-0.1852, -0.03734]: the gain at t = 12.3 ms
  */
 export class SumOfSinusoidsGains implements GainProcess, ContinuousGainProcess {
   readonly pathCount: number;
@@ -140,7 +140,10 @@ export class SumOfSinusoidsGains implements GainProcess, ContinuousGainProcess {
 
   /**
    * The unit-power gain X_l(t) of path l, written to out[offset], out[offset + 1].
-   * @example g.evaluate(buf, 0, 0, 0.5) // X_0 at t = 0.5 s
+   * @example
+   * const g = new SumOfSinusoidsGains([{ id: 'a', power: 1, phaseRad: 0, dopplersHz: [100] }], 1, { sinusoids: 16, clock: uniformClock(1e-3) });
+   * const buf = new Float64Array(2);
+   * g.evaluate(buf, 0, 0, 0.5); // buf: Float64Array [0.7705, 0.1135], X_0 at t = 0.5 s (as g.fillAtTimes(buf, [0.5]))
    */
   evaluate(out: Float64Array, offset: number, l: number, timeS: number): void {
     const M = this.sinusoids;
