@@ -31,7 +31,8 @@ export interface GeometricOptions {
  * Geometric (deterministic Doppler) gains, optionally Rician.
  * @example
  *   const g = new GeometricGains([{ id: 'los', power: 4, phaseRad: 0, dopplersHz: [], dopplerHz: 250 }], 0, { clock: uniformClock(1e-3) });
- *   g.fillAtTimes(out, [1e-3]); // out = [2 cos(pi / 2), 2 sin(pi / 2)] = [~0, 2]
+ *   const out = new Float64Array(2);
+ *   g.fillAtTimes(out, [1e-3]); // out: Float64Array [1.2e-16, 2] = [2 cos(pi / 2), 2 sin(pi / 2)]
  */
 export class GeometricGains implements GainProcess, ContinuousGainProcess {
   readonly pathCount: number;
