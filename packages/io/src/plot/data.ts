@@ -18,7 +18,10 @@ import { gainCorrelation, type CorrelationSeries, type TimeFrequencyInput } from
 
 /**
  * A scenario, built, and (for a file) the open file it came with.
- * @example (await openPlotSource('out/corner.h5')).reader?.format // "h5"
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32] with its truth tables
+ * (await openPlotSource('run.h5')).reader?.format // 'h5'
  */
 export interface PlotSource {
   /** The file name given. */
@@ -60,7 +63,9 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
 
 /**
  * A source from a scenario object already in memory (validated: use parseScenarioText or safeParseScenario first).
- * @example scenarioPlotSource(scenario, 'my scene').built.domain // "frequency"
+ * @example
+ * const { scenario } = parseScenarioText(readFileSync('examples/street-corner-28ghz.json', 'utf8'));
+ * scenarioPlotSource(scenario, 'my scene').built.domain // 'frequency'
  */
 export function scenarioPlotSource(scenario: Scenario, label: string): PlotSource {
   return { file: label, scenario, built: buildScenario(scenario) };
@@ -68,7 +73,10 @@ export function scenarioPlotSource(scenario: Scenario, label: string): PlotSourc
 
 /**
  * Release the file of a source (a no-op for a scenario).
- * @example await closePlotSource(await openPlotSource('out/corner.h5')) // the HDF5 file is closed
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32] with its truth tables
+ * await closePlotSource(await openPlotSource('run.h5')) // undefined: the HDF5 file is closed
  */
 export async function closePlotSource(source: PlotSource): Promise<void> {
   await source.reader?.close();
@@ -125,7 +133,10 @@ export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigure
 /**
  * Paths for the profile figures at time t: a file's own truth tables at the subframe holding t
  * (what the file carries), else the scenario's paths traced at t.
- * @example (await profilePathsOf(await openPlotSource('out/corner.h5'))).origin // "out/corner.h5, truth tables at subframe 0 (t = 0.000 s)"
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32] with its truth tables
+ * (await profilePathsOf(await openPlotSource('run.h5'))).origin // 'run.h5, truth tables at subframe 0 (t = 0.000 s)'
  */
 export async function profilePathsOf(source: PlotSource, atS = 0, user = 0): Promise<{ paths: ProfilePath[]; origin: string }> {
   const ui = userIndex(source, user);
