@@ -191,7 +191,7 @@ function pointText(pts: readonly number[]): string {
  * @example
  * const svg = sceneFigure({ title: 'free space', scene: { walls: [] }, transmitter: { position: [0, 0, 2], label: 'Tx' },
  *   receivers: [{ position: [10, 0, 1.5], label: 'Rx' }], paths: [{ id: 'los', kind: 'los', powerDb: -81.4 }] });
- * svg.match(/class="path"/g).length // 1
+ * svg.match(/class="path"/g).length // 2: the path in the top and the side view (a 3-D scene)
  */
 export function sceneFigure(input: SceneFigureInput): string {
   if (input.receivers.length === 0) throw new RangeError('sceneFigure(): needs at least one receiver, got none');
