@@ -582,7 +582,9 @@ export function outputEstimate(scenario: Scenario, domain: Domain, subframes = s
 /**
  * Bytes of the per-subframe side arrays held in memory until the file is committed (gains and
  * ground truth: S x U x L values each), for `count` subframes and `pathCount` paths per user.
- * @example sideArrayBytes(scenario, 1000, 8) // 1000 * (16 * 8 + 56 * 8 + 145) for one user, no symbols
+ * @example
+ * const { scenario } = await loadScenario('examples/street-corner-28ghz.json'); // one receiver, no symbol axis
+ * sideArrayBytes(scenario, 1000, 8) // 721000 = 1000 * (16 * 8 + 56 * 8 + 145)
  */
 export function sideArrayBytes(scenario: Scenario, count: number, pathCount: number): number {
   const users = scenario.receivers?.length ?? 1;
