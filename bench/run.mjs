@@ -13,7 +13,7 @@
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
-import { availableParallelism, tmpdir } from 'node:os';
+import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { buildScenario, parseScenarioText } from '@pathweave/io';
@@ -108,6 +108,7 @@ try {
     for (const mode of modes) {
       for (const threads of ['1', 'default']) {
         const workers = threads === '1' ? 1 : availableParallelism();
+        const loadBefore = loadavg()[0]; // the machine is shared: say how busy it was
         const p = [], n = [];
         for (let i = 0; i < PAIRS; i++) {
           const out = join(dir, `${name}.npy`);
@@ -128,9 +129,10 @@ try {
           pathweave: { coefficientsPerSecond: ps, bytesPerSecond: stats(p.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(p.map(seconds)), maxRssBytes: Math.max(...p.map((r) => r.maxRssBytes)) },
           numpy: { coefficientsPerSecond: ns, bytesPerSecond: stats(n.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(n.map(seconds)), maxRssBytes: Math.max(...n.map((r) => r.maxRssBytes)), ...info },
           ratio,
+          loadAverage1m: { before: loadBefore, after: loadavg()[0] },
         };
         emit(row);
-        log(`  ${mode.padEnd(6)} threads ${threads.padEnd(7)} pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)}`);
+        log(`  ${mode.padEnd(6)} threads ${threads.padEnd(7)} pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
       }
     }
 
