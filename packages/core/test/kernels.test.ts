@@ -127,7 +127,7 @@ describe.runIf(wasm !== undefined)('SIMD kernel writing in place into its own me
     expect(Array.from(inPlace.subarray(off + 2 * bins * M))).toEqual([99, 99]);
   });
 
-  it.each(SIZES.filter(([bins]) => bins !== 33))('complex128: bins %i, L %i, M %i: plain within 1e-13, copying path bit for bit', (bins, L, M) => {
+  it.each(SIZES)('complex128: bins %i, L %i, M %i: plain within 1e-13, copying path bit for bit', (bins, L, M) => {
     const w = values(2 * bins * L, 41 + bins + 100 * L), p = values(2 * L * M, 43 + M);
     const plain = new Float64Array(2 * bins * M), copied = new Float64Array(2 * bins * M);
     const inPlace = allocate!(2 + 2 * bins * M, Float64Array);
