@@ -122,7 +122,8 @@ describe('merge', () => {
     if (!hasPython('numpy', 'h5py')) return;
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', movingScenario(S));
-    expect(runCli(['generate', file, '--out', join(dir, `full.${ext}`), '--quiet']).status).toBe(0);
+    // --checksum: the unsharded run records tensorSha256 too (shard runs always do), to compare it.
+    expect(runCli(['generate', file, '--out', join(dir, `full.${ext}`), '--checksum', '--quiet']).status).toBe(0);
     shardAll(dir, file, join(dir, `run.${ext}`), 3);
     // Given out of order: merge sorts by range.
     const parts = [2, 0, 1].map((i) => join(dir, `run.part-${i}-of-3.${ext}`));
@@ -140,7 +141,7 @@ describe('merge', () => {
   it('npy parts merge to the unsharded .npy byte for byte, with its side file', () => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', movingScenario(S));
-    expect(runCli(['generate', file, '--out', join(dir, 'full.npy'), '--quiet']).status).toBe(0);
+    expect(runCli(['generate', file, '--out', join(dir, 'full.npy'), '--checksum', '--quiet']).status).toBe(0);
     shardAll(dir, file, join(dir, 'run.npy'), 4);
     const r = runCli(['merge', ...[0, 1, 2, 3].map((i) => join(dir, `run.part-${i}-of-4.npy`)), '--out', join(dir, 'merged.npy'), '--quiet']);
     expect(r.status, r.stderr).toBe(0);

@@ -23,8 +23,8 @@ function sharedBytes(n: number, seed: number): Uint8Array {
   return out;
 }
 
-// tx UPA 8x8, rx ULA 4, 128 subcarriers = 256 KiB per subframe: 64 subframes per 16 MiB block,
-// 300 subframes = 5 blocks, so each of the three buffers is filled again at least once.
+// tx UPA 8x8, rx ULA 4, 128 subcarriers = 256 KiB per subframe: 32 subframes per 8 MiB block,
+// 300 subframes = 10 blocks, so each of the three buffers is filled again at least once.
 const scenario = {
   carrierHz: 28e9,
   timing: { subframeS: 0.000125, subframes: 300 },
@@ -70,8 +70,8 @@ print(json.dumps(hashlib.sha256(bytes.fromhex(sys.stdin.read())).hexdigest()))`,
 });
 
 describe.runIf(hasPython('numpy'))('generate with one worker and a hash thread', () => {
-  it('spans five blocks', () => {
-    expect(Math.ceil(300 / Math.floor(BLOCK_TARGET_BYTES / (128 * 64 * 4 * 8)))).toBe(5);
+  it('spans ten blocks', () => {
+    expect(Math.ceil(300 / Math.floor(BLOCK_TARGET_BYTES / (128 * 64 * 4 * 8)))).toBe(10);
   });
 
   it('records the tensorSha256 hashlib computes over the tensor numpy reads back, with progress in order (numpy, hashlib (C))', async () => {
@@ -79,8 +79,8 @@ describe.runIf(hasPython('numpy'))('generate with one worker and a hash thread',
     const text = JSON.stringify(scenario);
     const { scenario: parsed } = parseScenarioText(text);
     const progress: number[] = [];
-    const report = await generate(parsed, text, { out, format: 'npy', workers: 1, onProgress: (done) => progress.push(done) });
-    expect(progress).toEqual([64, 128, 192, 256, 300]);
+    const report = await generate(parsed, text, { out, format: 'npy', workers: 1, checksum: true, onProgress: (done) => progress.push(done) });
+    expect(progress).toEqual([32, 64, 96, 128, 160, 192, 224, 256, 288, 300]);
     const ref = pythonJson<{ sha: string; shape: number[] }>(
       `import sys, json, hashlib, numpy as np
 a = np.load(sys.argv[1])
@@ -91,13 +91,13 @@ print(json.dumps({'sha': hashlib.sha256(np.ascontiguousarray(a).tobytes()).hexdi
     expect(report.sha256).toBe(ref.sha);
   });
 
-  it('stops on abort between blocks and leaves no file behind', async () => {
+  it.each([true, false])('stops on abort between blocks and leaves no file behind (checksum %s: hash thread, or in place)', async (checksum) => {
     const dir = tempDir();
     const out = join(dir, 'a.npy');
     const text = JSON.stringify(scenario);
     const { scenario: parsed } = parseScenarioText(text);
     const abort = new AbortController();
-    await expect(generate(parsed, text, { out, format: 'npy', workers: 1, signal: abort.signal, onProgress: () => abort.abort(new Error('stop here')) })).rejects.toThrow('stop here');
+    await expect(generate(parsed, text, { out, format: 'npy', workers: 1, checksum, signal: abort.signal, onProgress: () => abort.abort(new Error('stop here')) })).rejects.toThrow('stop here');
     expect(existsSync(out)).toBe(false);
     expect(readdirSync(dir)).toEqual([]);
   });

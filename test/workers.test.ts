@@ -2,7 +2,9 @@
  * generate() with worker threads: the same bytes for every worker count (design.md,
  * Reproducibility: "the same tensor bytes ... on any machine and with any worker count"), and a
  * subframe range made by workers equal to that slice of the whole run. The scenarios are sized
- * to span several 16 MiB blocks so that blocks really go to different threads.
+ * to span several 8 MiB blocks so that blocks really go to different threads. Without
+ * `checksum` a one-worker run fills in place (the kernel's own memory), with it through the
+ * hash thread's shared buffers: the bytes are the same either way.
  */
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
@@ -13,7 +15,7 @@ import { defaultWorkers } from '../packages/io/src/workers/pool.js';
 import { tempDir } from './support/run.js';
 
 // Explicit paths, Gauss-Markov fading: tx UPA 8x8, rx ULA 4, 128 subcarriers = 256 KiB per
-// subframe, 64 subframes per block, 200 subframes = 4 blocks (the last one partial).
+// subframe, 32 subframes per block, 200 subframes = 7 blocks (the last one partial).
 const explicitScenario = {
   carrierHz: 28e9,
   timing: { subframeS: 0.000125, subframes: 200 },
@@ -30,8 +32,8 @@ const explicitScenario = {
 };
 
 // Traced 2-D room with a moving receiver (paths re-traced every 10 subframes, so the products
-// change between steps): tx UPA 4x4, rx ULA 4, 256 subcarriers = 128 KiB per subframe, 128
-// subframes per block, 300 subframes = 3 blocks.
+// change between steps): tx UPA 4x4, rx ULA 4, 256 subcarriers = 128 KiB per subframe, 64
+// subframes per block, 300 subframes = 5 blocks.
 const tracedScenario = {
   carrierHz: 60e9,
   timing: { subframeS: 0.001, subframes: 300, geometryUpdateS: 0.01 },
@@ -52,16 +54,16 @@ const tracedScenario = {
   seed: 5,
 };
 
-async function run(scenario: object, out: string, workers: number, range?: [number, number]): Promise<{ file: Buffer; sha256: string }> {
+async function run(scenario: object, out: string, workers: number, range?: [number, number], checksum = true): Promise<{ file: Buffer; sha256: string | undefined }> {
   const text = JSON.stringify(scenario);
   const { scenario: parsed } = parseScenarioText(text);
-  const report = await generate(parsed, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', workers, ...(range ? { range } : {}) });
+  const report = await generate(parsed, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', workers, checksum, ...(range ? { range } : {}) });
   return { file: readFileSync(out), sha256: report.sha256 };
 }
 
 describe('generate with worker threads', () => {
   it('spans several blocks (so the threads share the work)', () => {
-    expect(Math.ceil(200 / Math.floor(BLOCK_TARGET_BYTES / (128 * 64 * 4 * 8)))).toBe(4);
+    expect(Math.ceil(200 / Math.floor(BLOCK_TARGET_BYTES / (128 * 64 * 4 * 8)))).toBe(7);
     expect(defaultWorkers(1)).toBe(1); // one block: no thread
     expect(defaultWorkers(2)).toBeLessThanOrEqual(2); // never more threads than blocks
   });
@@ -82,6 +84,23 @@ describe('generate with worker threads', () => {
     const one = await run(tracedScenario, join(dir, 'w1.npy'), 1);
     const two = await run(tracedScenario, join(dir, 'w2.npy'), 2);
     expect(two.file.equals(one.file)).toBe(true);
+  });
+
+  it('without checksum: the same bytes filled in place (1 worker) or by 2 workers, and no sha256 recorded', async () => {
+    const dir = tempDir();
+    const hashed = await run(explicitScenario, join(dir, 'h.npy'), 1);
+    const inPlace = await run(explicitScenario, join(dir, 'p.npy'), 1, undefined, false);
+    const pooled = await run(explicitScenario, join(dir, 'q.npy'), 2, undefined, false);
+    expect(inPlace.file.equals(hashed.file)).toBe(true);
+    expect(pooled.file.equals(hashed.file)).toBe(true);
+    expect([inPlace.sha256, pooled.sha256]).toEqual([undefined, undefined]);
+    // The recorded checksum is hashlib's sha256 of the bytes numpy reads (node:crypto here: the
+    // same FIPS 180-4 function, tested against hashlib in test/workers-hash.test.ts).
+    const headerOf = (b: Buffer): number => 10 + b.readUInt16LE(8);
+    expect(hashed.sha256).toBe(createHash('sha256').update(hashed.file.subarray(headerOf(hashed.file))).digest('hex'));
+    const side = (f: string): { tensor: { sha256?: string } } => JSON.parse(readFileSync(join(dir, `${f}.json`), 'utf8'));
+    expect(side('h.npy').tensor.sha256).toBe(hashed.sha256);
+    expect('sha256' in side('p.npy').tensor).toBe(false);
   });
 
   it('gives a range made by 2 workers the bytes of that slice of the whole run', async () => {

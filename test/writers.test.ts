@@ -55,13 +55,14 @@ describe('two runs aimed at the same output path at once', () => {
       const file = writeScenario(dir, 'scenario.json', scenario);
       // References: each seed alone.
       const refs = [1, 2].map((seed) => join(dir, `ref-${seed}.${format}`));
-      for (const [i, ref] of refs.entries()) expect((await start(['generate', file, '--out', ref, '--seed', String(i + 1), '--quiet'])).status).toBe(0);
+      // --checksum: the recorded tensorSha256 identifies each run's tensor (a plain run records none).
+      for (const [i, ref] of refs.entries()) expect((await start(['generate', file, '--out', ref, '--seed', String(i + 1), '--checksum', '--quiet'])).status).toBe(0);
       const refIds = await Promise.all(refs.map(tensorIdentity));
       expect(refIds[0]).not.toBe(refIds[1]); // the seeds do differ
       const refSizes = refs.map((r) => statSync(r).size);
 
       const out = join(dir, `shared.${format}`);
-      const runs = Promise.all([1, 2].map((seed) => start(['generate', file, '--out', out, '--seed', String(seed), '--quiet'])));
+      const runs = Promise.all([1, 2].map((seed) => start(['generate', file, '--out', out, '--seed', String(seed), '--checksum', '--quiet'])));
       // While they run, every look at the final name finds nothing or a whole file.
       let done = false;
       void runs.then(() => (done = true));

@@ -88,7 +88,7 @@ describe('files written record the format version', () => {
     expect(side.scenario.formatVersion).toBe(1);
   });
 
-  it.fails('known gap: npy side file records formatVersion even when the scenario omits it (generate.ts writeNpySideFile, see the issue 10 report)', () => {
+  it('npy: the side file records formatVersion at its top level, the current one when the scenario omits it', () => {
     const dir = tempDir();
     const { formatVersion: _, ...unversioned } = v1;
     const out = join(dir, 'u.npy');

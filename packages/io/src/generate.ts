@@ -1,12 +1,14 @@
 /**
  * `generate`: stream a scenario's channel tensor to a file, one block of subframes at a time,
- * so memory stays bounded by one block whatever S is (plus the small per-subframe side arrays:
- * gains and ground truth, S x U x L values). The file appears under its name only when complete
- * (temporary file, then rename).
+ * so memory stays bounded by a few blocks whatever S is (plus the small per-subframe side
+ * arrays: gains and ground truth, S x U x L values). The file appears under its name only when
+ * complete (temporary file, then rename). Between blocks the run yields to the event loop, so a
+ * signal handler of the calling thread runs within about one block's time.
  *
  * Tensor layout: [S, (U,) (symbols,) K or count, Nr, Nt], complex interleaved; users follow S.
  */
-import { createHash } from 'node:crypto';
+import { createHash, type Hash } from 'node:crypto';
+import { unlink } from 'node:fs/promises';
 import { totalmem } from 'node:os';
 import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
@@ -14,20 +16,34 @@ import { writeFileAtomic } from './atomic.js';
 import { buildScenario, chooseDomain, outputEstimate, spacingOf, type BuiltScenario, type Domain } from './build.js';
 import { openSink, type OutputFormat } from './formats/index.js';
 import { bytesOf } from './formats/npy.js';
-import type { NamedArray } from './formats/sink.js';
-import type { Scenario } from './schema.js';
+import type { DatasetSink, NamedArray } from './formats/sink.js';
+import { CURRENT_FORMAT_VERSION, type Scenario } from './schema.js';
 import { PATHWEAVE_VERSION } from './version.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
 import { HashThread } from './workers/hash.js';
 import { BlockPool, defaultWorkers } from './workers/pool.js';
 
-/** Default refusal threshold for one output file, bytes (raise with --max-bytes). */
+/**
+ * Default refusal threshold for one output file, bytes (raise with --max-bytes).
+ * @example formatBytes(DEFAULT_MAX_OUTPUT_BYTES) // "64.0 GiB"
+ */
 export const DEFAULT_MAX_OUTPUT_BYTES = 64 * 2 ** 30;
 
-/** Target size of one streamed block of subframes, bytes. */
-export const BLOCK_TARGET_BYTES = 16 * 2 ** 20;
+/**
+ * Target size of one streamed block of subframes, bytes. Small enough that a signal is served
+ * within a fraction of a second (the run yields between blocks) and that the blocks in flight
+ * stay well under the 300 MB a run may take; large enough that a block costs far more than the
+ * per-block overhead (a kernel call per subframe, a message to a worker, a file write).
+ * @example BLOCK_TARGET_BYTES / 2 ** 20 // 8 (MiB)
+ */
+export const BLOCK_TARGET_BYTES = 8 * 2 ** 20;
 
-/** Options of a generate run. */
+/**
+ * Options of a generate run.
+ * @example
+ * const options: GenerateOptions = { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true };
+ * (await generate(scenario, text, options)).sha256 // "b68c65c0...": 64 hex digits, also the file's tensorSha256
+ */
 export interface GenerateOptions {
   out: string;
   format: OutputFormat;
@@ -38,20 +54,33 @@ export interface GenerateOptions {
   maxBytes?: number;
   /** Deflate level 0-9 of the tensor (HDF5 and NPZ). */
   deflate?: number;
+  /**
+   * Compute the SHA-256 of the tensor bytes (in the order written) and record it as the
+   * `tensorSha256` attribute (a .npy: `tensor.sha256` of its side file) and in the report.
+   * Shard runs need it (their manifests and `merge` verify parts by it); otherwise it is an
+   * integrity check a run pays for (about 1 GB/s of hashing). Default false.
+   */
+  checksum?: boolean;
   /** Called after each block with subframes done and total. */
   onProgress?: (done: number, total: number) => void;
-  /** Checked between blocks; when aborted the temporary file is removed. */
+  /** Checked between blocks; when aborted the temporary file is removed and the run rejects with its reason. */
   signal?: AbortSignal;
   /**
-   * Threads that compute blocks of subframes (worker_threads; the main thread then hashes and
-   * writes). 1 computes on the main thread (with two blocks or more, a thread of its own hashes
-   * the tensor for `tensorSha256` meanwhile). Default: one per available core, 1 for runs of
-   * fewer than two blocks. The tensor bytes are the same for every count.
+   * Threads that compute blocks of subframes (worker_threads; the main thread then writes, and
+   * hashes with `checksum`). 1 computes on the main thread, in place into the kernel's own
+   * memory (with `checksum` and two blocks or more, a thread of its own hashes meanwhile).
+   * Default: one per available core, 1 for runs of fewer than two blocks. The tensor bytes are
+   * the same for every count.
    */
   workers?: number;
 }
 
-/** What a run wrote. */
+/**
+ * What a run wrote.
+ * @example
+ * const report: GenerateReport = await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] });
+ * [report.tensorName, report.shape, report.sha256, report.kernel] // ['H', [4, 64, 4, 32], undefined, 'wasm-simd128']
+ */
 export interface GenerateReport {
   out: string;
   format: OutputFormat;
@@ -61,18 +90,27 @@ export interface GenerateReport {
   range: [number, number];
   fileBytes: number;
   tensorBytes: number;
-  sha256: string;
+  /** Hex SHA-256 of the tensor bytes; only with `checksum`. */
+  sha256?: string;
+  /** The accumulation kernel that computed the tensor (`KERNEL_NAME` of the threads that filled it). */
+  kernel: string;
   seconds: number;
   warnings: string[];
   built: BuiltScenario;
 }
 
-/** A refusal of the request itself (exit code 2). */
+/**
+ * A refusal of the request itself (exit code 2).
+ * @example new RequestError('the output would be 80.0 GiB').name // "RequestError"
+ */
 export class RequestError extends Error {
   override name = 'RequestError';
 }
 
-/** Human-readable byte count. @example formatBytes(1536) // "1.5 KiB" */
+/**
+ * Human-readable byte count (binary units, one decimal).
+ * @example [formatBytes(512), formatBytes(1536), formatBytes(2 ** 31)] // ["512 B", "1.5 KiB", "2.0 GiB"]
+ */
 export function formatBytes(n: number): string {
   const units = ['B', 'KiB', 'MiB', 'GiB', 'TiB', 'PiB'];
   let u = 0;
@@ -84,7 +122,12 @@ export function formatBytes(n: number): string {
   return u === 0 ? `${n} B` : `${v.toFixed(1)} ${units[u]}`;
 }
 
-/** Working memory a run needs besides its block buffer, bytes (an estimate). */
+/**
+ * Working memory a run needs besides its block buffers, bytes (an estimate).
+ * @example
+ * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
+ * workingMemoryEstimate(scenario, 'frequency', 8) // 1196032: 8 paths x (16 x 4 x 32 + 48 x 64) + 16 x 4 x 32
+ */
 export function workingMemoryEstimate(scenario: Scenario, domain: Domain, pathCount: number): number {
   const { shape } = outputEstimate(scenario, domain, 1);
   const n = shape.length;
@@ -95,7 +138,13 @@ export function workingMemoryEstimate(scenario: Scenario, domain: Domain, pathCo
   return users * (pathCount * perPath + 48 * bins * pathCount + 16 * Nr * Nt);
 }
 
-/** Refuse up front what cannot be done: output over the limit, memory beyond the machine. */
+/**
+ * Refuse up front what cannot be done: output over the limit, memory beyond the machine.
+ * @example
+ * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
+ * checkRequest(scenario, 'frequency', [0, 200], 2 ** 20, 8)
+ * // throws RequestError "the output would be 12.5 MiB (13107200 bytes, shape [200, 64, 4, 32]), over the limit of 1.0 MiB; raise it with --max-bytes 13107200 or ask for fewer subframes"
+ */
 export function checkRequest(scenario: Scenario, domain: Domain, range: [number, number], maxBytes: number, pathCount: number): void {
   const S = scenario.timing.subframes;
   if (!(range[0] >= 0 && range[1] <= S && range[0] < range[1])) {
@@ -115,14 +164,30 @@ export function checkRequest(scenario: Scenario, domain: Domain, range: [number,
   }
 }
 
-/** Subframes per streamed block for a given subframe size. */
+/**
+ * Subframes per streamed block for a given subframe size (at least one).
+ * @example [blockSubframes(64 * 4 * 32 * 8), blockSubframes(2 ** 24)] // [128, 1]: 64 KiB subframes, then one larger than a block
+ */
 export function blockSubframes(bytesPerSubframe: number): number {
   return Math.max(1, Math.floor(BLOCK_TARGET_BYTES / Math.max(1, bytesPerSubframe)));
 }
 
 export { fillBlock, maxPathCount } from './workers/fill.js';
 
-/** Run a generate request. */
+/** Requests waiting or computing per worker thread while the main thread writes a block. */
+const IN_FLIGHT_PER_WORKER = 2;
+
+/** Let timers, I/O callbacks and signal handlers run (one turn of the event loop). */
+const yieldToEventLoop = (): Promise<void> => new Promise((resolve) => setImmediate(resolve));
+
+/**
+ * Run a generate request: build the scenario, stream the tensor block by block, add the side
+ * arrays and attributes, commit (a .npy's side file is written first, then the .npy renamed).
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * const report = await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] });
+ * [report.shape, report.fileBytes > report.tensorBytes] // [[4, 64, 4, 32], true]: 262144 tensor bytes plus side arrays
+ */
 export async function generate(scenario: Scenario, scenarioText: string, options: GenerateOptions): Promise<GenerateReport> {
   const started = process.hrtime.bigint();
   const domain = chooseDomain(scenario, options.domain);
@@ -139,112 +204,192 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   const tensorName = domain === 'frequency' ? 'H' : 'h';
   const bytesPerSubframe = built.valuesPerSubframe * g.bytesPerValue;
   const block = blockSubframes(bytesPerSubframe);
+  const blocks = Math.ceil(count / block);
+  const workers = options.workers ?? defaultWorkers(blocks);
+  if (!Number.isInteger(workers) || workers < 1) throw new RangeError(`generate(): options.workers must be an integer >= 1, got ${workers}`);
   const seed = options.seed ?? scenario.seed;
-  const hash = createHash('sha256');
   const gainShape = [count, ...(built.multiUser ? [built.users.length] : []), ...(g.stepsPerSubframe > 1 || scenario.timing.symbolsPerSubframe !== undefined || scenario.timing.numerology !== undefined ? [g.stepsPerSubframe] : []), maxPathCount(built)];
   const gains = new Float64Array(2 * gainShape.reduce((a, b) => a * b, 1));
   const gainsPerSubframe = gains.length / count;
+  const job: TensorJob = {
+    built, first, end, block, blocks, workers, gains, gainsPerSubframe,
+    values: 2 * Math.min(block, count) * built.valuesPerSubframe,
+    hash: options.checksum === true ? createHash('sha256') : undefined,
+    pool: { scenario, domain, seed: options.seed, gainsPerSubframe },
+    between: async () => {
+      await yieldToEventLoop();
+      if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+    },
+    ...(options.onProgress !== undefined ? { onProgress: options.onProgress } : {}),
+  };
 
   const sink = await openSink(options.format, options.out);
+  let sideFile: string | undefined;
   try {
     await sink.beginTensor({ name: tensorName, dtype: g.precision, shape, units: '1', chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
-    const values = 2 * Math.min(block, count) * built.valuesPerSubframe;
-    const Tensor = g.precision === 'complex64' ? Float32Array : Float64Array;
-    const blocks = Math.ceil(count / block);
-    const workers = options.workers ?? defaultWorkers(blocks);
-    if (!Number.isInteger(workers) || workers < 1) throw new RangeError(`generate(): options.workers must be an integer >= 1, got ${workers}`);
-    // The file write of one block (on libuv's thread pool) overlaps the hashing and filling of
-    // the next: at most one write is pending, and a buffer is reused only once its write is done.
-    let pendingWrite: Promise<void> = Promise.resolve();
-    const write = async (s: number, n: number, view: Float32Array | Float64Array): Promise<void> => {
-      hash.update(bytesOf(view));
-      await pendingWrite;
-      pendingWrite = sink.writeRows(view).then(() => options.onProgress?.(s + n - first, count));
-      pendingWrite.catch(() => undefined); // awaited before the next write and at the end
-    };
-    let digest: (() => Promise<string>) | undefined;
-    if (workers === 1 && blocks === 1) {
-      // One block: the kernel writes in place (WebAssembly memory with the SIMD kernel), hashed here.
-      const view = allocateKernelArray(2 * count * built.valuesPerSubframe, Tensor);
-      fillBlock(built, view, first, count, gains);
-      await write(first, count, view);
-    } else if (workers === 1) {
-      // The main thread fills; a thread of its own hashes each block (SHA-256 is slower than the
-      // kernel) while the next is filled, and the file write overlaps both. A buffer is filled
-      // again once its hash and its write are done; three buffers keep all three busy.
-      const hasher = new HashThread();
-      digest = () => hasher.digest().finally(() => hasher.close());
-      const buffers = [0, 1, 2].map((): Float32Array | Float64Array => (g.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * values)) : new Float64Array(new SharedArrayBuffer(8 * values))));
-      const free: Array<Promise<void>> = buffers.map(() => Promise.resolve());
-      try {
-        let writes: Promise<void> = Promise.resolve();
-        for (let s = first, b = 0; s < end; s += block, b++) {
-          if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-          const n = Math.min(block, end - s);
-          const i = b % buffers.length;
-          await free[i];
-          const view = buffers[i]!.subarray(0, 2 * n * built.valuesPerSubframe) as Float32Array | Float64Array;
-          fillBlock(built, view, s, n, gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe));
-          const hashed = hasher.update(view);
-          writes = writes.then(() => sink.writeRows(view)).then(() => options.onProgress?.(s + n - first, count));
-          free[i] = Promise.all([hashed, writes]).then(() => undefined);
-          free[i]!.catch(() => undefined); // awaited when the buffer comes round again, or below
-        }
-        await Promise.all(free);
-      } catch (e) {
-        await Promise.allSettled(free); // no write in flight when the sink is aborted
-        await hasher.close();
-        throw e;
-      }
-    } else {
-      // Two blocks in flight per worker (one computing while the main thread hashes the other),
-      // plus the one being written.
-      const pool = new BlockPool(Math.min(workers, blocks), { scenario, domain, seed: options.seed, gainsPerSubframe });
-      try {
-        const depth = 2 * pool.size;
-        const inFlight: Array<Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }>> = [];
-        const ask = (b: number, tensor: ArrayBuffer, gainBuffer: ArrayBuffer): void => {
-          const s = first + b * block;
-          inFlight[b] = pool.request(s, Math.min(block, end - s), tensor, gainBuffer);
-          inFlight[b].catch(() => undefined); // awaited in order below; avoid an unhandled rejection meanwhile
-        };
-        const fresh = (): [ArrayBuffer, ArrayBuffer] => [new ArrayBuffer(values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe)];
-        for (let b = 0; b < Math.min(depth, blocks); b++) ask(b, ...fresh());
-        let spare: [ArrayBuffer, ArrayBuffer] | undefined = blocks > depth ? fresh() : undefined;
-        for (let b = 0; b < blocks; b++) {
-          if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-          const s = first + b * block;
-          const n = Math.min(block, end - s);
-          const done = await inFlight[b]!;
-          delete inFlight[b];
-          gains.set(new Float64Array(done.gains, 0, n * gainsPerSubframe), (s - first) * gainsPerSubframe);
-          // write() returns once the previous block's write is done: its buffers are free again.
-          await write(s, n, new Tensor(done.tensor, 0, 2 * n * built.valuesPerSubframe));
-          if (b + depth < blocks && spare !== undefined) ask(b + depth, ...spare);
-          spare = [done.tensor, done.gains];
-        }
-      } finally {
-        await pendingWrite.catch(() => undefined);
-        await pool.close();
-      }
-    }
-    await pendingWrite;
-    const sha256 = digest !== undefined ? await digest() : hash.digest('hex');
+    const { sha256, kernel } = await streamTensor(sink, job);
+    await job.between(); // a signal during the last block is served before the commit
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);
+    const formatVersion = scenario.formatVersion ?? CURRENT_FORMAT_VERSION;
     await sink.setAttribute({ name: 'scenario', dtype: 'string', value: scenarioText });
     await sink.setAttribute({ name: 'pathweaveVersion', dtype: 'string', value: PATHWEAVE_VERSION });
     await sink.setAttribute({ name: 'seed', dtype: 'int64', value: seed });
     await sink.setAttribute({ name: 'subframeRange', dtype: 'string', value: `${first}:${end}` });
     await sink.setAttribute({ name: 'subframesTotal', dtype: 'int64', value: scenario.timing.subframes });
-    await sink.setAttribute({ name: 'tensorSha256', dtype: 'string', value: sha256 });
-    await sink.setAttribute({ name: 'kernel', dtype: 'string', value: KERNEL_NAME });
-    await sink.setAttribute({ name: 'formatVersion', dtype: 'int32', value: scenario.formatVersion ?? 1 });
+    if (sha256 !== undefined) await sink.setAttribute({ name: 'tensorSha256', dtype: 'string', value: sha256 });
+    await sink.setAttribute({ name: 'kernel', dtype: 'string', value: kernel });
+    await sink.setAttribute({ name: 'formatVersion', dtype: 'int32', value: formatVersion });
+    if (options.format === 'npy') {
+      // The side file goes under its name before the .npy does: a kill between the two renames
+      // leaves the new side file beside the earlier .npy (or none), never a new .npy beside an
+      // earlier side file.
+      sideFile = `${options.out}.json`;
+      await writeNpySideFile(sideFile, built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion });
+    }
     const fileBytes = await sink.commit();
-    if (options.format === 'npy') await writeNpySideFile(options.out, built, { first, end, shape, tensorName, sha256, seed, scenarioText });
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
-    return { out: options.out, format: options.format, tensorName, dtype: g.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe, sha256, seconds, warnings: built.warnings, built };
+    return {
+      out: options.out, format: options.format, tensorName, dtype: g.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe,
+      ...(sha256 !== undefined ? { sha256 } : {}), kernel, seconds, warnings: built.warnings, built,
+    };
   } catch (e) {
     await sink.abort();
+    // A side file whose .npy never arrived describes nothing.
+    if (sideFile !== undefined) await unlink(sideFile).catch(() => undefined);
+    throw e;
+  }
+}
+
+/** What streamTensor needs of a run. */
+interface TensorJob {
+  built: BuiltScenario;
+  first: number;
+  end: number;
+  /** Subframes per block, and blocks in the range. */
+  block: number;
+  blocks: number;
+  workers: number;
+  /** Gains of the whole range, [count, (U,) (steps,) Lmax] complex128, filled as blocks arrive. */
+  gains: Float64Array;
+  gainsPerSubframe: number;
+  /** Float values of one block buffer (the largest block). */
+  values: number;
+  /** The running SHA-256 of the tensor, when asked for. */
+  hash: Hash | undefined;
+  pool: ConstructorParameters<typeof BlockPool>[1];
+  /** Awaited before each block: yields to the event loop, then throws when the run was aborted. */
+  between: () => Promise<void>;
+  onProgress?: (done: number, total: number) => void;
+}
+
+/**
+ * Fill and write every block of the tensor in order. Returns the digest (when hashing) and the
+ * kernel that computed the blocks. On a failure no write is in flight when it rethrows, so the
+ * sink can be aborted at once.
+ */
+async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256: string | undefined; kernel: string }> {
+  const { built, first, end, block, blocks, gains, gainsPerSubframe } = job;
+  const count = end - first;
+  const perSubframe = 2 * built.valuesPerSubframe;
+  const Tensor = built.generator.precision === 'complex64' ? Float32Array : Float64Array;
+  // File writes go one at a time, in order, on libuv's thread pool, overlapping the next fill;
+  // `writes` settles when the last write asked for is done.
+  let writes: Promise<void> = Promise.resolve();
+  const write = (s: number, n: number, view: Float32Array | Float64Array): Promise<void> => {
+    writes = writes.then(() => sink.writeRows(view)).then(() => job.onProgress?.(s + n - first, count));
+    writes.catch(() => undefined); // awaited before the buffer is reused, and at the end
+    return writes;
+  };
+  const gainsOf = (s: number, n: number): Float64Array => gains.subarray((s - first) * gainsPerSubframe, (s - first + n) * gainsPerSubframe);
+
+  try {
+    if (job.workers === 1 && (job.hash === undefined || blocks === 1)) {
+      // The main thread fills in place: arrays from allocateKernelArray live in the kernel's own
+      // WebAssembly memory, so the kernel writes there and the file write reads there, no copy.
+      // Two buffers: one is written while the other is filled.
+      const buffers = Array.from({ length: Math.min(blocks, 2) }, () => allocateKernelArray(job.values, Tensor));
+      const free: Array<Promise<void>> = buffers.map(() => Promise.resolve());
+      for (let s = first, b = 0; s < end; s += block, b++) {
+        await job.between();
+        const n = Math.min(block, end - s);
+        const i = b % buffers.length;
+        await free[i];
+        const view = buffers[i]!.subarray(0, n * perSubframe);
+        fillBlock(built, view, s, n, gainsOf(s, n));
+        job.hash?.update(bytesOf(view));
+        free[i] = write(s, n, view);
+      }
+      await writes;
+      return { sha256: job.hash?.digest('hex'), kernel: KERNEL_NAME };
+    }
+    if (job.workers === 1) {
+      // Hashing (about 1.1 GB/s) is slower than the kernel: a thread of its own hashes each block
+      // while the next is filled, and the file write overlaps both. A buffer is filled again once
+      // its hash and its write are done; three buffers keep all three busy. The hash thread reads
+      // the blocks in place, so they live in SharedArrayBuffers (filled through the kernel's copy).
+      const hasher = new HashThread();
+      try {
+        const buffers = [0, 1, 2].map((): Float32Array | Float64Array =>
+          built.generator.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * job.values)) : new Float64Array(new SharedArrayBuffer(8 * job.values)),
+        );
+        const free: Array<Promise<unknown>> = buffers.map(() => Promise.resolve());
+        try {
+          for (let s = first, b = 0; s < end; s += block, b++) {
+            await job.between();
+            const n = Math.min(block, end - s);
+            const i = b % buffers.length;
+            await free[i];
+            const view = buffers[i]!.subarray(0, n * perSubframe);
+            fillBlock(built, view, s, n, gainsOf(s, n));
+            free[i] = Promise.all([hasher.update(view), write(s, n, view)]);
+            free[i]!.catch(() => undefined); // awaited when the buffer comes round again, or below
+          }
+          await Promise.all(free);
+        } catch (e) {
+          await Promise.allSettled(free); // no write in flight when the sink is aborted
+          throw e;
+        }
+        return { sha256: await hasher.digest(), kernel: KERNEL_NAME };
+      } finally {
+        await hasher.close();
+      }
+    }
+    // Worker threads fill; this thread only writes (and hashes). IN_FLIGHT_PER_WORKER requests
+    // per worker wait or compute while one block is written; a block's buffers take the next
+    // request once its write is done.
+    const pool = new BlockPool(Math.min(job.workers, blocks), job.pool);
+    try {
+      const depth = Math.min(blocks, IN_FLIGHT_PER_WORKER * pool.size + 1);
+      const inFlight: Array<Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }>> = [];
+      const ask = (b: number, [tensor, gainBuffer]: [ArrayBuffer, ArrayBuffer]): void => {
+        const s = first + b * block;
+        inFlight[b] = pool.request(s, Math.min(block, end - s), tensor, gainBuffer);
+        inFlight[b].catch(() => undefined); // awaited in order below; avoid an unhandled rejection meanwhile
+      };
+      for (let b = 0; b < depth; b++) ask(b, [new ArrayBuffer(job.values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe)]);
+      let next = depth;
+      let previous: [ArrayBuffer, ArrayBuffer] | undefined;
+      for (let b = 0; b < blocks; b++) {
+        await job.between();
+        const s = first + b * block;
+        const n = Math.min(block, end - s);
+        const done = await inFlight[b]!;
+        delete inFlight[b];
+        gainsOf(s, n).set(new Float64Array(done.gains, 0, n * gainsPerSubframe));
+        const view = new Tensor(done.tensor, 0, n * perSubframe);
+        job.hash?.update(bytesOf(view));
+        await writes; // the previous block is on disk: its buffers are free
+        if (previous !== undefined && next < blocks) ask(next++, previous);
+        write(s, n, view);
+        previous = [done.tensor, done.gains];
+      }
+      await writes;
+      return { sha256: job.hash?.digest('hex'), kernel: pool.kernel ?? KERNEL_NAME };
+    } finally {
+      await pool.close();
+    }
+  } catch (e) {
+    await writes.catch(() => undefined); // no write in flight when the sink is aborted
     throw e;
   }
 }
@@ -373,18 +518,27 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
   ];
 }
 
+/**
+ * The side file of a .npy (`<file>.npy.json`): the tensor's description (with its sha256 when
+ * computed), the format version and kernel, seed, users, paths and scenario.
+ */
 async function writeNpySideFile(
-  out: string,
+  path: string,
   built: BuiltScenario,
-  info: { first: number; end: number; shape: number[]; tensorName: string; sha256: string; seed: number; scenarioText: string },
+  info: { first: number; end: number; shape: number[]; tensorName: string; sha256: string | undefined; seed: number; scenarioText: string; kernel: string; formatVersion: number },
 ): Promise<void> {
   const doc = {
+    formatVersion: info.formatVersion,
     pathweaveVersion: PATHWEAVE_VERSION,
-    tensor: { name: info.tensorName, dtype: built.generator.precision, shape: info.shape, subframes: [info.first, info.end], subframesTotal: built.scenario.timing.subframes, sha256: info.sha256 },
+    kernel: info.kernel,
+    tensor: {
+      name: info.tensorName, dtype: built.generator.precision, shape: info.shape, subframes: [info.first, info.end], subframesTotal: built.scenario.timing.subframes,
+      ...(info.sha256 !== undefined ? { sha256: info.sha256 } : {}),
+    },
     seed: info.seed,
     users: built.users.map((u) => ({ id: u.id, paths: u.paths })),
     paths: built.paths,
     scenario: JSON.parse(info.scenarioText) as unknown,
   };
-  await writeFileAtomic(`${out}.json`, JSON.stringify(doc, null, 2) + '\n');
+  await writeFileAtomic(path, JSON.stringify(doc, null, 2) + '\n');
 }

@@ -1,30 +1,30 @@
 /**
  * `pathweave generate`: a scenario to a dataset file, streamed, with progress and signal handling.
  * With `--shard I/N` (or `auto`) the run writes the part file `partPath(out, I, N)` and its
- * manifest (manifest.ts); a rerun keeps a part whose manifest verifies.
+ * manifest (manifest.ts); a rerun keeps a part whose manifest verifies. `--checksum` records the
+ * tensor's SHA-256 in a plain run; shard runs always compute it (manifests and merge verify by it).
  *
- * The run itself goes in a worker thread, so this thread stays free to answer SIGINT/SIGTERM at
- * once whatever the run is doing (a long synchronous block, an HDF5 write): it stops the worker,
- * removes the hidden temporary files of the output and exits with 1. (This module is also the
- * worker's entry point; see the end of the file.)
+ * The run goes in this thread: generate() yields to the event loop between blocks (about 8 MiB
+ * each), so SIGINT/SIGTERM are answered within a block's time. The handler removes the hidden
+ * temporary files of the output at once, stops the run and exits with 1.
  */
 import { readdirSync, unlinkSync } from 'node:fs';
 import { totalmem } from 'node:os';
 import { OutputFileError } from '../atomic.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
-import { isMainThread, parentPort, Worker, workerData } from 'node:worker_threads';
-import { KERNEL_NAME } from '@pathweave/core';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateOptions, type GenerateReport } from '../generate.js';
-import type { Scenario } from '../schema.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../generate.js';
 import { chooseDomain, sideArrayBytes } from '../build.js';
 import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../manifest.js';
-import { loadScenario, ScenarioError, type Problem } from '../validate.js';
+import { loadScenario } from '../validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { parseArgs, parseBytes, parseInteger, parseRange, parseShard, shardRange, UsageError } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
 import { Progress } from './progress.js';
+
+/** After a signal, how long the run may take to stop before the command returns anyway, ms. */
+const STOP_DEADLINE_MS = 900;
 
 async function run(argv: string[], io: Io): Promise<number> {
   const args = parseArgs('generate', argv, {
@@ -34,6 +34,7 @@ async function run(argv: string[], io: Io): Promise<number> {
     subframes: 'value',
     shard: 'value',
     workers: 'value',
+    checksum: 'flag',
     quiet: 'flag',
     domain: 'value',
     'max-bytes': 'value',
@@ -97,36 +98,55 @@ async function run(argv: string[], io: Io): Promise<number> {
   let done = 0;
   const total = range[1] - range[0];
   const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
-  const job = startGenerate(scenario, text, {
+  const controller = new AbortController();
+  const result: Promise<GenerateReport> = generate(scenario, text, {
     out: target,
     format,
     range,
     maxBytes,
+    // A part's manifest records the tensor's sha256, and merge verifies the parts by it.
+    checksum: shard !== undefined || args.flags.has('checksum'),
+    signal: controller.signal,
     ...(seed !== undefined ? { seed } : {}),
     ...(workers !== undefined ? { workers } : {}),
     ...(domain !== undefined ? { domain } : {}),
-  }, (n) => {
-    done = n;
-    progress.update(n);
+    onProgress: (n) => {
+      done = n;
+      progress.update(n);
+    },
   });
+  result.catch(() => undefined); // raced below; a rejection after an interruption is expected
   let onInterrupted: (signal: string) => void = () => undefined;
   const interruption = new Promise<string>((resolve) => (onInterrupted = resolve));
   const onSignal = (signal: NodeJS.Signals): void => {
     if (interrupted !== undefined) return;
     interrupted = signal;
-    // Remove the temporaries at once, stop the run, and remove any it made meanwhile.
+    // Remove the temporaries at once, stop the run, and remove any it made meanwhile. The run
+    // stops at its next block; should it take longer, the command returns at the deadline.
     let removed = removeTemporariesOf(target);
-    void job.stop().then(() => {
+    controller.abort(new Error(`interrupted by ${signal}`));
+    let deadline: NodeJS.Timeout | undefined;
+    let completed = false; // the signal came too late: the file was already renamed into place
+    const stopped = new Promise<void>((resolve) => {
+      deadline = setTimeout(resolve, STOP_DEADLINE_MS);
+      result.then(() => {
+        completed = true;
+        resolve();
+      }, resolve);
+    });
+    void stopped.then(() => {
+      clearTimeout(deadline);
       removed += removeTemporariesOf(target);
-      io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed} temporary file(s); nothing was written to ${target}`);
+      if (completed) io.err(`error: interrupted by ${signal} after the last subframe; ${target} is complete, but the run did not finish (no manifest or report)`);
+      else io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed} temporary file(s); nothing was written to ${target}`);
       onInterrupted(signal);
     });
   };
   process.on('SIGINT', onSignal);
   process.on('SIGTERM', onSignal);
   try {
-    const report = await Promise.race([job.result, interruption]);
-    if (typeof report === 'string') return 1;
+    const report = await Promise.race([result, interruption]);
+    if (typeof report === 'string' || interrupted !== undefined) return await interruption.then(() => 1);
     for (const w of report.warnings) warn(w);
     io.out(
       `wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] (subframes ${report.range[0]}:${report.range[1]}), ` +
@@ -147,11 +167,11 @@ async function run(argv: string[], io: Io): Promise<number> {
           tensorName: report.tensorName,
           dtype: report.dtype,
           shape: report.shape,
-          sha256: report.sha256,
+          sha256: report.sha256!, // computed: checksum is on for every shard run
           scenarioText: text,
           seed: effectiveSeed,
           pathweaveVersion: PATHWEAVE_VERSION,
-          kernel: KERNEL_NAME,
+          kernel: report.kernel,
         }),
       );
       if (!quiet) io.err(`manifest ${manifestPath} (part ${shard.index} of ${shard.count}, from the ${shard.source})`);
@@ -170,17 +190,11 @@ async function run(argv: string[], io: Io): Promise<number> {
 /** The generate command. */
 export const generateCommand: Command = {
   usage: `pathweave generate <scenario.json> --out <file> [--format npy|npz|h5] [--seed N]
-                   [--subframes A:B] [--shard I/N|auto|auto/N] [--workers N] [--quiet]
-                   [--domain frequency|taps] [--max-bytes SIZE]`,
+                   [--subframes A:B] [--shard I/N|auto|auto/N] [--workers N] [--checksum]
+                   [--quiet] [--domain frequency|taps] [--max-bytes SIZE]
+    --checksum   record the SHA-256 of the tensor bytes (tensorSha256; always on with --shard)`,
   run,
 };
-
-/** What the worker sends back: the report without the built scenario (not cloneable). */
-type WorkerReport = Omit<GenerateReport, 'built'>;
-type WorkerMessage =
-  | { type: 'progress'; done: number }
-  | { type: 'done'; report: WorkerReport }
-  | { type: 'error'; name: string; message: string; stack?: string; problems?: Problem[]; source?: string };
 
 /**
  * The hidden temporary files this process made for `target` (atomic.ts naming: the data file,
@@ -206,57 +220,4 @@ function removeTemporariesOf(target: string): number {
     }
   }
   return removed;
-}
-
-/**
- * Run generate in a worker thread (in this thread when running from the TypeScript sources,
- * which a worker cannot load). `stop()` ends the run at once.
- */
-function startGenerate(
-  scenario: Scenario,
-  text: string,
-  options: Omit<GenerateOptions, 'onProgress' | 'signal'>,
-  onProgress: (done: number) => void,
-): { result: Promise<WorkerReport>; stop: () => Promise<void> } {
-  if (import.meta.url.endsWith('.ts')) {
-    const controller = new AbortController();
-    const result = generate(scenario, text, { ...options, signal: controller.signal, onProgress });
-    return { result, stop: async () => controller.abort(new Error('stopped')) };
-  }
-  const worker = new Worker(new URL(import.meta.url), { workerData: { pathweaveGenerate: true, scenario, text, options } });
-  const result = new Promise<WorkerReport>((resolve, reject) => {
-    worker.on('message', (m: WorkerMessage) => {
-      if (m.type === 'progress') onProgress(m.done);
-      else if (m.type === 'done') resolve(m.report);
-      else {
-        // Refusals keep their class, so the exit code stays 2.
-        const e =
-          m.name === 'RequestError'
-            ? new RequestError(m.message)
-            : m.name === 'ScenarioError' && m.problems !== undefined
-              ? new ScenarioError(m.problems, m.source)
-              : new Error(m.message);
-        if (m.stack !== undefined) e.stack = m.stack;
-        reject(e);
-      }
-    });
-    worker.on('error', reject);
-    worker.on('exit', (code) => reject(new Error(`the generate worker stopped (exit code ${code}) before it finished`)));
-  });
-  result.catch(() => undefined);
-  return { result, stop: async () => void (await worker.terminate()) };
-}
-
-// Worker side: run the request and post progress and the outcome.
-if (!isMainThread && (workerData as { pathweaveGenerate?: boolean } | null)?.pathweaveGenerate === true) {
-  const { scenario, text, options } = workerData as { scenario: Scenario; text: string; options: GenerateOptions };
-  const port = parentPort!;
-  generate(scenario, text, { ...options, onProgress: (done) => port.postMessage({ type: 'progress', done } satisfies WorkerMessage) }).then(
-    ({ built: _built, ...report }) => port.postMessage({ type: 'done', report } satisfies WorkerMessage),
-    (e: unknown) => {
-      const err = e instanceof Error ? e : new Error(String(e));
-      const scenarioProblems = err instanceof ScenarioError ? { problems: err.problems, source: err.source } : {};
-      port.postMessage({ type: 'error', name: err.name, message: err.message, ...(err.stack !== undefined ? { stack: err.stack } : {}), ...scenarioProblems } satisfies WorkerMessage);
-    },
-  );
 }

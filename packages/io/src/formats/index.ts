@@ -1,8 +1,10 @@
-/** Output formats by name; each opens a DatasetSink writing to a temporary file first. */
+/**
+ * Output formats by name; each opens a DatasetSink writing to a temporary file first. The HDF5
+ * writer (and h5wasm, whose start-up costs about 0.1 s) is loaded only when an .h5 is opened.
+ */
 import type { DatasetSink } from './sink.js';
 import { NpySink } from './npy.js';
 import { openNpzSink } from './npz.js';
-import { openHdf5Sink } from './hdf5.js';
 
 /**
  * File formats `generate` writes.
@@ -41,6 +43,6 @@ export async function openSink(format: OutputFormat, path: string): Promise<Data
     case 'npz':
       return openNpzSink(path);
     case 'h5':
-      return openHdf5Sink(path);
+      return (await import('./hdf5.js')).openHdf5Sink(path);
   }
 }

@@ -11,14 +11,14 @@
  * 4.5.3); each `<name>.npy` entry is an array, a 0-d entry is a root attribute (the NPZ sink
  * stores attributes so), stored entries are read in place and deflated ones are inflated as a
  * stream. NPZ keeps no units: `units` is undefined there.
- * HDF5: through h5wasm; every dataset's `units` attribute and the root attributes are read.
+ * HDF5: through h5wasm, loaded on the first HDF5 file opened (reading .npy or .npz never pays for
+ * its start-up); every dataset's `units` attribute and the root attributes are read.
  * NPY: the one array is the tensor; its name ("H" or "h") and the root attributes come from the
  * side file `<file>.json` that generate writes beside it (without one the array is "tensor").
  */
 import { open, readFile, type FileHandle } from 'node:fs/promises';
 import { createReadStream } from 'node:fs';
 import { createInflateRaw } from 'node:zlib';
-import h5wasm from 'h5wasm/node';
 import { dtypeOfDescr, parseNpyHeader, DTYPE_BYTES } from './npy.js';
 import { elementCount } from './npz.js';
 import type { ArrayData, Attribute, DType, NamedArray } from './sink.js';
@@ -480,9 +480,15 @@ class NpzReader implements DatasetReader {
 // ---------------------------------------------------------------------------------------------
 // HDF5
 
-type H5Module = Awaited<typeof h5wasm.ready>;
-type H5File = InstanceType<typeof h5wasm.File>;
-type H5Metadata = InstanceType<typeof h5wasm.Dataset>['metadata'];
+type H5Wasm = typeof import('h5wasm/node').default;
+type H5Module = Awaited<H5Wasm['ready']>;
+type H5File = InstanceType<H5Wasm['File']>;
+type H5Dataset = InstanceType<H5Wasm['Dataset']>;
+type H5Metadata = H5Dataset['metadata'];
+
+let h5wasmLoaded: Promise<H5Wasm> | undefined;
+/** h5wasm, imported once, when the first HDF5 file is opened. */
+const loadH5wasm = (): Promise<H5Wasm> => (h5wasmLoaded ??= import('h5wasm/node').then((m) => m.default));
 
 /** Our DType of an HDF5 type as the sink writes them, or undefined for anything else. */
 function dtypeOfMetadata(module: H5Module, m: H5Metadata): DType | undefined {
@@ -518,6 +524,7 @@ class Hdf5Reader implements DatasetReader {
   ) {}
 
   static async open(path: string): Promise<Hdf5Reader> {
+    const h5wasm = await loadH5wasm();
     const module = await h5wasm.ready;
     const file = new h5wasm.File(path, 'r');
     try {
@@ -579,7 +586,7 @@ class Hdf5Reader implements DatasetReader {
     const array = this.find('Hdf5Reader.readArray', name);
     const units = array.units ?? '';
     if (array.dtype === 'string') {
-      const ds = this.file.get(`/${name}`) as InstanceType<typeof h5wasm.Dataset>;
+      const ds = this.file.get(`/${name}`) as H5Dataset;
       const value = ds.value;
       const strings = (Array.isArray(value) ? value : [value]).map(String);
       return { name, dtype: 'string', shape: array.shape, strings, units };

@@ -36,6 +36,7 @@ interface BlockReply {
   id: number;
   tensor?: ArrayBuffer;
   gains?: ArrayBuffer;
+  kernel?: string;
   error?: string;
 }
 
@@ -67,6 +68,7 @@ export class BlockPool {
   private readonly pending = new Map<number, { resolve: (r: BlockReply) => void; reject: (e: Error) => void }>();
   private nextId = 0;
   private failure: Error | undefined;
+  private readonly kernels = new Set<string>();
 
   constructor(count: number, data: BlockWorkerData) {
     if (!Number.isInteger(count) || count < 1) throw new RangeError(`BlockPool(): count must be an integer >= 1, got ${count}`);
@@ -83,6 +85,11 @@ export class BlockPool {
 
   get size(): number {
     return this.workers.length;
+  }
+
+  /** The KERNEL_NAME of the workers that answered so far (comma-separated if they differ), undefined before the first answer. */
+  get kernel(): string | undefined {
+    return this.kernels.size === 0 ? undefined : [...this.kernels].sort().join(',');
   }
 
   /** Ask for subframes [first, first + n) into `tensor` and `gains`; resolves with the filled buffers. */
@@ -109,6 +116,7 @@ export class BlockPool {
   private settle(reply: BlockReply): void {
     const p = this.pending.get(reply.id);
     this.pending.delete(reply.id);
+    if (reply.kernel !== undefined) this.kernels.add(reply.kernel);
     p?.resolve(reply);
   }
 
