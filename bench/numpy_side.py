@@ -2,7 +2,7 @@
 responses as matrices, the element products as one [L, Nr*Nt] matrix, one matmul over the path
 axis per subframe, complex64 throughout, np.save at the end.
 
-usage: numpy_side.py <workload.json> memory|e2e <out.npy or -> [check.npz]
+usage: numpy_side.py <workload.json> memory|e2e|e2e-checksum <out.npy or -> [check.npz]
   memory: time the per-subframe loop only (H preallocated and touched first), nothing saved
   e2e:    everything (responses, gains, loop, np.save); the caller times the whole process
   check:  with a pathweave .npz, use its gains and print the relative Frobenius error of H
@@ -78,9 +78,14 @@ loop = time.perf_counter() - t0
 result = {'side': 'numpy', 'loopSeconds': loop, 'coefficients': int(H.size)}
 if check is not None:
     result['relativeFrobenius'] = float(np.linalg.norm((H - Href).ravel()) / np.linalg.norm(Href.ravel()))
-if mode == 'e2e':
+if mode in ('e2e', 'e2e-checksum'):
     t1 = time.perf_counter()
     np.save(out, H)
     result['saveSeconds'] = time.perf_counter() - t1
+if mode == 'e2e-checksum':
+    import hashlib
+    t1 = time.perf_counter()
+    result['sha256'] = hashlib.sha256(H.data).hexdigest()  # the tensor bytes in place, as pathweave's tensorSha256
+    result['hashSeconds'] = time.perf_counter() - t1
 result['maxRssBytes'] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss * 1024
 print(json.dumps(result))

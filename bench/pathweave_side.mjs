@@ -2,12 +2,15 @@
  * The pathweave side of the benchmark, one measurement per process (bench/run.mjs alternates it
  * with numpy_side.py and times the whole process for end-to-end runs).
  *
- * usage: node bench/pathweave_side.mjs <workload.json> memory|e2e|tracer|rawdisk <workers> [out]
+ * usage: node bench/pathweave_side.mjs <workload.json> memory|e2e|e2e-checksum|tracer|rawdisk <workers|default> [out]
  *   memory:  the fill loop over all subframes into reused block buffers (after a one-subframe
  *            warm-up; the buffers come from allocateKernelArray, as in `generate`, and are touched
  *            before the clock starts, as numpy's H is); with
- *            workers > 1 the blocks go to the worker pool of `generate`
- *   e2e:     generate() to `out` (.npy, .npz), everything included
+ *            workers > 1 the blocks go to the worker pool of `generate`; `default` takes
+ *            generate's default count (defaultWorkers)
+ *   e2e:     generate() to `out` (.npy, .npz), everything included, no checksum (a plain run);
+ *            `default` leaves the worker count to generate
+ *   e2e-checksum: the same with `checksum: true` (the tensor's SHA-256, as a --shard run)
  *   tracer:  traceScene on the 20-wall room at order 2, receiver moved a little per trace
  *   rawdisk: write `bytes` (workload.rawBytes) to `out` in 16 MiB writes, then fsync
  * Prints one JSON line.
@@ -16,12 +19,12 @@ import { openSync, readFileSync, writeSync, fsyncSync, closeSync, unlinkSync } f
 import { allocateKernelArray, KERNEL_NAME } from '@pathweave/core';
 import { traceScene, prepareScene } from '@pathweave/geometry';
 import { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } from '@pathweave/io';
-import { BlockPool } from '../packages/io/dist/workers/pool.js';
+import { BlockPool, defaultWorkers } from '../packages/io/dist/workers/pool.js';
 import { twentyWallRoom } from './workloads.mjs';
 
 const [file, mode, workersArg, out] = process.argv.slice(2);
 const cfg = JSON.parse(readFileSync(file, 'utf8'));
-const workers = Number(workersArg ?? 1);
+const workers = workersArg === 'default' ? 'default' : Number(workersArg ?? 1);
 const rss = () => process.resourceUsage().maxRSS * 1024;
 const result = { side: 'pathweave', kernel: KERNEL_NAME, workers };
 
@@ -49,8 +52,10 @@ if (mode === 'tracer') {
 } else {
   const text = JSON.stringify(cfg.scenario);
   const { scenario } = parseScenarioText(text);
-  if (mode === 'e2e') {
-    const report = await generate(scenario, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', workers });
+  if (mode === 'e2e' || mode === 'e2e-checksum') {
+    const report = await generate(scenario, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', checksum: mode === 'e2e-checksum', ...(workers === 'default' ? {} : { workers }) });
+    const blocks = Math.ceil(scenario.timing.subframes / blockSubframes(report.built.valuesPerSubframe * report.built.generator.bytesPerValue));
+    result.workers = workers === 'default' ? defaultWorkers(blocks) : workers;
     Object.assign(result, { loopSeconds: report.seconds, fileBytes: report.fileBytes, coefficients: report.tensorBytes / 8 });
   } else {
     const built = buildScenario(scenario, {});
@@ -59,7 +64,9 @@ if (mode === 'tracer') {
     const block = blockSubframes(perSubframe * 8);
     const Tensor = Float32Array;
     let seconds;
-    if (workers === 1) {
+    const threads = workers === 'default' ? defaultWorkers(Math.ceil(S / block)) : workers;
+    result.workers = threads;
+    if (threads === 1) {
       const buffer = allocateKernelArray(2 * block * perSubframe, Tensor); // as generate() allocates its block buffers
       buffer.fill(0); // touch the pages outside the timed loop, as the numpy side does with H
       fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up
@@ -71,19 +78,19 @@ if (mode === 'tracer') {
       seconds = (performance.now() - t0) / 1000;
     } else {
       const gainsPerSubframe = 2 * built.generator.pathCount;
-      const pool = new BlockPool(workers, { scenario, domain: built.domain, gainsPerSubframe });
+      const pool = new BlockPool(threads, { scenario, domain: built.domain, gainsPerSubframe });
       const touched = (bytes) => new Uint8Array(bytes).fill(0).buffer; // pages touched outside the timed loop, as numpy's H
       const fresh = () => [touched(8 * block * perSubframe), touched(8 * block * gainsPerSubframe)];
-      await Promise.all(Array.from({ length: workers }, () => pool.request(0, 1, ...fresh()))); // start-up and warm-up
+      await Promise.all(Array.from({ length: threads }, () => pool.request(0, 1, ...fresh()))); // start-up and warm-up
       const blocks = Math.ceil(S / block);
       const inFlight = [];
       const ask = (b, bufs) => (inFlight[b] = pool.request(b * block, Math.min(block, S - b * block), ...bufs));
-      const first = Array.from({ length: Math.min(2 * workers, blocks) }, () => fresh());
+      const first = Array.from({ length: Math.min(2 * threads, blocks) }, () => fresh());
       const t0 = performance.now();
       first.forEach((bufs, b) => ask(b, bufs));
       for (let b = 0; b < blocks; b++) {
         const done = await inFlight[b];
-        if (b + 2 * workers < blocks) ask(b + 2 * workers, [done.tensor, done.gains]);
+        if (b + 2 * threads < blocks) ask(b + 2 * threads, [done.tensor, done.gains]);
       }
       seconds = (performance.now() - t0) / 1000;
       await pool.close();

@@ -8,7 +8,9 @@
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
- * default = generate's default workers (one per available core).
+ * default = generate's default workers (defaultWorkers: 1 on up to 2 cores, else one per core);
+ * "pool" = one worker thread per available core, whatever the default. End to end runs are
+ * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
 import { execFileSync, spawnSync } from 'node:child_process';
@@ -104,27 +106,27 @@ try {
     const check = np([checkCfg, 'memory', '-', join(dir, `${name}-check.npz`)], 1);
     log(`\n${name}: ${w.description}\n  ${coefficients.toExponential(3)} coefficients; pathweave vs numpy relative Frobenius error ${check.relativeFrobenius.toExponential(2)} (target 2e-5)`);
 
-    const modes = w.endToEnd ? ['memory', 'e2e'] : ['memory'];
-    for (const mode of modes) {
-      for (const threads of ['1', 'default']) {
-        const workers = threads === '1' ? 1 : availableParallelism();
+    const combos = [['memory', '1'], ['memory', 'default'], ...(w.endToEnd ? [['e2e', '1'], ['e2e', 'default'], ['e2e', 'pool'], ['e2e-checksum', '1']] : [])];
+    for (const [mode, threads] of combos) {
+      {
+        const workers = threads === '1' ? '1' : threads === 'pool' ? String(availableParallelism()) : 'default';
         const loadBefore = loadavg()[0]; // the machine is shared: say how busy it was
         const p = [], n = [];
         for (let i = 0; i < PAIRS; i++) {
           const out = join(dir, `${name}.npy`);
           const first = i % 2 === 0; // alternate which side goes first
-          const runP = () => p.push(pw([cfgFile, mode, String(workers), out]));
+          const runP = () => p.push(pw([cfgFile, mode, workers, out]));
           const runN = () => n.push(np([cfgFile, mode, out], threads === '1' ? 1 : 0));
           if (first) { runP(); runN(); } else { runN(); runP(); }
           rmSync(out, { force: true });
           rmSync(`${out}.json`, { force: true });
         }
-        const seconds = (r) => (mode === 'e2e' ? r.wallSeconds : r.loopSeconds);
+        const seconds = (r) => (mode === 'memory' ? r.loopSeconds : r.wallSeconds);
         const ps = stats(p.map((r) => coefficients / seconds(r)));
         const ns = stats(n.map((r) => coefficients / seconds(r)));
         const ratio = stats(p.map((r, i) => seconds(n[i]) / seconds(r)));
         const row = {
-          workload: name, description: w.description, mode, threads, pathweaveWorkers: workers, kernel: p[0].kernel,
+          workload: name, description: w.description, mode, threads, pathweaveWorkers: p[0].workers, kernel: p[0].kernel,
           coefficients, relativeFrobenius: check.relativeFrobenius,
           pathweave: { coefficientsPerSecond: ps, bytesPerSecond: stats(p.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(p.map(seconds)), maxRssBytes: Math.max(...p.map((r) => r.maxRssBytes)) },
           numpy: { coefficientsPerSecond: ns, bytesPerSecond: stats(n.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(n.map(seconds)), maxRssBytes: Math.max(...n.map((r) => r.maxRssBytes)), ...info },
@@ -132,7 +134,7 @@ try {
           loadAverage1m: { before: loadBefore, after: loadavg()[0] },
         };
         emit(row);
-        log(`  ${mode.padEnd(6)} threads ${threads.padEnd(7)} pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
+        log(`  ${mode.padEnd(12)} threads ${threads.padEnd(7)} (pathweave workers ${p[0].workers}) pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
       }
     }
 

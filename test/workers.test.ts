@@ -64,8 +64,10 @@ async function run(scenario: object, out: string, workers: number, range?: [numb
 describe('generate with worker threads', () => {
   it('spans several blocks (so the threads share the work)', () => {
     expect(Math.ceil(200 / Math.floor(BLOCK_TARGET_BYTES / (128 * 64 * 4 * 8)))).toBe(7);
-    expect(defaultWorkers(1)).toBe(1); // one block: no thread
-    expect(defaultWorkers(2)).toBeLessThanOrEqual(2); // never more threads than blocks
+    expect(defaultWorkers(1, 8)).toBe(1); // one block: no thread
+    expect(defaultWorkers(10, 2)).toBe(1); // two cores: the main thread alone, in place
+    expect(defaultWorkers(10, 8)).toBe(8); // one per core beyond that
+    expect(defaultWorkers(3, 8)).toBe(3); // never more threads than blocks
   });
 
   it('writes the same .npz bytes (tensor, gains, tables) with 1, 2 and 3 workers: explicit Gauss-Markov paths', async () => {

@@ -69,8 +69,8 @@ export interface GenerateOptions {
    * Threads that compute blocks of subframes (worker_threads; the main thread then writes, and
    * hashes with `checksum`). 1 computes on the main thread, in place into the kernel's own
    * memory (with `checksum` and two blocks or more, a thread of its own hashes meanwhile).
-   * Default: one per available core, 1 for runs of fewer than two blocks. The tensor bytes are
-   * the same for every count.
+   * Default `defaultWorkers(blocks)`: 1 on machines of up to 2 cores and for runs of fewer than
+   * two blocks, else one per available core. The tensor bytes are the same for every count.
    */
   workers?: number;
 }

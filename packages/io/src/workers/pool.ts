@@ -47,13 +47,20 @@ interface BlockReply {
  */
 export const FILL_WORKER_URL: URL = new URL('../../dist/workers/fill-worker.js', import.meta.url);
 
+/** Cores up to which the main thread alone, filling in place, is the faster default. */
+const SINGLE_THREAD_CORES = 2;
+
 /**
- * Default worker count of a run with `blocks` blocks: one per available core, never more
- * than the blocks, and 1 (no thread at all) for runs of fewer than 2 blocks.
- * @example defaultWorkers(1) // 1
+ * Default worker count of a run with `blocks` blocks on a machine of `cores` available cores:
+ * 1 (the main thread fills in place, no worker thread) for runs of fewer than 2 blocks and on
+ * machines of up to 2 cores; otherwise one per core, never more than the blocks. A pool worker
+ * fills through a copy out of the kernel's memory (about 35 % more per block than in place) and
+ * starts in about 0.25 s; on 2 cores two workers measured no faster than the main thread alone
+ * (docs/performance.md), so they pay off only with more cores.
+ * @example [defaultWorkers(1, 8), defaultWorkers(10, 2), defaultWorkers(10, 8), defaultWorkers(3, 8)] // [1, 1, 8, 3]
  */
-export function defaultWorkers(blocks: number): number {
-  return blocks < 2 ? 1 : Math.max(1, Math.min(availableParallelism(), blocks));
+export function defaultWorkers(blocks: number, cores: number = availableParallelism()): number {
+  return blocks < 2 || cores <= SINGLE_THREAD_CORES ? 1 : Math.min(cores, blocks);
 }
 
 /**
