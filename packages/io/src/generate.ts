@@ -41,8 +41,9 @@ export const BLOCK_TARGET_BYTES = 8 * 2 ** 20;
 /**
  * Options of a generate run.
  * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const options: GenerateOptions = { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true };
- * (await generate(scenario, text, options)).sha256 // "b68c65c0...": 64 hex digits, also the file's tensorSha256
+ * (await generate(scenario, text, options)).sha256 // "b68c65c08126d82661d3d3e4a667bd97d7df559de9ae865fade7b4ea06bf8595", also the file's tensorSha256
  */
 export interface GenerateOptions {
   out: string;
@@ -78,8 +79,10 @@ export interface GenerateOptions {
 /**
  * What a run wrote.
  * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const report: GenerateReport = await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] });
- * [report.tensorName, report.shape, report.sha256, report.kernel] // ['H', [4, 64, 4, 32], undefined, 'wasm-simd128']
+ * [report.tensorName, report.shape, report.fileBytes, report.sha256, report.kernel]
+ * // ['H', [4, 64, 4, 32], 262272, undefined, 'wasm-simd128']: a 128-byte header and 262144 tensor bytes; no checksum asked
  */
 export interface GenerateReport {
   out: string;
@@ -101,7 +104,7 @@ export interface GenerateReport {
 
 /**
  * A refusal of the request itself (exit code 2).
- * @example new RequestError('the output would be 80.0 GiB').name // "RequestError"
+ * @example new RequestError('the output would be 80.0 GiB').name // "RequestError" (the CLI exits with 2)
  */
 export class RequestError extends Error {
   override name = 'RequestError';
@@ -126,7 +129,7 @@ export function formatBytes(n: number): string {
  * Working memory a run needs besides its block buffers, bytes (an estimate).
  * @example
  * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
- * workingMemoryEstimate(scenario, 'frequency', 8) // 1196032: 8 paths x (16 x 4 x 32 + 48 x 64) + 16 x 4 x 32
+ * workingMemoryEstimate(scenario, 'frequency', 8) // 43008: 8 paths x (16 x 4 x 32 + 48 x 64) + 16 x 4 x 32 (Nr 4, Nt 32, 64 bins)
  */
 export function workingMemoryEstimate(scenario: Scenario, domain: Domain, pathCount: number): number {
   const { shape } = outputEstimate(scenario, domain, 1);
@@ -186,7 +189,7 @@ const yieldToEventLoop = (): Promise<void> => new Promise((resolve) => setImmedi
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const report = await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] });
- * [report.shape, report.fileBytes > report.tensorBytes] // [[4, 64, 4, 32], true]: 262144 tensor bytes plus side arrays
+ * [report.shape, report.tensorBytes, report.fileBytes] // [[4, 64, 4, 32], 262144, 292568]: the tensor plus side arrays and attributes
  */
 export async function generate(scenario: Scenario, scenarioText: string, options: GenerateOptions): Promise<GenerateReport> {
   const started = process.hrtime.bigint();
@@ -404,6 +407,11 @@ function padded(rows: number, L: number, value: (row: number, l: number) => numb
  * The named side arrays of design.md ("Output files") for subframes [first, first + count):
  * gains, the grid, subframe times, the path table (rows per user and per geometry update when
  * the geometry moves; NaN where a path is absent) and ground truth per subframe (truth/...).
+ * @example
+ * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
+ * const built = buildScenario(scenario);
+ * const side = sideArrays(built, 0, 4, new Float64Array(2 * 4 * 8), [4, 8]); // 8 paths
+ * [side.length, side[2]!.name, side[2]!.data] // [22, 'subframeTimesS', Float64Array [0, 0.001, 0.002, 0.003]]
  */
 export function sideArrays(built: BuiltScenario, first: number, count: number, gains: Float64Array, gainShape: number[]): NamedArray[] {
   const s = built.scenario;
@@ -448,7 +456,16 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
   return out;
 }
 
-/** Ground truth per subframe (at each subframe's start), for learning and positioning studies. */
+/**
+ * Ground truth per subframe (at each subframe's start), for learning and positioning studies:
+ * positions, velocities and orientations of both ends, line of sight, and per path delay,
+ * power, Doppler and both directions (NaN where a path is absent).
+ * @example
+ * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
+ * const truth = truthArrays(buildScenario(scenario), 0, 4);
+ * [truth.length, truth[3]!.name, truth[3]!.data!.slice(0, 3), truth[6]!.data]
+ * // [12, 'truth/receiverPosition', Float64Array [22, 9, 1.5], Uint8Array [1, 1, 1, 1]]: the receiver at subframe 0, line of sight in all 4
+ */
 export function truthArrays(built: BuiltScenario, first: number, count: number): NamedArray[] {
   const users = built.users;
   const U = users.length;

@@ -56,7 +56,7 @@ export interface MergeReport {
   shape: number[];
   parts: number;
   fileBytes: number;
-  /** sha256 of the merged tensor bytes (equal to the unsharded run's tensorSha256). */
+  /** sha256 of the merged tensor bytes (equal to the tensorSha256 of the unsharded run made with `--checksum`). */
   sha256: string;
   seconds: number;
   warnings: string[];

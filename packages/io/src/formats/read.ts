@@ -41,7 +41,7 @@ export interface StoredArray {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
  * const reader: DatasetReader = await openDatasetReader('run.h5');
- * [reader.format, reader.arrays.length, reader.attributes.length] // ['h5', 23, 8]
+ * [reader.format, reader.arrays.length, reader.attributes.length] // ['h5', 23, 7]: no tensorSha256 without `checksum`
  * await reader.close();
  */
 export interface DatasetReader {
@@ -173,7 +173,7 @@ export function attributeOf(reader: DatasetReader, name: string): string | numbe
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] }); // run.npy and run.npy.json
  * const side: NpySideFile = JSON.parse(readFileSync('run.npy.json', 'utf8'));
- * side.tensor // { name: 'H', dtype: 'complex64', shape: [4, 64, 4, 32], subframes: [0, 4], subframesTotal: 200, sha256: 'b68c65c0...' }
+ * side.tensor // { name: 'H', dtype: 'complex64', shape: [4, 64, 4, 32], subframes: [0, 4], subframesTotal: 200 } (and sha256 'b68c65c0...' with `checksum: true`)
  */
 export interface NpySideFile {
   pathweaveVersion?: string;
