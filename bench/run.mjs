@@ -139,13 +139,13 @@ try {
     }
 
     if (w.endToEnd && !flag('--no-disk')) {
-      // Raw disk rate (16 MiB writes + fsync) beside pathweave's file rate to the same disk.
+      // Raw disk rate (16 MiB writes + fsync) beside pathweave's file rate to the same disk (default workers).
       const diskDir = mkdtempSync(join(DISKDIR, 'pathweave-bench-disk-'));
       try {
         const raw = [], file = [];
         for (let i = 0; i < Math.min(PAIRS, 3); i++) {
           raw.push(pw([cfgFile, 'rawdisk', '1', join(diskDir, 'raw.bin')]).bytesPerSecond);
-          const r = pw([cfgFile, 'e2e', String(availableParallelism()), join(diskDir, 'x.npy')]);
+          const r = pw([cfgFile, 'e2e', 'default', join(diskDir, 'x.npy')]); // generate's default workers
           file.push(r.fileBytes / r.loopSeconds);
           for (const f of readdirSync(diskDir)) rmSync(join(diskDir, f), { force: true });
         }
