@@ -13,19 +13,19 @@ import { Progress } from '../packages/io/src/cli/progress.js';
 import { hasCommand } from './support/python.js';
 import { CLI, ROOT, runCli, tempDir, writeScenario } from './support/run.js';
 
-/** The factory floor example: 400 subframes of 128 KiB, streamed as 4 blocks of 128. */
+/** The factory floor example: 400 subframes of 128 KiB, streamed as 7 blocks of 64 (8 MiB blocks). */
 const factory = join(ROOT, 'examples', 'factory-floor-60ghz.json');
 const LINE = /^generate (\S+): (\d+)\/(\d+) subframes \((\d+)%\), [\d.]+ subframes\/s, \S+ left$/;
 const FINAL = /^wrote (\S+): H complex64 \[400, 128, 8, 16\] \(subframes 0:400\), [\d.]+ MiB \((\d+) bytes\) in [\d.]+ s$/;
 
 describe('generate progress', () => {
-  it('not a terminal: one plain line per block here (each is 32 %), ending at 100 %', () => {
+  it('not a terminal: one plain line per block here (each is 16 %), ending at 100 %', () => {
     const dir = tempDir();
     const out = join(dir, 'run.npy');
     const r = runCli(['generate', factory, '--out', out]);
     expect(r.status, r.stderr).toBe(0);
     const lines = r.stderr.split('\n').filter((l) => l.startsWith('generate '));
-    expect(lines.map((l) => LINE.exec(l)?.[2])).toEqual(['128', '256', '384', '400']);
+    expect(lines.map((l) => LINE.exec(l)?.[2])).toEqual(['64', '128', '192', '256', '320', '384', '400']);
     expect(lines.at(-1)).toMatch(/400\/400 subframes \(100%\)/);
     expect(r.stderr).not.toContain('\r');
     const final = FINAL.exec(r.stdout.trim());

@@ -67,19 +67,24 @@ describe('--shard ranges (design.md: floor(I S / N) to floor((I+1) S / N) - 1)',
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', movingScenario(41));
     const clean = { SLURM_ARRAY_TASK_ID: '', JOB_COMPLETION_INDEX: '' };
-    const slurm = runCli(['generate', file, '--out', join(dir, 'run.npz'), '--shard', 'auto', '--quiet'], {
+    const slurm = runCli(['generate', file, '--out', join(dir, 'run.part-{index}-of-{count}.npz'), '--shard', 'auto', '--quiet'], {
       env: { ...clean, SLURM_ARRAY_TASK_ID: '7', SLURM_ARRAY_TASK_MIN: '3', SLURM_ARRAY_TASK_STEP: '2', SLURM_ARRAY_TASK_COUNT: '5' },
     });
     expect(slurm.status, slurm.stderr).toBe(0);
     const m1 = JSON.parse(readFileSync(join(dir, 'run.part-2-of-5.npz.manifest.json'), 'utf8'));
     expect(m1.part).toEqual({ index: 2, count: 5 });
     expect(m1.range).toEqual(formulaRange(2, 5, 41));
-    const k8s = runCli(['generate', file, '--out', join(dir, 'run.npz'), '--shard', 'auto/5'], { env: { ...clean, JOB_COMPLETION_INDEX: '4' } });
+    const k8s = runCli(['generate', file, '--out', join(dir, 'run.part-{index}-of-{count}.npz'), '--shard', 'auto/5'], { env: { ...clean, JOB_COMPLETION_INDEX: '4' } });
     expect(k8s.status, k8s.stderr).toBe(0);
     expect(k8s.stderr).toContain('from the Kubernetes Indexed Job');
     const m2 = JSON.parse(readFileSync(join(dir, 'run.part-4-of-5.npz.manifest.json'), 'utf8'));
     expect(m2.range).toEqual(formulaRange(4, 5, 41));
     expect(m2.tensor.shape[0]).toBe(m2.range[1] - m2.range[0]);
+    // design.md: --out is the file written; without {index}/{count} it is used as given.
+    const exact = runCli(['generate', file, '--out', join(dir, 'shard-one.npy'), '--shard', '1/4', '--quiet']);
+    expect(exact.status, exact.stderr).toBe(0);
+    expect(existsSync(join(dir, 'shard-one.npy'))).toBe(true);
+    expect(JSON.parse(readFileSync(join(dir, 'shard-one.npy.manifest.json'), 'utf8')).range).toEqual(formulaRange(1, 4, 41));
   });
 });
 
@@ -108,9 +113,12 @@ for k in sorted(set(a) | set(b)):
 print(json.dumps(res))
 `;
 
+/** `--out a.npz` becomes the job-array pattern a.part-{index}-of-{count}.npz. */
+const pattern = (out: string): string => out.replace(/(\.[^./]+)$/, '.part-{index}-of-{count}$1');
+
 function shardAll(dir: string, file: string, out: string, n: number, extra: string[] = []): void {
   for (let i = 0; i < n; i++) {
-    const r = runCli(['generate', file, '--out', out, '--shard', `${i}/${n}`, '--quiet', ...extra]);
+    const r = runCli(['generate', file, '--out', pattern(out), '--shard', `${i}/${n}`, '--quiet', ...extra]);
     expect(r.status, r.stderr).toBe(0);
   }
 }
@@ -158,7 +166,7 @@ describe('merge', () => {
     shardAll(dir, file, out, 2);
     const part1 = join(dir, 'run.part-1-of-2.npy');
     const before = statSync(part1).mtimeMs;
-    const again = runCli(['generate', file, '--out', out, '--shard', '1/2']);
+    const again = runCli(['generate', file, '--out', pattern(out), '--shard', '1/2']);
     expect(again.status).toBe(0);
     expect(again.stdout).toMatch(/^skipped .*run\.part-1-of-2\.npy: part 1 of 2 \(subframes 20:41\) is already complete; its manifest verified/);
     expect(statSync(part1).mtimeMs).toBe(before);
@@ -178,7 +186,7 @@ describe('merge', () => {
     expect(existsSync(merged)).toBe(false);
     expect(readdirSync(dir).filter((f) => f.endsWith('.part'))).toEqual([]); // no temporary left
 
-    const fixed = runCli(['generate', file, '--out', out, '--shard', '1/2', '--quiet']);
+    const fixed = runCli(['generate', file, '--out', pattern(out), '--shard', '1/2', '--quiet']);
     expect(fixed.status).toBe(0);
     expect(fixed.stderr).toMatch(/regenerating .*run\.part-1-of-2\.npy: .*tensor sha256 [0-9a-f]{64} differs from the manifest's/);
     expect(runCli(['merge', join(dir, 'run.part-0-of-2.npy'), part1, '--out', merged, '--quiet']).status).toBe(0);
@@ -190,8 +198,8 @@ describe('merge', () => {
     const other = writeScenario(dir, 'o.json', { ...movingScenario(S), carrierHz: 28.5e9 });
     shardAll(dir, file, join(dir, 'a.npz'), 3);
     shardAll(dir, file, join(dir, 'b.npz'), 2);
-    runCli(['generate', file, '--out', join(dir, 'seed.npz'), '--shard', '1/3', '--seed', '5', '--quiet']);
-    runCli(['generate', other, '--out', join(dir, 'other.npz'), '--shard', '1/3', '--quiet']);
+    runCli(['generate', file, '--out', join(dir, 'seed.part-{index}-of-{count}.npz'), '--shard', '1/3', '--seed', '5', '--quiet']);
+    runCli(['generate', other, '--out', join(dir, 'other.part-{index}-of-{count}.npz'), '--shard', '1/3', '--quiet']);
     runCli(['generate', file, '--out', join(dir, 'plain.npz'), '--subframes', '13:27', '--quiet']);
     const p = (name: string): string => join(dir, name);
     const out = p('merged.npz');

@@ -100,7 +100,7 @@ describe('shards of one job on one machine', () => {
     const full = join(dir, 'full.npy');
     expect((await start(['generate', file, '--out', full, '--quiet'])).status).toBe(0);
     // The same command line for both, as a job array runs it: each shard names its own part.
-    const results = await Promise.all([0, 1].map((i) => start(['generate', file, '--out', join(dir, 'job.npy'), '--shard', `${i}/2`, '--quiet'])));
+    const results = await Promise.all([0, 1].map((i) => start(['generate', file, '--out', join(dir, 'job.part-{index}-of-{count}.npy'), '--shard', `${i}/2`, '--quiet'])));
     const parts = [0, 1].map((i) => join(dir, `job.part-${i}-of-2.npy`));
     for (const r of results) expect(r.status, r.stderr).toBe(0);
     const data = (p: string): Buffer => {

@@ -1,6 +1,7 @@
 /**
- * Part manifests of a sharded run. `generate --shard I/N --out run.h5` writes the part file
- * `run.part-I-of-N.h5` and, once that file is complete, a small JSON manifest beside it,
+ * Part manifests of a sharded run. `generate --shard I/N --out run.part-{index}-of-{count}.h5`
+ * writes the part file `run.part-I-of-N.h5` (`--out` is the file written, with `{index}` and
+ * `{count}` replaced) and, once that file is complete, a small JSON manifest beside it,
  * `run.part-I-of-N.h5.manifest.json`. Each part owns its own manifest, so any number of machines
  * can write theirs into one shared folder without a lock; each manifest is written atomically
  * (temporary file, fsync, rename), so a reader sees a whole manifest or none.
@@ -52,7 +53,7 @@ const manifestSchema = z.object({
 /**
  * What one part of a sharded run holds (the JSON document of its manifest file).
  * @example
- * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
  * const m: PartManifest = await readManifest('run.part-0-of-2.h5.manifest.json');
  * [m.part, m.range, m.tensor.shape, m.seed] // [{ index: 0, count: 2 }, [0, 100], [100, 64, 4, 32], 20261201]
  */
@@ -67,17 +68,16 @@ export class ManifestError extends Error {
 }
 
 /**
- * The part file of shard `index` of `count` for `--out out`: `.part-I-of-N` goes before the
- * extension (after the whole name when there is none).
- * @example partPath('data/run.h5', 2, 8) // "data/run.part-2-of-8.h5"
+ * The file shard `index` of `count` writes for `--out out`: `out` itself, with `{index}` and
+ * `{count}` replaced when it holds them, so one command line serves every task of a job array.
+ * @example partPath('data/run.part-{index}-of-{count}.h5', 2, 8) // "data/run.part-2-of-8.h5"
+ * @example partPath('data/shard-2.h5', 2, 8) // "data/shard-2.h5" (written as given)
  */
 export function partPath(out: string, index: number, count: number): string {
   if (!(Number.isSafeInteger(count) && count >= 1 && Number.isSafeInteger(index) && index >= 0 && index < count)) {
     throw new RangeError(`partPath(): need integers 0 <= index < count, got index ${index}, count ${count}`);
   }
-  const ext = extname(out);
-  const stem = ext === '' ? out : out.slice(0, -ext.length);
-  return `${stem}.part-${index}-of-${count}${ext}`;
+  return out.replaceAll('{index}', String(index)).replaceAll('{count}', String(count));
 }
 
 /** The manifest of a part file. @example manifestPathOf('data/run.part-2-of-8.h5') // "data/run.part-2-of-8.h5.manifest.json" */
@@ -110,7 +110,7 @@ export function scenarioSha256(scenarioText: string): string {
 /**
  * Write a part's manifest atomically beside it (`manifestPathOf(partFile)`).
  * @example
- * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
  * const m = await readManifest('run.part-0-of-2.h5.manifest.json');
  * await writeManifest('run.part-0-of-2.h5', m) // "run.part-0-of-2.h5.manifest.json" (written again, atomically)
  * await writeManifest('other.h5', m) // throws RangeError 'writeManifest(): manifest.file must be "other.h5", got "run.part-0-of-2.h5"'
@@ -125,7 +125,7 @@ export async function writeManifest(partFile: string, manifest: PartManifest): P
 /**
  * Read and check a manifest file.
  * @example
- * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
  * (await readManifest('run.part-0-of-2.h5.manifest.json')).range // [0, 100]
  * @throws ManifestError when it is missing, not JSON, or not a pathweave part manifest.
  */
@@ -182,7 +182,7 @@ export async function tensorSha256OfFile(path: string): Promise<{ sha256: string
 /**
  * Outcome of checking a part file against its manifest.
  * @example
- * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
  * const check: PartCheck = await verifyPart('run.part-0-of-2.h5', await readManifest('run.part-0-of-2.h5.manifest.json')); // { ok: true }
  */
 export type PartCheck = { ok: true } | { ok: false; reason: string };
@@ -191,7 +191,7 @@ export type PartCheck = { ok: true } | { ok: false; reason: string };
  * Check a part file against its manifest: present, of the recorded size, and with tensor bytes
  * whose sha256 is the recorded one (re-read from the file). `full: false` stops after the size.
  * @example
- * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.h5']); // run.part-0-of-2.h5 and its manifest
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
  * const m = await readManifest('run.part-0-of-2.h5.manifest.json');
  * [await verifyPart('run.part-0-of-2.h5', m), await verifyPart('other.h5', m)]
  * // [{ ok: true }, { ok: false, reason: 'the manifest names run.part-0-of-2.h5, not other.h5' }]
