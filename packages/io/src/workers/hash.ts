@@ -14,7 +14,7 @@ type HashReply = { kind: 'hashed' } | { kind: 'digest'; hex: string } | { kind: 
 
 /**
  * Where the compiled hash thread lives (dist/workers/hash-worker.js), reached the same way from src/ and dist/.
- * @example HASH_WORKER_URL.pathname // "/work/main/packages/io/dist/workers/hash-worker.js"
+ * @example HASH_WORKER_URL.pathname // "<checkout>/packages/io/dist/workers/hash-worker.js"
  */
 export const HASH_WORKER_URL: URL = new URL('../../dist/workers/hash-worker.js', import.meta.url);
 

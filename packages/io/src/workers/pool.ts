@@ -43,7 +43,7 @@ interface BlockReply {
 /**
  * Where the compiled worker lives: dist/workers/fill-worker.js, reached the same way from
  * src/ (tests run the sources; worker threads need JavaScript) and from dist/.
- * @example FILL_WORKER_URL.pathname // "/work/main/packages/io/dist/workers/fill-worker.js"
+ * @example FILL_WORKER_URL.pathname // "<checkout>/packages/io/dist/workers/fill-worker.js"
  */
 export const FILL_WORKER_URL: URL = new URL('../../dist/workers/fill-worker.js', import.meta.url);
 
