@@ -4,7 +4,7 @@
  * against the files those commands wrote, and every json block as a scenario. Links between
  * the docs and to their pictures point at files that exist.
  */
-import { existsSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseScenarioText } from '@pathweave/io';
@@ -36,6 +36,7 @@ describe('docs/guide.md', () => {
   it.skipIf(!hasPython('numpy', 'h5py'))('its commands succeed and then its python snippets run against their outputs', () => {
     // Parts of an earlier run (another build) would be kept by a rerun whose manifests verify: start clean.
     const outDir = join(ROOT, 'out');
+    mkdirSync(outDir, { recursive: true }); // the guide's `mkdir -p out`
     if (existsSync(outDir)) for (const f of readdirSync(outDir)) if (f.startsWith('guide-')) rmSync(join(outDir, f), { force: true });
     for (const args of cliCommands(GUIDE)) {
       const r = runCli(args);
