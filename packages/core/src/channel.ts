@@ -485,17 +485,26 @@ export class ChannelGenerator {
     for (let l = 0; l < L; l++) {
       readVec(frame.arrival, l, arr);
       readVec(frame.departure, l, dep);
-      const length = frame.lengthM[l]!;
-      const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
-      const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
-      if (rxSph && txSph && this.timeline.kinds[l] === 'los') {
-        pairwiseProducts(this.products, 2 * l * this.elementPairs, rxArray, txArray, arr, length, k0);
-        continue;
-      }
-      this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
-      this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
-      outerProduct(this.products, 2 * l * this.elementPairs, this.rxScratch, this.txScratch, Nr, Nt);
+      this.elementProducts(this.products, 2 * l * this.elementPairs, l, rxArray, txArray, arr, dep, k0);
     }
+  }
+
+  /**
+   * r_rx r_tx^T of path l into out[offset..] ([Nr, Nt] complex): plane or spherical responses, or
+   * the exact pair-by-pair phases for a line of sight with both ends spherical.
+   */
+  private elementProducts(out: Float64Array, offset: number, l: number, rxArray: AntennaArray, txArray: AntennaArray, arr: Vec3, dep: Vec3, k0: number): void {
+    const spec = this.spec;
+    const length = this.frame.lengthM[l]!;
+    const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
+    const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
+    if (rxSph && txSph && this.timeline.kinds[l] === 'los') {
+      pairwiseProducts(out, offset, rxArray, txArray, arr, length, k0);
+      return;
+    }
+    this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
+    this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
+    outerProduct(out, offset, this.rxScratch, this.txScratch, rxArray.size, txArray.size);
   }
 
   /** The timeline's transfers at time t for the paths whose transfer is not a fixed cross-polar one. */
@@ -511,7 +520,6 @@ export class ChannelGenerator {
   /** Element products expanded to ports: P[l, (m Pr + a) Nt + n Pt + b] = e_l[m, n] c_l(a, b). */
   private preparePorts(rxArray: AntennaArray, txArray: AntennaArray, timeS: number, k0: number): void {
     const ports = this.ports!;
-    const spec = this.spec;
     const frame = this.frame;
     const L = this.pathCount;
     if (this.varying) this.refreshTransfers(timeS);
@@ -523,15 +531,7 @@ export class ChannelGenerator {
     for (let l = 0; l < L; l++) {
       readVec(frame.arrival, l, arr);
       readVec(frame.departure, l, dep);
-      const length = frame.lengthM[l]!;
-      const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
-      const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
-      if (rxSph && txSph && this.timeline.kinds[l] === 'los') pairwiseProducts(e, 0, rxArray, txArray, arr, length, k0);
-      else {
-        this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
-        this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
-        outerProduct(e, 0, this.rxScratch, this.txScratch, NrE, NtE);
-      }
+      this.elementProducts(e, 0, l, rxArray, txArray, arr, dep, k0);
       portFieldComponents(ports.rxFields, ports.rx, rxArray.rotation, arr);
       portFieldComponents(ports.txFields, ports.tx, txArray.rotation, dep);
       portCoupling(c, ports.rxFields, ports.transfers, l, ports.txFields, Pr, Pt);
