@@ -35,15 +35,20 @@ export function applyFrequencyOffset(
   for (let n = 0; n < samples; n++) {
     const cycles = cyclesPerSample * (firstSample + n);
     const phase = TWO_PI * (cycles - Math.round(cycles));
-    const c = Math.cos(phase), s = Math.sin(phase);
-    for (let t = 0; t < streams; t++) {
-      const i = 2 * (t * samples + n);
-      const xr = x[i]!, xi = x[i + 1]!;
-      out[i] = xr * c - xi * s;
-      out[i + 1] = xr * s + xi * c;
-    }
+    rotateSample(x, out, streams, samples, n, phase);
   }
   return out;
+}
+
+/** Sample n of every stream of [streams, samples] turned by exp(j phase) (x and out may alias). */
+function rotateSample(x: ComplexArray, out: ComplexArray, streams: number, samples: number, n: number, phase: number): void {
+  const c = Math.cos(phase), s = Math.sin(phase);
+  for (let t = 0; t < streams; t++) {
+    const i = 2 * (t * samples + n);
+    const xr = x[i]!, xi = x[i + 1]!;
+    out[i] = xr * c - xi * s;
+    out[i + 1] = xr * s + xi * c;
+  }
 }
 
 /**
@@ -135,14 +140,7 @@ export class PhaseNoise {
     checkComplexArray(fn, 'out', out);
     checkLength(fn, 'out', out, x.length, `[${streams}, ${samples}] complex interleaved`);
     for (let n = 0; n < samples; n++) {
-      const phase = this.advance();
-      const c = Math.cos(phase), s = Math.sin(phase);
-      for (let t = 0; t < streams; t++) {
-        const i = 2 * (t * samples + n);
-        const xr = x[i]!, xi = x[i + 1]!;
-        out[i] = xr * c - xi * s;
-        out[i + 1] = xr * s + xi * c;
-      }
+      rotateSample(x, out, streams, samples, n, this.advance());
     }
     return out;
   }
