@@ -192,7 +192,8 @@ export const generateCommand: Command = {
   usage: `pathweave generate <scenario.json> --out <file> [--format npy|npz|h5] [--seed N]
                    [--subframes A:B] [--shard I/N|auto|auto/N] [--workers N] [--checksum]
                    [--quiet] [--domain frequency|taps] [--max-bytes SIZE]
-    --checksum   record the SHA-256 of the tensor bytes (tensorSha256; always on with --shard)`,
+    --checksum   record the SHA-256 of the tensor bytes (tensorSha256; always on with --shard)
+    --out        the file written; {index} and {count} in it are replaced by the shard's I and N`,
   run,
 };
 
