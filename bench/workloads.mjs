@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 /**
  * Named benchmark workloads: scenarios of our own, written as pathweave scenario files, with the
  * per-path Gauss-Markov alpha the numpy side needs (numpy has no Bessel function; the value is
@@ -55,23 +56,9 @@ export const WORKLOADS = {
   },
 };
 
-/** The 20-wall room of the tracer workload (the geometry package's own speed scene). */
+/** The 20-wall room of the tracer workload (test/fixtures/twenty-wall-room.json, shared with the geometry tests). */
 export function twentyWallRoom() {
-  const L = 20, W = 12, H = 4;
-  const walls = [
-    { vertices: [[0, 0, 0], [L, 0, 0], [L, W, 0], [0, W, 0]] },
-    { vertices: [[0, 0, H], [L, 0, H], [L, W, H], [0, W, H]] },
-    { vertices: [[0, 0, 0], [L, 0, 0], [L, 0, H], [0, 0, H]], material: 'glass' },
-    { vertices: [[0, W, 0], [L, W, 0], [L, W, H], [0, W, H]], material: 'glass' },
-    { vertices: [[0, 0, 0], [0, W, 0], [0, W, H], [0, 0, H]], material: 'wood' },
-    { vertices: [[L, 0, 0], [L, W, 0], [L, W, H], [L, 0, H]], material: 'wood' },
-  ];
-  for (let i = 0; i < 7; i++) {
-    const x = 1 + i * 2.7;
-    walls.push({ vertices: [[x, 0.4, 1], [x + 1.5, 0.4, 1], [x + 1.5, 0.4, 2.5], [x, 0.4, 2.5]], material: 'metal' });
-    walls.push({ vertices: [[x, W - 0.4, 1], [x + 1.5, W - 0.4, 1], [x + 1.5, W - 0.4, 2.5], [x, W - 0.4, 2.5]], material: 'metal' });
-  }
-  return { walls, maxReflectionOrder: 2 };
+  return JSON.parse(readFileSync(new URL('../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')).scene;
 }
 
 /** Complex values of a workload's whole tensor. */

@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import {
   prepareScene, retracePaths, rotationFromOrientation, traceScene, SPEED_OF_LIGHT,
@@ -297,21 +298,9 @@ describe('retracePaths', () => {
 
 describe('speed', () => {
   it('traces a 20-wall room at order 2 fast enough', () => {
-    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls
-    const L = 20, W = 12, H = 4;
-    const walls: Wall[] = [
-      { vertices: [[0, 0, 0], [L, 0, 0], [L, W, 0], [0, W, 0]] },
-      { vertices: [[0, 0, H], [L, 0, H], [L, W, H], [0, W, H]] },
-      { vertices: [[0, 0, 0], [L, 0, 0], [L, 0, H], [0, 0, H]], material: 'glass' },
-      { vertices: [[0, W, 0], [L, W, 0], [L, W, H], [0, W, H]], material: 'glass' },
-      { vertices: [[0, 0, 0], [0, W, 0], [0, W, H], [0, 0, H]], material: 'wood' },
-      { vertices: [[L, 0, 0], [L, W, 0], [L, W, H], [L, 0, H]], material: 'wood' },
-    ];
-    for (let i = 0; i < 7; i++) {
-      const x = 1 + i * 2.7;
-      walls.push({ vertices: [[x, 0.4, 1], [x + 1.5, 0.4, 1], [x + 1.5, 0.4, 2.5], [x, 0.4, 2.5]], material: 'metal' });
-      walls.push({ vertices: [[x, W - 0.4, 1], [x + 1.5, W - 0.4, 1], [x + 1.5, W - 0.4, 2.5], [x, W - 0.4, 2.5]], material: 'metal' });
-    }
+    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls (shared with bench/)
+    const room = JSON.parse(readFileSync(new URL('../../../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')) as { scene: { walls: Wall[] } };
+    const walls = room.scene.walls;
     expect(walls.length).toBe(20);
     const ps = prepareScene({ walls, maxReflectionOrder: 2 });
     const tx = term([2, 5, 2.5]), rx = term([17, 7, 1.5]);

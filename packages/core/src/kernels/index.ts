@@ -6,7 +6,7 @@
  *
  * Layouts: see accumulate.ts (weights [bins, L], products [L, M], out [bins, M], complex interleaved).
  */
-import { accumulatePathsPlain, type KernelOut } from './accumulate.js';
+import { accumulatePathsPlain } from './accumulate.js';
 import { loadWasmKernel, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
 export { accumulatePathsPlain, type KernelOut } from './accumulate.js';
@@ -20,16 +20,7 @@ export { loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelAllocate, type WasmKer
  * kernel(out, 0, Float64Array.of(0.5, 0), Float64Array.of(0, 2), 1, 1, 1, new Float64Array(2));
  * out // Float32Array [0, 1]: 0.5 * 2j
  */
-export type AccumulateKernel = (
-  out: KernelOut,
-  outOffset: number,
-  weights: Float64Array,
-  products: Float64Array,
-  bins: number,
-  paths: number,
-  elementPairs: number,
-  scratch: Float64Array,
-) => void;
+export type AccumulateKernel = typeof accumulatePathsPlain;
 
 /**
  * Name of the plain JavaScript kernel (float64 accumulation).
