@@ -19,7 +19,7 @@ import { openSync, readFileSync, writeSync, fsyncSync, closeSync, unlinkSync } f
 import { allocateKernelArray, KERNEL_NAME } from '@pathweave/core';
 import { traceScene, prepareScene } from '@pathweave/geometry';
 import { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } from '@pathweave/io';
-import { BlockPool, defaultWorkers } from '../packages/io/dist/workers/pool.js';
+import { BlockPool, defaultWorkers } from '../packages/io/dist/dataset/workers/pool.js';
 import { twentyWallRoom } from './workloads.mjs';
 
 const [file, mode, workersArg, out] = process.argv.slice(2);

@@ -4,7 +4,7 @@
 import { writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { scenarioJsonSchema } from '../packages/io/dist/schema.js';
+import { scenarioJsonSchema } from '../packages/io/dist/scenario/schema.js';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 writeFileSync(join(root, 'docs', 'scenario.schema.json'), JSON.stringify(scenarioJsonSchema(), null, 2) + '\n');

@@ -11,11 +11,11 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { buildScenario } from '../packages/io/src/build.js';
+import { buildScenario } from '../packages/io/src/scenario/build.js';
 import { bytesOf } from '../packages/io/src/formats/npy.js';
 import type { NamedArray } from '../packages/io/src/formats/sink.js';
-import { fillBlock, generate, maxPathCount, sideArrays } from '../packages/io/src/generate.js';
-import { parseScenarioText } from '../packages/io/src/validate.js';
+import { fillBlock, generate, maxPathCount, sideArrays } from '../packages/io/src/dataset/generate.js';
+import { parseScenarioText } from '../packages/io/src/scenario/validate.js';
 import { hasCommand, hasPython, pythonJson } from './support/python.js';
 import { ROOT, tempDir } from './support/run.js';
 

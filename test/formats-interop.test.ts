@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { openHdf5Sink } from '../packages/io/src/formats/hdf5.js';
 import { openNpzSink } from '../packages/io/src/formats/npz.js';
-import { openDatasetReader } from '../packages/io/src/formats/read.js';
+import { openDatasetReader } from '../packages/io/src/formats/reader.js';
 import type { Attribute, DatasetSink, NamedArray } from '../packages/io/src/formats/sink.js';
 import { hasPython, pythonJson } from './support/python.js';
 

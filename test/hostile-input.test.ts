@@ -14,7 +14,8 @@ import { join } from 'node:path';
 import { isDeepStrictEqual } from 'node:util';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { JsonSyntaxError, MAX_JSON_DEPTH, main, parseJson } from '@pathweave/io';
+import { JsonSyntaxError, MAX_JSON_DEPTH, parseJson } from '@pathweave/io';
+import { main } from '@pathweave/io/cli';
 import { CLI, ROOT, runCli, tempDir, writeScenario } from './support/run.js';
 
 type Json = null | boolean | number | string | Json[] | { [key: string]: Json };

@@ -1,5 +1,5 @@
 /**
- * The hash thread of generate (packages/io/src/workers/hash.ts): its SHA-256 over a stream of
+ * The hash thread of generate (packages/io/src/dataset/workers/hash.ts): its SHA-256 over a stream of
  * shared blocks against Python's hashlib (FIPS 180-4 SHA-256, hashlib (C)), and generate's
  * one-worker runs that use it: the tensorSha256 of a multi-block file equals hashlib over the
  * tensor numpy reads back, progress arrives in order, and an abort leaves no file behind.
@@ -8,7 +8,7 @@ import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { BLOCK_TARGET_BYTES, generate, parseScenarioText } from '@pathweave/io';
-import { HashThread } from '../packages/io/src/workers/hash.js';
+import { HashThread } from '../packages/io/src/dataset/workers/hash.js';
 import { hasPython, pythonJson } from './support/python.js';
 import { tempDir } from './support/run.js';
 

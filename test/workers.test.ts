@@ -11,7 +11,7 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { BLOCK_TARGET_BYTES, generate, parseScenarioText } from '@pathweave/io';
-import { defaultWorkers } from '../packages/io/src/workers/pool.js';
+import { defaultWorkers } from '../packages/io/src/dataset/workers/pool.js';
 import { tempDir } from './support/run.js';
 
 // Explicit paths, Gauss-Markov fading: tx UPA 8x8, rx ULA 4, 128 subcarriers = 256 KiB per

@@ -11,7 +11,7 @@ import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { parseNpyHeader, type OutputFormat } from '@pathweave/io';
-import { openDatasetReader, tensorOf } from '../packages/io/src/formats/read.js';
+import { openDatasetReader, tensorOf } from '../packages/io/src/formats/reader.js';
 import { CLI, ROOT, tempDir, writeScenario } from './support/run.js';
 
 const fixture = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'explicit-street-corner.json'), 'utf8')) as Record<string, any>;
@@ -121,7 +121,7 @@ describe('shards of one job on one machine', () => {
     const dir = tempDir('pathweave-temporaries-');
     const target = join(dir, 'same-target.npy');
     const script = `
-      import { AtomicFile } from ${JSON.stringify(join(ROOT, 'packages', 'io', 'dist', 'atomic.js'))};
+      import { AtomicFile } from ${JSON.stringify(join(ROOT, 'packages', 'io', 'dist', 'formats', 'atomic.js'))};
       import { readFileSync } from 'node:fs';
       const files = [];
       for (let i = 0; i < 300; i++) {

@@ -11,7 +11,7 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { CURRENT_FORMAT_VERSION } from '@pathweave/io';
-import { openDatasetReader } from '../../packages/io/src/formats/read.js';
+import { openDatasetReader } from '../../packages/io/src/formats/reader.js';
 import { NUMPY_REFERENCE } from '../support/numpy-reference.js';
 import { hasPython, pythonJson } from '../support/python.js';
 import { ROOT, runCli, tempDir, writeScenario } from '../support/run.js';

@@ -7,9 +7,9 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { generate } from '../src/generate.js';
-import { complexSingularValues, inspectFile, sampleIndices, spreadOf } from '../src/inspect.js';
-import { parseScenarioText } from '../src/validate.js';
+import { generate } from '../src/dataset/generate.js';
+import { complexSingularValues, inspectFile, sampleIndices, spreadOf } from '../src/inspect/inspect.js';
+import { parseScenarioText } from '../src/scenario/validate.js';
 import { RandomStream } from '@pathweave/core';
 import { hasPython, pythonJson } from '../../../test/support/python.js';
 import { ROOT, tempDir } from '../../../test/support/run.js';

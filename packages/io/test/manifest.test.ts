@@ -6,7 +6,7 @@
 import { writeFileSync, truncateSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { canonicalJson, manifestOf, manifestPathOf, partPath, readManifest, scenarioSha256, tensorSha256OfFile, verifyPart, writeManifest } from '../src/manifest.js';
+import { canonicalJson, manifestOf, manifestPathOf, partPath, readManifest, scenarioSha256, tensorSha256OfFile, verifyPart, writeManifest } from '../src/dataset/manifest.js';
 import { NpySink } from '../src/formats/npy.js';
 import { openHdf5Sink } from '../src/formats/hdf5.js';
 import { hasPython, python } from '../../../test/support/python.js';

@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { scenarioJsonSchema } from '../src/schema.js';
+import { scenarioJsonSchema } from '../src/scenario/schema.js';
 import { PATHWEAVE_VERSION } from '../src/version.js';
 import { ROOT } from '../../../test/support/run.js';
 

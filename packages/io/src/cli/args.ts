@@ -2,7 +2,7 @@
  * A small command-line parser: `--name value`, `--name=value`, boolean flags, positionals.
  * Unknown options are refused with the nearest known one suggested.
  */
-import { nearestKey } from '../validate.js';
+import { nearestKey } from '../scenario/validate.js';
 
 /** A refusal of the command line (exit code 2). */
 export class UsageError extends Error {

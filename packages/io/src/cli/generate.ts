@@ -10,14 +10,14 @@
  */
 import { readdirSync, unlinkSync } from 'node:fs';
 import { totalmem } from 'node:os';
-import { OutputFileError } from '../atomic.js';
+import { OutputFileError } from '../formats/atomic.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../generate.js';
-import { chooseDomain, sideArrayBytes } from '../build.js';
-import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../manifest.js';
-import { loadScenario } from '../validate.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../dataset/generate.js';
+import { chooseDomain, sideArrayBytes } from '../scenario/build.js';
+import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../dataset/manifest.js';
+import { loadScenario } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { parseArgs, parseBytes, parseInteger, parseRange, parseShard, shardRange, UsageError } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';

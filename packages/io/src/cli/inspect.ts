@@ -1,5 +1,5 @@
 /** `pathweave inspect`: a summary of any file pathweave wrote. */
-import { inspectFile } from '../inspect.js';
+import { inspectFile } from '../inspect/inspect.js';
 import { parseArgs } from './args.js';
 import { onePositional, type Command, type Io } from './common.js';
 

@@ -2,8 +2,8 @@
  * The `pathweave` command line (design.md, "Command line"). Exit codes: 0 done, 1 failure
  * while running, 2 the input or the command line was refused.
  */
-import { RequestError } from '../generate.js';
-import { ScenarioError, formatProblem } from '../validate.js';
+import { RequestError } from '../dataset/generate.js';
+import { ScenarioError, formatProblem } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { UsageError } from './args.js';
 import { COMMANDS } from './commands.js';

@@ -1,6 +1,6 @@
 /** `pathweave merge`: the part files of a sharded run into one file (merge.ts). */
-import { formatBytes } from '../generate.js';
-import { merge } from '../merge.js';
+import { formatBytes } from '../dataset/generate.js';
+import { merge } from '../dataset/merge.js';
 import { parseArgs, UsageError } from './args.js';
 import type { Command, Io } from './common.js';
 import { Progress } from './progress.js';

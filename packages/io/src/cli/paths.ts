@@ -1,8 +1,8 @@
 /** `pathweave paths`: the paths of a scenario as a table or as explicit-path JSON. */
 import { ClusteredTimeline, TracedTimeline } from '@pathweave/core';
-import { buildScenario, recordOfTraced } from '../build.js';
-import { pathsJson, pathsTable } from '../paths.js';
-import { loadScenario } from '../validate.js';
+import { buildScenario, recordOfTraced } from '../scenario/build.js';
+import { pathsJson, pathsTable } from '../scenario/paths.js';
+import { loadScenario } from '../scenario/validate.js';
 import { parseArgs, parseInteger, UsageError } from './args.js';
 import { onePositional, type Command, type Io } from './common.js';
 

@@ -1,6 +1,6 @@
 /** `pathweave plot`: a figure of a scenario (run in memory) or of an output file, as SVG. */
 import { access } from 'node:fs/promises';
-import { RequestError } from '../generate.js';
+import { RequestError } from '../dataset/generate.js';
 import { PLOT_KINDS, plotFile, type PlotKind, type PlotOptions } from '../plot/index.js';
 import { parseArgs, parseInteger, UsageError } from './args.js';
 import { onePositional, type Command, type Io } from './common.js';

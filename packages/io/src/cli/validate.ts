@@ -1,8 +1,8 @@
 /** `pathweave validate`: every problem of a scenario, or a one-screen summary. */
 import { totalmem } from 'node:os';
-import { buildScenario, chooseDomain, elementCount, outputEstimate, portCount, sideArrayBytes } from '../build.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, RequestError } from '../generate.js';
-import { loadScenario } from '../validate.js';
+import { buildScenario, chooseDomain, elementCount, outputEstimate, portCount, sideArrayBytes } from '../scenario/build.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, RequestError } from '../dataset/generate.js';
+import { loadScenario } from '../scenario/validate.js';
 import { parseArgs, parseBytes } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
 

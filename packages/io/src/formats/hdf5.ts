@@ -29,7 +29,7 @@ import { promises as fsp } from 'node:fs';
 import { endianness } from 'node:os';
 import { dirname } from 'node:path';
 import h5wasm from 'h5wasm/node';
-import { OutputFileError, temporaryPathFor, trackTemporary, untrackTemporary, type OutputFileStage } from '../atomic.js';
+import { OutputFileError, temporaryPathFor, trackTemporary, untrackTemporary, type OutputFileStage } from './atomic.js';
 import {
   checkAttribute,
   checkNamedArray,

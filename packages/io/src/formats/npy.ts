@@ -6,7 +6,7 @@
  * interleaved re/im, the same bytes as numpy's complex64/complex128.
  */
 import { open } from 'node:fs/promises';
-import { AtomicFile } from '../atomic.js';
+import { AtomicFile } from './atomic.js';
 import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 
 /**

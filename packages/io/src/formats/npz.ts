@@ -24,7 +24,7 @@
 import { endianness } from 'node:os';
 import { Readable } from 'node:stream';
 import yazl from 'yazl';
-import { AtomicFile } from '../atomic.js';
+import { AtomicFile } from './atomic.js';
 import { NPY_DESCR, npyHeader } from './npy.js';
 import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 

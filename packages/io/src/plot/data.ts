@@ -7,11 +7,11 @@
  */
 import { readFile } from 'node:fs/promises';
 import { besselJ0, TracedTimeline } from '@pathweave/core';
-import { buildScenario, recordOfTraced, type BuiltScenario, type PathRecord } from '../build.js';
-import { fillBlock, maxPathCount, RequestError } from '../generate.js';
-import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/read.js';
-import { parseScenarioText } from '../validate.js';
-import type { Scenario } from '../schema.js';
+import { buildScenario, recordOfTraced, type BuiltScenario, type PathRecord } from '../scenario/build.js';
+import { fillBlock, maxPathCount, RequestError } from '../dataset/generate.js';
+import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/reader.js';
+import { parseScenarioText } from '../scenario/validate.js';
+import type { Scenario } from '../scenario/schema.js';
 import type { FigureTerminal, SceneFigureInput } from './scene.js';
 import type { ProfilePath } from './profiles.js';
 import { gainCorrelation, type CorrelationSeries, type TimeFrequencyInput } from './fields.js';

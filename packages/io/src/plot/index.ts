@@ -5,7 +5,7 @@
  * over subcarriers and time, and the gain correlation against J0. One plain look for all kinds
  * (svg.ts), axes with units and a colour ramp whose lightness is monotone (axes.ts).
  */
-import { writeFileAtomic } from '../atomic.js';
+import { writeFileAtomic } from '../formats/atomic.js';
 import { closePlotSource, correlationOf, openPlotSource, profilePathsOf, sceneInputOf, timeFrequencyOf, type PlotSource } from './data.js';
 import { correlationFigure, timeFrequencyFigure } from './fields.js';
 import { anglesFigure, delayProfileFigure } from './profiles.js';

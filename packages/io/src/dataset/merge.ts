@@ -14,11 +14,11 @@
 import { createHash } from 'node:crypto';
 import { stat } from 'node:fs/promises';
 import { basename } from 'node:path';
-import { writeFileAtomic } from './atomic.js';
-import { formatFromPath, openSink, type OutputFormat } from './formats/index.js';
-import { bytesOf, DTYPE_BYTES } from './formats/npy.js';
-import { openDatasetReader, tensorOf, attributeOf, NpyReader, type DatasetReader, type StoredArray } from './formats/read.js';
-import type { ArrayData, Attribute, NamedArray } from './formats/sink.js';
+import { writeFileAtomic } from '../formats/atomic.js';
+import { formatFromPath, openSink, type OutputFormat } from '../formats/index.js';
+import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
+import { openDatasetReader, tensorOf, attributeOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
+import type { ArrayData, Attribute, NamedArray } from '../formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
 import { manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
 

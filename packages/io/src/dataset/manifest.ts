@@ -15,10 +15,10 @@ import { createHash } from 'node:crypto';
 import { readFile, stat } from 'node:fs/promises';
 import { basename, extname } from 'node:path';
 import { z } from 'zod';
-import { writeFileAtomic } from './atomic.js';
-import { bytesOf, DTYPE_BYTES } from './formats/npy.js';
-import { openDatasetReader, readRowBlocks, tensorOf } from './formats/read.js';
-import type { OutputFormat } from './formats/index.js';
+import { writeFileAtomic } from '../formats/atomic.js';
+import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
+import { openDatasetReader, readRowBlocks, tensorOf } from '../formats/reader.js';
+import type { OutputFormat } from '../formats/index.js';
 
 /** Value of a manifest's `kind` field. @example MANIFEST_KIND // "pathweave-part-manifest" */
 export const MANIFEST_KIND = 'pathweave-part-manifest';

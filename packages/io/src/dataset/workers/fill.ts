@@ -6,7 +6,7 @@
  * Layouts: out [n, (U,) (symbols,) K or count, Nr, Nt] complex interleaved (users after S);
  * gains [n, (U,) (symbols,) Lmax] complex128, zero-padded to the largest path count.
  */
-import type { BuiltScenario } from '../build.js';
+import type { BuiltScenario } from '../../scenario/build.js';
 
 /**
  * Largest path count over the users (the L axis of gains and tables).

@@ -11,8 +11,8 @@
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
-import type { Domain } from '../build.js';
-import type { Scenario } from '../schema.js';
+import type { Domain } from '../../scenario/build.js';
+import type { Scenario } from '../../scenario/schema.js';
 
 /** What each worker is started with. */
 export interface BlockWorkerData {
@@ -41,11 +41,11 @@ interface BlockReply {
 }
 
 /**
- * Where the compiled worker lives: dist/workers/fill-worker.js, reached the same way from
+ * Where the compiled worker lives: dist/dataset/workers/fill-worker.js, reached the same way from
  * src/ (tests run the sources; worker threads need JavaScript) and from dist/.
- * @example FILL_WORKER_URL.pathname // "<checkout>/packages/io/dist/workers/fill-worker.js"
+ * @example FILL_WORKER_URL.pathname // "<checkout>/packages/io/dist/dataset/workers/fill-worker.js"
  */
-export const FILL_WORKER_URL: URL = new URL('../../dist/workers/fill-worker.js', import.meta.url);
+export const FILL_WORKER_URL: URL = new URL('../../../dist/dataset/workers/fill-worker.js', import.meta.url);
 
 /** Cores up to which the main thread alone, filling in place, is the faster default. */
 const SINGLE_THREAD_CORES = 2;

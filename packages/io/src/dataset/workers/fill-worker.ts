@@ -11,7 +11,7 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { KERNEL_NAME } from '@pathweave/core';
-import { buildScenario } from '../build.js';
+import { buildScenario } from '../../scenario/build.js';
 import { fillBlock } from './fill.js';
 import type { BlockRequest, BlockWorkerData } from './pool.js';
 

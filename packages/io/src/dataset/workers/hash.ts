@@ -13,10 +13,10 @@ export type HashRequest = { kind: 'update'; buffer: SharedArrayBuffer; byteOffse
 type HashReply = { kind: 'hashed' } | { kind: 'digest'; hex: string } | { kind: 'error'; message: string };
 
 /**
- * Where the compiled hash thread lives (dist/workers/hash-worker.js), reached the same way from src/ and dist/.
- * @example HASH_WORKER_URL.pathname // "<checkout>/packages/io/dist/workers/hash-worker.js"
+ * Where the compiled hash thread lives (dist/dataset/workers/hash-worker.js), reached the same way from src/ and dist/.
+ * @example HASH_WORKER_URL.pathname // "<checkout>/packages/io/dist/dataset/workers/hash-worker.js"
  */
-export const HASH_WORKER_URL: URL = new URL('../../dist/workers/hash-worker.js', import.meta.url);
+export const HASH_WORKER_URL: URL = new URL('../../../dist/dataset/workers/hash-worker.js', import.meta.url);
 
 /**
  * A running SHA-256 in a worker thread.

@@ -14,9 +14,9 @@
  */
 import { createRequire } from 'node:module';
 import { stat } from 'node:fs/promises';
-import { DTYPE_BYTES } from './formats/npy.js';
-import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, NpyReader, type DatasetReader, type StoredArray } from './formats/read.js';
-import { formatBytes, RequestError } from './generate.js';
+import { DTYPE_BYTES } from '../formats/npy.js';
+import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
+import { formatBytes, RequestError } from '../dataset/generate.js';
 
 /**
  * Options of `inspectFile`.
