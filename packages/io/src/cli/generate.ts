@@ -65,10 +65,11 @@ async function run(argv: string[], io: Io): Promise<number> {
   }
   // The output-size and memory refusals first (they name the size), then the side arrays
   // (gains, ground truth), which stay in memory until the commit.
-  checkRequest(planScenario(scenario, { domain }), range, maxBytes, { sideArrays: 'per-file' });
+  const plan = planScenario(scenario, { domain, seed });
+  checkRequest(plan, range, maxBytes, { sideArrays: 'per-file' });
   // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
   const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
-  const effectiveSeed = seed ?? scenario.seed;
+  const effectiveSeed = plan.seed;
   if (shard !== undefined) {
     const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
     if (earlier.reusable) {
