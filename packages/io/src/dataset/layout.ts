@@ -31,7 +31,7 @@ export interface DatasetArray {
 /**
  * Every array a run may write, in the order generate writes them. `tensor` stands for the
  * run's precision (complex64 or complex128).
- * @example DATASET_ARRAYS.filter((a) => a.perSubframe).length // 15: the tensors, gains, subframe times and 12 ground-truth arrays
+ * @example DATASET_ARRAYS.filter((a) => a.perSubframe).length // 16: H and h, gains, subframe times and 12 ground-truth arrays
  */
 export const DATASET_ARRAYS: readonly DatasetArray[] = Object.freeze([
   { name: 'H', dtype: 'tensor', units: '1', axes: ['S', 'U?', 'N?', 'K', 'Nr', 'Nt'], perSubframe: true },

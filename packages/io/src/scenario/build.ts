@@ -366,14 +366,14 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
       records = traced.pathsAt(0).map(recordOfTraced);
       delays = traced.epochs.flatMap((m) => [...m.values()].map((p) => p.delayS));
       totalPower = records.reduce((a, p) => a + 10 ** (p.powerDb / 10), 0);
-      spreads = traced.ids.map(() => plan.clusters.scene);
+      spreads = traced.ids.map(() => plan.clusters.scene ?? undefined);
     } else {
       const explicit = explicitPaths(scenario);
       timeline = new ExplicitTimeline(explicit.paths);
       records = explicit.records;
       delays = explicit.paths.map((p) => p.delayS);
       totalPower = explicit.paths.reduce((a, p) => a + p.power, 0);
-      spreads = plan.clusters.explicit;
+      spreads = plan.clusters.explicit.map((c) => c ?? undefined);
     }
     const specularTimeline = timeline;
     if (spreads.some((c) => c !== undefined)) {

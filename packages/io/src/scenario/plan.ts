@@ -43,7 +43,8 @@ export const SCENARIO_DEFAULTS = Object.freeze({
 /**
  * An array with its defaults applied.
  * @example
- * const [array] = planScenario(demoScenario).transmitterArray;
+ * const array: ArrayPlan = planArray({ kind: 'upa', rows: 2, columns: 4, dualPolarized: 'vh' });
+ * [array.elements, array.ports, array.spacingWavelengths] // [8, 16, 0.5]
  */
 export interface ArrayPlan {
   config: ArrayConfig;
@@ -143,8 +144,8 @@ export interface ScenarioPlan {
   source: 'scene' | 'explicit';
   /** Explicit paths: their number before clustering; traced: undefined until traced. */
   explicitPathCount: number | undefined;
-  /** Cluster spread of each explicit path (its own, else the scenario's), or of every traced path. */
-  clusters: { scene: ClusterSpread | undefined; explicit: (ClusterSpread | undefined)[] };
+  /** Cluster spread of each explicit path (its own, else the scenario's), or of every traced path; null: no cluster (JSON keeps null in arrays). */
+  clusters: { scene: ClusterSpread | null; explicit: (ClusterSpread | null)[] };
   tensor: {
     name: 'H' | 'h';
     dtype: Precision;
@@ -327,10 +328,10 @@ export function planScenario(scenario: Scenario, options: { domain?: Domain | un
   const shape = [S, ...(multiUser ? [users.length] : []), ...(timing.symbolAxis ? [timing.stepsPerSubframe] : []), bins, Nr, Nt];
   const valuesPerSubframe = users.length * timing.stepsPerSubframe * bins * Nr * Nt;
   const tensorName = domain === 'frequency' ? 'H' : 'h';
-  const sceneCluster = scenario.clusters !== undefined ? clusterSpreadOf(scenario.clusters) : undefined;
+  const sceneCluster = scenario.clusters !== undefined ? clusterSpreadOf(scenario.clusters) : null;
   const explicitClusters = (scenario.paths ?? []).map((p) => {
     const c = p.cluster ?? scenario.clusters;
-    return c !== undefined ? clusterSpreadOf(c) : undefined;
+    return c !== undefined ? clusterSpreadOf(c) : null;
   });
   const skip = new Set([tensorName === 'H' ? 'h' : 'H', domain === 'frequency' ? 'tapDelaysS' : 'frequenciesHz']);
   return {
