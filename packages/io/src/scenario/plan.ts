@@ -13,7 +13,7 @@
 import { clusterPreset, nrNumerology, nrSymbolTimesS, numerologyClock, uniformSymbolTimesS, type ClusterSpread, type CyclicPrefix, type FadingSpec, type Precision, type PulseShape } from '@pathweave/core';
 import { DATASET_ARRAYS, DATASET_ATTRIBUTES, type DatasetArray } from '../dataset/layout.js';
 import { CURRENT_FORMAT_VERSION, type ArrayConfig, type ClusterConfig, type Scenario, type TerminalConfig } from './schema.js';
-import { ScenarioError } from './validate.js';
+import { ScenarioError } from './problems.js';
 
 /**
  * Output domain of a run.

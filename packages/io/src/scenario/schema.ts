@@ -4,6 +4,7 @@
  * angles in degrees under keys ending in `Deg` and decibels under keys ending in `Db`.
  */
 import { z } from 'zod';
+import { MAX_REFLECTION_ORDER } from '@pathweave/geometry';
 
 /**
  * The scenario format this build writes and reads by default.
@@ -157,7 +158,7 @@ const sceneDefinition = z.strictObject({
       ]),
     )
     .optional(),
-  maxReflectionOrder: z.number().int().min(0).max(3).optional(),
+  maxReflectionOrder: z.number().int().min(0).max(MAX_REFLECTION_ORDER).optional(),
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
