@@ -12,7 +12,7 @@
  */
 import { clusterPreset, nrNumerology, nrSymbolTimesS, numerologyClock, uniformSymbolTimesS, type ClusterSpread, type CyclicPrefix, type FadingSpec, type Precision, type PulseShape } from '@pathweave/core';
 import { DATASET_ARRAYS, DATASET_ATTRIBUTES, type DatasetArray } from '../dataset/layout.js';
-import { CURRENT_FORMAT_VERSION, type ArrayConfig, type ClusterConfig, type Scenario, type TerminalConfig } from './schema.js';
+import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, type ArrayConfig, type ClusterConfig, type Scenario, type TerminalConfig } from './schema.js';
 import { ScenarioError } from './problems.js';
 
 /**
@@ -20,25 +20,6 @@ import { ScenarioError } from './problems.js';
  * @example const domain: Domain = 'taps'; // tap-delay output, [S, count, Nr, Nt]
  */
 export type Domain = 'frequency' | 'taps';
-
-/**
- * The defaults of optional scenario keys, applied once by `planScenario` (and shown by the JSON
- * Schema in docs/).
- * @example [SCENARIO_DEFAULTS.precision, SCENARIO_DEFAULTS.spacingWavelengths] // ['complex64', 0.5]
- */
-export const SCENARIO_DEFAULTS = Object.freeze({
-  precision: 'complex64' as Precision,
-  spacingWavelengths: 0.5,
-  pulse: 'sinc' as PulseShape,
-  rollOff: 0,
-  beamSquint: false,
-  alignFirstPath: false,
-  cyclicPrefix: 'normal' as CyclicPrefix,
-  wavefront: 'plane' as 'plane' | 'spherical' | 'auto',
-  normalize: false,
-  /** Subcarrier spacing without a numerology is required; with one it is 15 kHz 2^mu (TS 38.211 Table 4.2-1). */
-  numerologyBaseSpacingHz: 15e3,
-});
 
 /**
  * An array with its defaults applied.
