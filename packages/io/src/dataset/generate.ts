@@ -19,6 +19,7 @@ import { openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf } from '../formats/npy.js';
 import type { DatasetSink, NamedArray } from '../formats/sink.js';
 import type { Scenario } from '../scenario/schema.js';
+import { sideFilePaths } from '../scenario/paths.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { arrayShape, DATASET_ATTRIBUTES, datasetArray, unitsOf, type LayoutAxes } from './layout.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
@@ -585,8 +586,8 @@ async function writeNpySideFile(
       ...(info.sha256 !== undefined ? { sha256: info.sha256 } : {}),
     },
     seed: info.seed,
-    users: built.users.map((u) => ({ id: u.id, paths: u.paths })),
-    paths: built.paths,
+    users: built.users.map((u) => ({ id: u.id, paths: sideFilePaths(u.paths) })),
+    paths: sideFilePaths(built.paths),
     scenario: JSON.parse(info.scenarioText) as unknown,
   };
   await writeFileAtomic(path, JSON.stringify(doc, null, 2) + '\n');
