@@ -35,7 +35,7 @@ import type { GainProcess } from './gains.js';
 import { subcarrierOffsetsHz } from './grid.js';
 import { accumulatePaths } from './kernels/index.js';
 import type { Motion } from './motion.js';
-import { identityTransfers, isPolarimetricSource, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
+import { identityTransfers, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
 import { pulseFunction, type PulseShape } from './pulse.js';
 import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathSetFrame, type ExplicitPathSpec, type PathTimeline } from './timeline.js';
@@ -271,7 +271,8 @@ export class ChannelGenerator {
 
     // Doppler spreads and the gain processes (unit power, keyed by the path ids).
     const speed = (t: Terminal): number => t.motion?.maxSpeed() ?? Math.hypot(t.velocity[0], t.velocity[1], t.velocity[2]);
-    const explicit = this.timeline instanceof ExplicitTimeline ? this.timeline.paths : undefined;
+    // Paths given with their own Doppler (explicit paths) say so through the timeline's pathDoppler.
+    const explicit = this.timeline.pathDoppler;
     const fadingSpeed = 'speedMps' in spec.fading ? spec.fading.speedMps : undefined;
     this.correlations = this.timeline.ids.map((_, l) =>
       pathCorrelation({
@@ -301,7 +302,7 @@ export class ChannelGenerator {
       // Transfers: cross-polar ones are fixed for the run; the others follow the timeline.
       const transfers = identityTransfers(L);
       const fixed = new Uint8Array(L);
-      const diffuse = (this.timeline as { diffuse?: readonly boolean[] }).diffuse;
+      const diffuse = this.timeline.diffuse;
       this.timeline.ids.forEach((id, l) => {
         if (spec.xprDb === undefined || (this.deterministic && diffuse?.[l] !== true)) return;
         xprTransfer(transfers, 8 * l, spec.xprDb, new RandomStream(spec.seed, `${key(id)}/xpr`));
@@ -481,7 +482,7 @@ export class ChannelGenerator {
   /** The timeline's transfers at time t for the paths whose transfer is not a fixed cross-polar one. */
   private refreshTransfers(timeS: number): void {
     const ports = this.ports!;
-    if (!isPolarimetricSource(this.timeline)) return;
+    if (this.timeline.polarimetricAt === undefined) return;
     const L = this.pathCount;
     const scratch = ports.scratch;
     this.timeline.polarimetricAt(timeS, scratch);
