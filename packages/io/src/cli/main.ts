@@ -4,6 +4,7 @@
  */
 import { RequestError } from '../dataset/generate.js';
 import { InputFileError, printable } from '../formats/read-support.js';
+import { OutputPathError } from '../formats/output-path.js';
 import { ScenarioError, formatProblem } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { UsageError } from './args.js';
@@ -56,7 +57,7 @@ export async function main(argv: readonly string[], given: Io = defaultIo): Prom
       for (const p of e.problems) io.err(`  ${formatProblem(p)}`);
       return 2;
     }
-    if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError) {
+    if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError || e instanceof OutputPathError) {
       io.err(`error: ${e.message}`);
       if (e instanceof UsageError) io.err('run "pathweave help" for usage');
       return 2;
