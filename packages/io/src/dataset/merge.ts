@@ -17,7 +17,7 @@ import { basename } from 'node:path';
 import { commitWithSideFile } from '../formats/atomic.js';
 import { formatFromPath, openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
-import { openDatasetReader, tensorOf, attributeOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
+import { openDatasetReader, tensorOf, attributeOf, InputFileError, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import type { ArrayData, Attribute, NamedArray } from '../formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
 import { fileSha256, manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
@@ -174,7 +174,12 @@ async function checkParts(partFiles: string[], options: MergeOptions, warnings: 
   // Every byte of every part (and of a .npy's side file) against its manifest, before anything is written.
   for (const p of parts) {
     if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-    const whole = await fileSha256(p.path, options.signal);
+    const { size } = await stat(p.path).catch(() => refuse(`${p.path} is missing`));
+    if (size !== p.manifest.fileBytes) refuse(`${p.path} is ${size} bytes, its manifest says ${p.manifest.fileBytes}: the part was changed or truncated after it was written`);
+    const whole = await fileSha256(p.path, options.signal).catch((e: unknown) => {
+      if (e instanceof InputFileError) refuse(e.message);
+      throw e;
+    });
     if (whole !== p.manifest.fileSha256) refuse(`${p.path}: file sha256 ${whole} differs from its manifest's ${p.manifest.fileSha256}: an array or attribute of the part was changed after it was written; regenerate it (rerun its shard)`);
     if (p.manifest.format === 'npy') {
       const side = await fileSha256(`${p.path}.json`, options.signal).catch((e: Error) => refuse(`${p.path}.json: ${e.message}`));
