@@ -156,6 +156,8 @@ class EntryCursor {
   private pieces: AsyncIterator<Buffer> | undefined;
   private stop: (() => void) | undefined;
   private held: Buffer = Buffer.alloc(0);
+  /** Bytes inflated by every pass of this entry (a check that rows in order inflate once). */
+  inflated = 0;
 
   constructor(
     private readonly path: string,
@@ -222,6 +224,7 @@ class EntryCursor {
       }
       if (next.done) throw new InputFileError(this.path, `entry ${this.entry.name} inflates to ${this.position} bytes, the zip directory says ${this.entry.size}`);
       this.held = next.value;
+      this.inflated += this.held.length;
       if (this.position + this.held.length > this.entry.size) throw new InputFileError(this.path, `entry ${this.entry.name} inflates to more than the ${this.entry.size} bytes the zip directory says`);
     }
     const piece = this.held.subarray(0, Math.min(max, this.held.length));
@@ -302,6 +305,13 @@ export class NpzReader implements DatasetReader {
       else reader.arrays.push(a); // other 0-d arrays are not attributes the sink writes
     }
     return reader;
+  }
+
+  /** @internal Bytes inflated so far over all entries and passes. */
+  get inflatedBytes(): number {
+    let n = 0;
+    for (const c of this.cursors.values()) n += c.inflated;
+    return n;
   }
 
   private cursor(entry: ZipEntry): EntryCursor {
