@@ -293,6 +293,19 @@ describe('parts: the manifest covers every array and attribute', () => {
     expect(again.code).toBe(0);
     expect(again.err).toContain(`regenerating ${part}: `);
   });
+  it.skipIf(py.skip)('a scenario attribute that does not match the tensor (resealed manifest): refused by merge and by plot', async () => {
+    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('a.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
+    const part = file('a.part-1-of-2.h5');
+    execFileSync(py.python, ['-c', `import h5py, json\nf = h5py.File(${JSON.stringify(part)}, 'a')\ns = json.loads(f.attrs['scenario'])\ns['band']['subcarriers'] = 32\nf.attrs['scenario'] = json.dumps(s)\nf.close()`]);
+    reseal(part);
+    const r = await run(['merge', file('a.part-0-of-2.h5'), part, '--out', file('a.h5'), '--quiet']);
+    expect(r.code).toBe(2);
+    expect(r.err).toContain(`${part}: its scenario attribute describes H complex64 [2, 32, 3, 8], but the file holds complex64 [2, 33, 3, 8]: the scenario or the tensor was changed`);
+    expect(existsSync(file('a.h5'))).toBe(false);
+    const p = await run(['plot', part, '--kind', 'delay-profile', '--out', file('a.svg')]);
+    expect(p.code).toBe(2);
+    expect(p.err).toContain('its scenario attribute describes H complex64 [2, 32, 3, 8]');
+  });
   it('parts of different pathweave versions: refused, or merged with a warning under --allow-versions', async () => {
     for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('v.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
     reseal(file('v.part-1-of-2.npz'), (m) => (m.pathweaveVersion = '0.0.9'));

@@ -17,8 +17,10 @@ import { basename, extname } from 'node:path';
 import { z } from 'zod';
 import { writeFileAtomic } from '../formats/atomic.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
-import { openDatasetReader, readRowBlocks, tensorOf } from '../formats/reader.js';
-import { openRegularFile, readAt, readSmallFile } from '../formats/read-support.js';
+import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, type DatasetReader } from '../formats/reader.js';
+import { InputFileError, openRegularFile, readAt, readSmallFile } from '../formats/read-support.js';
+import { outputEstimate } from '../scenario/build.js';
+import { ScenarioError, parseScenarioText } from '../scenario/validate.js';
 import type { OutputFormat } from '../formats/index.js';
 
 /** Value of a manifest's `kind` field. @example MANIFEST_KIND // "pathweave-part-manifest" */
@@ -343,4 +345,32 @@ export async function reusablePart(
   if (m.format !== request.format) return { reusable: false, reason: `the manifest is of format ${m.format}, not ${request.format}` };
   const check = await verifyPart(partFile, m);
   return check.ok ? { reusable: true, manifest: m } : { reusable: false, reason: check.reason };
+}
+
+/**
+ * Check that a file's `scenario` attribute describes its tensor: a valid scenario whose tensor
+ * shape (after the subframe axis) and precision are the file's. A file whose scenario was edited
+ * (another band, array or precision) is refused with an InputFileError; a file without one passes.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * checkScenarioAttribute(await openDatasetReader('run.h5')) // passes: the scenario says 64 subcarriers, 4 x 32 ports
+ */
+export function checkScenarioAttribute(reader: DatasetReader): void {
+  const text = attributeOf(reader, 'scenario');
+  if (text === undefined) return;
+  if (typeof text !== 'string') throw new InputFileError(reader.path, 'its scenario attribute is not text');
+  let scenario;
+  try {
+    scenario = parseScenarioText(text, `${reader.path}: scenario attribute`).scenario;
+  } catch (e) {
+    if (e instanceof ScenarioError) throw new InputFileError(reader.path, `its scenario attribute is not a valid scenario (${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}, the first: ${e.problems[0]?.path ?? ''} ${e.problems[0]?.message ?? ''})`, { cause: e });
+    throw e;
+  }
+  const tensor = tensorOf(reader);
+  const expected = outputEstimate(scenario, tensor.name === 'h' ? 'taps' : 'frequency', tensor.shape[0]).shape;
+  const dtype = scenario.precision ?? 'complex64';
+  if (expected.length !== tensor.shape.length || expected.some((v, i) => v !== tensor.shape[i]) || dtype !== tensor.dtype) {
+    throw new InputFileError(reader.path, `its scenario attribute describes ${tensor.name} ${dtype} [${expected.join(', ')}], but the file holds ${tensor.dtype} [${tensor.shape.join(', ')}]: the scenario or the tensor was changed`);
+  }
 }

@@ -20,7 +20,7 @@ import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
 import { openDatasetReader, tensorOf, attributeOf, InputFileError, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import type { ArrayData, Attribute, NamedArray } from '../formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
-import { fileSha256, manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
+import { checkScenarioAttribute, fileSha256, manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
 
 /**
  * Options of a merge.
@@ -217,6 +217,7 @@ export async function merge(partFiles: string[], out: string, options: MergeOpti
         refuse(`${path} is ${reader.format}, its manifest says ${manifest.format}`);
       }
       parts.push({ path, manifest, reader, tensor: tensorOf(reader) });
+      checkScenarioAttribute(reader);
       const t = parts[parts.length - 1]!.tensor;
       if (t.name !== manifest.tensor.name && reader.format !== 'npy') refuse(`${path} holds ${t.name}, its manifest says ${manifest.tensor.name}`);
       if (t.dtype !== manifest.tensor.dtype || !sameShape(t.shape, manifest.tensor.shape)) {
