@@ -20,6 +20,7 @@ import {
   type Vec3,
 } from '@pathweave/geometry';
 import {
+  ArFitError,
   ChannelGenerator,
   ClusteredTimeline,
   ExplicitTimeline,
@@ -529,9 +530,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       generator = new ChannelGenerator(spec);
     } catch (e) {
       // The AR fit can refuse an order its Yule-Walker system cannot carry: that is the input's fault.
-      if (e instanceof RangeError && scenario.fading.model === 'ar' && /AutoregressiveGains|fitAutoregressive/.test(e.message)) {
-        throw new ScenarioError([{ path: 'fading.order', message: e.message.replace(/^.*?: (?=order|the )/, '') }]);
-      }
+      if (e instanceof ArFitError) throw new ScenarioError([{ path: 'fading.order', message: e.problem }]);
       throw e;
     }
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
