@@ -87,7 +87,7 @@ const TEMPORARY_TAIL_BYTES = 7 + 1 + 16 + 5;
  * name and ".", the name cut short (at a character boundary) where the whole would pass the
  * 255-byte file-name limit, so a valid final name never yields a temporary name too long.
  * @example temporaryPrefixFor('/data/run.npy') // ".run.npy."
- * @example Buffer.byteLength(temporaryPrefixFor('x'.repeat(255))) // 225: 255 less the process id, random part and ".part"
+ * @example Buffer.byteLength(temporaryPrefixFor('x'.repeat(255))) // 226: room for a 7-digit process id, "-", 16 hex digits and ".part"
  */
 export function temporaryPrefixFor(target: string): string {
   let name = basename(target);

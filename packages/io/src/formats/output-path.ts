@@ -22,7 +22,7 @@ export class OutputPathError extends Error {
   override name = 'OutputPathError';
 }
 
-/** Longest file name (one path component) in bytes on the file systems pathweave writes to (POSIX NAME_MAX). */
+/** Longest file name (one path component) in bytes on the file systems pathweave writes to (POSIX NAME_MAX). @example NAME_MAX_BYTES // 255 */
 export const NAME_MAX_BYTES = 255;
 
 /**
