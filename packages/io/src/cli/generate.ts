@@ -12,6 +12,7 @@ import { readdirSync, unlinkSync } from 'node:fs';
 import { totalmem } from 'node:os';
 import { temporaryPrefixFor } from '../formats/atomic.js';
 import { checkOutputPath } from '../formats/output-path.js';
+import { printable } from '../formats/read-support.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
@@ -106,7 +107,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   let interrupted: string | undefined;
   let done = 0;
   const total = range[1] - range[0];
-  const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
+  const progress = new Progress(`generate ${printable(target)}`, total, process.stderr, quiet); // written to stderr directly: escaped here
   const controller = new AbortController();
   const result: Promise<GenerateReport> = generate(scenario, text, {
     out: target,

@@ -4,6 +4,7 @@ import { merge } from '../dataset/merge.js';
 import { manifestPathOf } from '../dataset/manifest.js';
 import { formatFromPath } from '../formats/index.js';
 import { checkOutputPath } from '../formats/output-path.js';
+import { printable } from '../formats/read-support.js';
 import { parseArgs, UsageError } from './args.js';
 import type { Command, Io } from './common.js';
 import { Progress } from './progress.js';
@@ -31,7 +32,7 @@ async function run(argv: string[], io: Io): Promise<number> {
       signal: controller.signal,
       allowVersions: args.flags.has('allow-versions'),
       onProgress: (done, total) => {
-        progress ??= new Progress(`merge ${out}`, total, process.stderr, args.flags.has('quiet'));
+        progress ??= new Progress(`merge ${printable(out)}`, total, process.stderr, args.flags.has('quiet')); // written to stderr directly: escaped here
         progress.update(done);
       },
     });
