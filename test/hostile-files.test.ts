@@ -17,7 +17,7 @@ import { chmodSync, copyFileSync, existsSync, mkdirSync, readdirSync, readFileSy
 import { createHash } from 'node:crypto';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { generate, loadScenario, npyHeader, openDatasetReader, parseNpyHeader, READ_LIMITS } from '@pathweave/io';
+import { generate, loadScenario, merge, npyHeader, openDatasetReader, parseNpyHeader, READ_LIMITS } from '@pathweave/io';
 import { main } from '@pathweave/io/cli';
 import { ROOT, runCli, tempDir } from './support/run.js';
 import { hasPython, PYTHON } from './support/python.js';
@@ -316,6 +316,13 @@ describe('parts: the manifest covers every array and attribute', () => {
     const ok = await run(['merge', ...parts, '--out', file('v.npz'), '--quiet', '--allow-versions']);
     expect(ok.code, ok.err).toBe(0);
     expect(ok.err).toContain('warning: the parts were written by different pathweave versions (');
+  });
+  it('a signal during set-up (while the parts are checked) ends merge before anything is written', async () => {
+    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('g.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    const controller = new AbortController();
+    controller.abort(new Error('interrupted by SIGTERM'));
+    await expect(merge([file('g.part-0-of-2.npz'), file('g.part-1-of-2.npz')], file('g.npz'), { signal: controller.signal })).rejects.toThrow('interrupted by SIGTERM');
+    expect(readdirSync(dir).filter((f) => f.startsWith('g.npz') || f.startsWith('.g.npz'))).toEqual([]);
   });
   it('a manifest whose format disagrees with the file', async () => {
     for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('f.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
