@@ -1,5 +1,5 @@
 /**
- * Checks of an output name before any work (docs/conventions.md, "Output files"): what `--out`
+ * Checks of an output name before any work (docs/conventions.md, "Committing outputs"): what `--out`
  * may name, refused with an OutputPathError (the CLI exits 2) when it cannot be the file meant.
  *
  * An output is committed by renaming a temporary file over the name (atomic.ts), which replaces
