@@ -9,7 +9,7 @@ import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/
 import { JsonSyntaxError, parseJson } from './json.js';
 import { portCount } from './plan.js';
 import { formatProblem, ScenarioError, type Problem } from './problems.js';
-import { CURRENT_FORMAT_VERSION, scenarioSchema, type Scenario } from './schema.js';
+import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, scenarioSchema, type Scenario } from './schema.js';
 
 export { formatProblem, ScenarioError, type Problem } from './problems.js';
 
@@ -280,7 +280,7 @@ function crossChecks(s: Scenario): Problem[] {
       if (t.cyclicPrefix === 'extended' && t.numerology !== 2) problems.push({ path: 'timing.cyclicPrefix', message: `"extended" is allowed only with numerology 2 (60 kHz, TS 38.211 Table 4.2-1), got numerology ${t.numerology}` });
       const symbols = (t.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** t.numerology;
       if (t.symbolsPerSubframe !== undefined && t.symbolsPerSubframe !== symbols) problems.push({ path: 'timing.symbolsPerSubframe', message: `numerology ${t.numerology} has ${symbols} symbols per 1 ms subframe, got ${t.symbolsPerSubframe}` });
-      const spacing = 15e3 * 2 ** t.numerology;
+      const spacing = SCENARIO_DEFAULTS.numerologyBaseSpacingHz * 2 ** t.numerology;
       if (s.band?.spacingHz !== undefined && s.band.spacingHz !== spacing) problems.push({ path: 'band.spacingHz', message: `numerology ${t.numerology} means ${spacing} Hz; give that or leave spacingHz out, got ${s.band.spacingHz}` });
       if (t.subframeS < 1e-3) problems.push({ path: 'timing.subframeS', message: `an NR subframe is 1 ms: with a numerology it must be >= 0.001, got ${t.subframeS}` });
     }
