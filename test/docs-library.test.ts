@@ -13,14 +13,11 @@ import { describe, expect, it } from 'vitest';
 import { dbmToWatts, thermalNoisePowerW } from '@pathweave/core';
 import { generate } from '@pathweave/io';
 import { hasPython, pythonJson } from './support/python.js';
+import { librarySnippets } from './support/docs.js';
 import { ROOT } from './support/run.js';
 
 const DOC = readFileSync(join(ROOT, 'docs', 'library.md'), 'utf8');
 
-/** Each js block with the text block that follows it. */
-export function librarySnippets(markdown: string): { code: string; output: string }[] {
-  return [...markdown.matchAll(/^```js\n([\s\S]*?)^```\n+```text\n([\s\S]*?)^```/gm)].map((m) => ({ code: m[1]!, output: m[2]! }));
-}
 
 const snippets = librarySnippets(DOC);
 const dir = join(ROOT, 'out', 'docs-library');
