@@ -54,7 +54,7 @@ describe('docs/guide.md', () => {
       }
       expect(out.trim().length, `snippet ${i + 1} prints its result`).toBeGreaterThan(0);
     });
-  });
+  }, 600_000); // some twenty runs of the CLI: minutes on a loaded machine
 
   it('its json blocks are valid scenarios', () => {
     const json = blocks(GUIDE, 'json');
