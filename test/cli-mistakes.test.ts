@@ -126,13 +126,13 @@ describe('the command line', () => {
     expect(byId.stdout).toBe(byIndex.stdout);
     const bad = runCli(['paths', users, '--user', 'pedestrian']);
     expect(bad.status).toBe(2);
-    expect(bad.stderr).toBe('error: paths: --user must be a receiver id (walker, crossing-a, crossing-b, window, across) or an index in [0, 4], got "pedestrian"\nrun "pathweave help" for usage\n');
+    expect(bad.stderr).toBe('error: paths: --user must be a receiver id (walker, crossing-a, crossing-b, window, across) or an index in [0, 4], got "pedestrian"\nrun "pathweave paths --help" for its options\n');
     const svgId = join(dir, 'user-id.svg'), svgIndex = join(dir, 'user-index.svg');
     expect(runCli(['plot', users, '--kind', 'delay-profile', '--user', 'crossing-a', '--out', svgId]).status).toBe(0);
     expect(runCli(['plot', users, '--kind', 'delay-profile', '--user', '1', '--out', svgIndex]).status).toBe(0);
     expect(readFileSync(svgId, 'utf8')).toBe(readFileSync(svgIndex, 'utf8'));
     const badPlot = runCli(['plot', users, '--kind', 'scene', '--user', '7', '--out', join(dir, 'x.svg')]);
     expect(badPlot.status).toBe(2);
-    expect(badPlot.stderr).toBe('error: plot: --user must be a receiver id (walker, crossing-a, crossing-b, window, across) or an index in [0, 4], got 7\nrun "pathweave help" for usage\n');
+    expect(badPlot.stderr).toBe('error: plot: --user must be a receiver id (walker, crossing-a, crossing-b, window, across) or an index in [0, 4], got 7\nrun "pathweave plot --help" for its options\n');
   });
 });

@@ -55,7 +55,7 @@ export async function main(argv: readonly string[], io: Io = defaultIo): Promise
     }
     if (e instanceof UsageError || e instanceof RequestError) {
       io.err(`error: ${e.message}`);
-      if (e instanceof UsageError) io.err('run "pathweave help" for usage');
+      if (e instanceof UsageError) io.err(command !== undefined && COMMANDS[command] !== undefined ? `run "pathweave ${command} --help" for its options` : 'run "pathweave help" for usage');
       return 2;
     }
     io.err(`error: ${e instanceof Error ? e.message : String(e)}`);
