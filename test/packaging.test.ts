@@ -6,6 +6,10 @@
  * type-checks a consumer, generates a small channel to .npy through the library and through the
  * installed `pathweave` binary, and gets the same bytes as the workspace's own build.
  *
+ * The tarballs come from scripts/pack.mjs, the route the READMEs give; the fresh project runs the
+ * first example of docs/library.md and prints what the guide shows, and calls the command as
+ * the READMEs say (`npx --no-install pathweave`).
+ *
  * Needs the built dist/ (`npx tsc -b`) and pnpm 12.4.2 through npx (scripts/setup.mjs fetches it).
  * `pnpm pack` rather than `npm pack`: only pnpm rewrites `workspace:*` and `catalog:` into versions.
  */
@@ -14,6 +18,7 @@ import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { ROOT, runCli, tempDir } from './support/run.js';
+import { librarySnippets } from './support/docs.js';
 
 const PACKAGES = ['geometry', 'core', 'io'] as const;
 type Pkg = (typeof PACKAGES)[number];
@@ -40,10 +45,11 @@ const scenario = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'explici
 scenario.timing.subframes = 4;
 
 beforeAll(() => {
-  mkdirSync(packs);
+  // The script of the READMEs (already built here: no set-up step).
+  const packed = run(process.execPath, [join(ROOT, 'scripts', 'pack.mjs'), packs, '--no-setup'], ROOT).stdout;
   for (const pkg of PACKAGES) {
-    run('npx', ['--yes', 'pnpm@12.4.2', 'pack', '--pack-destination', packs], join(ROOT, 'packages', pkg));
     tarballs[pkg] = join(packs, `pathweave-${pkg}-0.1.0.tgz`);
+    expect(packed).toContain(tarballs[pkg]);
     contents[pkg] = run('tar', ['tzf', tarballs[pkg]], work).stdout.trim().split('\n');
     manifests[pkg] = JSON.parse(run('tar', ['xzf', tarballs[pkg], '-O', 'package/package.json'], work).stdout) as Record<string, any>;
   }
@@ -175,6 +181,18 @@ describe('a fresh project outside the workspace', () => {
     const bad = spawnSync(bin, ['validate', 'bad.json'], { cwd: app, env: cleanEnv(), encoding: 'utf8' });
     expect(bad.status).toBe(2);
     expect(bad.stderr).toContain('carrierHz: must be > 0, got -1');
+  });
+
+  it("runs the first example of docs/library.md and prints what the guide shows", () => {
+    const [example] = librarySnippets(readFileSync(join(ROOT, 'docs', 'library.md'), 'utf8'));
+    writeFileSync(join(app, 'library-guide.mjs'), example!.code);
+    expect(run(process.execPath, ['library-guide.mjs'], app).stdout).toBe(example!.output);
+  });
+
+  it('`npx --no-install pathweave` runs the installed binary, as the READMEs say', () => {
+    expect(run('npx', ['--no-install', 'pathweave', '--version'], app).stdout.trim()).toBe('0.1.0');
+    const help = run('npx', ['--no-install', 'pathweave', 'validate', '--help'], app);
+    expect(help.stdout.startsWith('usage: pathweave validate <scenario.json>')).toBe(true);
   });
 
   it('type-checks a TypeScript consumer against the shipped declarations (strict, NodeNext)', () => {

@@ -143,7 +143,7 @@ describe('merge', () => {
     shardAll(dir, file, join(dir, `run.${ext}`), 3);
     // Given out of order: merge sorts by range.
     const parts = [2, 0, 1].map((i) => join(dir, `run.part-${i}-of-3.${ext}`));
-    const r = runCli(['merge', ...parts, '--out', join(dir, `merged.${ext}`), '--quiet']);
+    const r = runCli(['merge', ...parts, '--out', join(dir, `merged.${ext}`)]); // not --quiet: its report is read
     expect(r.status, r.stderr).toBe(0);
     expect(r.stdout).toContain(`from 3 parts`);
     const same = pythonJson<Record<string, boolean | string>>(COMPARE, [join(dir, `full.${ext}`), join(dir, `merged.${ext}`)]);

@@ -7,6 +7,7 @@ import { readFile } from 'node:fs/promises';
 import type { z } from 'zod';
 import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
+import { checkPlausibility } from './plausibility.js';
 import { portCount } from './plan.js';
 import { formatProblem, ScenarioError, type Problem } from './problems.js';
 import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, scenarioSchema, type Scenario } from './schema.js';
@@ -130,9 +131,12 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
   const got = `got ${describeValue(value)}`;
   switch (issue.code) {
     case 'unrecognized_keys': {
+      // A key already present is never the one meant (timing.subframs must not suggest subframeS).
+      const here = valueAt(input, issue.path);
       const known = knownKeysAt(scenarioSchema as unknown as AnySchema, issue.path, input);
+      const absent = known.filter((k) => here === null || typeof here !== 'object' || !Object.hasOwn(here, k));
       return issue.keys.map((key) => {
-        const near = nearestKey(key, known);
+        const near = nearestKey(key, absent);
         const hint = near !== undefined ? `; did you mean "${near}"?` : known.length > 0 ? `; allowed here: ${known.join(', ')}` : '';
         return { path: dottedPath([...issue.path, key]), message: `unknown key${hint}` };
       });
@@ -369,7 +373,7 @@ export function safeParseScenario(input: unknown): ScenarioResult {
   const problems = crossChecks(result.data);
   const warnings: string[] = [...sceneWarnings];
   if (problems.length === 0) {
-    for (const check of extraChecks) {
+    for (const check of [checkPlausibility, ...extraChecks]) {
       const r = check(result.data);
       problems.push(...r.problems);
       warnings.push(...r.warnings);
