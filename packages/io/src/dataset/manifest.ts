@@ -19,7 +19,7 @@ import { writeFileAtomic } from '../formats/atomic.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
 import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, type DatasetReader } from '../formats/reader.js';
 import { InputFileError, openRegularFile, readAt, readSmallFile } from '../formats/read-support.js';
-import { outputEstimate } from '../scenario/build.js';
+import { outputEstimate, planScenario } from '../scenario/plan.js';
 import { ScenarioError, parseScenarioText } from '../scenario/validate.js';
 import type { OutputFormat } from '../formats/index.js';
 
@@ -368,8 +368,9 @@ export function checkScenarioAttribute(reader: DatasetReader): void {
     throw e;
   }
   const tensor = tensorOf(reader);
-  const expected = outputEstimate(scenario, tensor.name === 'h' ? 'taps' : 'frequency', tensor.shape[0]).shape;
-  const dtype = scenario.precision ?? 'complex64';
+  const plan = planScenario(scenario, { domain: tensor.name === 'h' ? 'taps' : 'frequency' });
+  const expected = outputEstimate(plan, tensor.shape[0]).shape;
+  const dtype = plan.precision;
   if (expected.length !== tensor.shape.length || expected.some((v, i) => v !== tensor.shape[i]) || dtype !== tensor.dtype) {
     throw new InputFileError(reader.path, `its scenario attribute describes ${tensor.name} ${dtype} [${expected.join(', ')}], but the file holds ${tensor.dtype} [${tensor.shape.join(', ')}]: the scenario or the tensor was changed`);
   }
