@@ -15,7 +15,7 @@ import { printable } from '../formats/read-support.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, type GenerateReport } from '../dataset/generate.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../dataset/generate.js';
 import { planScenario } from '../scenario/plan.js';
 import { fileSha256, manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../dataset/manifest.js';
 import { loadScenario } from '../scenario/validate.js';

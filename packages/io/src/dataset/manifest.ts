@@ -368,7 +368,11 @@ export function checkScenarioAttribute(reader: DatasetReader): void {
     throw e;
   }
   const tensor = tensorOf(reader);
-  const plan = planScenario(scenario, { domain: tensor.name === 'h' ? 'taps' : 'frequency' });
+  const domain = tensor.name === 'h' ? 'taps' : 'frequency';
+  if ((domain === 'taps' ? scenario.taps : scenario.band) === undefined) {
+    throw new InputFileError(reader.path, `its scenario attribute has no ${domain === 'taps' ? 'taps' : 'band'} section, but the file holds ${tensor.name}: the scenario or the tensor was changed`);
+  }
+  const plan = planScenario(scenario, { domain });
   const expected = outputEstimate(plan, tensor.shape[0]).shape;
   const dtype = plan.precision;
   if (expected.length !== tensor.shape.length || expected.some((v, i) => v !== tensor.shape[i]) || dtype !== tensor.dtype) {
