@@ -4,7 +4,7 @@
  * the same run, alternating the two sides pair by pair (the machine is shared and noisy), with
  * the median and the spread (min-max) of each side and of the ratio.
  *
- * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--no-disk] [--no-scaling]
+ * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--no-disk] [--no-startup] [--no-scaling] [--no-pool-scaling]
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
@@ -156,6 +156,32 @@ try {
         rmSync(diskDir, { recursive: true, force: true });
       }
     }
+  }
+
+  if (!flag('--no-startup')) {
+    // Start-up: a bare node, then the command line generating 4 subframes of the dataset scene
+    // (whole process), then the time from process start to the first block inside generate().
+    const base = WORKLOADS.dataset.scenario;
+    const f = join(dir, 'startup.json');
+    writeFileSync(f, JSON.stringify({ ...base, timing: { ...base.timing, subframes: 4 } }));
+    writeFileSync(join(dir, 'startup-cfg.json'), JSON.stringify({ scenario: base }));
+    const bin = join(here, '..', 'packages', 'io', 'bin', 'pathweave.js');
+    const wall = (args) => {
+      const t0 = process.hrtime.bigint();
+      const r = spawnSync(process.execPath, args, { encoding: 'utf8' });
+      if (r.status !== 0) throw new Error(`node ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
+      return Number(process.hrtime.bigint() - t0) / 1e9;
+    };
+    const loadBefore = loadavg()[0];
+    const bare = [], cli = [], first = [];
+    for (let i = 0; i < PAIRS; i++) {
+      bare.push(wall(['-e', '0']));
+      cli.push(wall([bin, 'generate', f, '--out', join(dir, 'startup.npy'), '--quiet']));
+      first.push(pw([join(dir, 'startup-cfg.json'), 'startup', '1', join(dir, 'startup2.npy')]).firstBlockSeconds);
+    }
+    const row = { mode: 'startup', nodeBareSeconds: stats(bare), cliFourSubframesSeconds: stats(cli), firstBlockSeconds: stats(first), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+    emit(row);
+    log(`\nstart-up (4 subframes of the dataset scene): node -e 0 ${spread(row.nodeBareSeconds)} s; pathweave generate (whole process) ${spread(row.cliFourSubframesSeconds)} s; process start to first block ${spread(row.firstBlockSeconds)} s | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
   }
 
   if (!flag('--no-scaling')) {

@@ -19,16 +19,20 @@ function run(cmd, args) {
 
 run('npx', ['--yes', PNPM, 'install', '--frozen-lockfile', '--reporter=silent']);
 // The SIMD kernels, one source built twice: accumulate.wasm (128-bit SIMD, multiply then add)
-// and accumulate-fma.wasm (relaxed-SIMD fused multiply-add). Each is rebuilt when missing or
-// older than the source. They land beside the compiled kernels in dist/ (tsc -b, run next,
-// leaves files it does not emit alone), where kernels/wasm.ts finds them.
+// and accumulate-fma.wasm (relaxed-SIMD fused multiply-add). Their memory is shared (a
+// SharedArrayBuffer, up to the 4 GiB of wasm32), so pool workers and the hash thread read the
+// blocks the kernel wrote in place. Each is rebuilt when missing or older than the source or
+// than this script. They land beside the compiled kernels in dist/ (tsc -b, run next, leaves
+// files it does not emit alone), where kernels/wasm.ts finds them.
 const kernelSource = join(root, 'packages', 'core', 'assembly', 'accumulate.ts');
 const kernelDir = join(root, 'packages', 'core', 'dist', 'kernels');
-for (const [file, features] of [['accumulate.wasm', ['simd']], ['accumulate-fma.wasm', ['simd', 'relaxed-simd']]]) {
+const newest = Math.max(statSync(kernelSource).mtimeMs, statSync(fileURLToPath(import.meta.url)).mtimeMs);
+for (const [file, features] of [['accumulate.wasm', ['simd', 'threads']], ['accumulate-fma.wasm', ['simd', 'relaxed-simd', 'threads']]]) {
   const kernelOut = join(kernelDir, file);
-  if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < statSync(kernelSource).mtimeMs) {
+  if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < newest) {
     mkdirSync(kernelDir, { recursive: true });
-    run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', ...features.flatMap((f) => ['--enable', f]), '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
+    const memory = ['--sharedMemory', '--maximumMemory', '65536'];
+    run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', ...features.flatMap((f) => ['--enable', f]), ...memory, '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
   }
 }
 

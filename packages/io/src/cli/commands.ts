@@ -1,16 +1,15 @@
-/** The commands of the `pathweave` CLI, by name (each lives in its own module). */
+/**
+ * The commands of the `pathweave` CLI, by name. Each command's module is imported only when it
+ * runs (or for `pathweave help`), so a run loads what its own command needs and no more.
+ */
 import type { Command } from './common.js';
-import { generateCommand } from './generate.js';
-import { inspectCommand } from './inspect.js';
-import { pathsCommand } from './paths.js';
-import { validateCommand } from './validate.js';
 
-/** Command name to implementation; `pathweave help` lists them in this order. */
-export const COMMANDS: Record<string, Command> = {
-  generate: generateCommand,
-  paths: pathsCommand,
-  validate: validateCommand,
-  inspect: inspectCommand,
-  merge: (await import('./merge.js')).mergeCommand,
-  plot: (await import('./plot.js')).plotCommand,
+/** Command name to a loader of its implementation; `pathweave help` lists them in this order. */
+export const COMMANDS: Record<string, () => Promise<Command>> = {
+  generate: async () => (await import('./generate.js')).generateCommand,
+  paths: async () => (await import('./paths.js')).pathsCommand,
+  validate: async () => (await import('./validate.js')).validateCommand,
+  inspect: async () => (await import('./inspect.js')).inspectCommand,
+  merge: async () => (await import('./merge.js')).mergeCommand,
+  plot: async () => (await import('./plot.js')).plotCommand,
 };
