@@ -43,7 +43,7 @@ export const BLOCK_TARGET_BYTES = 8 * 2 ** 20;
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const options: GenerateOptions = { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true };
- * (await generate(scenario, text, options)).sha256 // "b68c65c08126d82661d3d3e4a667bd97d7df559de9ae865fade7b4ea06bf8595", also the file's tensorSha256
+ * (await generate(scenario, text, options)).sha256 // "89f37562d44badbf4fae2406d8bb3ed25815e6d850228202442e7dd48d53122c" (kernel wasm-fma128; "b68c65c0...bf8595" with PATHWEAVE_KERNEL=simd), also the file's tensorSha256
  */
 export interface GenerateOptions {
   out: string;
@@ -82,7 +82,7 @@ export interface GenerateOptions {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const report: GenerateReport = await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] });
  * [report.tensorName, report.shape, report.fileBytes, report.sha256, report.kernel]
- * // ['H', [4, 64, 4, 32], 262272, undefined, 'wasm-simd128']: a 128-byte header and 262144 tensor bytes; no checksum asked
+ * // ['H', [4, 64, 4, 32], 262272, undefined, 'wasm-fma128']: a 128-byte header and 262144 tensor bytes; no checksum asked
  */
 export interface GenerateReport {
   out: string;
