@@ -87,7 +87,7 @@ if (mode === 'startup') {
       seconds = (performance.now() - t0) / 1000;
     } else {
       const gainsPerSubframe = 2 * built.generator.pathCount;
-      const pool = new BlockPool(threads, { scenario, domain: built.domain, gainsPerSubframe });
+      const pool = new BlockPool(threads, { plan: built.plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe });
       const blocks = Math.ceil(S / block);
       const depth = Math.min(2 * threads, blocks);
       // Start-up and warm-up: each worker fills whole blocks into the buffers it keeps (their

@@ -24,11 +24,11 @@ import type { Motion } from './motion.js';
 /**
  * The L paths at one time.
  * @example
- * const frame = new PathFrame(1);
+ * const frame = new PathSetFrame(1);
  * new ExplicitTimeline([{ id: 'los', delayS: 33e-9, power: 0.25, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }]).frameAt(0, frame);
  * [frame.delayS, frame.amplitude] // [Float64Array [3.3e-8], Float64Array [0.5, 0]]: amplitude sqrt(0.25)
  */
-export class PathFrame {
+export class PathSetFrame {
   readonly delayS: Float64Array;
   readonly departure: Float64Array;
   readonly arrival: Float64Array;
@@ -65,14 +65,49 @@ export interface PathTimeline {
   /** True when no frame differs from the frame at t = 0. */
   readonly constant: boolean;
   /** Fill `frame` with the paths at time t (seconds). */
-  frameAt(timeS: number, frame: PathFrame): void;
+  frameAt(timeS: number, frame: PathSetFrame): void;
+
+  // Optional capabilities: a timeline states what it provides, so callers read these members
+  // instead of probing its class.
+
+  /** Diffuse part: true for the columns that are diffuse sub-paths (they carry a cross-polar ratio). */
+  readonly diffuse?: readonly boolean[] | undefined;
+  /**
+   * Polarimetric transfer: fill `out` (8 L values: per path the 2x2 complex [tt, tp, pt, pp],
+   * polarization-ports.ts) with every path's transfer at time t (seconds).
+   */
+  polarimetricAt?(timeS: number, out: Float64Array): void;
+  /** Per-path Doppler given with the paths (explicit paths): signed shift and statistical spread, Hz. */
+  readonly pathDoppler?: readonly { readonly dopplerHz?: number | undefined; readonly maxDopplerHz?: number | undefined }[] | undefined;
+  /** Epochs: the traced path set of each geometry update (id to path), at `epochTimesS`. */
+  readonly epochs?: readonly ReadonlyMap<string, TracedPath>[] | undefined;
+  /** Times of the geometry updates, seconds (with `epochs`). */
+  readonly epochTimesS?: readonly number[] | undefined;
+  /** The traced paths at time t (with `epochs`; for listings). */
+  pathsAt?(timeS: number): TracedPath[];
+  /** The epochs as plain data (with `epochs`), to rebuild the timeline without tracing (a worker thread). */
+  tracedEpochs?(): TracedEpochs;
+}
+
+/**
+ * The traced epochs of a timeline as plain data (structured-clone safe: worker threads receive
+ * them and trace nothing): the update times, each update's paths in trace order, the warnings.
+ * @example
+ * const timeline = new TracedTimeline({}, { motion: new Motion([0, 0, 0]) }, { motion: new Motion([10, 0, 0]) }, 28e9, 0, 1);
+ * const epochs: TracedEpochs = timeline.tracedEpochs();
+ * [epochs.epochTimesS, epochs.paths[0]!.map((p) => p.id)] // [[0], ['los']]
+ */
+export interface TracedEpochs {
+  epochTimesS: number[];
+  paths: TracedPath[][];
+  warnings: string[];
 }
 
 /**
  * One explicit path (design.md `paths`), in SI units.
- * @example const echo: ExplicitPath = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
+ * @example const echo: ExplicitPathSpec = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
  */
-export interface ExplicitPath {
+export interface ExplicitPathSpec {
   id: string;
   delayS: number;
   /** E|rho|^2, linear. */
@@ -92,13 +127,15 @@ export class ExplicitTimeline implements PathTimeline {
   readonly ids: readonly string[];
   readonly kinds: readonly string[];
   readonly constant = true;
+  readonly pathDoppler: readonly ExplicitPathSpec[];
 
-  constructor(readonly paths: readonly ExplicitPath[]) {
+  constructor(readonly paths: readonly ExplicitPathSpec[]) {
     this.ids = paths.map((p) => p.id);
     this.kinds = paths.map(() => 'explicit');
+    this.pathDoppler = paths;
   }
 
-  frameAt(_timeS: number, frame: PathFrame): void {
+  frameAt(_timeS: number, frame: PathSetFrame): void {
     this.paths.forEach((p, l) => {
       frame.delayS[l] = p.delayS;
       frame.departure.set(p.departure, 3 * l);
@@ -116,9 +153,9 @@ export class ExplicitTimeline implements PathTimeline {
 
 /**
  * A terminal as the traced timeline sees it.
- * @example const ue: TracedTerminal = { motion: new Motion([10, 0, 1.5], [0, 1, 0]), polarization: 'horizontal' };
+ * @example const ue: MovingTerminal = { motion: new Motion([10, 0, 1.5], [0, 1, 0]), polarization: 'horizontal' };
  */
-export interface TracedTerminal {
+export interface MovingTerminal {
   motion: Motion;
   polarization?: Polarization | undefined;
   /** The array's own orientation (used when the motion does not turn). */
@@ -154,25 +191,31 @@ export class TracedTimeline implements PathTimeline {
   /**
    * @param endS time of the last step of the run (the updates cover [0, endS])
    * @param updateS time between geometry updates (ignored when nothing moves)
+   * @param traced the epochs of an earlier trace of the same scene and motion (`tracedEpochs()`): used instead of tracing
    */
   constructor(
     scene: Scene,
-    private readonly tx: TracedTerminal,
-    private readonly rx: TracedTerminal,
+    private readonly tx: MovingTerminal,
+    private readonly rx: MovingTerminal,
     private readonly carrierHz: number,
     endS: number,
     private readonly updateS: number,
     private readonly options: TraceOptions = {},
+    traced?: TracedEpochs,
   ) {
     this.prepared = prepareScene(scene);
     const moving = tx.motion.moves || rx.motion.moves || tx.motion.turns || rx.motion.turns;
     const count = moving ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
     this.epochTimesS = Array.from({ length: count }, (_, e) => e * updateS);
+    if (traced !== undefined && (traced.paths.length !== count || traced.epochTimesS.some((t, e) => t !== this.epochTimesS[e]))) {
+      throw new RangeError(`TracedTimeline(): traced holds ${traced.paths.length} epochs at [${traced.epochTimesS.join(', ')}] s, this timeline has ${count} at [${this.epochTimesS.join(', ')}] s`);
+    }
     this.epochs = [];
     this.ids = [];
     this.kinds = [];
-    for (const t of this.epochTimesS) {
-      const r = traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
+    if (traced !== undefined) this.warnings.push(...traced.warnings);
+    for (const [e, t] of this.epochTimesS.entries()) {
+      const r = traced !== undefined ? { paths: traced.paths[e]!, warnings: [] } : traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
       for (const w of r.warnings) {
         const text = `${w.path}: ${w.message}`;
         if (!this.warnings.includes(text)) this.warnings.push(text);
@@ -191,7 +234,7 @@ export class TracedTimeline implements PathTimeline {
     this.constant = !moving;
   }
 
-  private terminal(t: TracedTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
+  private terminal(t: MovingTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
     t.motion.positionAt(timeS, position);
     t.motion.velocityAt(timeS, velocity);
     const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
@@ -206,7 +249,7 @@ export class TracedTimeline implements PathTimeline {
     return { e, f };
   }
 
-  frameAt(timeS: number, frame: PathFrame): void {
+  frameAt(timeS: number, frame: PathSetFrame): void {
     frame.amplitude.fill(0);
     frame.visibility.fill(0);
     frame.lineOfSight = false;
@@ -262,6 +305,11 @@ export class TracedTimeline implements PathTimeline {
         frame.arrival[3 * l] = 1;
       }
     }
+  }
+
+  /** The epochs as plain data (see TracedEpochs). */
+  tracedEpochs(): TracedEpochs {
+    return { epochTimesS: [...this.epochTimesS], paths: this.epochs.map((m) => [...m.values()]), warnings: [...this.warnings] };
   }
 
   /** The traced paths of the update holding time t (for listings). */

@@ -27,6 +27,11 @@ import { BlockedStreams, RandomStream } from '../random.js';
 import { checkFadingPaths, checkGainOut, type FadingPath } from './clock.js';
 
 /**
+ * The default of fading.order.
+ * @example AR_DEFAULT_ORDER // 20
+ */
+export const AR_DEFAULT_ORDER = 20;
+/**
  * Default diagonal loading epsilon added to R(0) (Baddour & Beaulieu use the 1e-6 scale).
  * @example AR_DEFAULT_LOADING // 1e-6
  */

@@ -9,13 +9,12 @@
  * temporary files of the output at once, stops the run and exits with 1.
  */
 import { readdirSync, unlinkSync } from 'node:fs';
-import { totalmem } from 'node:os';
 import { OutputFileError } from '../formats/atomic.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
-import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../dataset/generate.js';
-import { chooseDomain, sideArrayBytes } from '../scenario/build.js';
+import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, type GenerateReport } from '../dataset/generate.js';
+import { planScenario } from '../scenario/plan.js';
 import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../dataset/manifest.js';
 import { loadScenario } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
@@ -66,14 +65,11 @@ async function run(argv: string[], io: Io): Promise<number> {
   }
   // The output-size and memory refusals first (they name the size), then the side arrays
   // (gains, ground truth), which stay in memory until the commit.
-  checkRequest(scenario, chooseDomain(scenario, domain), range, maxBytes, scenario.paths?.length ?? 1);
-  const side = sideArrayBytes(scenario, range[1] - range[0], scenario.paths?.length ?? 1);
-  if (side > totalmem() / 4) {
-    throw new RequestError(`the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory for ${range[1] - range[0]} subframes; generate fewer subframes per file (--subframes or --shard)`);
-  }
+  const plan = planScenario(scenario, { domain, seed });
+  checkRequest(plan, range, maxBytes, { sideArrays: 'per-file' });
   // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
   const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
-  const effectiveSeed = seed ?? scenario.seed;
+  const effectiveSeed = plan.seed;
   if (shard !== undefined) {
     const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
     if (earlier.reusable) {

@@ -20,6 +20,7 @@ import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
 import { openDatasetReader, tensorOf, attributeOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import type { ArrayData, Attribute, NamedArray } from '../formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
+import { datasetArray, unitsOf } from './layout.js';
 import { manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
 
 /**
@@ -62,33 +63,9 @@ export interface MergeReport {
   warnings: string[];
 }
 
-/** Units of the side arrays generate writes, for formats that keep none (NPZ). */
-const UNITS: Record<string, string> = {
-  gains: '1',
-  frequenciesHz: 'Hz',
-  tapDelaysS: 's',
-  subframeTimesS: 's',
-  'paths/delayS': 's',
-  'paths/powerDb': 'dB',
-  'paths/aodDeg': 'deg',
-  'paths/aoaDeg': 'deg',
-  'paths/epochTimesS': 's',
-  'truth/transmitterPosition': 'm',
-  'truth/transmitterVelocity': 'm/s',
-  'truth/transmitterOrientationDeg': 'deg',
-  'truth/receiverPosition': 'm',
-  'truth/receiverVelocity': 'm/s',
-  'truth/receiverOrientationDeg': 'deg',
-  'truth/delayS': 's',
-  'truth/powerDb': 'dB',
-  'truth/dopplerHz': 'Hz',
-  'truth/aodDeg': 'deg',
-  'truth/aoaDeg': 'deg',
-};
-
-/** Whether a side array has the subframe axis first (and is concatenated by merge). @example isPerSubframe('truth/delayS') // true */
+/** Whether a side array has the subframe axis first (and is concatenated by merge), from the layout table. @example isPerSubframe('truth/delayS') // true */
 export function isPerSubframe(name: string): boolean {
-  return name === 'gains' || name === 'subframeTimesS' || name.startsWith('truth/');
+  return datasetArray(name)?.perSubframe === true;
 }
 
 interface Part {
@@ -229,7 +206,7 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
         if (a === undefined) refuse(`${p.path} has no array ${stored.name}, ${first.path} has`);
         perPart.push(await p.reader.readArray(stored.name));
       }
-      const units = stored.units ?? UNITS[stored.name] ?? '1';
+      const units = stored.units ?? unitsOf(stored.name);
       if (isPerSubframe(stored.name)) {
         perPart.forEach((a, i) => {
           const rows = parts[i]!.manifest.range[1] - parts[i]!.manifest.range[0];

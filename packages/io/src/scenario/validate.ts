@@ -7,18 +7,11 @@ import { readFile } from 'node:fs/promises';
 import type { z } from 'zod';
 import { validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
+import { portCount } from './plan.js';
+import { formatProblem, ScenarioError, type Problem } from './problems.js';
 import { CURRENT_FORMAT_VERSION, scenarioSchema, type Scenario } from './schema.js';
 
-/**
- * One problem of a scenario.
- * @example const problem: Problem = { path: 'receiver.array.spacingWavelengths', message: 'must be > 0, got -0.5' };
- */
-export interface Problem {
-  /** Dotted path, e.g. "transmitter.array.rows" or "paths[2].delayS" ("" for the document). */
-  path: string;
-  /** What is wrong and what is allowed. */
-  message: string;
-}
+export { formatProblem, ScenarioError, type Problem } from './problems.js';
 
 /**
  * Result of `safeParseScenario`.
@@ -27,28 +20,6 @@ export interface Problem {
  * result.ok ? result.warnings : result.problems.slice(0, 2) // [{ path: 'timing', message: 'is required (object)' }, { path: 'transmitter', message: 'is required (object)' }]
  */
 export type ScenarioResult = { ok: true; scenario: Scenario; warnings: string[] } | { ok: false; problems: Problem[] };
-
-/**
- * Thrown by `parseScenario` and `loadScenario`; carries every problem.
- * @example new ScenarioError([{ path: 'seed', message: 'must be an integer >= 0, got -1' }], 'run.json').message // "run.json: 1 problem\nseed: must be an integer >= 0, got -1"
- */
-export class ScenarioError extends Error {
-  constructor(
-    readonly problems: Problem[],
-    readonly source = 'scenario',
-  ) {
-    super(`${source}: ${problems.length} problem${problems.length === 1 ? '' : 's'}\n` + problems.map(formatProblem).join('\n'));
-    this.name = 'ScenarioError';
-  }
-}
-
-/**
- * "path: message" (or just the message for the document itself).
- * @example formatProblem({ path: 'paths[2].delayS', message: 'must be >= 0, got -1e-9' }) // "paths[2].delayS: must be >= 0, got -1e-9"
- */
-export function formatProblem(p: Problem): string {
-  return p.path === '' ? p.message : `${p.path}: ${p.message}`;
-}
 
 /**
  * Dotted path from zod's path segments: a.b[2].c
@@ -269,8 +240,7 @@ function crossChecks(s: Scenario): Problem[] {
   });
   // Receivers share one tensor, so they must have the same number of elements.
   if (s.receivers !== undefined && s.receivers.length > 1) {
-    const count = (a: Scenario['transmitter']['array']): number =>
-      (a.kind === 'ula' ? (a.elements ?? 0) : a.kind === 'upa' ? (a.rows ?? 0) * (a.columns ?? 0) : (a.positions?.length ?? 0)) * (a.dualPolarized !== undefined ? 2 : 1);
+    const count = portCount;
     const n0 = count(s.receivers[0]!.array);
     s.receivers.forEach((r, i) => {
       if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} ports (elements, twice for dualPolarized) but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });

@@ -1,7 +1,7 @@
 /**
  * A pool of worker threads that fill blocks of subframes for `generate` (design.md,
  * Reproducibility: the same tensor bytes with any worker count). Every worker builds the
- * scenario itself and runs ChannelGenerator.fill over the subframe range it is given, which is
+ * generators from the plan and the traced epochs it is given (it traces nothing) and runs ChannelGenerator.fill over the subframe range it is given, which is
  * bit-identical whatever range a call covers (gain streams keyed by (seed, path id, block) and
  * phase recurrences re-anchored at absolute indices), so the pool only decides who computes a
  * block, never what is in it. Each worker fills its blocks in place into block buffers of its
@@ -13,15 +13,13 @@
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
-import { allocateKernelArray } from '@pathweave/core';
-import type { Domain } from '../../scenario/build.js';
-import type { Scenario } from '../../scenario/schema.js';
+import { allocateKernelArray, type TracedEpochs } from '@pathweave/core';
+import type { ScenarioPlan } from '../../scenario/plan.js';
 
-/** What each worker is started with. */
+/** What each worker is started with: the plan and each user's traced epochs (workers trace nothing). */
 export interface BlockWorkerData {
-  scenario: Scenario;
-  domain: Domain;
-  seed?: number | undefined;
+  plan: ScenarioPlan;
+  traced: (TracedEpochs | undefined)[];
   /** Float64 values of gains per subframe (2 x complex count). */
   gainsPerSubframe: number;
 }
@@ -85,7 +83,7 @@ export function defaultWorkers(blocks: number, cores: number = availableParallel
 /**
  * A fixed set of workers; request i goes to worker i mod size, and each answer resolves its own request.
  * @example
- * const pool = new BlockPool(2, { scenario, domain: 'frequency', gainsPerSubframe: 2 * L });
+ * const pool = new BlockPool(2, { plan: built.plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe: 2 * L });
  * const block = await pool.request(0, 8); // subframes 0-7, block.tensor in the worker's shared memory
  * await sink.writeRows(block.tensor);
  * block.release();
