@@ -21,3 +21,4 @@ export * from './version.js';
 export * from './dataset/manifest.js';
 export * from './dataset/merge.js';
 export * from './formats/reader.js';
+export * from './formats/output-path.js';

@@ -2,8 +2,9 @@
  * The `pathweave` command line (design.md, "Command line"). Exit codes: 0 done, 1 failure
  * while running, 2 the input or the command line was refused.
  */
-// The scenario and dataset modules are imported when an error is classified (they are loaded
-// already when one of theirs was thrown), so --version and help start without them.
+import { InputFileError, printable } from '../formats/read-support.js';
+// The scenario, dataset and output-path modules are imported when an error is classified (they
+// are loaded already when one of theirs was thrown), so --version and help start without them.
 import { PATHWEAVE_VERSION } from '../version.js';
 import { UsageError } from './args.js';
 import { COMMANDS } from './commands.js';
@@ -34,7 +35,9 @@ const defaultIo: Io = {
  * await main(['--version'], { out: (s) => printed.push(s), err: (s) => printed.push(s) }) // 0
  * printed // ['0.1.0']
  */
-export async function main(argv: readonly string[], io: Io = defaultIo): Promise<number> {
+export async function main(argv: readonly string[], given: Io = defaultIo): Promise<number> {
+  // Names and texts from files reach the terminal with their control characters escaped.
+  const io: Io = { out: (s) => given.out(printable(s)), err: (s) => given.err(printable(s)) };
   const [command, ...rest] = argv;
   try {
     if (command === undefined || command === 'help' || command === '--help' || command === '-h') {
@@ -51,12 +54,13 @@ export async function main(argv: readonly string[], io: Io = defaultIo): Promise
   } catch (e) {
     const { ScenarioError, formatProblem } = await import('../scenario/validate.js');
     const { RequestError } = await import('../dataset/generate.js');
+    const { OutputPathError } = await import('../formats/output-path.js');
     if (e instanceof ScenarioError) {
       io.err(`error: ${e.source}: ${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}`);
       for (const p of e.problems) io.err(`  ${formatProblem(p)}`);
       return 2;
     }
-    if (e instanceof UsageError || e instanceof RequestError) {
+    if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError || e instanceof OutputPathError) {
       io.err(`error: ${e.message}`);
       if (e instanceof UsageError) io.err('run "pathweave help" for usage');
       return 2;

@@ -8,11 +8,10 @@
  * Tensor layout: [S, (U,) (symbols,) K or count, Nr, Nt], complex interleaved; users follow S.
  */
 import { createHash, type Hash } from 'node:crypto';
-import { unlink } from 'node:fs/promises';
 import { totalmem } from 'node:os';
 import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
-import { writeFileAtomic } from '../formats/atomic.js';
+import { commitWithSideFile } from '../formats/atomic.js';
 import { buildPlan, type BuiltScenario } from '../scenario/build.js';
 import { estimatedPathCount, outputEstimate, planScenario, sideArrayBytes, workingMemoryEstimate, type Domain, type ScenarioPlan } from '../scenario/plan.js';
 import { openSink, type OutputFormat } from '../formats/index.js';
@@ -232,7 +231,6 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   };
 
   const sink = await openSink(options.format, options.out);
-  let sideFile: string | undefined;
   try {
     await sink.beginTensor({ name: tensorName, dtype: plan.precision, shape, units: unitsOf(tensorName), chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
     const { sha256, kernel } = await streamTensor(sink, job);
@@ -258,14 +256,12 @@ export async function generate(scenario: Scenario, scenarioText: string, options
       }
       await sink.setAttribute(a.dtype === 'string' ? { name: a.name, dtype: a.dtype, value: String(value) } : { name: a.name, dtype: a.dtype, value: Number(value) });
     }
-    if (options.format === 'npy') {
-      // The side file goes under its name before the .npy does: a kill between the two renames
-      // leaves the new side file beside the earlier .npy (or none), never a new .npy beside an
-      // earlier side file.
-      sideFile = `${options.out}.json`;
-      await writeNpySideFile(sideFile, built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion });
-    }
-    const fileBytes = await sink.commit();
+    // A .npy's side file goes under its name before the .npy does, and is restored should the
+    // .npy's commit fail (atomic.ts, commitWithSideFile).
+    const fileBytes =
+      options.format === 'npy'
+        ? await commitWithSideFile(`${options.out}.json`, npySideFileText(built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion }), () => sink.commit())
+        : await sink.commit();
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
     return {
       out: options.out, format: options.format, tensorName, dtype: plan.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe,
@@ -273,8 +269,6 @@ export async function generate(scenario: Scenario, scenarioText: string, options
     };
   } catch (e) {
     await sink.abort();
-    // A side file whose .npy never arrived describes nothing.
-    if (sideFile !== undefined) await unlink(sideFile).catch(() => undefined);
     throw e;
   }
 }
@@ -571,11 +565,10 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
  * The side file of a .npy (`<file>.npy.json`): the tensor's description (with its sha256 when
  * computed), the format version and kernel, seed, users, paths and scenario.
  */
-async function writeNpySideFile(
-  path: string,
+function npySideFileText(
   built: BuiltScenario,
   info: { first: number; end: number; shape: number[]; tensorName: string; sha256: string | undefined; seed: number; scenarioText: string; kernel: string; formatVersion: number },
-): Promise<void> {
+): string {
   const doc = {
     formatVersion: info.formatVersion,
     pathweaveVersion: PATHWEAVE_VERSION,
@@ -589,5 +582,5 @@ async function writeNpySideFile(
     paths: sideFilePaths(built.paths),
     scenario: JSON.parse(info.scenarioText) as unknown,
   };
-  await writeFileAtomic(path, JSON.stringify(doc, null, 2) + '\n');
+  return JSON.stringify(doc, null, 2) + '\n';
 }

@@ -266,9 +266,7 @@ export async function inspectFile(file: string, options: InspectOptions = {}): P
       throw new RequestError(`inspect: cannot read ${file}: ${e.code ?? e.message}`);
     },
   );
-  const reader = await openDatasetReader(file).catch((e: Error) => {
-    throw new RequestError(`inspect: cannot read ${file}: ${e.message}`);
-  });
+  const reader = await openDatasetReader(file);
   try {
     const tensor = tensorOf(reader);
     const lines = [`${file}: ${reader.format}, ${formatBytes(fileBytes)} (${fileBytes} bytes)`];

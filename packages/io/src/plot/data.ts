@@ -9,6 +9,7 @@ import { readFile } from 'node:fs/promises';
 import { besselJ0 } from '@pathweave/core';
 import { buildScenario, summarizeTraced, type BuiltScenario, type PathSummary } from '../scenario/build.js';
 import { fillBlock, maxPathCount, RequestError } from '../dataset/generate.js';
+import { checkScenarioAttribute } from '../dataset/manifest.js';
 import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/reader.js';
 import { parseScenarioText } from '../scenario/validate.js';
 import type { Scenario } from '../scenario/schema.js';
@@ -51,6 +52,7 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
   try {
     const text = attributeOf(reader, 'scenario');
     if (typeof text !== 'string') throw new RequestError(`${file} carries no scenario attribute (was it written by pathweave generate?)`);
+    checkScenarioAttribute(reader); // the figure is computed from the scenario: it must be the tensor's
     const { scenario } = parseScenarioText(text, `${file}: scenario`);
     const seed = attributeOf(reader, 'seed');
     const built = buildScenario(scenario, { domain: tensorOf(reader).name === 'h' ? 'taps' : reader.format === 'npy' ? undefined : 'frequency', ...(typeof seed === 'number' ? { seed } : {}) });

@@ -24,6 +24,7 @@ import {
   type Vec3,
 } from '@pathweave/geometry';
 import {
+  ArFitError,
   ChannelGenerator,
   ClusteredTimeline,
   ExplicitTimeline,
@@ -412,9 +413,7 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
       generator = new ChannelGenerator(spec);
     } catch (e) {
       // The AR fit can refuse an order its Yule-Walker system cannot carry: that is the input's fault.
-      if (e instanceof RangeError && plan.fading.model === 'ar' && /AutoregressiveGains|fitAutoregressive/.test(e.message)) {
-        throw new ScenarioError([{ path: 'fading.order', message: e.message.replace(/^.*?: (?=order|the )/, '') }]);
-      }
+      if (e instanceof ArFitError) throw new ScenarioError([{ path: 'fading.order', message: e.problem }]);
       throw e;
     }
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);

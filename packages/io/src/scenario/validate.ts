@@ -5,7 +5,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import type { z } from 'zod';
-import { validateScene, type Scene } from '@pathweave/geometry';
+import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
 import { portCount } from './plan.js';
 import { formatProblem, ScenarioError, type Problem } from './problems.js';
@@ -177,6 +177,12 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
 }
 
 /** Checks across fields that the per-key schema cannot express. */
+/** Most explicit paths a scenario may list. @example MAX_EXPLICIT_PATHS // 10000 */
+export const MAX_EXPLICIT_PATHS = 10_000;
+
+/** Most wall-reflection sequences a scene may ask the tracer to try (walls W at order N: W (W-1)^(k-1) summed over k <= N). @example MAX_REFLECTION_SEQUENCES // 1000000 */
+export const MAX_REFLECTION_SEQUENCES = 1_000_000;
+
 function crossChecks(s: Scenario): Problem[] {
   const problems: Problem[] = [];
   if (s.paths === undefined && s.scene === undefined) problems.push({ path: '', message: 'give either "paths" (explicit paths) or "scene" (paths traced from geometry)' });
@@ -231,6 +237,20 @@ function crossChecks(s: Scenario): Problem[] {
   }
   if (s.taps?.rollOff !== undefined && s.taps.pulse !== 'raised-cosine') {
     problems.push({ path: 'taps.rollOff', message: 'applies only with pulse "raised-cosine"' });
+  }
+  // Up-front limits on work (docs/conventions.md, "Limits"): refused here, before a build that
+  // would hold the event loop (and so a signal) for a long time.
+  if (s.paths !== undefined && s.paths.length > MAX_EXPLICIT_PATHS) {
+    problems.push({ path: 'paths', message: `lists ${s.paths.length} paths, more than the ${MAX_EXPLICIT_PATHS} allowed; split the scenario or widen fewer paths into clusters` });
+  }
+  if (s.scene !== undefined) {
+    const walls = s.scene.walls?.length ?? 0;
+    const order = s.scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
+    let sequences = 0;
+    for (let k = 1, n = walls; k <= order; k++, n *= Math.max(walls - 1, 0)) sequences += n; // no wall twice in a row
+    if (sequences > MAX_REFLECTION_SEQUENCES) {
+      problems.push({ path: 'scene.maxReflectionOrder', message: `${walls} walls at order ${order} mean ${sequences} reflection sequences to trace, more than the ${MAX_REFLECTION_SEQUENCES} allowed; lower maxReflectionOrder or give fewer walls` });
+    }
   }
   const ids = new Set<string>();
   s.paths?.forEach((p, i) => {
