@@ -1,9 +1,8 @@
-/** The commands of the `pathweave` CLI, by name (each lives in its own module). */
+/**
+ * The commands of the `pathweave` CLI, by name. Each command's module is imported only when it
+ * runs (or for `pathweave help`), so a run loads what its own command needs and no more.
+ */
 import type { Command, Io } from './common.js';
-import { generateCommand } from './generate.js';
-import { inspectCommand } from './inspect.js';
-import { pathsCommand } from './paths.js';
-import { validateCommand } from './validate.js';
 
 /** What each option does, printed by `pathweave <command> --help` under the usage line. */
 const DETAILS: Record<string, string> = {
@@ -63,12 +62,12 @@ function shared(name: string, command: Command): Command {
   };
 }
 
-/** Command name to implementation; `pathweave help` lists them in this order. */
-export const COMMANDS: Record<string, Command> = {
-  generate: shared('generate', generateCommand),
-  paths: shared('paths', pathsCommand),
-  validate: shared('validate', validateCommand),
-  inspect: shared('inspect', inspectCommand),
-  merge: shared('merge', (await import('./merge.js')).mergeCommand),
-  plot: shared('plot', (await import('./plot.js')).plotCommand),
+/** Command name to a loader of its implementation; `pathweave help` lists them in this order. */
+export const COMMANDS: Record<string, () => Promise<Command>> = {
+  generate: async () => shared('generate', (await import('./generate.js')).generateCommand),
+  paths: async () => shared('paths', (await import('./paths.js')).pathsCommand),
+  validate: async () => shared('validate', (await import('./validate.js')).validateCommand),
+  inspect: async () => shared('inspect', (await import('./inspect.js')).inspectCommand),
+  merge: async () => shared('merge', (await import('./merge.js')).mergeCommand),
+  plot: async () => shared('plot', (await import('./plot.js')).plotCommand),
 };
