@@ -97,6 +97,8 @@ export interface Scene {
   dynamicRangeDb?: number;
   /** Specific gas attenuation in dB/km applied over each unfolded length (default 0). */
   gasAttenuationDbPerKm?: number;
+  /** Edge diffraction by the UTD at the wedges of the walls (edges.ts, diffraction.ts): single, and with one reflection when maxReflectionOrder >= 1 (default false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -266,6 +268,8 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (scene.gasAttenuationDbPerKm !== undefined && !(typeof scene.gasAttenuationDbPerKm === 'number' && Number.isFinite(scene.gasAttenuationDbPerKm) && scene.gasAttenuationDbPerKm >= 0)) {
     err(`${sp}.gasAttenuationDbPerKm`, `must be a finite number >= 0 (dB/km), got ${fmt(scene.gasAttenuationDbPerKm)}`);
   }
+
+  if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean') err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };

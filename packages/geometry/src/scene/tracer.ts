@@ -28,6 +28,9 @@ import type { Vec3 } from '../vec3.js';
 import { gasAmplitudeFactor } from './atmosphere.js';
 import { segmentBlockageDb } from './blockage.js';
 import type { Complex } from './complex.js';
+import { diffractField, diffractionPoints, traceDiffractions, wedgeDiffraction, type DiffractionStep } from './diffraction.js';
+import { sceneWedges } from './edges.js';
+import type { DiffractionCoefficients } from './utd.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
@@ -58,6 +61,8 @@ export interface TraceOptions {
   gasAttenuationDbPerKm?: number;
   /** Keep paths whose amplitude is exactly zero (orthogonal polarisations); default false, they are dropped. */
   keepNullPaths?: boolean;
+  /** Edge diffraction (UTD), single and combined with one reflection when maxReflectionOrder >= 1; default the scene's `diffraction` (false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -67,8 +72,8 @@ export interface TraceOptions {
  * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: 'walls[0]', point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
  */
 export interface PathInteraction {
-  type: 'reflection' | 'scatter';
-  /** "walls[3]" or "scatterers[2]": index into the scene's lists. */
+  type: 'reflection' | 'scatter' | 'diffraction';
+  /** "walls[3]" or "scatterers[2]": index into the scene's lists; diffraction: the edge, "walls[1].vertices[0]" (2-D) or "walls[4].edges[2]" (3-D, vertex 2 to 3), see edges.ts. */
   object: string;
   /** Where it happens, metres (global). */
   point: Vec3;
@@ -76,6 +81,12 @@ export interface PathInteraction {
   incidenceDeg?: number;
   /** Reflections: the TE and TM coefficients used (convention of fresnel.ts). */
   coefficients?: FresnelCoefficients;
+  /** Diffractions: the walls forming the wedge, face 0 then face n (the same wall for a free edge). */
+  faces?: [string, string];
+  /** Diffractions: the wedge's exterior angle n pi, degrees (360 for a free edge). */
+  exteriorAngleDeg?: number;
+  /** Diffractions: the UTD soft and hard coefficients used, sqrt(m) (utd.ts). */
+  diffraction?: DiffractionCoefficients;
 }
 
 /**
@@ -91,9 +102,10 @@ export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
  */
 export interface TracedPath {
-  /** Stable id from the interaction list: "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
+  /** Stable id from the interaction list: "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]", "D:walls[0].vertices[1]", "R:walls[2]>D:walls[0].edges[1]". */
   id: string;
-  kind: 'los' | 'reflection' | 'scatter';
+  /** `diffraction` for every path with an edge diffraction (alone or with a reflection). */
+  kind: 'los' | 'reflection' | 'scatter' | 'diffraction';
   interactions: PathInteraction[];
   /** Unfolded length, m. */
   lengthM: number;
@@ -171,6 +183,9 @@ export function traceScene(scene: Scene | PreparedScene, tx: TraceTerminal, rx: 
     if (ps.segmentHitsWall(p[0], p[1], p[2], r[0], r[1], r[2], -1, -1)) return;
     raw.push(ctx.build('scatter', [i], [p]));
   });
+  if (settings.diffraction) {
+    traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => { raw.push(ctx.build('diffraction', steps.map((s) => s.index), points, steps)); });
+  }
   return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb, options.keepNullPaths ?? false), warnings };
 }
 
@@ -193,7 +208,7 @@ export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx
   return paths.map((p) => ctx.refresh(p));
 }
 
-interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number }
+interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number; diffraction: boolean }
 
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   const s = ps.scene;
@@ -205,7 +220,7 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   if (!(dr > 0)) throw new RangeError(`traceScene(): dynamicRangeDb must be > 0, got ${dr}`);
   const gas = o.gasAttenuationDbPerKm ?? s.gasAttenuationDbPerKm ?? 0;
   if (!Number.isFinite(gas) || gas < 0) throw new RangeError(`traceScene(): gasAttenuationDbPerKm must be a finite number >= 0, got ${gas}`);
-  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas };
+  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas, diffraction: o.diffraction ?? s.diffraction ?? false };
 }
 
 /**
@@ -312,11 +327,19 @@ class TraceContext {
     this.rxVel = rx.velocity ?? ZERO;
   }
 
-  /** A full path from its interaction list (wall or scatterer indices) and interaction points. */
-  build(kind: TracedPath['kind'], objects: number[], points: Vec3[]): TracedPath {
+  /** A full path from its interaction list (wall, scatterer or wedge indices, with `steps` for diffracted paths) and interaction points. */
+  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[]): TracedPath {
     const ps = this.ps;
     const chain: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
-    const surfaces = kind === 'reflection' ? ps.surfacesAt(this.carrierHz) : [];
+    const surfaces = kind === 'reflection' || kind === 'diffraction' ? ps.surfacesAt(this.carrierHz) : [];
+    const wedges = kind === 'diffraction' ? sceneWedges(ps) : undefined;
+    let diffractionAt = -1, lengthBefore = 0, lengthAfter = 0;
+    if (steps !== undefined) {
+      diffractionAt = steps.findIndex((st) => st.type === 'diffraction') + 1;
+      for (let k = 0; k + 1 < chain.length; k++) {
+        if (k < diffractionAt) lengthBefore += dist(chain[k]!, chain[k + 1]!); else lengthAfter += dist(chain[k]!, chain[k + 1]!);
+      }
+    }
     const interactions: PathInteraction[] = [];
     // Propagate the departure basis vectors through the interactions.
     const dep = unit(chain[0]!, chain[1]!);
@@ -326,7 +349,13 @@ class TraceContext {
     for (let k = 1; k < chain.length - 1; k++) {
       const kIn = unit(chain[k - 1]!, chain[k]!), kOut = unit(chain[k]!, chain[k + 1]!);
       const o = objects[k - 1]!;
-      if (kind === 'reflection') {
+      if (k === diffractionAt && wedges !== undefined) {
+        const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz);
+        diffractField(eT, eT, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        diffractField(eP, eP, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        const f = wedges.faces;
+        interactions.push({ type: 'diffraction', object: wedges.names[o]!, point: chain[k]!, faces: [`walls[${f[2 * o]!}]`, `walls[${f[2 * o + 1]!}]`], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard } });
+      } else if (kind === 'reflection' || kind === 'diffraction') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
         const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
@@ -359,7 +388,7 @@ class TraceContext {
       const a = chain[k]!, b = chain[k + 1]!;
       blockageDb += segmentBlockageDb(ps, a[0], a[1], a[2], b[0], b[1], b[2], this.lambda);
     }
-    const id = kind === 'los' ? 'los' : kind === 'reflection' ? objects.map((w) => `R:walls[${w}]`).join('>') : `S:scatterers[${objects[0]}]`;
+    const id = kind === 'los' ? 'los' : kind === 'reflection' || kind === 'diffraction' ? interactions.map((it) => `${it.type === 'diffraction' ? 'D' : 'R'}:${it.object}`).join('>') : `S:scatterers[${objects[0]}]`;
     const path: TracedPath = {
       id, kind, interactions,
       lengthM: 0, delayS: 0, departure: dep, arrival: arr, aodDeg: [0, 0], aoaDeg: [0, 0], aodLocalDeg: [0, 0], aoaLocalDeg: [0, 0],
@@ -374,6 +403,14 @@ class TraceContext {
   refresh(p: TracedPath): TracedPath {
     const ps = this.ps;
     const tx = vec(this.tx.position), rx = vec(this.rx.position);
+    if (p.kind === 'diffraction') {
+      // The UTD coefficient changes quickly near shadow and reflection boundaries: rebuild it
+      // at the new positions (the blocker loss stays as traced, as for the other paths).
+      const steps = diffractionSteps(ps, p);
+      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps);
+      if (out.blockageDb !== p.blockageDb) { out.blockageDb = p.blockageDb; this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]); }
+      return out;
+    }
     let points: Vec3[];
     if (p.kind === 'reflection') {
       const walls = p.interactions.map((it) => wallIndex(it.object));
@@ -423,6 +460,19 @@ class TraceContext {
       spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * Math.sqrt(rcs / (4 * Math.PI));
       p.virtualSource = vec(chain[1]!);
       p.virtualSink = vec(chain[1]!);
+    } else if (p.kind === 'diffraction') {
+      // lambda / (4 pi) / sqrt(s' s (s' + s)), s' and s unfolded before and after the edge
+      const at = p.interactions.findIndex((it) => it.type === 'diffraction') + 1;
+      let before = 0;
+      for (let k = 0; k < at; k++) before += dist(chain[k]!, chain[k + 1]!);
+      const after = length - before;
+      spreading = this.lambda / (4 * Math.PI * Math.sqrt(before * after * length));
+      // seen from each end, the wave comes from the edge point mirrored through the walls in between
+      let src = vec(chain[at]!), sink = vec(chain[at]!);
+      for (let k = at; k < p.interactions.length; k++) src = mirror(ps, wallIndex(p.interactions[k]!.object), src);
+      for (let k = at - 2; k >= 0; k--) sink = mirror(ps, wallIndex(p.interactions[k]!.object), sink);
+      p.virtualSource = src;
+      p.virtualSink = sink;
     } else {
       spreading = this.lambda / (4 * Math.PI * length);
       const walls = p.interactions.map((it) => wallIndex(it.object));
@@ -485,6 +535,17 @@ function wallIndex(object: string): number {
   const m = /^walls\[(\d+)\]$/.exec(object);
   if (m === null) throw new RangeError(`retracePaths(): interaction object must be "walls[i]", got ${JSON.stringify(object)}`);
   return Number(m[1]);
+}
+
+/** The steps of a diffracted path from its interactions (wedges by name). */
+function diffractionSteps(ps: PreparedScene, p: TracedPath): DiffractionStep[] {
+  const index = sceneWedges(ps).index;
+  return p.interactions.map((it) => {
+    if (it.type === 'reflection') return { type: 'reflection', index: wallIndex(it.object) };
+    const w = index.get(it.object);
+    if (w === undefined) throw new RangeError(`retracePaths(): the scene has no diffracting edge ${JSON.stringify(it.object)}`);
+    return { type: 'diffraction', index: w };
+  });
 }
 
 function scattererIndex(object: string): number {
