@@ -33,7 +33,9 @@
  * which is continuous with the geometric-optics fields across every shadow and reflection
  * boundary. Near a boundary (where the cotangent diverges) the product cot * F is replaced by its
  * limit n [sqrt(2 pi k L) sgn(eps) - 2 k L eps exp(j pi / 4)] exp(j pi / 4), eps the angular
- * distance to the boundary (Kouyoumjian and Pathak 1974).
+ * distance to the boundary (Kouyoumjian and Pathak 1974); exactly on a boundary the side is the
+ * one the tracer gives the geometric-optics ray (an edge-grazing direct ray is blocked, an
+ * edge-grazing reflection is kept).
  */
 import type { Complex } from './complex.js';
 
@@ -181,13 +183,16 @@ const SQRT_HALF = Math.SQRT1_2;
  * cot((pi + sign beta) / 2n) F(k L a^sign(beta)), sign +1 or -1, with its limit at the boundary.
  * Writes [re, im] into out[0..1].
  */
-function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: number): void {
+function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: number, reflectionBoundary: boolean): void {
   const theta = (Math.PI + sign * beta) / (2 * n);
   const m = Math.round(theta / Math.PI);
   const eps = 2 * n * (theta - m * Math.PI); // the angular distance to the boundary
   if (Math.abs(eps) < 1e-7) {
     // n [sqrt(2 pi k L) sgn(eps) - 2 k L eps e^{j pi/4}] e^{j pi/4}
-    const sg = eps > 0 ? 1 : eps < 0 ? -1 : 0;
+    // On the boundary itself the side must agree with the tracer's geometric-optics test: a
+    // direct ray grazing an edge counts as blocked (shadow side, -1), a reflection point on the
+    // edge (within the 1e-9 m tolerance of the image method) counts as inside its wall (lit, +1).
+    const sg = reflectionBoundary ? (eps > -1e-10 ? 1 : -1) : (eps > 0 ? 1 : -1);
     const a = Math.sqrt(2 * Math.PI * kL) * sg;
     const b = 2 * kL * eps;
     // (a - b (c + j c)) (c + j c), c = 1/sqrt 2: = a c (1 + j) - b j
@@ -225,10 +230,10 @@ export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, fac
   if (!(b0 > 0 && b0 < Math.PI)) throw new RangeError(`utdWedgeCoefficients(): beta0Rad must be in (0, pi), got ${b0}`);
   if (!(L > 0) || !Number.isFinite(L)) throw new RangeError(`utdWedgeCoefficients(): distanceParameterM must be a finite number > 0, got ${L}`);
   const kL = k * L;
-  utdTerm(t1, +1, p - pp, n, kL);
-  utdTerm(t2, -1, p - pp, n, kL);
-  utdTerm(t3, -1, p + pp, n, kL);
-  utdTerm(t4, +1, p + pp, n, kL);
+  utdTerm(t1, +1, p - pp, n, kL, false);
+  utdTerm(t2, -1, p - pp, n, kL, false);
+  utdTerm(t3, -1, p + pp, n, kL, true);
+  utdTerm(t4, +1, p + pp, n, kL, true);
   // -exp(-j pi/4) / (2 n sqrt(2 pi k) sin b0)
   const scale = -1 / (2 * n * Math.sqrt(2 * Math.PI * k) * Math.sin(b0));
   const preRe = scale * SQRT_HALF, preIm = -scale * SQRT_HALF;
