@@ -180,20 +180,23 @@ export function diffractionPoints(ps: PreparedScene, steps: readonly Diffraction
 /**
  * The UTD coefficients of wedge w for a ray arriving along unit kIn and leaving along unit
  * kOut, s' and s the unfolded lengths before and after the edge, k the wavenumber; Luebbers'
- * heuristic with the faces' surfaces (a perfect conductor gives the Kouyoumjian-Pathak form).
+ * heuristic with the faces' surfaces (a perfect conductor gives the Kouyoumjian-Pathak form);
+ * `sides` holds the boundary terms on given sides (utd.ts).
  * Also returns the angles (radians) and the unit vectors of the edge-fixed bases.
  * @example
  * const ps = prepareScene({ walls: [{ vertices: [[0, 0], [10, 0]], material: 'metal' }] });
  * wedgeDiffraction(ps, 0, [Math.SQRT1_2, -Math.SQRT1_2, 0], [0, -1, 0], 10, 10, 2 * Math.PI / 0.0107, 28e9).phiRad // 4.712 (3 pi / 2: straight below the edge)
  */
 export function wedgeDiffraction(
-  ps: PreparedScene, w: number, kIn: Readonly<Vec3>, kOut: Readonly<Vec3>, sPrime: number, s: number, k: number, carrierHz: number,
-): DiffractionCoefficients & { phiPrimeRad: number; phiRad: number; beta0Rad: number; n: number; phiHatIn: Vec3; betaHatIn: Vec3; phiHatOut: Vec3; betaHatOut: Vec3 } {
+  ps: PreparedScene, w: number, kIn: Readonly<Vec3>, kOut: Readonly<Vec3>, sPrime: number, s: number, k: number, carrierHz: number, sides?: readonly number[],
+): DiffractionCoefficients & { sides: [number, number, number, number]; phiPrimeRad: number; phiRad: number; beta0Rad: number; n: number; phiHatIn: Vec3; betaHatIn: Vec3; phiHatOut: Vec3; betaHatOut: Vec3 } {
   const wedges: SceneWedges = sceneWedges(ps);
   const wd = wedges.data, b = WEDGE_STRIDE * w;
   const ex = wd[b + 3]!, ey = wd[b + 4]!, ez = wd[b + 5]!, n = wd[b + 13]!;
-  const phiPrimeRad = Math.min(wedgeAngle(wd, w, -kIn[0], -kIn[1], -kIn[2]), n * Math.PI);
-  const phiRad = Math.min(wedgeAngle(wd, w, kOut[0], kOut[1], kOut[2]), n * Math.PI);
+  // A retraced path can stray inside the wedge before the next update: take the nearer face.
+  const clamp = (a: number): number => (a <= n * Math.PI ? a : a - n * Math.PI < TWO_PI - a ? n * Math.PI : 0);
+  const phiPrimeRad = clamp(wedgeAngle(wd, w, -kIn[0], -kIn[1], -kIn[2]));
+  const phiRad = clamp(wedgeAngle(wd, w, kOut[0], kOut[1], kOut[2]));
   const cosB = Math.max(-1, Math.min(1, kIn[0] * ex + kIn[1] * ey + kIn[2] * ez));
   const beta0Rad = Math.acos(cosB);
   const sin2 = 1 - cosB * cosB;
@@ -203,7 +206,7 @@ export function wedgeDiffraction(
   const pl = ps.planes;
   const c0 = Math.min(1, Math.abs(kIn[0] * pl[4 * f0]! + kIn[1] * pl[4 * f0 + 1]! + kIn[2] * pl[4 * f0 + 2]!));
   const cn = Math.min(1, Math.abs(kOut[0] * pl[4 * fn]! + kOut[1] * pl[4 * fn + 1]! + kOut[2] * pl[4 * fn + 2]!));
-  const D = utdWedgeCoefficients(k, { n, phiPrimeRad, phiRad, beta0Rad, distanceParameterM: L }, surfaceCoefficients(surfaces[f0]!.surface, c0), surfaceCoefficients(surfaces[fn]!.surface, cn));
+  const D = utdWedgeCoefficients(k, { n, phiPrimeRad, phiRad, beta0Rad, distanceParameterM: L }, surfaceCoefficients(surfaces[f0]!.surface, c0), surfaceCoefficients(surfaces[fn]!.surface, cn), sides);
   // phi_hat = e x (unit offset perpendicular to e): source side offset is -kIn, observer side kOut
   const perpUnit = (x: number, y: number, z: number): Vec3 => {
     const c = x * ex + y * ey + z * ez;

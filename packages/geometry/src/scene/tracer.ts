@@ -85,7 +85,7 @@ export interface PathInteraction {
   faces?: [string, string];
   /** Diffractions: the wedge's exterior angle n pi, degrees (360 for a free edge). */
   exteriorAngleDeg?: number;
-  /** Diffractions: the UTD soft and hard coefficients used, sqrt(m) (utd.ts). */
+  /** Diffractions: the UTD soft and hard coefficients used, sqrt(m), and the side of each boundary as traced (utd.ts). */
   diffraction?: DiffractionCoefficients;
 }
 
@@ -328,7 +328,7 @@ class TraceContext {
   }
 
   /** A full path from its interaction list (wall, scatterer or wedge indices, with `steps` for diffracted paths) and interaction points. */
-  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[]): TracedPath {
+  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[], sides?: readonly number[]): TracedPath {
     const ps = this.ps;
     const chain: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
     const surfaces = kind === 'reflection' || kind === 'diffraction' ? ps.surfacesAt(this.carrierHz) : [];
@@ -350,11 +350,11 @@ class TraceContext {
       const kIn = unit(chain[k - 1]!, chain[k]!), kOut = unit(chain[k]!, chain[k + 1]!);
       const o = objects[k - 1]!;
       if (k === diffractionAt && wedges !== undefined) {
-        const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz);
+        const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz, sides);
         diffractField(eT, eT, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
         diffractField(eP, eP, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
         const f = wedges.faces;
-        interactions.push({ type: 'diffraction', object: wedges.names[o]!, point: chain[k]!, faces: [`walls[${f[2 * o]!}]`, `walls[${f[2 * o + 1]!}]`], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard } });
+        interactions.push({ type: 'diffraction', object: wedges.names[o]!, point: chain[k]!, faces: [`walls[${f[2 * o]!}]`, `walls[${f[2 * o + 1]!}]`], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard, sides: sides !== undefined ? [sides[0]!, sides[1]!, sides[2]!, sides[3]!] : d.sides } });
       } else if (kind === 'reflection' || kind === 'diffraction') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
@@ -405,9 +405,11 @@ class TraceContext {
     const tx = vec(this.tx.position), rx = vec(this.rx.position);
     if (p.kind === 'diffraction') {
       // The UTD coefficient changes quickly near shadow and reflection boundaries: rebuild it
-      // at the new positions (the blocker loss stays as traced, as for the other paths).
+      // at the new positions, each boundary term held on the side it had when traced (utd.ts),
+      // as the direct and reflected paths keep their traced set (the blocker loss stays as traced).
       const steps = diffractionSteps(ps, p);
-      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps);
+      const sides = p.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
+      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps, sides);
       if (out.blockageDb !== p.blockageDb) { out.blockageDb = p.blockageDb; this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]); }
       return out;
     }

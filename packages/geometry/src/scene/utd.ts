@@ -36,6 +36,13 @@
  * distance to the boundary (Kouyoumjian and Pathak 1974); exactly on a boundary the side is the
  * one the tracer gives the geometric-optics ray (an edge-grazing direct ray is blocked, an
  * edge-grazing reflection is kept).
+ *
+ * Side-locked evaluation (`sides`): each boundary term can be held on the side it had when the
+ * path was traced, its value then continued analytically across the boundary (sqrt(X) in F taken
+ * with the sign of eps, which turns F into F - 2 sqrt(pi X) exp(j (X + pi / 4))). Between two
+ * geometry updates the tracer's paths keep the geometric-optics set of the update, and a
+ * diffracted path blended from its two updates' sides then adds up with the fading direct and
+ * reflected paths to a field that stays continuous in time (timeline of core).
  */
 import type { Complex } from './complex.js';
 
@@ -73,6 +80,8 @@ export interface WedgeDiffractionGeometry {
 export interface DiffractionCoefficients {
   soft: Complex;
   hard: Complex;
+  /** The side (+1 lit, -1 shadow) of the four boundaries, in the order of the module comment's terms (see `sides` of utdWedgeCoefficients). */
+  sides?: [number, number, number, number];
 }
 
 const HALF_PI = Math.PI / 2;
@@ -183,29 +192,38 @@ const SQRT_HALF = Math.SQRT1_2;
  * cot((pi + sign beta) / 2n) F(k L a^sign(beta)), sign +1 or -1, with its limit at the boundary.
  * Writes [re, im] into out[0..1].
  */
-function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: number, reflectionBoundary: boolean): void {
+function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: number, reflectionBoundary: boolean, locked: number): number {
   const theta = (Math.PI + sign * beta) / (2 * n);
   const m = Math.round(theta / Math.PI);
   const eps = 2 * n * (theta - m * Math.PI); // the angular distance to the boundary
+  // On the boundary itself the side must agree with the tracer's geometric-optics test: a
+  // direct ray grazing an edge counts as blocked (shadow side, -1), a reflection point on the
+  // edge (within the 1e-9 m tolerance of the image method) counts as inside its wall (lit, +1).
+  const side = reflectionBoundary ? (eps > -1e-10 ? 1 : -1) : (eps > 0 ? 1 : -1);
   if (Math.abs(eps) < 1e-7) {
     // n [sqrt(2 pi k L) sgn(eps) - 2 k L eps e^{j pi/4}] e^{j pi/4}
-    // On the boundary itself the side must agree with the tracer's geometric-optics test: a
-    // direct ray grazing an edge counts as blocked (shadow side, -1), a reflection point on the
-    // edge (within the 1e-9 m tolerance of the image method) counts as inside its wall (lit, +1).
-    const sg = reflectionBoundary ? (eps > -1e-10 ? 1 : -1) : (eps > 0 ? 1 : -1);
+    const sg = locked !== 0 ? locked : side;
     const a = Math.sqrt(2 * Math.PI * kL) * sg;
     const b = 2 * kL * eps;
     // (a - b (c + j c)) (c + j c), c = 1/sqrt 2: = a c (1 + j) - b j
     out[0] = n * a * SQRT_HALF;
     out[1] = n * (a * SQRT_HALF - b);
-    return;
+    return side;
   }
   const N = Math.round((beta + sign * Math.PI) / (2 * Math.PI * n));
   const cs = Math.cos((2 * Math.PI * n * N - beta) / 2);
-  const F = utdTransition(kL * 2 * cs * cs);
+  const X = kL * 2 * cs * cs;
+  const F = utdTransition(X);
   const cot = 1 / Math.tan(theta);
   out[0] = cot * F[0];
   out[1] = cot * F[1];
+  if (locked !== 0 && locked !== side) {
+    // continued from the other side: sqrt(X) changes sign with eps, F -> F - 2 sqrt(pi X) e^{j (X + pi/4)}
+    const c = 2 * Math.sqrt(Math.PI * X) * cot, ph = X + Math.PI / 4;
+    out[0] -= c * Math.cos(ph);
+    out[1] -= c * Math.sin(ph);
+  }
+  return side;
 }
 
 const t1 = new Float64Array(2), t2 = new Float64Array(2), t3 = new Float64Array(2), t4 = new Float64Array(2);
@@ -215,12 +233,14 @@ const PEC_FACE: FaceReflection = { te: [-1, 0], tm: [1, 0] };
  * UTD wedge diffraction coefficients Ds and Dh (sqrt(m)) at wavenumber k (rad/m): Kouyoumjian-
  * Pathak for perfectly conducting faces (the default), Luebbers' heuristic when the faces'
  * reflection coefficients are given (see the module comment for the angles they are taken at).
+ * `sides` (+1, -1 or 0 = as the geometry gives, per boundary term) holds terms on a side; the
+ * result's `sides` are the sides the geometry gives.
  * @example
  * // A half-plane (n = 2) at normal incidence far from the boundaries matches Keller's GTD
  * // coefficient -exp(-j pi/4) / (2 sqrt(2 pi k)) [sec((phi - phi')/2) -+ sec((phi + phi')/2)]:
  * utdWedgeCoefficients(2 * Math.PI, { n: 2, phiPrimeRad: Math.PI / 3, phiRad: 3 * Math.PI / 2, beta0Rad: Math.PI / 2, distanceParameterM: 1e4 }).soft // [0.15917, -0.15914] (GTD: [0.15915, -0.15915])
  */
-export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, face0: FaceReflection = PEC_FACE, faceN: FaceReflection = PEC_FACE): DiffractionCoefficients {
+export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, face0: FaceReflection = PEC_FACE, faceN: FaceReflection = PEC_FACE, sides?: readonly number[]): DiffractionCoefficients & { sides: [number, number, number, number] } {
   const { n, phiPrimeRad: pp, phiRad: p, beta0Rad: b0, distanceParameterM: L } = g;
   if (!(k > 0) || !Number.isFinite(k)) throw new RangeError(`utdWedgeCoefficients(): k must be a finite number > 0, got ${k}`);
   if (!(n > 0 && n <= 2)) throw new RangeError(`utdWedgeCoefficients(): n must be in (0, 2], got ${n}`);
@@ -230,10 +250,10 @@ export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, fac
   if (!(b0 > 0 && b0 < Math.PI)) throw new RangeError(`utdWedgeCoefficients(): beta0Rad must be in (0, pi), got ${b0}`);
   if (!(L > 0) || !Number.isFinite(L)) throw new RangeError(`utdWedgeCoefficients(): distanceParameterM must be a finite number > 0, got ${L}`);
   const kL = k * L;
-  utdTerm(t1, +1, p - pp, n, kL, false);
-  utdTerm(t2, -1, p - pp, n, kL, false);
-  utdTerm(t3, -1, p + pp, n, kL, true);
-  utdTerm(t4, +1, p + pp, n, kL, true);
+  const s1 = utdTerm(t1, +1, p - pp, n, kL, false, sides?.[0] ?? 0);
+  const s2 = utdTerm(t2, -1, p - pp, n, kL, false, sides?.[1] ?? 0);
+  const s3 = utdTerm(t3, -1, p + pp, n, kL, true, sides?.[2] ?? 0);
+  const s4 = utdTerm(t4, +1, p + pp, n, kL, true, sides?.[3] ?? 0);
   // -exp(-j pi/4) / (2 n sqrt(2 pi k) sin b0)
   const scale = -1 / (2 * n * Math.sqrt(2 * Math.PI * k) * Math.sin(b0));
   const preRe = scale * SQRT_HALF, preIm = -scale * SQRT_HALF;
@@ -242,5 +262,5 @@ export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, fac
     const sIm = t1[1]! + t2[1]! + (r0[0] * t3[1]! + r0[1] * t3[0]!) + (rn[0] * t4[1]! + rn[1] * t4[0]!);
     return [preRe * sRe - preIm * sIm, preRe * sIm + preIm * sRe];
   };
-  return { soft: combine(face0.te, faceN.te), hard: combine(face0.tm, faceN.tm) };
+  return { soft: combine(face0.te, faceN.te), hard: combine(face0.tm, faceN.tm), sides: [s1, s2, s3, s4] };
 }

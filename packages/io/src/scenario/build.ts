@@ -504,7 +504,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
     }
     if (timeline.ids.length === 0) {
       const who = scenario.receivers !== undefined ? `receivers[${users.length}]` : 'receiver';
-      throw new ScenarioError([{ path: scenario.scene !== undefined ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
+      throw new ScenarioError([{ path: scenario.scene !== undefined ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers, maxReflectionOrder and diffraction)` }]);
     }
     const delayShiftS = scenario.taps?.alignFirstPath === true ? alignmentShiftS(delays, scenario.taps.sampleRateHz) : 0;
     const spec: ChannelSpec = {

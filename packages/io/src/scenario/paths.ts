@@ -53,7 +53,7 @@ export function pathsTable(paths: readonly PathRecord[]): string {
   const rows = paths.map((p, i) => [
     String(i),
     p.kind,
-    p.interactions !== undefined ? (p.interactions.length === 0 ? 'direct' : p.interactions.map((i) => `${i.type === 'reflection' ? 'R' : 'S'}:${i.object}`).join(' > ')) : p.id,
+    p.interactions !== undefined ? (p.interactions.length === 0 ? 'direct' : p.interactions.map((i) => `${i.type === 'reflection' ? 'R' : i.type === 'diffraction' ? 'D' : 'S'}:${i.object}`).join(' > ')) : p.id,
     (p.delayS * 1e9).toFixed(3),
     ((p.lengthM ?? p.delayS * 299_792_458) as number).toFixed(3),
     p.powerDb.toFixed(2),

@@ -161,6 +161,8 @@ const sceneDefinition = z.strictObject({
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
+  /** Edge diffraction (UTD) at the walls' wedges, single and with one reflection; off by default. */
+  diffraction: z.boolean().optional(),
   /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
   atmosphere: z
     .strictObject({
