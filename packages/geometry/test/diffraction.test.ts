@@ -142,7 +142,7 @@ describe('diffracted paths', () => {
     expect(on.map((p) => p.id)).toContain('D:walls[1].vertices[1]');
     const d = on.find((p) => p.id === 'D:walls[1].vertices[1]')!;
     expect(d.kind).toBe('diffraction');
-    expect(d.interactions[0]).toMatchObject({ type: 'diffraction', object: 'walls[1].vertices[1]', faces: ['walls[1]', 'walls[2]'], exteriorAngleDeg: 270 });
+    expect(d.interactions[0]).toMatchObject({ type: 'diffraction', object: { kind: 'edge', index: 1, vertex: 1 }, faces: [{ kind: 'wall', index: 1 }, { kind: 'wall', index: 2 }], exteriorAngleDeg: 270 });
     expect(d.interactions[0]!.point).toEqual([0, 0, 0]);
     expect(d.lengthM).toBeCloseTo(Math.hypot(10, 5) + Math.hypot(10, 8), 12);
     // spreading lambda / (4 pi sqrt(s' s (s + s'))) times |D| (2-D: vertical polarisation = soft, |E . beta| = 1)

@@ -41,6 +41,9 @@ export interface SceneWedges {
   faces: Int32Array;
   /** The edge's name: "walls[i].vertices[j]" (2-D, the segment end) or "walls[i].edges[j]" (3-D, from vertex j to j + 1), the lowest wall index holding it. */
   names: string[];
+  /** Per wedge, the wall i and the vertex or edge number j of its name. */
+  wall: Int32Array;
+  part: Int32Array;
   /** Wedge index by name. */
   index: Map<string, number>;
   count: number;
@@ -71,9 +74,11 @@ class Builder {
   readonly data: number[] = [];
   readonly faces: number[] = [];
   readonly names: string[] = [];
+  readonly wall: number[] = [];
+  readonly part: number[] = [];
 
   /** Add the wedge of the widest gap (> pi) among the half-planes about edge e, if any. */
-  add(name: string, ax: number, ay: number, az: number, ex: number, ey: number, ez: number, length: number, planes: HalfPlane[]): void {
+  add(wall: number, part: number, name: string, ax: number, ay: number, az: number, ex: number, ey: number, ez: number, length: number, planes: HalfPlane[]): void {
     if (planes.length === 0) return;
     const r = planes[0]!;
     // q = e x r: the reference frame for the angles
@@ -95,10 +100,12 @@ class Builder {
     this.data.push(ax, ay, az, ex, ey, ez, length, f0.dx, f0.dy, f0.dz, bx, by, bz, gap / Math.PI);
     this.faces.push(f0.wall, fn.wall);
     this.names.push(name);
+    this.wall.push(wall);
+    this.part.push(part);
   }
 
   done(): SceneWedges {
-    return { data: Float64Array.from(this.data), faces: Int32Array.from(this.faces), names: this.names, index: new Map(this.names.map((n, i) => [n, i])), count: this.names.length };
+    return { data: Float64Array.from(this.data), faces: Int32Array.from(this.faces), names: this.names, wall: Int32Array.from(this.wall), part: Int32Array.from(this.part), index: new Map(this.names.map((n, i) => [n, i])), count: this.names.length };
   }
 }
 
@@ -123,7 +130,7 @@ function wedges2D(ps: PreparedScene): SceneWedges {
         if (along > tol * scale) planes.push({ dx: -s[q + 2]!, dy: -s[q + 3]!, dz: 0, wall: k });
         if (along < len - tol * scale) planes.push({ dx: s[q + 2]!, dy: s[q + 3]!, dz: 0, wall: k });
       }
-      b.add(`walls[${i}].vertices[${j}]`, px, py, 0, 0, 0, 1, Infinity, planes);
+      b.add(i, j, `walls[${i}].vertices[${j}]`, px, py, 0, 0, 0, 1, Infinity, planes);
     }
   }
   return b.done();
@@ -161,7 +168,7 @@ function wedges3D(ps: PreparedScene): SceneWedges {
           if (ps.insideWall(k, mx + h * ux, my + h * uy, mz + h * uz, 0)) planes.push({ dx: sgn * ux, dy: sgn * uy, dz: sgn * uz, wall: k });
         }
       }
-      b.add(`walls[${i}].edges[${j}]`, a[0]!, a[1]!, a[2]!, ex, ey, ez, length, planes);
+      b.add(i, j, `walls[${i}].edges[${j}]`, a[0]!, a[1]!, a[2]!, ex, ey, ez, length, planes);
     }
   }
   return b.done();
