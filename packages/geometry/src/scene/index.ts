@@ -12,6 +12,7 @@ export * from './p676.js';
 export * from './scene.js';
 export * from './blockage.js';
 export * from './utd.js';
+export * from './slab.js';
 export * from './edges.js';
 export * from './diffraction.js';
 export * from './tracer.js';

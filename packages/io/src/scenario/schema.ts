@@ -145,6 +145,8 @@ const sceneDefinition = z.strictObject({
         vertices: z.array(z.array(coordinate).min(2).max(3)).min(2),
         material: materialSchema.optional(),
         reflectionLossDb: nonNegative.optional(),
+        /** Thickness in metres: the wall transmits as an ITU-R P.2040 slab of its material (off: opaque). */
+        thicknessM: positive.optional(),
       }),
     )
     .optional(),
