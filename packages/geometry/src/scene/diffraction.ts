@@ -62,7 +62,13 @@ function kellerPoint(wd: Float64Array, w: number, s: Readonly<Vec3>, o: Readonly
   return true;
 }
 
-/** Angle phi in [0, 2 pi) of the offset d about wedge w's edge (module comment of edges.ts). */
+/**
+ * Angle phi in [0, 2 pi) of the offset d about wedge w's edge (module comment of edges.ts), from
+ * the wedges' data array.
+ * @example
+ * const w = sceneWedges(prepareScene({ walls: [{ vertices: [[0, 0], [10, 0]] }] }));
+ * wedgeAngle(w.data, 0, 0, -1, 0) // 4.712 (3 pi / 2): straight below the free end at the origin, face 0 along +x
+ */
 export function wedgeAngle(wd: Float64Array, w: number, dx: number, dy: number, dz: number): number {
   const b = WEDGE_STRIDE * w;
   const ex = wd[b + 3]!, ey = wd[b + 4]!, ez = wd[b + 5]!;
