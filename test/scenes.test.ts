@@ -43,7 +43,10 @@ print(json.dumps({'los': f['truth/powerDb'][:, ids.index('los')].tolist(), 'ids'
     const los = r.los;
     const clear = los[0]!;
     const deepest = Math.min(...los);
-    expect(clear - deepest).toBeGreaterThan(15); // a person at 60 GHz: knife-edge loss of 15-25 dB (ITU-R P.526, C)
+    // a person at 60 GHz: one knife edge alone would cost 15-25 dB (ITU-R P.526, C); the wave passes
+    // the cylinder on both sides, whose fields add in phase when it is centred (P.526 finite-width
+    // screen, minimum loss, M): 6 dB less, so more than 10 dB
+    expect(clear - deepest).toBeGreaterThan(10);
     let biggestStep = 0;
     for (let i = 1; i < los.length; i++) biggestStep = Math.max(biggestStep, Math.abs(los[i]! - los[i - 1]!));
     // P.526: J(v) rises at most 20 / ln(10) = 8.69 dB per unit of v. The vehicle moves 3.75 mm per

@@ -254,10 +254,28 @@ describe('blockers', () => {
     for (let i = 1; i < losses.length; i++) maxJump = Math.max(maxJump, Math.abs(losses[i]! - losses[i - 1]!));
     expect(maxJump).toBeLessThan(0.6);
     expect(losses[0]).toBe(0); // 1.5 m aside: v < -0.78
-    expect(losses[150]).toBeGreaterThan(17); // centred: h ~ 0.3 m, v ~ 1.8, J ~ 18 dB
+    // centred: each side h = 0.3 m (v = 1.834, J = 18.35 dB), top and bottom h = 1.5 m (v = 9.17,
+    // J = 32.1 dB), combined as P.526's finite-width screen, the edges' fields in phase (M):
+    // -20 log10(2 * 10^(-18.35 / 20) + 2 * 10^(-32.1 / 20)) = 10.7 dB
+    const J = (v: number): number => 6.9 + 20 * Math.log10(Math.sqrt((v - 0.1) ** 2 + 1) + v - 0.1); // P.526 (V formula)
+    const kappa = Math.sqrt((2 * 20) / ((SPEED_OF_LIGHT / FC) * 10 * 10));
+    expect(losses[150]).toBeCloseTo(-20 * Math.log10(2 * 10 ** (-J(0.3 * kappa) / 20) + 2 * 10 ** (-J(1.5 * kappa) / 20)), 6);
     // rises to the middle, falls after it
     for (let i = 1; i <= 150; i++) expect(losses[i]!).toBeGreaterThanOrEqual(losses[i - 1]! - 1e-9);
     for (let i = 151; i < losses.length; i++) expect(losses[i]!).toBeLessThanOrEqual(losses[i - 1]! + 1e-9);
+  });
+
+  it('a cylinder passes the wave on both sides: centred in 2-D, 6.02 dB less than one edge alone', () => {
+    // two equal knife edges whose fields add in phase: J(v) - 20 log10(2) (P.526 finite-width screen, M)
+    const tx = term([0, 0, 0]), rx = term([20, 0, 0]);
+    const lambda = SPEED_OF_LIGHT / FC, kappa = Math.sqrt((2 * 20) / (lambda * 10 * 10));
+    const J = (v: number): number => 6.9 + 20 * Math.log10(Math.sqrt((v - 0.1) ** 2 + 1) + v - 0.1); // P.526 (V formula)
+    const centred = traceScene({ blockers: [{ shape: 'cylinder', base: [10, 0], radiusM: 0.25, heightM: 2 }] }, tx, rx, FC).paths[0]!.blockageDb;
+    expect(centred).toBeCloseTo(J(0.25 * kappa) - 20 * Math.log10(2), 9);
+    // off-centre by 0.2 m: the near side (h = 0.05 m) dominates, the far side (h = 0.45 m) still adds its field
+    const off = traceScene({ blockers: [{ shape: 'cylinder', base: [10, 0.2], radiusM: 0.25, heightM: 2 }] }, tx, rx, FC).paths[0]!.blockageDb;
+    expect(off).toBeCloseTo(-20 * Math.log10(10 ** (-J(0.05 * kappa) / 20) + 10 ** (-J(0.45 * kappa) / 20)), 9);
+    expect(off).toBeLessThan(J(0.05 * kappa));
   });
 
   it('a blocker with lossDb adds that loss only when crossed', () => {

@@ -11,4 +11,8 @@ export * from './atmosphere.js';
 export * from './p676.js';
 export * from './scene.js';
 export * from './blockage.js';
+export * from './utd.js';
+export * from './slab.js';
+export * from './edges.js';
+export * from './diffraction.js';
 export * from './tracer.js';

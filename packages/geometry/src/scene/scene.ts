@@ -37,6 +37,8 @@ export interface Wall {
   material?: MaterialSpec;
   /** A fixed reflection loss in dB (>= 0) replacing the Fresnel coefficients. */
   reflectionLossDb?: number;
+  /** Thickness in metres (> 0): the wall lets waves through as an ITU-R P.2040 slab of its material (slab.ts); without it the wall is opaque. */
+  thicknessM?: number;
 }
 
 /**
@@ -97,6 +99,8 @@ export interface Scene {
   dynamicRangeDb?: number;
   /** Specific gas attenuation in dB/km applied over each unfolded length (default 0). */
   gasAttenuationDbPerKm?: number;
+  /** Edge diffraction by the UTD at the wedges of the walls (edges.ts, diffraction.ts): single, and with one reflection when maxReflectionOrder >= 1 (default false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -207,6 +211,11 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
           if (typeof g === 'string') err(`${wp}.vertices`, g);
         }
       }
+      if (wall.thicknessM !== undefined) {
+        if (!(typeof wall.thicknessM === 'number' && Number.isFinite(wall.thicknessM) && wall.thicknessM > 0)) err(`${wp}.thicknessM`, `must be a finite number > 0 (m), got ${fmt(wall.thicknessM)}`);
+        else if (wall.reflectionLossDb !== undefined) err(`${wp}.thicknessM`, 'a wall with reflectionLossDb has no permittivity to transmit through; give a material instead');
+        else if (wall.material === 'metal') err(`${wp}.thicknessM`, 'a metal wall (a perfect conductor) transmits nothing; leave thicknessM out');
+      }
       if (wall.reflectionLossDb !== undefined && !(typeof wall.reflectionLossDb === 'number' && Number.isFinite(wall.reflectionLossDb) && wall.reflectionLossDb >= 0)) {
         err(`${wp}.reflectionLossDb`, `must be a finite number >= 0 (dB), got ${fmt(wall.reflectionLossDb)}`);
       }
@@ -268,6 +277,8 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (scene.gasAttenuationDbPerKm !== undefined && !(typeof scene.gasAttenuationDbPerKm === 'number' && Number.isFinite(scene.gasAttenuationDbPerKm) && scene.gasAttenuationDbPerKm >= 0)) {
     err(`${sp}.gasAttenuationDbPerKm`, `must be a finite number >= 0 (dB/km), got ${fmt(scene.gasAttenuationDbPerKm)}`);
   }
+
+  if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean') err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
@@ -431,6 +442,10 @@ export class PreparedScene {
   readonly blockerSpheres: Float64Array;
   readonly lineOfSight: boolean;
   readonly maxReflectionOrder: number;
+  /** 1 for a wall with `thicknessM` (waves pass through it, slab.ts), 0 for an opaque one. */
+  readonly transmissive: Uint8Array;
+  /** True when any wall is transmissive. */
+  readonly hasTransmission: boolean;
   private readonly surfaceCache = new Map<number, ResolvedSurface[]>();
 
   /** Use `prepareScene()`; the constructor trusts a validated scene. */
@@ -477,6 +492,8 @@ export class PreparedScene {
       this.blockerSpheres.set([cx, cy, is2D ? 0 : cz, r], 4 * i);
       return pts;
     });
+    this.transmissive = Uint8Array.from(walls, (w) => (w.thicknessM !== undefined ? 1 : 0));
+    this.hasTransmission = this.transmissive.includes(1);
     this.lineOfSight = scene.lineOfSight ?? true;
     this.maxReflectionOrder = scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
   }
@@ -549,8 +566,9 @@ export class PreparedScene {
   }
 
   /**
-   * True when the open segment a -> b crosses any wall other than `skipA` and `skipB` (use -1 for
-   * none). Grazing along a wall's plane does not count as crossing it.
+   * True when the open segment a -> b crosses any opaque wall other than `skipA` and `skipB` (use
+   * -1 for none); walls with `thicknessM` let it through (see `segmentTransmissions`). Grazing
+   * along a wall's plane does not count as crossing it.
    * @example
    * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
    * [ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1), ps.segmentHitsWall(0.2, 0.8, 1, 0.2, 0.8, -1, -1, -1)] // [true, false]: only the first crosses the triangle
@@ -559,8 +577,9 @@ export class PreparedScene {
     const pl = this.planes;
     const dx = bx - ax, dy = by - ay, dz = bz - az;
     const eps = 1e-9;
+    const tr = this.transmissive;
     for (let w = 0; w < this.wallCount; w++) {
-      if (w === skipA || w === skipB) continue;
+      if (w === skipA || w === skipB || tr[w] === 1) continue;
       const o = 4 * w;
       const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
       const fa = nx * ax + ny * ay + nz * az - d;
@@ -573,6 +592,35 @@ export class PreparedScene {
       if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) return true;
     }
     return false;
+  }
+
+  /**
+   * The transmissive walls (other than `skipA`, `skipB`) the open segment a -> b passes through,
+   * in order from a: [wall, t] pairs, t the fraction of the way (or, with `only`, the crossings of
+   * those walls' planes without the polygon test, for retracing).
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[5, -5], [5, 5]], material: 'glass', thicknessM: 0.01 }] });
+   * ps.segmentTransmissions(0, 0, 0, 10, 0, 0, -1, -1) // [[0, 0.5]]
+   */
+  segmentTransmissions(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number, only?: readonly number[]): [number, number][] {
+    const out: [number, number][] = [];
+    if (!this.hasTransmission) return out;
+    const pl = this.planes, eps = 1e-9;
+    const dx = bx - ax, dy = by - ay, dz = bz - az;
+    const list = only ?? Array.from({ length: this.wallCount }, (_, w) => w);
+    for (const w of list) {
+      if (only === undefined && (w === skipA || w === skipB || this.transmissive[w] !== 1)) continue;
+      const o = 4 * w;
+      const fa = pl[o]! * ax + pl[o + 1]! * ay + pl[o + 2]! * az - pl[o + 3]!;
+      const fb = pl[o]! * bx + pl[o + 1]! * by + pl[o + 2]! * bz - pl[o + 3]!;
+      const den = fa - fb;
+      if (Math.abs(den) < 1e-15) { if (only !== undefined) out.push([w, 0.5]); continue; }
+      const t = fa / den;
+      if (only !== undefined) { out.push([w, Math.min(1, Math.max(0, t))]); continue; }
+      if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0) || t <= eps || t >= 1 - eps) continue;
+      if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) out.push([w, t]);
+    }
+    return out.sort((p, q) => p[1] - q[1]);
   }
 }
 

@@ -28,7 +28,11 @@ import type { Vec3 } from '../vec3.js';
 import { gasAmplitudeFactor } from './atmosphere.js';
 import { segmentBlockageDb } from './blockage.js';
 import type { Complex } from './complex.js';
+import { diffractField, diffractionPoints, traceDiffractions, wedgeDiffraction, type DiffractionStep } from './diffraction.js';
+import { sceneWedges } from './edges.js';
+import type { DiffractionCoefficients } from './utd.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
+import { slabCoefficients } from './slab.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
@@ -58,6 +62,8 @@ export interface TraceOptions {
   gasAttenuationDbPerKm?: number;
   /** Keep paths whose amplitude is exactly zero (orthogonal polarisations); default false, they are dropped. */
   keepNullPaths?: boolean;
+  /** Edge diffraction (UTD), single and combined with one reflection when maxReflectionOrder >= 1; default the scene's `diffraction` (false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -65,9 +71,13 @@ export interface TraceOptions {
  * @example const third: SceneObjectRef = { kind: 'wall', index: 3 }; // scene.walls[3]
  */
 export interface SceneObjectRef {
-  /** "wall" (scene.walls), "scatterer" (scene.scatterers) or "blocker" (scene.blockers). */
-  kind: 'wall' | 'scatterer' | 'blocker';
-  /** Index into that list, from 0. */
+  /** "wall" (scene.walls), "scatterer" (scene.scatterers), "blocker" (scene.blockers) or "edge" (a diffracting edge of wall `index`, edges.ts). */
+  kind: 'wall' | 'scatterer' | 'blocker' | 'edge';
+  /** Edges, 2-D: the segment end (vertex 0 or 1) of wall `index`; the label is "walls[i].vertices[j]". */
+  vertex?: number;
+  /** Edges, 3-D: the polygon edge from vertex `edge` to the next one of wall `index`; the label is "walls[i].edges[j]". */
+  edge?: number;
+  /** Index into that list, from 0 (edges: the lowest-numbered wall holding the edge). */
   index: number;
 }
 
@@ -78,15 +88,21 @@ export interface SceneObjectRef {
  * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: { kind: 'wall', index: 0 }, point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
  */
 export interface PathInteraction {
-  type: 'reflection' | 'scatter';
-  /** The wall (reflections) or scatterer (scattering), by its index in the scene's list. */
+  type: 'reflection' | 'scatter' | 'diffraction' | 'transmission';
+  /** The wall (reflections), scatterer (scattering) or edge (diffraction: `kind: 'edge'`, see SceneObjectRef). */
   object: SceneObjectRef;
   /** Where it happens, metres (global). */
   point: Vec3;
-  /** Reflections: angle of incidence from the wall's normal, degrees. */
+  /** Reflections and transmissions: angle of incidence from the wall's normal, degrees. */
   incidenceDeg?: number;
-  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts). */
+  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts); transmissions: the slab's TE and TM transmission coefficients (slab.ts). */
   coefficients?: FresnelCoefficients;
+  /** Diffractions: the walls forming the wedge, face 0 then face n (the same wall for a free edge). */
+  faces?: [SceneObjectRef, SceneObjectRef];
+  /** Diffractions: the wedge's exterior angle n pi, degrees (360 for a free edge). */
+  exteriorAngleDeg?: number;
+  /** Diffractions: the UTD soft and hard coefficients used, sqrt(m), and the side of each boundary as traced (utd.ts). */
+  diffraction?: DiffractionCoefficients;
 }
 
 /**
@@ -102,9 +118,10 @@ export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
  */
 export interface TracedPath {
-  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
+  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]", "D:walls[0].vertices[1]", "R:walls[2]>D:walls[0].edges[1]". */
   id: string;
-  kind: 'los' | 'reflection' | 'scatter';
+  /** `diffraction` for every path with an edge diffraction (alone or with a reflection); `transmission` for a direct path through walls with thicknessM (transmissions are named in the interactions of every kind). */
+  kind: 'los' | 'reflection' | 'scatter' | 'diffraction' | 'transmission';
   interactions: PathInteraction[];
   /** Unfolded length, m. */
   lengthM: number;
@@ -156,19 +173,21 @@ const ZERO: Readonly<Vec3> = [0, 0, 0];
 
 // The text forms below are what users see (path ids, `paths --json`, path tables): they are
 // rendered from the structured records and never parsed back.
-const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers' };
-const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S' };
+const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers', edge: 'walls' };
+const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S', diffraction: 'D', transmission: 'T' };
 
 /**
  * The scene object as the scene file names it: its list and index.
- * @example sceneObjectLabel({ kind: 'scatterer', index: 2 }) // 'scatterers[2]'
+ * @example [sceneObjectLabel({ kind: 'scatterer', index: 2 }), sceneObjectLabel({ kind: 'edge', index: 1, vertex: 0 })] // ['scatterers[2]', 'walls[1].vertices[0]']
  */
 export function sceneObjectLabel(ref: Readonly<SceneObjectRef>): string {
-  return `${LIST_NAME[ref.kind]}[${ref.index}]`;
+  const base = `${LIST_NAME[ref.kind]}[${ref.index}]`;
+  if (ref.kind !== 'edge') return base;
+  return ref.vertex !== undefined ? `${base}.vertices[${ref.vertex}]` : `${base}.edges[${ref.edge ?? 0}]`;
 }
 
 /**
- * One interaction as it appears in a path id and a path table: R (reflection) or S (scattering), a colon, the object.
+ * One interaction as it appears in a path id and a path table: R (reflection), S (scattering) or D (diffraction), a colon, the object.
  * @example interactionLabel({ type: 'reflection', object: { kind: 'wall', index: 3 } }) // 'R:walls[3]'
  */
 export function interactionLabel(interaction: Readonly<Pick<PathInteraction, 'type' | 'object'>>): string {
@@ -211,6 +230,9 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
     if (ps.segmentHitsWall(p[0], p[1], p[2], r[0], r[1], r[2], -1, -1)) return;
     raw.push(ctx.build('scatter', [i], [p]));
   });
+  if (settings.diffraction) {
+    traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => { raw.push(ctx.build('diffraction', steps.map((s) => s.index), points, steps)); });
+  }
   return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb, options.keepNullPaths ?? false), warnings };
 }
 
@@ -233,7 +255,7 @@ export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx
   return paths.map((p) => ctx.refresh(p));
 }
 
-interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number }
+interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number; diffraction: boolean }
 
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   const s = ps.scene;
@@ -245,7 +267,7 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   if (!(dr > 0)) throw new RangeError(`traceScene(): dynamicRangeDb must be > 0, got ${dr}`);
   const gas = o.gasAttenuationDbPerKm ?? s.gasAttenuationDbPerKm ?? 0;
   if (!Number.isFinite(gas) || gas < 0) throw new RangeError(`traceScene(): gasAttenuationDbPerKm must be a finite number >= 0, got ${gas}`);
-  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas };
+  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas, diffraction: o.diffraction ?? s.diffraction ?? false };
 }
 
 /**
@@ -352,11 +374,37 @@ class TraceContext {
     this.rxVel = rx.velocity ?? ZERO;
   }
 
-  /** A full path from its interaction list (wall or scatterer indices) and interaction points. */
-  build(kind: TracedPath['kind'], objects: number[], points: Vec3[]): TracedPath {
+  /** A full path from its interaction list (wall, scatterer or wedge indices, with `steps` for diffracted paths) and interaction points. */
+  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[], sides?: readonly number[], throughWalls?: readonly (readonly number[])[]): TracedPath {
     const ps = this.ps;
-    const chain: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
-    const surfaces = kind === 'reflection' ? ps.surfacesAt(this.carrierHz) : [];
+    const main: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
+    const mainTypes: PathInteraction['type'][] = objects.map((_, k) => (steps !== undefined ? steps[k]!.type : kind === 'scatter' ? 'scatter' : 'reflection'));
+    // Walls with thicknessM crossed by a segment become transmission interactions on it
+    // (`throughWalls` per segment when retracing: the same walls, found by their planes).
+    let chain = main, types = mainTypes, objs = objects;
+    if (ps.hasTransmission) {
+      chain = [main[0]!]; types = []; objs = [];
+      for (let k = 0; k + 1 < main.length; k++) {
+        const a = main[k]!, b = main[k + 1]!;
+        const skipA = k > 0 && mainTypes[k - 1] === 'reflection' ? objects[k - 1]! : -1, skipB = k < objects.length && mainTypes[k] === 'reflection' ? objects[k]! : -1;
+        for (const [w, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], skipA, skipB, throughWalls?.[k])) {
+          chain.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
+          types.push('transmission'); objs.push(w);
+        }
+        if (k < objects.length) { chain.push(b); types.push(mainTypes[k]!); objs.push(objects[k]!); }
+      }
+      chain.push(main[main.length - 1]!);
+      if (kind === 'los' && types.length > 0) kind = 'transmission';
+    }
+    const surfaces = ps.surfacesAt(this.carrierHz);
+    const wedges = kind === 'diffraction' ? sceneWedges(ps) : undefined;
+    let diffractionAt = -1, lengthBefore = 0, lengthAfter = 0;
+    if (steps !== undefined) {
+      diffractionAt = types.indexOf('diffraction') + 1;
+      for (let k = 0; k + 1 < chain.length; k++) {
+        if (k < diffractionAt) lengthBefore += dist(chain[k]!, chain[k + 1]!); else lengthAfter += dist(chain[k]!, chain[k + 1]!);
+      }
+    }
     const interactions: PathInteraction[] = [];
     // Propagate the departure basis vectors through the interactions.
     const dep = unit(chain[0]!, chain[1]!);
@@ -365,8 +413,25 @@ class TraceContext {
     const eP = Float64Array.of(basis[3]!, basis[4]!, basis[5]!, 0, 0, 0);
     for (let k = 1; k < chain.length - 1; k++) {
       const kIn = unit(chain[k - 1]!, chain[k]!), kOut = unit(chain[k]!, chain[k + 1]!);
-      const o = objects[k - 1]!;
-      if (kind === 'reflection') {
+      const o = objs[k - 1]!, type = types[k - 1]!;
+      if (type === 'transmission') {
+        const pl = ps.planes;
+        const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
+        const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
+        const surface = surfaces[o]!.surface;
+        const eta: Complex = surface.kind === 'dielectric' ? surface.eta : [1, 0];
+        const c = slabCoefficients(eta, ps.scene.walls![o]!.thicknessM!, this.lambda, cosT).transmission;
+        reflectField(eT, eT, kIn, kIn, n, c); // the wave leaves the slab along its incident direction
+        reflectField(eP, eP, kIn, kIn, n, c);
+        interactions.push({ type: 'transmission', object: { kind: 'wall', index: o }, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
+      } else if (k === diffractionAt && wedges !== undefined) {
+        const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz, sides);
+        diffractField(eT, eT, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        diffractField(eP, eP, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        const f = wedges.faces;
+        const object: SceneObjectRef = ps.is2D ? { kind: 'edge', index: wedges.wall[o]!, vertex: wedges.part[o]! } : { kind: 'edge', index: wedges.wall[o]!, edge: wedges.part[o]! };
+        interactions.push({ type: 'diffraction', object, point: chain[k]!, faces: [{ kind: 'wall', index: f[2 * o]! }, { kind: 'wall', index: f[2 * o + 1]! }], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard, sides: sides !== undefined ? [sides[0]!, sides[1]!, sides[2]!, sides[3]!] : d.sides } });
+      } else if (type === 'reflection') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
         const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
@@ -413,9 +478,20 @@ class TraceContext {
   refresh(p: TracedPath): TracedPath {
     const ps = this.ps;
     const tx = vec(this.tx.position), rx = vec(this.rx.position);
+    if (p.kind === 'diffraction') {
+      // The UTD coefficient changes quickly near shadow and reflection boundaries: rebuild it
+      // at the new positions, each boundary term held on the side it had when traced (utd.ts),
+      // as the direct and reflected paths keep their traced set (the blocker loss stays as traced).
+      const steps = diffractionSteps(ps, p);
+      const sides = p.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
+      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps, sides, transmissionsPerSegment(p));
+      if (out.blockageDb !== p.blockageDb) { out.blockageDb = p.blockageDb; this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]); }
+      return out;
+    }
     let points: Vec3[];
+    const mainInteractions = p.interactions.filter((it) => it.type !== 'transmission');
     if (p.kind === 'reflection') {
-      const walls = p.interactions.map(wallIndex);
+      const walls = mainInteractions.map(wallIndex);
       const images: Vec3[] = [tx];
       for (const w of walls) images.push(mirror(ps, w, images[images.length - 1]!));
       points = new Array<Vec3>(walls.length);
@@ -428,7 +504,18 @@ class TraceContext {
         points[k - 1] = q;
       }
     } else {
-      points = p.interactions.map((it) => vec(it.point));
+      points = mainInteractions.map((it) => vec(it.point));
+    }
+    if (mainInteractions.length !== p.interactions.length) {
+      // put the transmission points back on their segments, in their order
+      const perSegment = transmissionsPerSegment(p);
+      const main = [tx, ...points, rx];
+      points = [];
+      for (let k = 0; k + 1 < main.length; k++) {
+        const a = main[k]!, b = main[k + 1]!;
+        for (const [, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], -1, -1, perSegment[k])) points.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
+        if (k + 2 < main.length) points.push(b);
+      }
     }
     const chain = [tx, ...points, rx];
     const out: TracedPath = {
@@ -456,15 +543,31 @@ class TraceContext {
     p.dopplerHz = (v1[0] * p.departure[0] + v1[1] * p.departure[1] + v1[2] * p.departure[2] + v2[0] * p.arrival[0] + v2[1] * p.arrival[1] + v2[2] * p.arrival[2]) / this.lambda;
     let spreading: number;
     if (p.kind === 'scatter') {
-      const o = objectIndex(p.interactions[0]!, 'scatterer');
+      const at = p.interactions.findIndex((it) => it.type === 'scatter');
+      const o = objectIndex(p.interactions[at]!, 'scatterer');
       const rcs = ps.scene.scatterers![o]!.rcsM2;
-      const d1 = dist(chain[0]!, chain[1]!), d2 = dist(chain[1]!, chain[2]!);
+      let d1 = 0;
+      for (let k = 0; k <= at; k++) d1 += dist(chain[k]!, chain[k + 1]!);
+      const d2 = length - d1;
       spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * Math.sqrt(rcs / (4 * Math.PI));
-      p.virtualSource = vec(chain[1]!);
-      p.virtualSink = vec(chain[1]!);
+      p.virtualSource = vec(chain[at + 1]!);
+      p.virtualSink = vec(chain[at + 1]!);
+    } else if (p.kind === 'diffraction') {
+      // lambda / (4 pi) / sqrt(s' s (s' + s)), s' and s unfolded before and after the edge
+      const at = p.interactions.findIndex((it) => it.type === 'diffraction') + 1;
+      let before = 0;
+      for (let k = 0; k < at; k++) before += dist(chain[k]!, chain[k + 1]!);
+      const after = length - before;
+      spreading = this.lambda / (4 * Math.PI * Math.sqrt(before * after * length));
+      // seen from each end, the wave comes from the edge point mirrored through the walls in between
+      let src = vec(chain[at]!), sink = vec(chain[at]!);
+      for (let k = at; k < p.interactions.length; k++) if (p.interactions[k]!.type === 'reflection') src = mirror(ps, wallIndex(p.interactions[k]!), src);
+      for (let k = at - 2; k >= 0; k--) if (p.interactions[k]!.type === 'reflection') sink = mirror(ps, wallIndex(p.interactions[k]!), sink);
+      p.virtualSource = src;
+      p.virtualSink = sink;
     } else {
       spreading = this.lambda / (4 * Math.PI * length);
-      const walls = p.interactions.map(wallIndex);
+      const walls = p.interactions.filter((it) => it.type === 'reflection').map(wallIndex);
       let src = vec(chain[0]!), sink = vec(chain[chain.length - 1]!);
       for (const w of walls) src = mirror(ps, w, src);
       for (let k = walls.length - 1; k >= 0; k--) sink = mirror(ps, walls[k]!, sink);
@@ -527,4 +630,25 @@ function objectIndex(it: PathInteraction, kind: SceneObjectRef['kind']): number 
 
 function wallIndex(it: PathInteraction): number {
   return objectIndex(it, 'wall');
+}
+
+/** The walls a path passes through on each segment between its other interactions. */
+function transmissionsPerSegment(p: TracedPath): number[][] {
+  const out: number[][] = [[]];
+  for (const it of p.interactions) {
+    if (it.type === 'transmission') out[out.length - 1]!.push(wallIndex(it));
+    else out.push([]);
+  }
+  return out;
+}
+
+/** The steps of a diffracted path from its interactions (wedges by their edge's label). */
+function diffractionSteps(ps: PreparedScene, p: TracedPath): DiffractionStep[] {
+  const index = sceneWedges(ps).index;
+  return p.interactions.filter((it) => it.type !== 'transmission').map((it) => {
+    if (it.type === 'reflection') return { type: 'reflection', index: wallIndex(it) };
+    const w = it.object.kind === 'edge' ? index.get(sceneObjectLabel(it.object)) : undefined;
+    if (w === undefined) throw new RangeError(`retracePaths(): the scene has no diffracting edge ${JSON.stringify(it.object)}`);
+    return { type: 'diffraction', index: w };
+  });
 }

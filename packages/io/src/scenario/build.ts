@@ -388,7 +388,7 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
     }
     if (timeline.ids.length === 0) {
       const who = plan.multiUser ? `receivers[${users.length}]` : 'receiver';
-      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
+      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers, maxReflectionOrder and diffraction)` }]);
     }
     const delayShiftS = g.domain === 'taps' && g.alignFirstPath ? alignmentShiftS(delays, g.sampleRateHz) : 0;
     const spec: ChannelSpec = {

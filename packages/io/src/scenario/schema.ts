@@ -147,6 +147,8 @@ const sceneDefinition = z.strictObject({
         vertices: z.array(z.array(coordinate).min(2).max(3)).min(2),
         material: materialSchema.optional(),
         reflectionLossDb: nonNegative.optional(),
+        /** Thickness in metres: the wall transmits as an ITU-R P.2040 slab of its material (off: opaque). */
+        thicknessM: positive.optional(),
       }),
     )
     .optional(),
@@ -163,6 +165,8 @@ const sceneDefinition = z.strictObject({
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
+  /** Edge diffraction (UTD) at the walls' wedges, single and with one reflection; off by default. */
+  diffraction: z.boolean().optional(),
   /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
   atmosphere: z
     .strictObject({
@@ -369,6 +373,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.walls.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
   'scene.walls.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
   'scene.walls.reflectionLossDb': d('A fixed reflection loss replacing the Fresnel coefficient.', 'dB'),
+  'scene.walls.thicknessM': d('Thickness of the wall as a slab (ITU-R P.2040): given, waves pass through it; absent, the wall is opaque.', 'm'),
   'scene.scatterers': d('Point scatterers (single bounce, bistatic radar equation).'),
   'scene.scatterers.position': d('Position of the scatterer.', 'm'),
   'scene.scatterers.rcsM2': d('Radar cross-section sigma.', 'm^2'),
@@ -380,6 +385,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.blockers.base': d('Centre of a cylinder\'s base.', 'm'),
   'scene.blockers.radiusM': d('Radius of a cylinder.', 'm'),
   'scene.blockers.heightM': d('Height of a cylinder.', 'm'),
+  'scene.diffraction': d('Trace edge-diffracted paths (uniform theory of diffraction) around the wedges of the walls.', undefined, false),
   'scene.maxReflectionOrder': d(`Highest number of wall reflections per path, 0 to ${MAX_REFLECTION_ORDER}.`, '1', DEFAULT_REFLECTION_ORDER),
   'scene.maxPaths': d('Keep at most this many paths (strongest first); absent: no limit.', '1'),
   'scene.dynamicRangeDb': d('Drop paths more than this far below the strongest; absent: no limit.', 'dB'),
