@@ -44,6 +44,8 @@ export class Bvh {
   readonly boxes: Float64Array;
   private readonly stack: Int32Array;
   private readonly stackT: Float64Array;
+  private planeScratch = new Float64Array(7 * 16);
+  private pick = new Int32Array(3 * 16);
 
   /** Build over `boxes` (6 values per primitive, see the module comment). */
   constructor(boxes: Float64Array) {
@@ -200,8 +202,9 @@ export class Bvh {
   }
 
   /**
-   * Write into `out` (from slot 0) every primitive whose box is not wholly outside one of the
-   * `planeCount` half-spaces n . x >= d (planes as [nx, ny, nz, d], unit normals) by more than
+   * Write into `out` (from slot `offset`, default 0) every primitive whose box is not wholly outside one of the
+   * `planeCount` half-spaces n . x >= d (planes as [nx, ny, nz, d], unit normals, from plane
+   * `planeStart`, default 0) by more than
    * `margin` metres; returns the count. A superset of the primitives meeting the intersection
    * of the half-spaces (a beam or frustum), in the tree's order.
    * @example
@@ -209,28 +212,48 @@ export class Bvh {
    * const out = new Int32Array(2);
    * bvh.collectInHalfSpaces(Float64Array.of(1, 0, 0, 3), 1, 0, out) // 1 (out[0] = 1): only the second cube has x >= 3
    */
-  collectInHalfSpaces(planes: Float64Array, planeCount: number, margin: number, out: Int32Array): number {
+  collectInHalfSpaces(planes: Float64Array, planeCount: number, margin: number, out: Int32Array, offset = 0, planeStart = 0): number {
     if (this.size === 0) return 0;
-    const b = this.nodeBounds, first = this.nodeFirst, count = this.nodeCount, order = this.order, stack = this.stack;
-    let top = 0, found = 0;
+    // Per plane, once: which bound of each axis is the far corner along n (a zero component reads
+    // the lower bound with weight 0, and an infinite bound there is replaced by 0 via `use`).
+    if (this.planeScratch.length < 7 * planeCount) { this.planeScratch = new Float64Array(7 * planeCount); this.pick = new Int32Array(3 * planeCount); }
+    const P = this.planeScratch, pick = this.pick;
+    for (let q = 0; q < planeCount; q++) {
+      const src = 4 * (planeStart + q);
+      const nx = planes[src]!, ny = planes[src + 1]!, nz = planes[src + 2]!;
+      P[7 * q] = nx; P[7 * q + 1] = ny; P[7 * q + 2] = nz; P[7 * q + 3] = planes[src + 3]! - margin;
+      P[7 * q + 4] = nx === 0 ? 0 : 1; P[7 * q + 5] = ny === 0 ? 0 : 1; P[7 * q + 6] = nz === 0 ? 0 : 1;
+      pick[3 * q] = nx > 0 ? 3 : 0; pick[3 * q + 1] = ny > 0 ? 4 : 1; pick[3 * q + 2] = nz > 0 ? 5 : 2;
+    }
+    const b = this.nodeBounds, first = this.nodeFirst, count = this.nodeCount, order = this.order, stack = this.stack, boxes = this.boxes;
+    let top = 0, found = offset;
     stack[top++] = 0;
     while (top > 0) {
       const n = stack[--top]!;
-      if (boxOutsideSomePlane(b, 6 * n, planes, planeCount, margin)) continue;
+      if (outsidePicked(b, 6 * n, P, pick, planeCount)) continue;
       const f = first[n]!;
       if (f >= 0) {
-        const boxes = this.boxes;
         for (let i = f, e = f + count[n]!; i < e; i++) {
           const p = order[i]!;
-          if (!boxOutsideSomePlane(boxes, 6 * p, planes, planeCount, margin)) out[found++] = p;
+          if (!outsidePicked(boxes, 6 * p, P, pick, planeCount)) out[found++] = p;
         }
       } else {
         stack[top++] = count[n]!;
         stack[top++] = n + 1;
       }
     }
-    return found;
+    return found - offset;
   }
+}
+
+/** True when the box at offset o lies wholly outside one of the prepared planes (see collectInHalfSpaces). */
+function outsidePicked(b: Float64Array, o: number, P: Float64Array, pick: Int32Array, planeCount: number): boolean {
+  for (let q = 0, r = 0, t = 0; q < planeCount; q++, r += 7, t += 3) {
+    const x = b[o + pick[t]!]!, y = b[o + pick[t + 1]!]!, z = b[o + pick[t + 2]!]!;
+    const best = (P[r + 4] === 0 ? 0 : P[r]! * x) + (P[r + 5] === 0 ? 0 : P[r + 1]! * y) + (P[r + 6] === 0 ? 0 : P[r + 2]! * z);
+    if (best < P[r + 3]!) return true;
+  }
+  return false;
 }
 
 /** Partial sort of order[start, end) so that order[nth] has the nth centre on `axis` (quickselect). */
@@ -299,17 +322,4 @@ function boxEntry(b: Float64Array, o: number, ox: number, oy: number, oz: number
     if (t0 > t1) return Infinity;
   }
   return t0;
-}
-
-/** True when the box at offset o lies wholly on the outer side (n . x < d - margin) of one plane. */
-function boxOutsideSomePlane(b: Float64Array, o: number, planes: Float64Array, planeCount: number, margin: number): boolean {
-  for (let q = 0; q < planeCount; q++) {
-    const nx = planes[4 * q]!, ny = planes[4 * q + 1]!, nz = planes[4 * q + 2]!;
-    // the box corner farthest along n (terms of a zero component dropped: bounds may be infinite)
-    const best = (nx > 0 ? nx * b[o + 3]! : nx < 0 ? nx * b[o]! : 0)
-      + (ny > 0 ? ny * b[o + 4]! : ny < 0 ? ny * b[o + 1]! : 0)
-      + (nz > 0 ? nz * b[o + 5]! : nz < 0 ? nz * b[o + 2]! : 0);
-    if (best < planes[4 * q + 3]! - margin) return true;
-  }
-  return false;
 }

@@ -10,6 +10,7 @@ export * from './knife-edge.js';
 export * from './atmosphere.js';
 export * from './p676.js';
 export * from './bvh.js';
+export * from './occlusion.js';
 export * from './scene.js';
 export * from './blockage.js';
 export * from './tracer.js';

@@ -439,6 +439,10 @@ export class PreparedScene {
   readonly vertexStart: Int32Array;
   /** Bounding volume hierarchy over the walls' boxes (see bvh.ts). */
   readonly bvh: Bvh;
+  /** 3-D: 1 per wall whose polygon is convex (every triangle), else 0; 2-D: all 1. */
+  readonly convex: Uint8Array;
+  /** Most vertices of one wall. */
+  readonly maxWallVertices: number;
   /** Padding of the boxes in metres: 1e-8 times max(1, largest coordinate), so rounding never loses a hit. */
   readonly padM: number;
   private readonly surfaceCache = new Map<number, ResolvedSurface[]>();
@@ -498,6 +502,21 @@ export class PreparedScene {
     });
     this.padM = 1e-8 * maxAbs;
     this.bvh = new Bvh(boxes);
+    this.convex = new Uint8Array(W).fill(1);
+    let maxV = 0;
+    for (let w = 0; w < W; w++) {
+      const s = this.polygonStart[w]!, e = this.polygonStart[w + 1]!, n = e - s, poly = this.polygons;
+      maxV = Math.max(maxV, walls[w]!.vertices.length);
+      if (is2D) continue;
+      let pos = 0, neg = 0;
+      for (let i = 0; i < n; i++) {
+        const a = s + i, b = s + ((i + 1) % n), c = s + ((i + 2) % n);
+        const cr = (poly[2 * b]! - poly[2 * a]!) * (poly[2 * c + 1]! - poly[2 * b + 1]!) - (poly[2 * b + 1]! - poly[2 * a + 1]!) * (poly[2 * c]! - poly[2 * b]!);
+        if (cr > 0) pos++; else if (cr < 0) neg++;
+      }
+      this.convex[w] = pos === 0 || neg === 0 ? 1 : 0;
+    }
+    this.maxWallVertices = maxV;
     const blockers = scene.blockers ?? [];
     this.blockerSpheres = new Float64Array(4 * blockers.length);
     this.blockerPoints = blockers.map((b, i) => {
