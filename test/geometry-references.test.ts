@@ -5,11 +5,11 @@
  * ITU-R P.526 knife-edge loss for a blocker edge placed at a known height.
  */
 import { describe, expect, it } from 'vitest';
-import { SPEED_OF_LIGHT, rotationFromOrientation, traceScene, type Scene, type TraceTerminal, type Vec3 } from '@pathweave/geometry';
+import { SPEED_OF_LIGHT, rotationFromOrientation, traceScene, type Scene, type TerminalState, type Vec3 } from '@pathweave/geometry';
 import { hasPython, pythonJson } from './support/python.js';
 
 const py = hasPython('numpy');
-const term = (position: Vec3, extra: Partial<TraceTerminal> = {}): TraceTerminal => ({ position, ...extra });
+const term = (position: Vec3, extra: Partial<TerminalState> = {}): TerminalState => ({ position, ...extra });
 
 // Two-ray model (Rappaport, Wireless Communications, 2nd ed., section 4.6 (M); Goldsmith,
 // Wireless Communications, section 2.4 (M)): E = lambda/(4 pi) [exp(-j k d1)/d1 + Gamma exp(-j k d2)/d2],
@@ -45,8 +45,8 @@ describe.skipIf(!py)('two-ray ground reflection against the closed form (numpy)'
   );
   const ground: Scene = { walls: [{ vertices: [[-100, -100, 0], [200, -100, 0], [200, 100, 0], [-100, 100, 0]], material: 'concrete' }] };
   // receiver faces the transmitter (yaw 180), both boresights horizontal
-  const tx = (pol: 'vertical' | 'horizontal'): TraceTerminal => term([0, 0, h1], { polarization: pol });
-  const rx = (pol: 'vertical' | 'horizontal'): TraceTerminal => term([D, 0, h2], { polarization: pol, rotation: rotationFromOrientation({ yawDeg: 180 }) });
+  const tx = (pol: 'vertical' | 'horizontal'): TerminalState => term([0, 0, h1], { polarization: pol });
+  const rx = (pol: 'vertical' | 'horizontal'): TerminalState => term([D, 0, h2], { polarization: pol, rotation: rotationFromOrientation({ yawDeg: 180 }) });
 
   it('gives the reflected delay, angles and specular point', () => {
     const g = traceScene(ground, tx('vertical'), rx('vertical'), f).paths.find((p) => p.id === 'R:walls[0]')!;

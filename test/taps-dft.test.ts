@@ -5,7 +5,7 @@
  */
 import FFT from 'fft.js';
 import { describe, expect, it } from 'vitest';
-import { ChannelGenerator, type ChannelPath, type ChannelSpec } from '@pathweave/core';
+import { ChannelGenerator, type ExplicitPathSpec, type ChannelSpec } from '@pathweave/core';
 import { AntennaArray, unitFromDeg } from '@pathweave/geometry';
 
 describe('H equals the DFT of h (fft.js reference)', () => {
@@ -14,7 +14,7 @@ describe('H equals the DFT of h (fft.js reference)', () => {
   const fs = K * df;
   const tx = AntennaArray.ula(4, 0.0054, { yawDeg: 10 });
   const rx = AntennaArray.upa(2, 2, 0.0054, { yawDeg: 200 });
-  const paths: ChannelPath[] = [
+  const paths: ExplicitPathSpec[] = [
     { id: 'a', delayS: 3 / fs, power: 1e-9, phaseRad: 0.4, departure: unitFromDeg(12, -4), arrival: unitFromDeg(-170, 4) },
     { id: 'b', delayS: 11 / fs, power: 3e-10, phaseRad: -2.0, departure: unitFromDeg(40, -2), arrival: unitFromDeg(150, 1) },
     { id: 'c', delayS: 26 / fs, power: 5e-11, phaseRad: 2.9, departure: unitFromDeg(-25, -8), arrival: unitFromDeg(100, 6) },

@@ -28,7 +28,7 @@ import type { Motion } from './motion.js';
 import { identityTransfers, isPolarimetricSource, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
 import { pulseFunction, type PulseShape } from './pulse.js';
 import { RandomStream } from './random.js';
-import { arrayAt, ExplicitTimeline, PathFrame, type ExplicitPath, type PathTimeline } from './timeline.js';
+import { arrayAt, ExplicitTimeline, PathSetFrame, type ExplicitPathSpec, type PathTimeline } from './timeline.js';
 
 
 /**
@@ -59,12 +59,6 @@ export interface Terminal {
   /** Polarisation of a single-port element when ports are in use (default vertical). */
   polarization?: Polarization | undefined;
 }
-
-/**
- * One explicit propagation path (the assembler's form of design.md's `paths`).
- * @example const los: ChannelPath = { id: 'los', delayS: 50e-9, power: 1e-8, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] };
- */
-export type ChannelPath = ExplicitPath;
 
 /**
  * The output grid: frequency domain or tap-delay.
@@ -121,7 +115,7 @@ export interface ChannelSpec {
   transmitter: Terminal;
   receiver: Terminal;
   /** Explicit paths (used when no timeline is given). */
-  paths?: ChannelPath[];
+  paths?: ExplicitPathSpec[];
   /** Where the paths come from over time (explicit or traced). */
   timeline?: PathTimeline;
   fading: FadingSpec;
@@ -210,7 +204,7 @@ export class ChannelGenerator {
   private readonly products: Float64Array; // [L, Nr Nt] complex (no squint)
   private readonly kernel: Float64Array; // [bins, L] complex delay kernel
   private readonly squint: { rx: Float64Array; tx: Float64Array } | undefined; // [bins, L, N] complex
-  private readonly frame: PathFrame;
+  private readonly frame: PathSetFrame;
   private readonly unitGains: Float64Array;
   private readonly rho: Float64Array;
   private readonly weights: Float64Array;
@@ -271,7 +265,7 @@ export class ChannelGenerator {
     }
     this.kernel = new Float64Array(2 * this.bins * L);
     this.products = new Float64Array(this.squint === undefined ? 2 * L * this.elementPairs : 0);
-    this.frame = new PathFrame(L);
+    this.frame = new PathSetFrame(L);
     this.unitGains = new Float64Array(2 * L);
     this.rho = new Float64Array(2 * L);
     this.weights = new Float64Array(2 * this.bins * L);
@@ -371,7 +365,7 @@ export class ChannelGenerator {
   }
 
   /** The path frame (delays, directions, amplitudes, visibility) at step `step` (a view reused by the next call). */
-  frameAtStep(step: number): PathFrame {
+  frameAtStep(step: number): PathSetFrame {
     this.timeline.frameAt(this.clock.timeS(step), this.frame);
     this.preparedAt = -1;
     return this.frame;

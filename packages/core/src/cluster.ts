@@ -23,7 +23,7 @@
 import { degFromVector, unitFromDeg, type Vec3 } from '@pathweave/geometry';
 import { isPolarimetricSource, type PolarimetricSource } from './polarization-ports.js';
 import { RandomStream } from './random.js';
-import { PathFrame, type PathTimeline } from './timeline.js';
+import { PathSetFrame, type PathTimeline } from './timeline.js';
 
 /**
  * How sub-path offsets are drawn (see the module comment).
@@ -154,7 +154,7 @@ function drawCluster(spread: ClusterSpread, stream: RandomStream): { offsets: Fl
  * A timeline whose paths are widened into clusters of sub-paths (module comment). Paths with no
  * spread (undefined) pass through unchanged, with their own ids.
  * @example
- * const p: ExplicitPath = { id: 'p', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] };
+ * const p: ExplicitPathSpec = { id: 'p', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] };
  * const t = new ClusteredTimeline(new ExplicitTimeline([p]), [clusterPreset('umi-los')], 1);
  * [t.ids.length, t.ids[3]] // [20, 'p#3']: the preset's 20 sub-paths
  */
@@ -171,7 +171,7 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
   private readonly phaseCos: Float64Array;
   private readonly phaseSin: Float64Array;
   private readonly scale: Float64Array;
-  private readonly innerFrame: PathFrame;
+  private readonly innerFrame: PathSetFrame;
   private readonly innerTransfers: Float64Array;
   private readonly direction: Vec3 = [0, 0, 0];
 
@@ -223,11 +223,11 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
     this.phaseSin = Float64Array.from(phases, Math.sin);
     this.scale = Float64Array.from(scales);
     this.constant = inner.constant;
-    this.innerFrame = new PathFrame(inner.ids.length);
+    this.innerFrame = new PathSetFrame(inner.ids.length);
     this.innerTransfers = new Float64Array(8 * inner.ids.length);
   }
 
-  frameAt(timeS: number, frame: PathFrame): void {
+  frameAt(timeS: number, frame: PathSetFrame): void {
     const f = this.innerFrame;
     this.inner.frameAt(timeS, f);
     const off = this.offsets;

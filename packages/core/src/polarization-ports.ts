@@ -13,7 +13,7 @@
  */
 import { directionBasis, terminalFieldVector, type Mat3, type Vec3 } from '@pathweave/geometry';
 import type { RandomStream } from './random.js';
-import { PathFrame, TracedTimeline, type PathTimeline } from './timeline.js';
+import { PathSetFrame, TracedTimeline, type PathTimeline } from './timeline.js';
 
 /**
  * A timeline that also knows each path's polarimetric transfer.
@@ -128,7 +128,7 @@ export function portCoupling(out: Float64Array, rxFields: Float64Array, transfer
  * [timeline.ids, t] // [['los'], Float64Array [1, 0, 0, 0, 0, 0, -1, 0]]: the direct path's transfer
  */
 export class PolarimetricTracedTimeline extends TracedTimeline implements PolarimetricSource {
-  override frameAt(timeS: number, frame: PathFrame): void {
+  override frameAt(timeS: number, frame: PathSetFrame): void {
     super.frameAt(timeS, frame);
     const a = frame.amplitude;
     this.ids.forEach((id, l) => {

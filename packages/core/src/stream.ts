@@ -9,7 +9,7 @@
  * [symbols, K or count, Nr, Nt], complex interleaved.
  */
 import type { ChannelGenerator, TensorArray } from './channel.js';
-import type { PathFrame } from './timeline.js';
+import type { PathSetFrame } from './timeline.js';
 
 /**
  * One subframe of a stream.
@@ -34,7 +34,7 @@ export interface SubframeItem {
   /** Gains rho of the paths, [L] or [symbols, L] complex interleaved (reused buffer). */
   gains: Float64Array;
   /** Path parameters at the subframe's start (delays, directions, amplitudes; reused). */
-  paths: PathFrame;
+  paths: PathSetFrame;
 }
 
 /**

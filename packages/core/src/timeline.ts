@@ -24,11 +24,11 @@ import type { Motion } from './motion.js';
 /**
  * The L paths at one time.
  * @example
- * const frame = new PathFrame(1);
+ * const frame = new PathSetFrame(1);
  * new ExplicitTimeline([{ id: 'los', delayS: 33e-9, power: 0.25, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }]).frameAt(0, frame);
  * [frame.delayS, frame.amplitude] // [Float64Array [3.3e-8], Float64Array [0.5, 0]]: amplitude sqrt(0.25)
  */
-export class PathFrame {
+export class PathSetFrame {
   readonly delayS: Float64Array;
   readonly departure: Float64Array;
   readonly arrival: Float64Array;
@@ -65,14 +65,14 @@ export interface PathTimeline {
   /** True when no frame differs from the frame at t = 0. */
   readonly constant: boolean;
   /** Fill `frame` with the paths at time t (seconds). */
-  frameAt(timeS: number, frame: PathFrame): void;
+  frameAt(timeS: number, frame: PathSetFrame): void;
 }
 
 /**
  * One explicit path (design.md `paths`), in SI units.
- * @example const echo: ExplicitPath = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
+ * @example const echo: ExplicitPathSpec = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
  */
-export interface ExplicitPath {
+export interface ExplicitPathSpec {
   id: string;
   delayS: number;
   /** E|rho|^2, linear. */
@@ -93,12 +93,12 @@ export class ExplicitTimeline implements PathTimeline {
   readonly kinds: readonly string[];
   readonly constant = true;
 
-  constructor(readonly paths: readonly ExplicitPath[]) {
+  constructor(readonly paths: readonly ExplicitPathSpec[]) {
     this.ids = paths.map((p) => p.id);
     this.kinds = paths.map(() => 'explicit');
   }
 
-  frameAt(_timeS: number, frame: PathFrame): void {
+  frameAt(_timeS: number, frame: PathSetFrame): void {
     this.paths.forEach((p, l) => {
       frame.delayS[l] = p.delayS;
       frame.departure.set(p.departure, 3 * l);
@@ -116,9 +116,9 @@ export class ExplicitTimeline implements PathTimeline {
 
 /**
  * A terminal as the traced timeline sees it.
- * @example const ue: TracedTerminal = { motion: new Motion([10, 0, 1.5], [0, 1, 0]), polarization: 'horizontal' };
+ * @example const ue: MovingTerminal = { motion: new Motion([10, 0, 1.5], [0, 1, 0]), polarization: 'horizontal' };
  */
-export interface TracedTerminal {
+export interface MovingTerminal {
   motion: Motion;
   polarization?: Polarization | undefined;
   /** The array's own orientation (used when the motion does not turn). */
@@ -157,8 +157,8 @@ export class TracedTimeline implements PathTimeline {
    */
   constructor(
     scene: Scene,
-    private readonly tx: TracedTerminal,
-    private readonly rx: TracedTerminal,
+    private readonly tx: MovingTerminal,
+    private readonly rx: MovingTerminal,
     private readonly carrierHz: number,
     endS: number,
     private readonly updateS: number,
@@ -191,7 +191,7 @@ export class TracedTimeline implements PathTimeline {
     this.constant = !moving;
   }
 
-  private terminal(t: TracedTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
+  private terminal(t: MovingTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
     t.motion.positionAt(timeS, position);
     t.motion.velocityAt(timeS, velocity);
     const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
@@ -206,7 +206,7 @@ export class TracedTimeline implements PathTimeline {
     return { e, f };
   }
 
-  frameAt(timeS: number, frame: PathFrame): void {
+  frameAt(timeS: number, frame: PathSetFrame): void {
     frame.amplitude.fill(0);
     frame.visibility.fill(0);
     frame.lineOfSight = false;

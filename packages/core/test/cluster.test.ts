@@ -9,15 +9,15 @@ import {
   ClusteredTimeline,
   clusterPreset,
   ExplicitTimeline,
-  PathFrame,
+  PathSetFrame,
   RAY_OFFSETS_38901,
   type ClusterSpread,
-  type ExplicitPath,
+  type ExplicitPathSpec,
 } from '@pathweave/core';
 import { degFromVector, unitFromDeg } from '@pathweave/geometry';
 
 const DEG = Math.PI / 180;
-const path = (id: string, azDep: number, power: number): ExplicitPath => ({ id, delayS: 1e-7, power, phaseRad: 0.3, departure: unitFromDeg(azDep, 0), arrival: unitFromDeg(azDep + 180, 0) });
+const path = (id: string, azDep: number, power: number): ExplicitPathSpec => ({ id, delayS: 1e-7, power, phaseRad: 0.3, departure: unitFromDeg(azDep, 0), arrival: unitFromDeg(azDep + 180, 0) });
 const spread = (over: Partial<ClusterSpread>): ClusterSpread => ({
   subPaths: 20,
   method: 'gaussian',
@@ -29,14 +29,14 @@ const spread = (over: Partial<ClusterSpread>): ClusterSpread => ({
   ...over,
 });
 
-function frameOf(t: ClusteredTimeline): PathFrame {
-  const f = new PathFrame(t.ids.length);
+function frameOf(t: ClusteredTimeline): PathSetFrame {
+  const f = new PathSetFrame(t.ids.length);
   t.frameAt(0, f);
   return f;
 }
 
 /** Azimuth offsets (radians) of the sub-paths' arrivals from their path's, unwrapped. */
-function arrivalAzimuthOffsets(f: PathFrame, from: number, count: number, parentAzDeg: number): Float64Array {
+function arrivalAzimuthOffsets(f: PathSetFrame, from: number, count: number, parentAzDeg: number): Float64Array {
   const out = new Float64Array(count);
   for (let k = 0; k < count; k++) {
     const i = from + k;

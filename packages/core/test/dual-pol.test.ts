@@ -13,7 +13,7 @@ import {
   TracedTimeline,
   xprTransfer,
   type ChannelSpec,
-  type ExplicitPath,
+  type ExplicitPathSpec,
 } from '@pathweave/core';
 import { AntennaArray, dualPolarizedPortVectors, unitFromDeg, wavelength, type Scene } from '@pathweave/geometry';
 
@@ -69,7 +69,7 @@ describe('polarised ports', () => {
   });
 
   it('orders ports element-major (port = 2 element + p) and couples V to V and H to H on a horizontal explicit path', () => {
-    const path: ExplicitPath = { id: 'p', delayS: 1e-7, power: 1, phaseRad: 0, departure: unitFromDeg(0, 0), arrival: unitFromDeg(180, 0) };
+    const path: ExplicitPathSpec = { id: 'p', delayS: 1e-7, power: 1, phaseRad: 0, departure: unitFromDeg(0, 0), arrival: unitFromDeg(180, 0) };
     const g = new ChannelGenerator({
       carrierHz: fc,
       subframeS: 1e-3,
@@ -112,7 +112,7 @@ describe('polarised ports', () => {
     // sqrt(2/R); with R = 800 that is 5 %, and the 4-sigma tolerance is 20 % (0.8 dB).
     const xprDb = 8;
     const R = 800;
-    const paths: ExplicitPath[] = Array.from({ length: 40 }, (_, l) => ({ id: `p${l}`, delayS: l * 1e-8, power: 1 / 40, phaseRad: 0, departure: unitFromDeg(-60 + 3 * l, 0), arrival: unitFromDeg(120 - 3 * l, 0) }));
+    const paths: ExplicitPathSpec[] = Array.from({ length: 40 }, (_, l) => ({ id: `p${l}`, delayS: l * 1e-8, power: 1 / 40, phaseRad: 0, departure: unitFromDeg(-60 + 3 * l, 0), arrival: unitFromDeg(120 - 3 * l, 0) }));
     const timeline = new ExplicitTimeline(paths);
     let co = 0, cross = 0;
     for (let r = 0; r < R; r++) {

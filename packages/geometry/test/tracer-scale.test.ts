@@ -103,7 +103,7 @@ describe('pruned image method equals the exhaustive one', () => {
     const ps = prepareScene({ walls: room.scene.walls, maxReflectionOrder: 2 });
     const want = exhaustive(ps, [2, 5, 2.5], [17, 7, 1.5], 2);
     expect(pruned(ps, [2, 5, 2.5], [17, 7, 1.5], 2)).toEqual(want);
-    const ids = traceScene(ps, { position: [2, 5, 2.5] }, { position: [17, 7, 1.5] }, 28e9).paths.filter((p) => p.kind === 'reflection').map((p) => p.interactions.map((i) => Number(i.object.slice(6, -1))));
+    const ids = traceScene(ps, { position: [2, 5, 2.5] }, { position: [17, 7, 1.5] }, 28e9).paths.filter((p) => p.kind === 'reflection').map((p) => p.interactions.map((i) => i.object.index));
     expect(ids.map((s) => JSON.stringify(s)).sort()).toEqual(want.map((s) => JSON.stringify(JSON.parse(s)[0])).sort());
   });
 });

@@ -1,12 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import {
-  prepareScene, retracePaths, rotationFromOrientation, traceScene, SPEED_OF_LIGHT,
-  type Scene, type TraceTerminal, type TracedPath, type Vec3, type Wall,
+  interactionLabel, pathIdOf, prepareScene, retracePaths, rotationFromOrientation, sceneObjectLabel, traceScene, SPEED_OF_LIGHT,
+  type Scene, type TerminalState, type TracedPath, type Vec3, type Wall,
 } from '../src/index.js';
 
 const FC = 28e9;
 const LAMBDA = SPEED_OF_LIGHT / FC;
-const term = (position: Vec3, extra: Partial<TraceTerminal> = {}): TraceTerminal => ({ position, ...extra });
+const term = (position: Vec3, extra: Partial<TerminalState> = {}): TerminalState => ({ position, ...extra });
 const relClose = (a: number, b: number, tol: number): boolean => Math.abs(a - b) <= tol * Math.max(Math.abs(a), Math.abs(b), 1e-300);
 
 /** A 2-D rectangular room [0, lx] x [0, ly]: walls x=0, x=lx, y=0, y=ly. */
@@ -90,7 +90,8 @@ describe('image method in a rectangular room', () => {
     expect(byId.get('R:walls[2]>R:walls[0]>R:walls[3]')!.lengthM).toBeCloseTo(Math.hypot(20, -1 - 2.2, 7.6 - 1.2), 10);
     // every reflection point lies on its wall
     for (const p of paths) for (const it of p.interactions) {
-      const wi = Number(/\d+/.exec(it.object)![0]);
+      expect(it.object.kind).toBe('wall');
+      const wi = it.object.index;
       const coord = wi < 2 ? it.point[1] : it.point[2];
       expect(coord).toBeCloseTo([0, w, 0, h][wi]!, 9);
     }
@@ -186,7 +187,7 @@ describe('reciprocity', () => {
 
 describe('path fields', () => {
   it('gives the LOS polarimetric matrix [[1, 0], [0, -1]], cross-polar nulls and slant factors', () => {
-    const los = (pt: TraceTerminal['polarization'], pr: TraceTerminal['polarization']): TracedPath =>
+    const los = (pt: TerminalState['polarization'], pr: TerminalState['polarization']): TracedPath =>
       traceScene({}, term([0, 0, 0], { polarization: pt }), term([10, 0, 0], { polarization: pr }), FC, { keepNullPaths: true }).paths[0]!;
     const p = los('vertical', 'vertical');
     expect(p.polarimetric).toEqual([[[1, 0], [0, 0]], [[0, 0], [-1, 0]]]);
@@ -294,5 +295,45 @@ describe('retracePaths', () => {
     }
   });
 });
+
+describe('interaction records', () => {
+  // Path ids and labels follow the naming of docs/conventions.md ("Path ids"): the scene's list
+  // and index, R for a reflection, S for scattering, ">" between interactions in order from Tx.
+  it('stores the kind and index of each object and renders ids from them', () => {
+    const s = room2d(7, 4, { maxReflectionOrder: 2, scatterers: [{ position: [3, 2], rcsM2: 1 }, { position: [6, 1], rcsM2: 0.5 }] });
+    const { paths } = traceScene(s, term([1, 1, 0]), term([5, 3, 0]), FC);
+    const kinds = new Set(paths.map((p) => p.kind));
+    expect([...kinds].sort()).toEqual(['los', 'reflection', 'scatter']);
+    for (const p of paths) {
+      expect(p.id).toBe(pathIdOf(p.interactions));
+      for (const it of p.interactions) {
+        expect(it.object.kind).toBe(it.type === 'reflection' ? 'wall' : 'scatterer');
+        expect(Number.isInteger(it.object.index)).toBe(true);
+      }
+    }
+    const second = paths.find((p) => p.interactions.length === 2)!;
+    expect(second.id).toBe(`R:walls[${second.interactions[0]!.object.index}]>R:walls[${second.interactions[1]!.object.index}]`);
+    const scatter = paths.filter((p) => p.kind === 'scatter').map((p) => [p.id, p.interactions[0]!.object]);
+    expect(scatter.sort()).toEqual([['S:scatterers[0]', { kind: 'scatterer', index: 0 }], ['S:scatterers[1]', { kind: 'scatterer', index: 1 }]]);
+  });
+
+  it('labels every kind of object and interaction', () => {
+    expect(sceneObjectLabel({ kind: 'wall', index: 12 })).toBe('walls[12]');
+    expect(sceneObjectLabel({ kind: 'scatterer', index: 0 })).toBe('scatterers[0]');
+    expect(sceneObjectLabel({ kind: 'blocker', index: 3 })).toBe('blockers[3]');
+    expect(interactionLabel({ type: 'scatter', object: { kind: 'scatterer', index: 4 } })).toBe('S:scatterers[4]');
+    expect(pathIdOf([])).toBe('los');
+  });
+
+  it('refuses to retrace a reflection whose interaction names no wall', () => {
+    const ps = prepareScene({ walls: [{ vertices: [[0, 5], [20, 5]] }], lineOfSight: false });
+    const [r] = traceScene(ps, term([0, 0, 0]), term([10, 0, 0]), FC).paths;
+    const bad: TracedPath = { ...r!, interactions: [{ ...r!.interactions[0]!, object: { kind: 'scatterer', index: 0 } }] };
+    expect(() => retracePaths(ps, [bad], term([0, 0, 0]), term([10, 0, 0]), FC)).toThrow(
+      new RangeError('retracePaths(): interaction object must be a wall, got {"kind":"scatterer","index":0}'),
+    );
+  });
+});
+
 // Speed is measured in bench/tracer-scale.mjs (no timed unit tests); the 20-wall room's paths
 // against the exhaustive search are checked in tracer-scale.test.ts.

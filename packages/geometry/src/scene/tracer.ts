@@ -35,9 +35,9 @@ import { PreparedScene, prepareScene, type Scene, type SceneProblem } from './sc
 
 /**
  * A terminal for the tracer: position (m), velocity (m/s), array rotation (local to global), polarisation.
- * @example const ue: TraceTerminal = { position: [20, 3, 1.5], velocity: [0, 1.4, 0], rotation: rotationFromOrientation({ yawDeg: 180 }) };
+ * @example const ue: TerminalState = { position: [20, 3, 1.5], velocity: [0, 1.4, 0], rotation: rotationFromOrientation({ yawDeg: 180 }) };
  */
-export interface TraceTerminal {
+export interface TerminalState {
   position: Readonly<Vec3>;
   /** Default [0, 0, 0]. */
   velocity?: Readonly<Vec3>;
@@ -62,15 +62,26 @@ export interface TraceOptions {
 }
 
 /**
+ * The scene object an interaction happens at: which list of the scene, and the index in it.
+ * @example const third: SceneObjectRef = { kind: 'wall', index: 3 }; // scene.walls[3]
+ */
+export interface SceneObjectRef {
+  /** "wall" (scene.walls), "scatterer" (scene.scatterers) or "blocker" (scene.blockers). */
+  kind: 'wall' | 'scatterer' | 'blocker';
+  /** Index into that list, from 0. */
+  index: number;
+}
+
+/**
  * One interaction of a path, in order from the transmitter.
  * @example
  * const wall = { vertices: [[0, 5], [20, 5]] };
- * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: 'walls[0]', point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
+ * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: { kind: 'wall', index: 0 }, point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
  */
 export interface PathInteraction {
   type: 'reflection' | 'scatter';
-  /** "walls[3]" or "scatterers[2]": index into the scene's lists. */
-  object: string;
+  /** The wall (reflections) or scatterer (scattering), by its index in the scene's list. */
+  object: SceneObjectRef;
   /** Where it happens, metres (global). */
   point: Vec3;
   /** Reflections: angle of incidence from the wall's normal, degrees. */
@@ -92,7 +103,7 @@ export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
  */
 export interface TracedPath {
-  /** Stable id from the interaction list: "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
+  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
   id: string;
   kind: 'los' | 'reflection' | 'scatter';
   interactions: PathInteraction[];
@@ -144,13 +155,42 @@ export interface TraceResult {
 
 const ZERO: Readonly<Vec3> = [0, 0, 0];
 
+// The text forms below are what users see (path ids, `paths --json`, path tables): they are
+// rendered from the structured records and never parsed back.
+const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers' };
+const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S' };
+
+/**
+ * The scene object as the scene file names it: its list and index.
+ * @example sceneObjectLabel({ kind: 'scatterer', index: 2 }) // 'scatterers[2]'
+ */
+export function sceneObjectLabel(ref: Readonly<SceneObjectRef>): string {
+  return `${LIST_NAME[ref.kind]}[${ref.index}]`;
+}
+
+/**
+ * One interaction as it appears in a path id and a path table: R (reflection) or S (scattering), a colon, the object.
+ * @example interactionLabel({ type: 'reflection', object: { kind: 'wall', index: 3 } }) // 'R:walls[3]'
+ */
+export function interactionLabel(interaction: Readonly<Pick<PathInteraction, 'type' | 'object'>>): string {
+  return `${TYPE_LETTER[interaction.type]}:${sceneObjectLabel(interaction.object)}`;
+}
+
+/**
+ * The stable id of a path from its interactions: "los" for none, else the interaction labels joined by ">".
+ * @example pathIdOf([{ type: 'reflection', object: { kind: 'wall', index: 1 } }, { type: 'reflection', object: { kind: 'wall', index: 4 } }]) // 'R:walls[1]>R:walls[4]'
+ */
+export function pathIdOf(interactions: readonly Readonly<Pick<PathInteraction, 'type' | 'object'>>[]): string {
+  return interactions.length === 0 ? 'los' : interactions.map(interactionLabel).join('>');
+}
+
 /**
  * Trace a scene between two terminals at a carrier frequency (Hz).
  * Throws RangeError for an invalid scene or terminals (the messages of validateScene).
  * @example traceScene({ walls: [] }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0].powerDb
  * // -81.391 (free-space loss 81.391 dB at 28 GHz over 10 m)
  */
-export function traceScene(scene: Scene | PreparedScene, tx: TraceTerminal, rx: TraceTerminal, carrierHz: number, options: TraceOptions = {}): TraceResult {
+export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: TerminalState, carrierHz: number, options: TraceOptions = {}): TraceResult {
   if (!Number.isFinite(carrierHz) || carrierHz <= 0) throw new RangeError(`traceScene(): carrierHz must be a finite number > 0, got ${carrierHz}`);
   const ps = scene instanceof PreparedScene ? scene : prepareScene(scene);
   const errors = ps.terminalProblems(tx.position, rx.position);
@@ -183,11 +223,11 @@ export function traceScene(scene: Scene | PreparedScene, tx: TraceTerminal, rx: 
  * are found from the images of the new transmitter position through the same walls (without the
  * validity tests). Paths keep their order and ids (no re-sorting or pruning).
  * @example
- * const ps = prepareScene({ walls: [{ vertices: [[0, 5], [20, 5]] }] }), tx: TraceTerminal = { position: [0, 0, 0] };
+ * const ps = prepareScene({ walls: [{ vertices: [[0, 5], [20, 5]] }] }), tx: TerminalState = { position: [0, 0, 0] };
  * const { paths } = traceScene(ps, tx, { position: [10, 0, 0] }, 28e9); // 'los' 10 m, 'R:walls[0]' 14.142 m
  * retracePaths(ps, paths, tx, { position: [10.1, 0, 0] }, 28e9).map((p) => p.lengthM) // [10.1, 14.213]
  */
-export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx: TraceTerminal, rx: TraceTerminal, carrierHz: number, options: TraceOptions = {}): TracedPath[] {
+export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx: TerminalState, rx: TerminalState, carrierHz: number, options: TraceOptions = {}): TracedPath[] {
   if (!Number.isFinite(carrierHz) || carrierHz <= 0) throw new RangeError(`retracePaths(): carrierHz must be a finite number > 0, got ${carrierHz}`);
   const settings = resolveOptions(ps, options);
   const ctx = new TraceContext(ps, tx, rx, carrierHz, settings.gas);
@@ -452,8 +492,8 @@ class TraceContext {
 
   constructor(
     private readonly ps: PreparedScene,
-    private readonly tx: TraceTerminal,
-    private readonly rx: TraceTerminal,
+    private readonly tx: TerminalState,
+    private readonly rx: TerminalState,
     private readonly carrierHz: number,
     private readonly gas: number,
   ) {
@@ -487,11 +527,11 @@ class TraceContext {
         const c = surfaceCoefficients(surfaces[o]!.surface, cosT);
         reflectField(eT, eT, kIn, kOut, n, c);
         reflectField(eP, eP, kIn, kOut, n, c);
-        interactions.push({ type: 'reflection', object: `walls[${o}]`, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
+        interactions.push({ type: 'reflection', object: { kind: 'wall', index: o }, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
       } else {
         projectFieldPerpendicular(eT, eT, kOut);
         projectFieldPerpendicular(eP, eP, kOut);
-        interactions.push({ type: 'scatter', object: `scatterers[${o}]`, point: chain[k]! });
+        interactions.push({ type: 'scatter', object: { kind: 'scatterer', index: o }, point: chain[k]! });
       }
     }
     const arr = unit(chain[chain.length - 1]!, chain[chain.length - 2]!);
@@ -513,9 +553,8 @@ class TraceContext {
       const a = chain[k]!, b = chain[k + 1]!;
       blockageDb += segmentBlockageDb(ps, a[0], a[1], a[2], b[0], b[1], b[2], this.lambda);
     }
-    const id = kind === 'los' ? 'los' : kind === 'reflection' ? objects.map((w) => `R:walls[${w}]`).join('>') : `S:scatterers[${objects[0]}]`;
     const path: TracedPath = {
-      id, kind, interactions,
+      id: pathIdOf(interactions), kind, interactions,
       lengthM: 0, delayS: 0, departure: dep, arrival: arr, aodDeg: [0, 0], aoaDeg: [0, 0], aodLocalDeg: [0, 0], aoaLocalDeg: [0, 0],
       amplitude: [0, 0], powerDb: 0, phaseDeg: 0, dopplerHz: 0, virtualSource: [0, 0, 0], virtualSink: [0, 0, 0],
       blockageDb, polarizationFactor: F, polarimetric: T,
@@ -530,7 +569,7 @@ class TraceContext {
     const tx = vec(this.tx.position), rx = vec(this.rx.position);
     let points: Vec3[];
     if (p.kind === 'reflection') {
-      const walls = p.interactions.map((it) => wallIndex(it.object));
+      const walls = p.interactions.map(wallIndex);
       const images: Vec3[] = [tx];
       for (const w of walls) images.push(mirror(ps, w, images[images.length - 1]!));
       points = new Array<Vec3>(walls.length);
@@ -571,7 +610,7 @@ class TraceContext {
     p.dopplerHz = (v1[0] * p.departure[0] + v1[1] * p.departure[1] + v1[2] * p.departure[2] + v2[0] * p.arrival[0] + v2[1] * p.arrival[1] + v2[2] * p.arrival[2]) / this.lambda;
     let spreading: number;
     if (p.kind === 'scatter') {
-      const o = scattererIndex(p.interactions[0]!.object);
+      const o = objectIndex(p.interactions[0]!, 'scatterer');
       const rcs = ps.scene.scatterers![o]!.rcsM2;
       const d1 = dist(chain[0]!, chain[1]!), d2 = dist(chain[1]!, chain[2]!);
       spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * Math.sqrt(rcs / (4 * Math.PI));
@@ -579,7 +618,7 @@ class TraceContext {
       p.virtualSink = vec(chain[1]!);
     } else {
       spreading = this.lambda / (4 * Math.PI * length);
-      const walls = p.interactions.map((it) => wallIndex(it.object));
+      const walls = p.interactions.map(wallIndex);
       let src = vec(chain[0]!), sink = vec(chain[chain.length - 1]!);
       for (const w of walls) src = mirror(ps, w, src);
       for (let k = walls.length - 1; k >= 0; k--) sink = mirror(ps, walls[k]!, sink);
@@ -635,14 +674,11 @@ function mirror(ps: PreparedScene, w: number, p: Readonly<Vec3>): Vec3 {
   return [p[0] - 2 * f * pl[o]!, p[1] - 2 * f * pl[o + 1]!, p[2] - 2 * f * pl[o + 2]!];
 }
 
-function wallIndex(object: string): number {
-  const m = /^walls\[(\d+)\]$/.exec(object);
-  if (m === null) throw new RangeError(`retracePaths(): interaction object must be "walls[i]", got ${JSON.stringify(object)}`);
-  return Number(m[1]);
+function objectIndex(it: PathInteraction, kind: SceneObjectRef['kind']): number {
+  if (it.object.kind !== kind) throw new RangeError(`retracePaths(): interaction object must be a ${kind}, got ${JSON.stringify(it.object)}`);
+  return it.object.index;
 }
 
-function scattererIndex(object: string): number {
-  const m = /^scatterers\[(\d+)\]$/.exec(object);
-  if (m === null) throw new RangeError(`retracePaths(): interaction object must be "scatterers[i]", got ${JSON.stringify(object)}`);
-  return Number(m[1]);
+function wallIndex(it: PathInteraction): number {
+  return objectIndex(it, 'wall');
 }

@@ -1,6 +1,6 @@
 /** `pathweave paths`: the paths of a scenario as a table or as explicit-path JSON. */
 import { ClusteredTimeline, TracedTimeline } from '@pathweave/core';
-import { buildScenario, recordOfTraced } from '../scenario/build.js';
+import { buildScenario, summarizeTraced } from '../scenario/build.js';
 import { pathsJson, pathsTable } from '../scenario/paths.js';
 import { loadScenario } from '../scenario/validate.js';
 import { parseArgs, parseInteger, UsageError } from './args.js';
@@ -27,7 +27,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   const clustered = user.timeline instanceof ClusteredTimeline;
   const records =
     specular instanceof TracedTimeline
-      ? specular.pathsAt(at).map(recordOfTraced)
+      ? specular.pathsAt(at).map(summarizeTraced)
       : (user.specularPaths ?? user.paths);
   if (records.length === 0) {
     io.err(`no path exists at t = ${at} s between the transmitter and ${built.multiUser ? `user ${user.id}` : 'the receiver'}`);

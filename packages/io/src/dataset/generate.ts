@@ -14,6 +14,7 @@ import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, 
 import { degFromVector } from '@pathweave/geometry';
 import { writeFileAtomic } from '../formats/atomic.js';
 import { buildScenario, chooseDomain, outputEstimate, spacingOf, type BuiltScenario, type Domain } from '../scenario/build.js';
+import { sideFilePaths } from '../scenario/paths.js';
 import { openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf } from '../formats/npy.js';
 import type { DatasetSink, NamedArray } from '../formats/sink.js';
@@ -553,8 +554,8 @@ async function writeNpySideFile(
       ...(info.sha256 !== undefined ? { sha256: info.sha256 } : {}),
     },
     seed: info.seed,
-    users: built.users.map((u) => ({ id: u.id, paths: u.paths })),
-    paths: built.paths,
+    users: built.users.map((u) => ({ id: u.id, paths: sideFilePaths(u.paths) })),
+    paths: sideFilePaths(built.paths),
     scenario: JSON.parse(info.scenarioText) as unknown,
   };
   await writeFileAtomic(path, JSON.stringify(doc, null, 2) + '\n');

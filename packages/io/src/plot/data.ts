@@ -7,7 +7,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import { besselJ0, TracedTimeline } from '@pathweave/core';
-import { buildScenario, recordOfTraced, type BuiltScenario, type PathRecord } from '../scenario/build.js';
+import { buildScenario, summarizeTraced, type BuiltScenario, type PathSummary } from '../scenario/build.js';
 import { fillBlock, maxPathCount, RequestError } from '../dataset/generate.js';
 import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/reader.js';
 import { parseScenarioText } from '../scenario/validate.js';
@@ -92,9 +92,9 @@ function userIndex(source: PlotSource, user: number): number {
  * Paths of a user at time t: traced again at t for a scene, the explicit list otherwise.
  * @example pathsAt(await openPlotSource('examples/street-corner-28ghz.json'))[0].kind // "los"
  */
-export function pathsAt(source: PlotSource, atS = 0, user = 0): PathRecord[] {
+export function pathsAt(source: PlotSource, atS = 0, user = 0): PathSummary[] {
   const u = source.built.users[userIndex(source, user)]!;
-  return u.timeline instanceof TracedTimeline ? u.timeline.pathsAt(atS).map(recordOfTraced) : u.paths;
+  return u.timeline instanceof TracedTimeline ? u.timeline.pathsAt(atS).map(summarizeTraced) : u.paths;
 }
 
 /**

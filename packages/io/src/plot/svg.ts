@@ -46,9 +46,9 @@ export function fmt(v: number): string {
  * Attribute values of an element; undefined entries are left out.
  * @example new SvgDocument(10, 10, 't').rect(0, 0, 5, 5, { fill: '#000', stroke: undefined }).toString().includes('<rect x="0" y="0" width="5" height="5" fill="#000"/>') // true
  */
-export type Attributes = Record<string, string | number | undefined>;
+export type SvgAttributes = Record<string, string | number | undefined>;
 
-function attributeText(attrs: Attributes): string {
+function attributeText(attrs: SvgAttributes): string {
   let s = '';
   for (const [k, v] of Object.entries(attrs)) {
     if (v === undefined) continue;
@@ -84,13 +84,13 @@ export class SvgDocument {
   }
 
   /** An element without children. */
-  element(name: string, attrs: Attributes): this {
+  element(name: string, attrs: SvgAttributes): this {
     this.parts.push(`<${name}${attributeText(attrs)}/>`);
     return this;
   }
 
   /** Open a group `<g>`; close it with `end()`. */
-  group(attrs: Attributes = {}): this {
+  group(attrs: SvgAttributes = {}): this {
     this.parts.push(`<g${attributeText(attrs)}>`);
     this.depth++;
     return this;
@@ -105,32 +105,32 @@ export class SvgDocument {
   }
 
   /** A straight line. */
-  line(x1: number, y1: number, x2: number, y2: number, attrs: Attributes = {}): this {
+  line(x1: number, y1: number, x2: number, y2: number, attrs: SvgAttributes = {}): this {
     return this.element('line', { x1, y1, x2, y2, ...attrs });
   }
 
   /** A rectangle. */
-  rect(x: number, y: number, width: number, height: number, attrs: Attributes = {}): this {
+  rect(x: number, y: number, width: number, height: number, attrs: SvgAttributes = {}): this {
     return this.element('rect', { x, y, width: Math.max(0, width), height: Math.max(0, height), ...attrs });
   }
 
   /** A circle. */
-  circle(cx: number, cy: number, r: number, attrs: Attributes = {}): this {
+  circle(cx: number, cy: number, r: number, attrs: SvgAttributes = {}): this {
     return this.element('circle', { cx, cy, r, ...attrs });
   }
 
   /** An open polyline through points [x0, y0, x1, y1, ...]. */
-  polyline(points: readonly number[], attrs: Attributes = {}): this {
+  polyline(points: readonly number[], attrs: SvgAttributes = {}): this {
     return this.element('polyline', { points: pointList(points), fill: 'none', ...attrs });
   }
 
   /** A closed polygon through points [x0, y0, x1, y1, ...]. */
-  polygon(points: readonly number[], attrs: Attributes = {}): this {
+  polygon(points: readonly number[], attrs: SvgAttributes = {}): this {
     return this.element('polygon', { points: pointList(points), ...attrs });
   }
 
   /** Text at (x, y); `anchor` is start, middle or end. An optional tooltip-like `<title>` child is not used: text is visible. */
-  text(x: number, y: number, content: string, attrs: Attributes = {}): this {
+  text(x: number, y: number, content: string, attrs: SvgAttributes = {}): this {
     this.parts.push(`<text${attributeText({ x, y, 'font-size': THEME.fontSize, fill: THEME.ink, ...attrs })}>${escapeXml(content)}</text>`);
     return this;
   }

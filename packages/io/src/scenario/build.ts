@@ -16,6 +16,8 @@ import {
   wavelength,
   type ElementPattern,
   type Scene,
+  type PathInteraction,
+  type SceneObjectRef,
   type TracedPath,
   type Vec3,
 } from '@pathweave/geometry';
@@ -23,7 +25,7 @@ import {
   ChannelGenerator,
   ClusteredTimeline,
   ExplicitTimeline,
-  PathFrame,
+  PathSetFrame,
   PolarimetricTracedTimeline,
   clusterPreset,
   Motion,
@@ -33,14 +35,14 @@ import {
   numerologyClock,
   type ChannelSpec,
   type ClusterSpread,
-  type ExplicitPath,
+  type ExplicitPathSpec,
   type FadingSpec,
   type OutputGrid,
   type PathTimeline,
   type SymbolTiming,
   type Terminal,
 } from '@pathweave/core';
-import type { ArrayConfig, ClusterConfig, PathConfig, Scenario, TerminalConfig } from './schema.js';
+import type { ArrayConfig, ClusterConfig, ExplicitPathConfig, Scenario, TerminalConfig } from './schema.js';
 import { ScenarioError } from './validate.js';
 
 /**
@@ -58,10 +60,10 @@ export type Domain = 'frequency' | 'taps';
  *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
  *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
  * };
- * const [record]: PathRecord[] = buildScenario(scenario).paths;
+ * const [record]: PathSummary[] = buildScenario(scenario).paths;
  * record // { id: 'paths[0]', kind: 'explicit', delayS: 1.7e-7, powerDb: -90, phaseDeg: 0, aodDeg: [0, -10], aoaDeg: [180, 10], dopplerHz: 0, maxDopplerHz: undefined }
  */
-export interface PathRecord {
+export interface PathSummary {
   id: string;
   kind: string;
   delayS: number;
@@ -74,7 +76,8 @@ export interface PathRecord {
   lengthM?: number;
   aodLocalDeg?: [number, number];
   aoaLocalDeg?: [number, number];
-  interactions?: { type: string; object: string; point: number[] }[];
+  /** Traced paths: what the path meets, structured (rendered as text only for output, see paths.ts). */
+  interactions?: { type: PathInteraction['type']; object: SceneObjectRef; point: number[] }[];
   blockageDb?: number;
 }
 
@@ -97,9 +100,9 @@ export interface UserChannel {
   generator: ChannelGenerator;
   timeline: PathTimeline;
   /** Paths at t = 0 (for tables and the path table). */
-  paths: PathRecord[];
+  paths: PathSummary[];
   /** With clusters: the specular paths at t = 0 that the sub-paths of `paths` come from. */
-  specularPaths?: PathRecord[];
+  specularPaths?: PathSummary[];
   spec: ChannelSpec;
 }
 
@@ -128,7 +131,7 @@ export interface BuiltScenario {
   valuesPerSubframe: number;
   /** The first user's generator and paths (the whole run when there is one receiver). */
   generator: ChannelGenerator;
-  paths: PathRecord[];
+  paths: PathSummary[];
   warnings: string[];
 }
 
@@ -223,8 +226,8 @@ export function clusterSpreadOf(c: ClusterConfig): ClusterSpread {
 }
 
 /** Records of a clustered timeline's sub-paths at t = 0 (the path table's rows). */
-function clusteredRecords(timeline: ClusteredTimeline, parents: PathRecord[]): PathRecord[] {
-  const frame = new PathFrame(timeline.ids.length);
+function clusteredRecords(timeline: ClusteredTimeline, parents: PathSummary[]): PathSummary[] {
+  const frame = new PathSetFrame(timeline.ids.length);
   timeline.frameAt(0, frame);
   const byId = new Map(parents.map((p) => [p.id, p]));
   const members = new Map<number, number>();
@@ -275,13 +278,13 @@ function buildTerminal(t: TerminalConfig, carrierHz: number): Terminal {
  * The stable id of explicit path i: its own `id`, else its place in the list.
  * @example explicitPathId({ aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 0, powerDb: -80 }, 2) // "paths[2]"
  */
-export function explicitPathId(p: PathConfig, index: number): string {
+export function explicitPathId(p: ExplicitPathConfig, index: number): string {
   return p.id ?? `paths[${index}]`;
 }
 
-function explicitPaths(scenario: Scenario): { paths: ExplicitPath[]; records: PathRecord[] } {
-  const paths: ExplicitPath[] = [];
-  const records: PathRecord[] = [];
+function explicitPaths(scenario: Scenario): { paths: ExplicitPathSpec[]; records: PathSummary[] } {
+  const paths: ExplicitPathSpec[] = [];
+  const records: PathSummary[] = [];
   (scenario.paths ?? []).forEach((p, i) => {
     const id = explicitPathId(p, i);
     const phaseDeg = p.phaseDeg ?? 0;
@@ -302,9 +305,9 @@ function explicitPaths(scenario: Scenario): { paths: ExplicitPath[]; records: Pa
 
 /**
  * A traced path as a record (angles in degrees, phase = arg(rho) with carrier and reflection phases).
- * @example recordOfTraced(traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!) // { id: 'los', kind: 'los', delayS: 3.3356e-8, powerDb: -81.391, phaseDeg: 7.392, aodDeg: [0, 0], aoaDeg: [180, 0], dopplerHz: 0, lengthM: 10, aodLocalDeg: [0, 0], aoaLocalDeg: [180, 0], interactions: [], blockageDb: 0 }
+ * @example summarizeTraced(traceScene({}, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!) // { id: 'los', kind: 'los', delayS: 3.3356e-8, powerDb: -81.391, phaseDeg: 7.392, aodDeg: [0, 0], aoaDeg: [180, 0], dopplerHz: 0, lengthM: 10, aodLocalDeg: [0, 0], aoaLocalDeg: [180, 0], interactions: [], blockageDb: 0 }
  */
-export function recordOfTraced(p: TracedPath): PathRecord {
+export function summarizeTraced(p: TracedPath): PathSummary {
   return {
     id: p.id,
     kind: p.kind,
@@ -317,7 +320,7 @@ export function recordOfTraced(p: TracedPath): PathRecord {
     lengthM: p.lengthM,
     aodLocalDeg: [...p.aodLocalDeg],
     aoaLocalDeg: [...p.aoaLocalDeg],
-    interactions: p.interactions.map((i) => ({ type: i.type, object: i.object, point: [...i.point] })),
+    interactions: p.interactions.map((i) => ({ type: i.type, object: { ...i.object }, point: [...i.point] })),
     blockageDb: p.blockageDb,
   };
 }
@@ -463,11 +466,11 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
   for (const r of receiversOf(scenario)) {
     const rx = buildTerminal(r.config, carrierHz);
     let timeline: PathTimeline;
-    let records: PathRecord[];
+    let records: PathSummary[];
     let delays: number[];
     let totalPower: number;
     const seed = options.seed ?? scenario.seed;
-    let specular: PathRecord[] | undefined;
+    let specular: PathSummary[] | undefined;
     let spreads: (ClusterSpread | undefined)[];
     if (scenario.scene !== undefined) {
       const Timeline = usesPorts(scenario) ? PolarimetricTracedTimeline : TracedTimeline;
@@ -481,7 +484,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       );
       for (const w of traced.warnings) if (!warnings.includes(w)) warnings.push(w);
       timeline = traced;
-      records = traced.pathsAt(0).map(recordOfTraced);
+      records = traced.pathsAt(0).map(summarizeTraced);
       delays = traced.epochs.flatMap((m) => [...m.values()].map((p) => p.delayS));
       totalPower = records.reduce((a, p) => a + 10 ** (p.powerDb / 10), 0);
       spreads = traced.ids.map(() => (scenario.clusters !== undefined ? clusterSpreadOf(scenario.clusters) : undefined));

@@ -269,9 +269,9 @@ export type TerminalConfig = z.infer<typeof terminalSchema>;
 export type ClusterConfig = z.infer<typeof clusterSchema>;
 /**
  * An explicit path of a scenario.
- * @example const echo: PathConfig = { id: 'wall', aodDeg: [30, 0], aoaDeg: [150, 0], delayS: 2.1e-7, powerDb: -97, phaseDeg: 180 };
+ * @example const echo: ExplicitPathConfig = { id: 'wall', aodDeg: [30, 0], aoaDeg: [150, 0], delayS: 2.1e-7, powerDb: -97, phaseDeg: 180 };
  */
-export type PathConfig = z.infer<typeof pathSchema>;
+export type ExplicitPathConfig = z.infer<typeof pathSchema>;
 
 /**
  * The JSON Schema (draft 2020-12) of scenario files, for editors.
