@@ -14,3 +14,4 @@ export * from './occlusion.js';
 export * from './scene.js';
 export * from './blockage.js';
 export * from './tracer.js';
+export * from './import/index.js';
