@@ -8,6 +8,7 @@ export * from './scenario/json.js';
 export * from './scenario/schema.js';
 export * from './scenario/validate.js';
 export * from './scenario/build.js';
+export * from './scenario/imports.js';
 export * from './formats/atomic.js';
 export * from './formats/sink.js';
 export * from './formats/npy.js';

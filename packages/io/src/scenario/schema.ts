@@ -137,8 +137,32 @@ const materialSchema = z.union([
   z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
 ]);
 
+// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+const sceneImportSchema = z.union([
+  z.strictObject({
+    footprints: z.string().min(1),
+    origin: z.strictObject({ latitudeDeg: z.number().min(-90).max(90), longitudeDeg: z.number().min(-180).max(180), heightM: finite.optional() }),
+    heightProperty: z.string().min(1).optional(),
+    defaultHeightM: positive.optional(),
+    materialProperty: z.string().min(1).optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+    roofs: z.boolean().optional(),
+  }),
+  z.strictObject({
+    mesh: z.string().min(1),
+    unit: z.enum(['m', 'cm', 'mm', 'km', 'in', 'ft']).optional(),
+    upAxis: z.enum(['y', 'z']).optional(),
+    offsetM: vector3.optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+  }),
+]);
+
 const sceneDefinition = z.strictObject({
   lineOfSight: z.boolean().optional(),
+  /** Surfaces read from files, added after `walls` (expanded by loadScenario / expandSceneImports). */
+  imports: z.array(sceneImportSchema).optional(),
   walls: z
     .array(
       z.strictObject({
