@@ -36,9 +36,13 @@ export class Bvh {
   readonly size: number;
   /** Number of nodes. */
   readonly nodes: number;
+  /** Node boxes, 6 values per node (module comment). */
   readonly nodeBounds: Float64Array;
+  /** A leaf's first slot in `order`, -1 for an inner node. */
   readonly nodeFirst: Int32Array;
+  /** A leaf's primitive count, or an inner node's second child. */
   readonly nodeCount: Int32Array;
+  /** Primitive indices, each leaf's contiguous. */
   readonly order: Int32Array;
   /** The primitives' boxes as given (6 per primitive). */
   readonly boxes: Float64Array;

@@ -28,6 +28,7 @@ export class Occlusion {
   private readonly found: Int32Array;
   private readonly box = new Float64Array(24);
   private readonly point = new Float64Array(3);
+  /** Margin of every side and inside test, metres (100 times the scene's box padding). */
   readonly margin: number;
 
   constructor(private readonly ps: PreparedScene) {

@@ -25,7 +25,9 @@ const E2 = WGS84_F * (2 - WGS84_F);
  * @example const origin: GeodeticPoint = { latitudeDeg: 48.8584, longitudeDeg: 2.2945, heightM: 35 };
  */
 export interface GeodeticPoint {
+  /** Geodetic latitude, degrees north, [-90, 90]. */
   latitudeDeg: number;
+  /** Longitude, degrees east. */
   longitudeDeg: number;
   /** Default 0. */
   heightM?: number;
@@ -49,6 +51,7 @@ export function geodeticToEcef(p: GeodeticPoint): [number, number, number] {
  * enu.fromGeodetic(0, 0, 100) // [0, 0, 100]: straight up at the origin
  */
 export class EnuFrame {
+  /** Where east = north = up = 0. */
   readonly origin: GeodeticPoint;
   private readonly o: [number, number, number];
   private readonly r: Float64Array;

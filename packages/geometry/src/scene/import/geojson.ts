@@ -16,9 +16,19 @@ import { EnuFrame, type GeodeticPoint } from './geodesy.js';
  * @example new ImportError('block.geojson', 'features[2].geometry.coordinates[0]', 'the ring is not closed').message // 'block.geojson: features[2].geometry.coordinates[0]: the ring is not closed'
  */
 export class ImportError extends Error {
-  constructor(readonly file: string, readonly element: string, readonly reason: string) {
+  /** The file as named by the caller. */
+  readonly file: string;
+  /** The element inside it (a dotted path, a line, a vertex or a triangle), or '' for the whole file. */
+  readonly element: string;
+  /** Why it is refused. */
+  readonly reason: string;
+
+  constructor(file: string, element: string, reason: string) {
     super(`${file}: ${element === '' ? '' : `${element}: `}${reason}`);
     this.name = 'ImportError';
+    this.file = file;
+    this.element = element;
+    this.reason = reason;
   }
 }
 

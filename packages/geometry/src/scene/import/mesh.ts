@@ -14,16 +14,38 @@ import { ImportError } from './geojson.js';
  * @example const tri: TriangleMesh = { positions: Float64Array.of(0, 0, 0, 1, 0, 0, 0, 1, 0), groups: [{ name: 'floor', firstTriangle: 0, triangles: 1 }] };
  */
 export interface TriangleMesh {
+  /** x, y, z per vertex, in the file's unit and axes. */
   positions: ArrayLike<number>;
+  /** Three vertex indices (from 0) per triangle; without them, consecutive vertex triples. */
   indices?: ArrayLike<number>;
-  groups?: readonly { name: string; firstTriangle: number; triangles: number }[];
+  /** Named ranges of triangles (materials are looked up by name). */
+  groups?: readonly MeshGroup[];
 }
+
+/**
+ * A named range of a mesh's triangles.
+ * @example const floor: MeshGroup = { name: 'floor', firstTriangle: 0, triangles: 2 };
+ */
+export interface MeshGroup {
+  /** The group's name (OBJ usemtl, g or o). */
+  name: string;
+  /** Index of its first triangle. */
+  firstTriangle: number;
+  /** How many triangles. */
+  triangles: number;
+}
+
+/**
+ * A length unit of mesh files.
+ * @example const unit: MeshUnit = 'mm';
+ */
+export type MeshUnit = 'm' | 'cm' | 'mm' | 'km' | 'in' | 'ft';
 
 /**
  * Length units of a mesh file and their size in metres.
  * @example MESH_UNITS.mm // 0.001
  */
-export const MESH_UNITS = { m: 1, cm: 0.01, mm: 0.001, km: 1000, in: 0.0254, ft: 0.3048 } as const;
+export const MESH_UNITS: Readonly<Record<MeshUnit, number>> = { m: 1, cm: 0.01, mm: 0.001, km: 1000, in: 0.0254, ft: 0.3048 };
 
 /**
  * How a mesh becomes walls.
@@ -31,7 +53,7 @@ export const MESH_UNITS = { m: 1, cm: 0.01, mm: 0.001, km: 1000, in: 0.0254, ft:
  */
 export interface MeshOptions {
   /** The file's length unit (default "m"). */
-  unit?: keyof typeof MESH_UNITS;
+  unit?: MeshUnit;
   /** The file's up axis (default "z"); "y" maps file (x, y, z) to scene (x, -z, y), a right-handed turn. */
   upAxis?: 'y' | 'z';
   /** Added after scaling and turning, metres (default [0, 0, 0]). */

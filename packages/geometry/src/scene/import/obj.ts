@@ -6,16 +6,16 @@
  * latest `usemtl` name, else its latest `g` or `o` name ("default" before any).
  */
 import { ImportError } from './geojson.js';
-import type { TriangleMesh } from './mesh.js';
+import type { MeshGroup, TriangleMesh } from './mesh.js';
 
 /**
  * Parse OBJ text; `file` names it in errors. Throws ImportError naming the line for a malformed
  * vertex or face, and for text that is not OBJ (no vertex and no face).
  * @example readObj('v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nusemtl glass\nf 1 2 3 4\n').indices // [0, 1, 2, 0, 2, 3]: the quadrilateral as two triangles
  */
-export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indices: number[]; groups: { name: string; firstTriangle: number; triangles: number }[] } {
+export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indices: number[]; groups: MeshGroup[] } {
   const positions: number[] = [], indices: number[] = [];
-  const groups: { name: string; firstTriangle: number; triangles: number }[] = [];
+  const groups: MeshGroup[] = [];
   let group = 'default', material: string | undefined;
   const lines = text.split(/\r?\n/);
   const setGroup = (name: string): void => {
