@@ -97,8 +97,8 @@ describe('refused input', () => {
     expect(missing.stderr).toContain('cannot read the file: ENOENT');
     const dir = tempDir();
     const intoDir = runCli(['generate', join(ROOT, 'test', 'fixtures', 'three-path-static.json'), '--out', dir]);
-    expect(intoDir.status).toBe(1); // a fault of the destination (issue 10), not of the input
-    expect(intoDir.stderr).toContain('the output path is a directory (EISDIR)');
+    expect(intoDir.status).toBe(2); // refused before any work: --out names a folder
+    expect(intoDir.stderr).toContain(`error: --out ${dir}: ${dir} is a folder; name a file in it, e.g. ${join(dir, 'run.h5')}`);
   });
 
   it('validate prints a one-screen summary of a valid scenario', () => {

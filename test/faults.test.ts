@@ -123,12 +123,13 @@ describe.skipIf(mountReason !== undefined)('a read-only folder (tmpfs remounted 
 
 describe('a missing or vanished folder', () => {
   for (const format of FORMATS) {
-    it(`${format}: a folder that does not exist gives exit 1 and creates nothing`, () => {
+    it(`${format}: a folder that does not exist is refused before any work (exit 2, a mkdir hint) and creates nothing`, () => {
       const dir = tempDir();
       const out = join(dir, 'gone', `out.${format}`);
       const r = runCli(['generate', bigFile, '--out', out, '--quiet']);
-      expect(r.status, r.stderr).toBe(1);
-      expect(r.stderr).toContain(`error: cannot create ${out}: the folder does not exist (or was removed while writing) (ENOENT)`);
+      // Changed on purpose: a missing folder is a refusal of the command line (exit 2), found before any work.
+      expect(r.status, r.stderr).toBe(2);
+      expect(r.stderr).toContain(`error: --out ${out}: the folder ${join(dir, 'gone')} does not exist; create it first (mkdir -p ${join(dir, 'gone')})`);
       expect(r.stderr).not.toMatch(/^\s+at .+:\d+:\d+\)?$/m);
       expect(readdirSync(dir)).toEqual([]);
     });
@@ -163,14 +164,14 @@ describe('a missing or vanished folder', () => {
 });
 
 describe('an output path that is a directory', () => {
-  it('the CLI refuses it before any work (exit 1, a fault of the destination) and leaves the directory as it was', () => {
+  it('the CLI refuses it before any work (exit 2, a refusal of --out) and leaves the directory as it was', () => {
     const dir = tempDir();
     const out = join(dir, 'out.npy');
     mkdirSync(out);
     writeFileSync(join(out, 'inside'), EARLIER);
     const r = runCli(['generate', bigFile, '--out', out]);
-    expect(r.status).toBe(1);
-    expect(r.stderr).toContain(`error: cannot create ${out}: the output path is a directory (EISDIR)`);
+    expect(r.status).toBe(2);
+    expect(r.stderr).toContain(`error: --out ${out}: ${out} is a folder; name a file in it, e.g. ${join(out, 'run.h5')}`);
     expect(readdirSync(dir)).toEqual(['out.npy']);
     expect(readFileSync(join(out, 'inside'), 'utf8')).toBe(EARLIER);
   });

@@ -80,11 +80,19 @@ describe('--shard ranges (design.md: floor(I S / N) to floor((I+1) S / N) - 1)',
     const m2 = JSON.parse(readFileSync(join(dir, 'run.part-4-of-5.npz.manifest.json'), 'utf8'));
     expect(m2.range).toEqual(formulaRange(4, 5, 41));
     expect(m2.tensor.shape[0]).toBe(m2.range[1] - m2.range[0]);
-    // design.md: --out is the file written; without {index}/{count} it is used as given.
-    const exact = runCli(['generate', file, '--out', join(dir, 'shard-one.npy'), '--shard', '1/4', '--quiet']);
+    // --out is the file written, with {index} and {count} replaced; --shard without {index} is
+    // refused (every task of an array would write the same file), {index} without --shard too.
+    const exact = runCli(['generate', file, '--out', join(dir, 'shard-{index}.npy'), '--shard', '1/4', '--quiet']);
     expect(exact.status, exact.stderr).toBe(0);
-    expect(existsSync(join(dir, 'shard-one.npy'))).toBe(true);
-    expect(JSON.parse(readFileSync(join(dir, 'shard-one.npy.manifest.json'), 'utf8')).range).toEqual(formulaRange(1, 4, 41));
+    expect(existsSync(join(dir, 'shard-1.npy'))).toBe(true);
+    expect(JSON.parse(readFileSync(join(dir, 'shard-1.npy.manifest.json'), 'utf8')).range).toEqual(formulaRange(1, 4, 41));
+    const without = runCli(['generate', file, '--out', join(dir, 'shard-one.npy'), '--shard', '1/4', '--quiet']);
+    expect(without.status).toBe(2);
+    expect(without.stderr).toContain('error: generate: --shard needs {index} in --out, so each shard writes its own part file');
+    expect(existsSync(join(dir, 'shard-one.npy'))).toBe(false);
+    const stray = runCli(['generate', file, '--out', join(dir, 'run-{index}.npy'), '--quiet']);
+    expect(stray.status).toBe(2);
+    expect(stray.stderr).toContain('holds {index} or {count}, which only --shard fills in');
   });
 });
 
@@ -182,13 +190,14 @@ describe('merge', () => {
     const merged = join(dir, 'merged.npy');
     const m = runCli(['merge', join(dir, 'run.part-0-of-2.npy'), part1, '--out', merged]);
     expect(m.status).toBe(2);
-    expect(m.stderr).toMatch(/error: merge: .*run\.part-1-of-2\.npy: tensor sha256 [0-9a-f]{64} differs from its manifest's [0-9a-f]{64}: the part was changed after it was written/);
+    // The sha256 of the whole file (manifest version 2) finds the change before any byte is copied.
+    expect(m.stderr).toMatch(/error: merge: .*run\.part-1-of-2\.npy: file sha256 [0-9a-f]{64} differs from its manifest's [0-9a-f]{64}: an array or attribute of the part was changed after it was written/);
     expect(existsSync(merged)).toBe(false);
     expect(readdirSync(dir).filter((f) => f.endsWith('.part'))).toEqual([]); // no temporary left
 
     const fixed = runCli(['generate', file, '--out', pattern(out), '--shard', '1/2', '--quiet']);
     expect(fixed.status).toBe(0);
-    expect(fixed.stderr).toMatch(/regenerating .*run\.part-1-of-2\.npy: .*tensor sha256 [0-9a-f]{64} differs from the manifest's/);
+    expect(fixed.stderr).toMatch(/regenerating .*run\.part-1-of-2\.npy: .*file sha256 [0-9a-f]{64} differs from the manifest's/);
     expect(runCli(['merge', join(dir, 'run.part-0-of-2.npy'), part1, '--out', merged, '--quiet']).status).toBe(0);
   });
 

@@ -18,24 +18,28 @@
  * transfer with random phases keyed by the path id for stochastic gains and diffuse sub-paths
  * when `xprDb` is given. Without ports and xprDb, H is computed exactly as before.
  */
-import { AntennaArray, polarizationVectorLocal, wavenumber, wavelength, type Polarization, type Vec3 } from '@pathweave/geometry';
+import {
+  AntennaArray,
+  nearFieldLineOfSightProducts,
+  polarizationVectorLocal,
+  usesSphericalWavefront,
+  waveResponse,
+  wavenumber,
+  type Polarization,
+  type Vec3,
+  type Wavefront,
+} from '@pathweave/geometry';
 import { pathCorrelation, type PathCorrelation } from './doppler.js';
-import { createFadingGains, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type StepClock } from './fading/index.js';
-import { GaussMarkovGains, StaticGains, type GainPath, type GainProcess } from './gains.js';
+import { createGainProcess, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type FadingSpec, type GainProcessPath, type StepClock } from './fading/index.js';
+import type { GainProcess } from './gains.js';
 import { subcarrierOffsetsHz } from './grid.js';
 import { accumulatePaths } from './kernels/index.js';
 import type { Motion } from './motion.js';
-import { identityTransfers, isPolarimetricSource, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
+import { identityTransfers, portCoupling, portFieldComponents, xprTransfer } from './polarization-ports.js';
 import { pulseFunction, type PulseShape } from './pulse.js';
 import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathSetFrame, type ExplicitPathSpec, type PathTimeline } from './timeline.js';
 
-
-/**
- * How an array's response treats the wavefront: plane, spherical, or spherical when 2 D^2 / lambda exceeds the path length.
- * @example const nearField: Wavefront = 'auto'; // spherical only inside the Fraunhofer distance
- */
-export type Wavefront = 'plane' | 'spherical' | 'auto';
 
 /**
  * A terminal: its array, where it is and how it moves.
@@ -67,17 +71,6 @@ export interface Terminal {
 export type OutputGrid =
   | { domain: 'frequency'; subcarriers: number; spacingHz: number; beamSquint?: boolean }
   | { domain: 'taps'; sampleRateHz: number; count: number; pulse?: PulseShape; rollOff?: number };
-
-/**
- * Gain models (scenario key fading.model) with their options.
- * @example const fading: FadingSpec = { model: 'ar', order: 8, speedMps: 3 };
- */
-export type FadingSpec =
-  | { model: 'static' }
-  | { model: 'gauss-markov'; speedMps?: number | undefined }
-  | { model: 'ar'; order?: number | undefined; speedMps?: number | undefined }
-  | { model: 'sum-of-sinusoids'; sinusoids?: number | undefined; speedMps?: number | undefined }
-  | { model: 'geometric'; ricianKDb?: number | undefined; sinusoids?: number | undefined; speedMps?: number | undefined };
 
 /**
  * Complex sample type of the output.
@@ -158,7 +151,6 @@ export function alignmentShiftS(delaysS: readonly number[], sampleRateHz: number
  */
 export type TensorArray = Float32Array | Float64Array;
 
-const DETERMINISTIC = new Set(['static', 'geometric']);
 
 /**
  * Builds per-subframe channel tensors. The constructor validates the spec and precomputes what
@@ -279,7 +271,8 @@ export class ChannelGenerator {
 
     // Doppler spreads and the gain processes (unit power, keyed by the path ids).
     const speed = (t: Terminal): number => t.motion?.maxSpeed() ?? Math.hypot(t.velocity[0], t.velocity[1], t.velocity[2]);
-    const explicit = this.timeline instanceof ExplicitTimeline ? this.timeline.paths : undefined;
+    // Paths given with their own Doppler (explicit paths) say so through the timeline's pathDoppler.
+    const explicit = this.timeline.pathDoppler;
     const fadingSpeed = 'speedMps' in spec.fading ? spec.fading.speedMps : undefined;
     this.correlations = this.timeline.ids.map((_, l) =>
       pathCorrelation({
@@ -292,40 +285,24 @@ export class ChannelGenerator {
       }),
     );
     const key = (id: string): string => (spec.streamKey === undefined ? id : `${spec.streamKey}/${id}`);
-    const model = spec.fading.model;
-    this.deterministic = DETERMINISTIC.has(model);
-    const unitPaths: GainPath[] = this.timeline.ids.map((id, l) => ({ id: key(id), power: 1, phaseRad: 0, alpha: this.correlations[l]!.alpha }));
-    const fadingPaths: FadingPath[] = this.timeline.ids.map((id, l) => ({
+    const unitPaths: GainProcessPath[] = this.timeline.ids.map((id, l) => ({
       id: key(id),
       power: 1,
       phaseRad: 0,
+      alpha: this.correlations[l]!.alpha,
       dopplersHz: this.correlations[l]!.dopplersHz,
       // Traced geometry turns the carrier phase itself; explicit paths turn by their dopplerHz.
       dopplerHz: explicit !== undefined ? (explicit[l]!.dopplerHz ?? 0) : 0,
     }));
-    switch (spec.fading.model) {
-      case 'static':
-        this.gainProcess = new StaticGains(unitPaths);
-        break;
-      case 'gauss-markov':
-        this.gainProcess = new GaussMarkovGains(unitPaths, spec.seed);
-        break;
-      case 'ar':
-        this.gainProcess = createFadingGains('ar', fadingPaths, spec.seed, { clock: this.clock, order: spec.fading.order });
-        break;
-      case 'sum-of-sinusoids':
-        this.gainProcess = createFadingGains('sum-of-sinusoids', fadingPaths, spec.seed, { clock: this.clock, sinusoids: spec.fading.sinusoids });
-        break;
-      case 'geometric':
-        this.gainProcess = createFadingGains('geometric', fadingPaths, spec.seed, { clock: this.clock, ricianKDb: spec.fading.ricianKDb, sinusoids: spec.fading.sinusoids });
-        break;
-    }
-    if (model !== 'static') this.checkSampling(fadingPaths);
+    const gains = createGainProcess(spec.fading, unitPaths, spec.seed, this.clock);
+    this.gainProcess = gains.process;
+    this.deterministic = gains.deterministic;
+    if (gains.timeVarying) this.checkSampling(unitPaths);
     if (rxPorts !== undefined && txPorts !== undefined) {
       // Transfers: cross-polar ones are fixed for the run; the others follow the timeline.
       const transfers = identityTransfers(L);
       const fixed = new Uint8Array(L);
-      const diffuse = (this.timeline as { diffuse?: readonly boolean[] }).diffuse;
+      const diffuse = this.timeline.diffuse;
       this.timeline.ids.forEach((id, l) => {
         if (spec.xprDb === undefined || (this.deterministic && diffuse?.[l] !== true)) return;
         xprTransfer(transfers, 8 * l, spec.xprDb, new RandomStream(spec.seed, `${key(id)}/xpr`));
@@ -465,8 +442,8 @@ export class ChannelGenerator {
         for (let l = 0; l < L; l++) {
           readVec(frame.arrival, l, arr);
           readVec(frame.departure, l, dep);
-          this.response(rxArray, spec.receiver.wavefront, arr, frame.lengthM[l]!, k0, this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr));
-          this.response(txArray, spec.transmitter.wavefront, dep, frame.lengthM[l]!, k0, this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt));
+          waveResponse(this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr), rxArray, spec.receiver.wavefront, arr, frame.lengthM[l]!, k0, spec.carrierHz);
+          waveResponse(this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt), txArray, spec.transmitter.wavefront, dep, frame.lengthM[l]!, k0, spec.carrierHz);
         }
       }
       return;
@@ -490,21 +467,22 @@ export class ChannelGenerator {
   private elementProducts(out: Float64Array, offset: number, l: number, rxArray: AntennaArray, txArray: AntennaArray, arr: Vec3, dep: Vec3, k0: number): void {
     const spec = this.spec;
     const length = this.frame.lengthM[l]!;
-    const rxSph = this.isSpherical(rxArray, spec.receiver.wavefront, length);
-    const txSph = this.isSpherical(txArray, spec.transmitter.wavefront, length);
+    const fc = spec.carrierHz;
+    const rxSph = usesSphericalWavefront(rxArray, spec.receiver.wavefront, length, fc);
+    const txSph = usesSphericalWavefront(txArray, spec.transmitter.wavefront, length, fc);
     if (rxSph && txSph && this.timeline.kinds[l] === 'los') {
-      pairwiseProducts(out, offset, rxArray, txArray, arr, length, k0);
+      nearFieldLineOfSightProducts(out, offset, rxArray, txArray, arr, length, k0);
       return;
     }
-    this.response(rxArray, spec.receiver.wavefront, arr, length, k0, this.rxScratch);
-    this.response(txArray, spec.transmitter.wavefront, dep, length, k0, this.txScratch);
+    waveResponse(this.rxScratch, rxArray, spec.receiver.wavefront, arr, length, k0, fc);
+    waveResponse(this.txScratch, txArray, spec.transmitter.wavefront, dep, length, k0, fc);
     outerProduct(out, offset, this.rxScratch, this.txScratch, rxArray.size, txArray.size);
   }
 
   /** The timeline's transfers at time t for the paths whose transfer is not a fixed cross-polar one. */
   private refreshTransfers(timeS: number): void {
     const ports = this.ports!;
-    if (!isPolarimetricSource(this.timeline)) return;
+    if (this.timeline.polarimetricAt === undefined) return;
     const L = this.pathCount;
     const scratch = ports.scratch;
     this.timeline.polarimetricAt(timeS, scratch);
@@ -544,18 +522,6 @@ export class ChannelGenerator {
         }
       }
     }
-  }
-
-  private isSpherical(array: AntennaArray, wavefront: Wavefront | undefined, lengthM: number): boolean {
-    if (wavefront === 'spherical') return true;
-    if (wavefront !== 'auto') return false;
-    const D = array.aperture();
-    return (2 * D * D) / wavelength(this.spec.carrierHz) > lengthM;
-  }
-
-  private response(array: AntennaArray, wavefront: Wavefront | undefined, u: Vec3, lengthM: number, k0: number, out: Float64Array): void {
-    if (this.isSpherical(array, wavefront, lengthM) && lengthM > 0) array.sphericalResponse(out, [u[0] * lengthM, u[1] * lengthM, u[2] * lengthM], k0);
-    else array.response(out, u, k0);
   }
 
   private assembleStep(out: TensorArray, offset: number): void {
@@ -629,26 +595,6 @@ function outerProduct(out: Float64Array, offset: number, r: Float64Array, t: Flo
       const m = offset + 2 * (i * Nt + j);
       out[m] = rr * tr - ri * ti;
       out[m + 1] = rr * ti + ri * tr;
-    }
-  }
-}
-
-/**
- * Line of sight with both arrays in each other's near field: each element pair's exact distance,
- * exp(-j k0 (|q_m - p_n| - d)) with q, p the element positions and d the reference distance.
- */
-function pairwiseProducts(out: Float64Array, offset: number, rx: AntennaArray, tx: AntennaArray, arrival: Vec3, lengthM: number, k0: number): void {
-  // The transmitter's reference point seen from the receiver's: lengthM along the arrival direction.
-  const tx0: Vec3 = [arrival[0] * lengthM, arrival[1] * lengthM, arrival[2] * lengthM];
-  const g = rx.elementAmplitude(arrival) * tx.elementAmplitude([-arrival[0], -arrival[1], -arrival[2]]);
-  const q = rx.globalOffsets, p = tx.globalOffsets;
-  for (let m = 0; m < rx.size; m++) {
-    for (let n = 0; n < tx.size; n++) {
-      const d = Math.hypot(tx0[0] + p[3 * n]! - q[3 * m]!, tx0[1] + p[3 * n + 1]! - q[3 * m + 1]!, tx0[2] + p[3 * n + 2]! - q[3 * m + 2]!);
-      const phase = -k0 * (d - lengthM);
-      const i = offset + 2 * (m * tx.size + n);
-      out[i] = g * Math.cos(phase);
-      out[i + 1] = g * Math.sin(phase);
     }
   }
 }

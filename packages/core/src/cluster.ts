@@ -21,7 +21,7 @@
  * the delay spread.
  */
 import { degFromVector, unitFromDeg, type Vec3 } from '@pathweave/geometry';
-import { isPolarimetricSource, type PolarimetricSource } from './polarization-ports.js';
+import type { PolarimetricSource } from './polarization-ports.js';
 import { RandomStream } from './random.js';
 import { PathSetFrame, type PathTimeline } from './timeline.js';
 
@@ -253,7 +253,7 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
 
   polarimetricAt(timeS: number, out: Float64Array): void {
     const t = this.innerTransfers;
-    if (isPolarimetricSource(this.inner)) this.inner.polarimetricAt(timeS, t);
+    if (this.inner.polarimetricAt !== undefined) this.inner.polarimetricAt(timeS, t);
     else {
       t.fill(0);
       for (let l = 0; l < this.inner.ids.length; l++) { t[8 * l] = 1; t[8 * l + 6] = 1; }

@@ -33,7 +33,7 @@ export interface PolarimetricSource {
  * @example isPolarimetricSource(new ExplicitTimeline([])) // false
  */
 export function isPolarimetricSource(t: PathTimeline): t is PathTimeline & PolarimetricSource {
-  return typeof (t as Partial<PolarimetricSource>).polarimetricAt === 'function';
+  return t.polarimetricAt !== undefined;
 }
 
 /**

@@ -66,6 +66,41 @@ export interface PathTimeline {
   readonly constant: boolean;
   /** Fill `frame` with the paths at time t (seconds). */
   frameAt(timeS: number, frame: PathSetFrame): void;
+
+  // Optional capabilities: a timeline states what it provides, so callers read these members
+  // instead of probing its class.
+
+  /** Diffuse part: true for the columns that are diffuse sub-paths (they carry a cross-polar ratio). */
+  readonly diffuse?: readonly boolean[] | undefined;
+  /**
+   * Polarimetric transfer: fill `out` (8 L values: per path the 2x2 complex [tt, tp, pt, pp],
+   * polarization-ports.ts) with every path's transfer at time t (seconds).
+   */
+  polarimetricAt?(timeS: number, out: Float64Array): void;
+  /** Per-path Doppler given with the paths (explicit paths): signed shift and statistical spread, Hz. */
+  readonly pathDoppler?: readonly { readonly dopplerHz?: number | undefined; readonly maxDopplerHz?: number | undefined }[] | undefined;
+  /** Epochs: the traced path set of each geometry update (id to path), at `epochTimesS`. */
+  readonly epochs?: readonly ReadonlyMap<string, TracedPath>[] | undefined;
+  /** Times of the geometry updates, seconds (with `epochs`). */
+  readonly epochTimesS?: readonly number[] | undefined;
+  /** The traced paths at time t (with `epochs`; for listings). */
+  pathsAt?(timeS: number): TracedPath[];
+  /** The epochs as plain data (with `epochs`), to rebuild the timeline without tracing (a worker thread). */
+  tracedEpochs?(): TracedEpochs;
+}
+
+/**
+ * The traced epochs of a timeline as plain data (structured-clone safe: worker threads receive
+ * them and trace nothing): the update times, each update's paths in trace order, the warnings.
+ * @example
+ * const timeline = new TracedTimeline({}, { motion: new Motion([0, 0, 0]) }, { motion: new Motion([10, 0, 0]) }, 28e9, 0, 1);
+ * const epochs: TracedEpochs = timeline.tracedEpochs();
+ * [epochs.epochTimesS, epochs.paths[0]!.map((p) => p.id)] // [[0], ['los']]
+ */
+export interface TracedEpochs {
+  epochTimesS: number[];
+  paths: TracedPath[][];
+  warnings: string[];
 }
 
 /**
@@ -92,10 +127,12 @@ export class ExplicitTimeline implements PathTimeline {
   readonly ids: readonly string[];
   readonly kinds: readonly string[];
   readonly constant = true;
+  readonly pathDoppler: readonly ExplicitPathSpec[];
 
   constructor(readonly paths: readonly ExplicitPathSpec[]) {
     this.ids = paths.map((p) => p.id);
     this.kinds = paths.map(() => 'explicit');
+    this.pathDoppler = paths;
   }
 
   frameAt(_timeS: number, frame: PathSetFrame): void {
@@ -154,6 +191,7 @@ export class TracedTimeline implements PathTimeline {
   /**
    * @param endS time of the last step of the run (the updates cover [0, endS])
    * @param updateS time between geometry updates (ignored when nothing moves)
+   * @param traced the epochs of an earlier trace of the same scene and motion (`tracedEpochs()`): used instead of tracing
    */
   constructor(
     scene: Scene,
@@ -163,16 +201,21 @@ export class TracedTimeline implements PathTimeline {
     endS: number,
     private readonly updateS: number,
     private readonly options: TraceOptions = {},
+    traced?: TracedEpochs,
   ) {
     this.prepared = prepareScene(scene);
     const moving = tx.motion.moves || rx.motion.moves || tx.motion.turns || rx.motion.turns;
     const count = moving ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
     this.epochTimesS = Array.from({ length: count }, (_, e) => e * updateS);
+    if (traced !== undefined && (traced.paths.length !== count || traced.epochTimesS.some((t, e) => t !== this.epochTimesS[e]))) {
+      throw new RangeError(`TracedTimeline(): traced holds ${traced.paths.length} epochs at [${traced.epochTimesS.join(', ')}] s, this timeline has ${count} at [${this.epochTimesS.join(', ')}] s`);
+    }
     this.epochs = [];
     this.ids = [];
     this.kinds = [];
-    for (const t of this.epochTimesS) {
-      const r = traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
+    if (traced !== undefined) this.warnings.push(...traced.warnings);
+    for (const [e, t] of this.epochTimesS.entries()) {
+      const r = traced !== undefined ? { paths: traced.paths[e]!, warnings: [] } : traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
       for (const w of r.warnings) {
         const text = `${w.path}: ${w.message}`;
         if (!this.warnings.includes(text)) this.warnings.push(text);
@@ -262,6 +305,11 @@ export class TracedTimeline implements PathTimeline {
         frame.arrival[3 * l] = 1;
       }
     }
+  }
+
+  /** The epochs as plain data (see TracedEpochs). */
+  tracedEpochs(): TracedEpochs {
+    return { epochTimesS: [...this.epochTimesS], paths: this.epochs.map((m) => [...m.values()]), warnings: [...this.warnings] };
   }
 
   /** The traced paths of the update holding time t (for listings). */

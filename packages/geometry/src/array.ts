@@ -28,6 +28,7 @@ export class AntennaArray {
   /** Field pattern of every element. */
   readonly pattern: ElementPattern;
   private readonly scratch: Vec3 = [0, 0, 0];
+  private apertureM = -1;
 
   /**
    * @param localOffsets element offsets in metres in the local frame, 3 N values
@@ -90,6 +91,8 @@ export class AntennaArray {
 
   /** Largest distance between two elements, metres (the aperture D). */
   aperture(): number {
+    // O(N^2) and asked for per path and step by the wavefront choice: computed once (offsets never change).
+    if (this.apertureM >= 0) return this.apertureM;
     let d = 0;
     const g = this.localOffsets;
     for (let a = 0; a < this.size; a++) {
@@ -97,6 +100,7 @@ export class AntennaArray {
         d = Math.max(d, Math.hypot(g[3 * a]! - g[3 * b]!, g[3 * a + 1]! - g[3 * b + 1]!, g[3 * a + 2]! - g[3 * b + 2]!));
       }
     }
+    this.apertureM = d;
     return d;
   }
 

@@ -9,4 +9,5 @@ export * from './rotation.js';
 export * from './direction.js';
 export * from './pattern.js';
 export * from './array.js';
+export * from './wavefront.js';
 export * from './scene/index.js';

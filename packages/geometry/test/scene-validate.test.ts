@@ -58,7 +58,7 @@ describe('validateScene', () => {
       'scene.blockers[0].max: must exceed min in every coordinate, got min [1,1] and max [0,2]',
       'scene.blockers[1].radiusM: must be a finite number > 0 (m), got 0',
       'scene.blockers[2].shape: must be "box" or "cylinder", got "cone"',
-      'scene.maxReflectionOrder: must be an integer from 0 to 6, got 7',
+      'scene.maxReflectionOrder: must be an integer from 0 to 3, got 7',
     ]);
   });
 

@@ -7,8 +7,10 @@
 export * from './scenario/json.js';
 export * from './scenario/schema.js';
 export * from './scenario/validate.js';
+export * from './scenario/plan.js';
 export * from './scenario/build.js';
 export * from './scenario/imports.js';
+export * from './dataset/layout.js';
 export * from './formats/atomic.js';
 export * from './formats/sink.js';
 export * from './formats/npy.js';
@@ -20,3 +22,4 @@ export * from './version.js';
 export * from './dataset/manifest.js';
 export * from './dataset/merge.js';
 export * from './formats/reader.js';
+export * from './formats/output-path.js';

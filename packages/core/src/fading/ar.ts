@@ -27,6 +27,11 @@ import { BlockedStreams, RandomStream } from '../random.js';
 import { checkFadingPaths, checkGainOut, type FadingPath } from './clock.js';
 
 /**
+ * The default of fading.order.
+ * @example AR_DEFAULT_ORDER // 20
+ */
+export const AR_DEFAULT_ORDER = 20;
+/**
  * Default diagonal loading epsilon added to R(0) (Baddour & Beaulieu use the 1e-6 scale).
  * @example AR_DEFAULT_LOADING // 1e-6
  */
@@ -80,8 +85,25 @@ export function clarkeTargetCorrelation(dopplersHz: readonly number[], stepS: nu
 }
 
 /**
+ * An AR(p) fit refused for its correlation (ill-conditioned or not positive definite): the
+ * order asked for cannot be carried, which a caller reports as a problem of its input, by type.
+ * `problem` is the reason without the function's name and the path.
+ * @example new ArFitError('order 40 is too high for this correlation').message // "fitAutoregressive(): order 40 is too high for this correlation"
+ */
+export class ArFitError extends RangeError {
+  override name = 'ArFitError';
+
+  constructor(
+    readonly problem: string,
+    message = `fitAutoregressive(): ${problem}`,
+  ) {
+    super(message);
+  }
+}
+
+/**
  * Fit AR(p), p = target.length - 1, to a unit-power target correlation with diagonal loading.
- * @throws RangeError when the loaded matrix is not positive definite or its condition exceeds AR_MAX_CONDITION
+ * @throws ArFitError (a RangeError) when the loaded matrix is not positive definite or its condition exceeds AR_MAX_CONDITION
  * @example fitAutoregressive(Float64Array.of(1, 0.9), 0).coefficients[0] // 0.9 (AR(1): a = r(1))
  */
 export function fitAutoregressive(target: Float64Array, loading = AR_DEFAULT_LOADING): ArFit {
@@ -103,20 +125,20 @@ export function fitAutoregressive(target: Float64Array, loading = AR_DEFAULT_LOA
   }
   const condition = lo > 0 ? hi / lo : Infinity;
   if (!(condition <= AR_MAX_CONDITION)) {
-    throw new RangeError(
-      `fitAutoregressive(): order ${p} is too high for this correlation: the loaded Yule-Walker matrix has condition number ` +
+    throw new ArFitError(
+      `order ${p} is too high for this correlation: the loaded Yule-Walker matrix has condition number ` +
         `${condition.toExponential(2)} > ${AR_MAX_CONDITION.toExponential(0)} (AR_MAX_CONDITION); lower the order or raise the loading (${loading})`,
     );
   }
   const cholesky = new CholeskyDecomposition(toeplitz);
-  if (!cholesky.isPositiveDefinite()) throw new RangeError(`fitAutoregressive(): the loaded Yule-Walker matrix of order ${p} is not positive definite`);
+  if (!cholesky.isPositiveDefinite()) throw new ArFitError(`the loaded Yule-Walker matrix of order ${p} is not positive definite`);
   const rhs = Matrix.columnVector(Array.from(r.subarray(1)));
   const a = cholesky.solve(rhs).getColumn(0);
   const coefficients = Float64Array.from(a);
   let explained = 0;
   for (let k = 0; k < p; k++) explained += coefficients[k]! * r[k + 1]!;
   const innovationVariance = 1 - explained;
-  if (!(innovationVariance > 0)) throw new RangeError(`fitAutoregressive(): innovation variance ${innovationVariance} <= 0 at order ${p}; raise the loading`);
+  if (!(innovationVariance > 0)) throw new ArFitError(`innovation variance ${innovationVariance} <= 0 at order ${p}; raise the loading`);
   const factor = cholesky.lowerTriangularMatrix;
   const startFactor = new Float64Array(p * p);
   for (let i = 0; i < p; i++) for (let j = 0; j <= i; j++) startFactor[i * p + j] = factor.get(i, j);
@@ -194,7 +216,8 @@ export class AutoregressiveGains implements GainProcess {
         try {
           fit = fitAutoregressive(clarkeTargetCorrelation(p.dopplersHz, stepS, order), loading);
         } catch (e) {
-          throw new RangeError(`AutoregressiveGains(): path ${p.id} (Doppler spreads ${key} Hz, step ${stepS} s): ${(e as Error).message}`);
+          if (e instanceof ArFitError) throw new ArFitError(e.problem, `AutoregressiveGains(): path ${p.id} (Doppler spreads ${key} Hz, step ${stepS} s): ${e.message}`);
+          throw e;
         }
         cache.set(key, fit);
       }

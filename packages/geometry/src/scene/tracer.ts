@@ -31,7 +31,7 @@ import type { Complex } from './complex.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { Occlusion } from './occlusion.js';
-import { PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
+import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
 /**
  * A terminal for the tracer: position (m), velocity (m/s), array rotation (local to global), polarisation.
@@ -239,7 +239,7 @@ interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dyna
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   const s = ps.scene;
   const order = o.maxReflectionOrder ?? ps.maxReflectionOrder;
-  if (!Number.isInteger(order) || order < 0 || order > 6) throw new RangeError(`traceScene(): maxReflectionOrder must be an integer from 0 to 6, got ${order}`);
+  if (!Number.isInteger(order) || order < 0 || order > MAX_REFLECTION_ORDER) throw new RangeError(`traceScene(): maxReflectionOrder must be an integer from 0 to ${MAX_REFLECTION_ORDER}, got ${order}`);
   const maxPaths = o.maxPaths ?? s.maxPaths ?? Infinity;
   if (!(maxPaths >= 1)) throw new RangeError(`traceScene(): maxPaths must be >= 1, got ${maxPaths}`);
   const dr = o.dynamicRangeDb ?? s.dynamicRangeDb ?? Infinity;

@@ -2,7 +2,7 @@
  * Shared pieces of the command implementations: the output channel and argument helpers.
  */
 import { UsageError } from './args.js';
-import type { Domain } from '../scenario/build.js';
+import type { Domain } from '../scenario/plan.js';
 
 /** Where a command writes: stdout lines and stderr lines. */
 export interface Io {

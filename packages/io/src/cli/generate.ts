@@ -9,14 +9,15 @@
  * temporary files of the output at once, stops the run and exits with 1.
  */
 import { readdirSync, unlinkSync } from 'node:fs';
-import { totalmem } from 'node:os';
-import { OutputFileError } from '../formats/atomic.js';
+import { temporaryPrefixFor } from '../formats/atomic.js';
+import { checkOutputPath } from '../formats/output-path.js';
+import { printable } from '../formats/read-support.js';
 import { stat, unlink } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
 import { formatFromPath, OUTPUT_FORMATS, type OutputFormat } from '../formats/index.js';
 import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes, generate, RequestError, type GenerateReport } from '../dataset/generate.js';
-import { chooseDomain, sideArrayBytes } from '../scenario/build.js';
-import { manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../dataset/manifest.js';
+import { planScenario } from '../scenario/plan.js';
+import { fileSha256, manifestOf, manifestPathOf, partPath, reusablePart, writeManifest } from '../dataset/manifest.js';
 import { loadScenario } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { parseArgs, parseBytes, parseInteger, parseRange, parseShard, shardRange, UsageError } from './args.js';
@@ -38,21 +39,28 @@ async function run(argv: string[], io: Io): Promise<number> {
     quiet: 'flag',
     domain: 'value',
     'max-bytes': 'value',
+    overwrite: 'flag',
   });
   const file = onePositional('generate', args.positionals, 'scenario file');
   const out = args.values.out;
   if (out === undefined) throw new UsageError('generate: --out <file> is required');
+  if (args.values.format !== undefined && !(OUTPUT_FORMATS as readonly string[]).includes(args.values.format)) throw new UsageError(`--format must be one of ${OUTPUT_FORMATS.join(', ')}, got ${JSON.stringify(args.values.format)}`);
   const format = (args.values.format ?? formatFromPath(out) ?? 'npy') as OutputFormat;
-  if (!OUTPUT_FORMATS.includes(format)) throw new UsageError(`--format must be one of ${OUTPUT_FORMATS.join(', ')}, got ${JSON.stringify(args.values.format)}`);
+  // One command line serves every task of a job array: without {index} each task would replace the others' part.
+  if (args.values.shard !== undefined && !out.includes('{index}')) {
+    throw new UsageError(`generate: --shard needs {index} in --out, so each shard writes its own part file (e.g. --out run.part-{index}-of-{count}.${format}); got ${JSON.stringify(out)}`);
+  }
+  if (args.values.shard === undefined && /\{(index|count)\}/.test(out)) throw new UsageError(`generate: --out ${JSON.stringify(out)} holds {index} or {count}, which only --shard fills in; give --shard I/N or name the file`);
   const seed = args.values.seed === undefined ? undefined : parseInteger('--seed', args.values.seed, 0, 2 ** 53 - 1);
   const workers = args.values.workers === undefined ? undefined : parseInteger('--workers', args.values.workers, 1, 256);
   const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
   const domain = parseDomain(args.values.domain);
   if (args.values.subframes !== undefined && args.values.shard !== undefined) throw new UsageError('generate: give --subframes or --shard, not both');
 
-  const outStat = await stat(out).catch(() => undefined);
-  // A fault of the destination, like a full disk or a read-only folder: exit 1 (issue 10), found before any work.
-  if (outStat?.isDirectory()) throw new OutputFileError(out, 'create', Object.assign(new Error('is a directory'), { code: 'EISDIR' }));
+  // The output name is checked before any work (a refusal, exit 2); with --shard, once the part's name is known.
+  const overwrite = args.flags.has('overwrite');
+  const companions = [...(format === 'npy' ? ['.json'] : []), ...(args.values.shard !== undefined ? ['.manifest.json'] : [])];
+  if (args.values.shard === undefined) await checkOutputPath(out, { format, overwrite, companions });
 
   const { scenario, warnings, text } = await loadScenario(file);
   const S = scenario.timing.subframes;
@@ -66,14 +74,12 @@ async function run(argv: string[], io: Io): Promise<number> {
   }
   // The output-size and memory refusals first (they name the size), then the side arrays
   // (gains, ground truth), which stay in memory until the commit.
-  checkRequest(scenario, chooseDomain(scenario, domain), range, maxBytes, scenario.paths?.length ?? 1);
-  const side = sideArrayBytes(scenario, range[1] - range[0], scenario.paths?.length ?? 1);
-  if (side > totalmem() / 4) {
-    throw new RequestError(`the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory for ${range[1] - range[0]} subframes; generate fewer subframes per file (--subframes or --shard)`);
-  }
+  const plan = planScenario(scenario, { domain, seed });
+  checkRequest(plan, range, maxBytes, { sideArrays: 'per-file' });
   // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
   const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
-  const effectiveSeed = seed ?? scenario.seed;
+  if (shard !== undefined) await checkOutputPath(target, { format, overwrite, companions });
+  const effectiveSeed = plan.seed;
   if (shard !== undefined) {
     const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
     if (earlier.reusable) {
@@ -97,7 +103,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   let interrupted: string | undefined;
   let done = 0;
   const total = range[1] - range[0];
-  const progress = new Progress(`generate ${target}`, total, process.stderr, quiet);
+  const progress = new Progress(`generate ${printable(target)}`, total, process.stderr, quiet); // written to stderr directly: escaped here
   const controller = new AbortController();
   const result: Promise<GenerateReport> = generate(scenario, text, {
     out: target,
@@ -163,6 +169,8 @@ async function run(argv: string[], io: Io): Promise<number> {
           subframesTotal: S,
           partFile: target,
           fileBytes: (await stat(target)).size,
+          fileSha256: await fileSha256(target),
+          ...(format === 'npy' ? { sideFileSha256: await fileSha256(`${target}.json`) } : {}),
           format,
           tensorName: report.tensorName,
           dtype: report.dtype,
@@ -191,9 +199,11 @@ async function run(argv: string[], io: Io): Promise<number> {
 export const generateCommand: Command = {
   usage: `pathweave generate <scenario.json> --out <file> [--format npy|npz|h5] [--seed N]
                    [--subframes A:B] [--shard I/N|auto|auto/N] [--workers N] [--checksum]
-                   [--quiet] [--domain frequency|taps] [--max-bytes SIZE]
+                   [--quiet] [--domain frequency|taps] [--max-bytes SIZE] [--overwrite]
     --checksum   record the SHA-256 of the tensor bytes (tensorSha256; always on with --shard)
-    --out        the file written; {index} and {count} in it are replaced by the shard's I and N`,
+    --out        the file written; {index} and {count} in it are replaced by the shard's I and N
+                 (with --shard, --out must hold {index})
+    --overwrite  replace an existing output even if it is read-only or another user's`,
   run,
 };
 
@@ -202,8 +212,9 @@ export const generateCommand: Command = {
  * the .npy side file, the manifest), removed synchronously. Returns how many were removed.
  */
 function removeTemporariesOf(target: string): number {
-  const base = basename(target).replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
-  const ours = new RegExp(`^\\.${base}\\.(?:json\\.|manifest\\.json\\.)?${process.pid}-[0-9a-f]+\\.part$`);
+  const prefixes = [target, `${target}.json`, manifestPathOf(target)].map(temporaryPrefixFor);
+  const tail = new RegExp(`^${process.pid}-[0-9a-f]+\\.part$`);
+  const ours = { test: (name: string): boolean => prefixes.some((p) => name.startsWith(p) && tail.test(name.slice(p.length))) };
   let removed = 0;
   let names: string[] = [];
   try {

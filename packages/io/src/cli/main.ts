@@ -3,6 +3,8 @@
  * while running, 2 the input or the command line was refused.
  */
 import { RequestError } from '../dataset/generate.js';
+import { InputFileError, printable } from '../formats/read-support.js';
+import { OutputPathError } from '../formats/output-path.js';
 import { ScenarioError, formatProblem } from '../scenario/validate.js';
 import { PATHWEAVE_VERSION } from '../version.js';
 import { UsageError } from './args.js';
@@ -33,7 +35,9 @@ const defaultIo: Io = {
  * await main(['--version'], { out: (s) => printed.push(s), err: (s) => printed.push(s) }) // 0
  * printed // ['0.1.0']
  */
-export async function main(argv: readonly string[], io: Io = defaultIo): Promise<number> {
+export async function main(argv: readonly string[], given: Io = defaultIo): Promise<number> {
+  // Names and texts from files reach the terminal with their control characters escaped.
+  const io: Io = { out: (s) => given.out(printable(s)), err: (s) => given.err(printable(s)) };
   const [command, ...rest] = argv;
   try {
     if (command === undefined || command === 'help' || command === '--help' || command === '-h') {
@@ -53,7 +57,7 @@ export async function main(argv: readonly string[], io: Io = defaultIo): Promise
       for (const p of e.problems) io.err(`  ${formatProblem(p)}`);
       return 2;
     }
-    if (e instanceof UsageError || e instanceof RequestError) {
+    if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError || e instanceof OutputPathError) {
       io.err(`error: ${e.message}`);
       if (e instanceof UsageError) io.err('run "pathweave help" for usage');
       return 2;

@@ -1,15 +1,23 @@
 /** `pathweave merge`: the part files of a sharded run into one file (merge.ts). */
 import { formatBytes } from '../dataset/generate.js';
 import { merge } from '../dataset/merge.js';
+import { manifestPathOf } from '../dataset/manifest.js';
+import { formatFromPath } from '../formats/index.js';
+import { checkOutputPath } from '../formats/output-path.js';
+import { printable } from '../formats/read-support.js';
 import { parseArgs, UsageError } from './args.js';
 import type { Command, Io } from './common.js';
 import { Progress } from './progress.js';
 
 async function run(argv: string[], io: Io): Promise<number> {
-  const args = parseArgs('merge', argv, { out: 'value', quiet: 'flag' });
+  const args = parseArgs('merge', argv, { out: 'value', quiet: 'flag', overwrite: 'flag', 'allow-versions': 'flag' });
   const out = args.values.out;
   if (out === undefined) throw new UsageError('merge: --out <file> is required');
   if (args.positionals.length === 0) throw new UsageError('merge: give the part files, e.g. run.part-*-of-8.h5');
+  const format = formatFromPath(out);
+  if (format === undefined) throw new UsageError(`merge: cannot tell the output format of ${JSON.stringify(out)}; name it .npy, .npz or .h5`);
+  const inputs = args.positionals.flatMap((p) => [p, `${p}.json`, manifestPathOf(p)]);
+  await checkOutputPath(out, { format, overwrite: args.flags.has('overwrite'), companions: format === 'npy' ? ['.json'] : [], inputs });
   const controller = new AbortController();
   let interrupted: string | undefined;
   const onSignal = (signal: NodeJS.Signals): void => {
@@ -22,8 +30,9 @@ async function run(argv: string[], io: Io): Promise<number> {
   try {
     const report = await merge(args.positionals, out, {
       signal: controller.signal,
+      allowVersions: args.flags.has('allow-versions'),
       onProgress: (done, total) => {
-        progress ??= new Progress(`merge ${out}`, total, process.stderr, args.flags.has('quiet'));
+        progress ??= new Progress(`merge ${printable(out)}`, total, process.stderr, args.flags.has('quiet')); // written to stderr directly: escaped here
         progress.update(done);
       },
     });
@@ -44,6 +53,8 @@ async function run(argv: string[], io: Io): Promise<number> {
 
 /** The merge command. */
 export const mergeCommand: Command = {
-  usage: 'pathweave merge    <part files...> --out <file> [--quiet]',
+  usage: `pathweave merge    <part files...> --out <file> [--quiet] [--overwrite] [--allow-versions]
+    --overwrite       replace an existing output even if it is read-only or another user's
+    --allow-versions  merge parts written by different pathweave versions (named in a warning)`,
   run,
 };

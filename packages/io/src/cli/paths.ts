@@ -1,5 +1,4 @@
 /** `pathweave paths`: the paths of a scenario as a table or as explicit-path JSON. */
-import { ClusteredTimeline, TracedTimeline } from '@pathweave/core';
 import { buildScenario, summarizeTraced } from '../scenario/build.js';
 import { pathsJson, pathsTable } from '../scenario/paths.js';
 import { loadScenario } from '../scenario/validate.js';
@@ -23,12 +22,9 @@ async function run(argv: string[], io: Io): Promise<number> {
   }
   const user = built.users[userIndex]!;
   // With clusters the specular paths are listed (each stands for its sub-paths `${id}#k`).
-  const specular = user.timeline instanceof ClusteredTimeline ? user.timeline.inner : user.timeline;
-  const clustered = user.timeline instanceof ClusteredTimeline;
-  const records =
-    specular instanceof TracedTimeline
-      ? specular.pathsAt(at).map(summarizeTraced)
-      : (user.specularPaths ?? user.paths);
+  const specular = user.specularTimeline;
+  const clustered = user.timeline !== specular;
+  const records = specular.pathsAt !== undefined ? specular.pathsAt(at).map(summarizeTraced) : (user.specularPaths ?? user.paths);
   if (records.length === 0) {
     io.err(`no path exists at t = ${at} s between the transmitter and ${built.multiUser ? `user ${user.id}` : 'the receiver'}`);
     return 1;

@@ -8,18 +8,19 @@
  * Tensor layout: [S, (U,) (symbols,) K or count, Nr, Nt], complex interleaved; users follow S.
  */
 import { createHash, type Hash } from 'node:crypto';
-import { unlink } from 'node:fs/promises';
 import { totalmem } from 'node:os';
-import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS, TracedTimeline } from '@pathweave/core';
+import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
-import { writeFileAtomic } from '../formats/atomic.js';
-import { buildScenario, chooseDomain, outputEstimate, spacingOf, type BuiltScenario, type Domain } from '../scenario/build.js';
-import { sideFilePaths } from '../scenario/paths.js';
+import { commitWithSideFile } from '../formats/atomic.js';
+import { buildPlan, type BuiltScenario } from '../scenario/build.js';
+import { estimatedPathCount, outputEstimate, planScenario, sideArrayBytes, workingMemoryEstimate, type Domain, type ScenarioPlan } from '../scenario/plan.js';
 import { openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf } from '../formats/npy.js';
 import type { DatasetSink, NamedArray } from '../formats/sink.js';
-import { CURRENT_FORMAT_VERSION, type Scenario } from '../scenario/schema.js';
+import type { Scenario } from '../scenario/schema.js';
+import { sideFilePaths } from '../scenario/paths.js';
 import { PATHWEAVE_VERSION } from '../version.js';
+import { arrayShape, DATASET_ATTRIBUTES, datasetArray, unitsOf, type LayoutAxes } from './layout.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
 import { HashThread } from './workers/hash.js';
 import { BlockPool, defaultWorkers } from './workers/pool.js';
@@ -127,34 +128,26 @@ export function formatBytes(n: number): string {
 }
 
 /**
- * Working memory a run needs besides its block buffers, bytes (an estimate).
+ * Refuse up front what cannot be done, in one place for every command: a range outside the run,
+ * output over the limit, memory beyond the machine, and (with `sideArrays`) per-subframe side
+ * arrays beyond a quarter of it. `pathCount` defaults to the plan's estimate before tracing.
  * @example
  * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
- * workingMemoryEstimate(scenario, 'frequency', 8) // 43008: 8 paths x (16 x 4 x 32 + 48 x 64) + 16 x 4 x 32 (Nr 4, Nt 32, 64 bins)
- */
-export function workingMemoryEstimate(scenario: Scenario, domain: Domain, pathCount: number): number {
-  const { shape } = outputEstimate(scenario, domain, 1);
-  const n = shape.length;
-  const Nr = shape[n - 2] ?? 0, Nt = shape[n - 1] ?? 0, bins = shape[n - 3] ?? 0;
-  const users = scenario.receivers?.length ?? 1;
-  const squint = domain === 'frequency' && scenario.band?.beamSquint === true;
-  const perPath = squint ? 16 * bins * (Nr + Nt) : 16 * Nr * Nt;
-  return users * (pathCount * perPath + 48 * bins * pathCount + 16 * Nr * Nt);
-}
-
-/**
- * Refuse up front what cannot be done: output over the limit, memory beyond the machine.
- * @example
- * const { scenario } = await loadScenario('examples/street-corner-28ghz.json');
- * checkRequest(scenario, 'frequency', [0, 200], 2 ** 20, 8)
+ * checkRequest(planScenario(scenario), [0, 200], 2 ** 20, { pathCount: 8 })
  * // throws RequestError "the output would be 12.5 MiB (13107200 bytes, shape [200, 64, 4, 32]), over the limit of 1.0 MiB; raise it with --max-bytes 13107200 or ask for fewer subframes"
  */
-export function checkRequest(scenario: Scenario, domain: Domain, range: [number, number], maxBytes: number, pathCount: number): void {
-  const S = scenario.timing.subframes;
+export function checkRequest(
+  plan: ScenarioPlan,
+  range: [number, number],
+  maxBytes: number,
+  options: { pathCount?: number; sideArrays?: 'whole-run' | 'per-file' } = {},
+): void {
+  const S = plan.timing.subframes;
   if (!(range[0] >= 0 && range[1] <= S && range[0] < range[1])) {
     throw new RequestError(`--subframes ${range[0]}:${range[1]} must be a non-empty range within 0:${S}`);
   }
-  const est = outputEstimate(scenario, domain, range[1] - range[0]);
+  const pathCount = options.pathCount ?? estimatedPathCount(plan);
+  const est = outputEstimate(plan, range[1] - range[0]);
   if (est.bytes > maxBytes) {
     throw new RequestError(
       `the output would be ${formatBytes(est.bytes)} (${est.bytes} bytes, shape [${est.shape.join(', ')}]), over the limit of ${formatBytes(maxBytes)}; ` +
@@ -162,9 +155,20 @@ export function checkRequest(scenario: Scenario, domain: Domain, range: [number,
     );
   }
   const budget = totalmem() / 2;
-  const need = workingMemoryEstimate(scenario, domain, pathCount) + 2 * est.bytesPerSubframe;
+  const need = workingMemoryEstimate(plan, pathCount) + 2 * est.bytesPerSubframe;
   if (need > budget) {
     throw new RequestError(`the run would need about ${formatBytes(need)} of memory (one subframe is ${formatBytes(est.bytesPerSubframe)}), more than the ${formatBytes(budget)} this machine can spare; use fewer elements, subcarriers or paths`);
+  }
+  if (options.sideArrays === undefined) return;
+  // The side arrays (gains, ground truth) stay in memory until the commit.
+  const count = range[1] - range[0];
+  const side = sideArrayBytes(plan, count, pathCount);
+  if (side > totalmem() / 4) {
+    throw new RequestError(
+      options.sideArrays === 'whole-run'
+        ? `the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory; generate the run in shards (--shard)`
+        : `the per-subframe side arrays (gains and ground truth) would need at least ${formatBytes(side)} of memory for ${count} subframes; generate fewer subframes per file (--subframes or --shard)`,
+    );
   }
 }
 
@@ -194,32 +198,31 @@ const yieldToEventLoop = (): Promise<void> => new Promise((resolve) => setImmedi
  */
 export async function generate(scenario: Scenario, scenarioText: string, options: GenerateOptions): Promise<GenerateReport> {
   const started = process.hrtime.bigint();
-  const domain = chooseDomain(scenario, options.domain);
-  const range = options.range ?? [0, scenario.timing.subframes];
+  const plan = planScenario(scenario, { domain: options.domain, seed: options.seed });
+  const range = options.range ?? [0, plan.timing.subframes];
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_OUTPUT_BYTES;
-  // Cheap size checks before any tracing or allocation.
-  checkRequest(scenario, domain, range, maxBytes, scenario.paths?.length ?? 1);
-  const built = buildScenario(scenario, { domain, ...(options.seed !== undefined ? { seed: options.seed } : {}) });
-  checkRequest(scenario, domain, range, maxBytes, maxPathCount(built));
-  const g = built.generator;
+  // Cheap size checks before any tracing or allocation, then again with the traced path count.
+  checkRequest(plan, range, maxBytes);
+  const built = buildPlan(plan);
+  checkRequest(plan, range, maxBytes, { pathCount: maxPathCount(built) });
   const [first, end] = range;
   const count = end - first;
-  const shape = [count, ...built.shape.slice(1)];
-  const tensorName = domain === 'frequency' ? 'H' : 'h';
-  const bytesPerSubframe = built.valuesPerSubframe * g.bytesPerValue;
+  const shape = [count, ...plan.tensor.shape.slice(1)];
+  const tensorName = plan.tensor.name;
+  const bytesPerSubframe = plan.tensor.bytesPerSubframe;
   const block = blockSubframes(bytesPerSubframe);
   const blocks = Math.ceil(count / block);
   const workers = options.workers ?? defaultWorkers(blocks);
   if (!Number.isInteger(workers) || workers < 1) throw new RangeError(`generate(): options.workers must be an integer >= 1, got ${workers}`);
-  const seed = options.seed ?? scenario.seed;
-  const gainShape = [count, ...(built.multiUser ? [built.users.length] : []), ...(g.stepsPerSubframe > 1 || scenario.timing.symbolsPerSubframe !== undefined || scenario.timing.numerology !== undefined ? [g.stepsPerSubframe] : []), maxPathCount(built)];
+  const seed = plan.seed;
+  const gainShape = arrayShape('gains', { S: count, L: maxPathCount(built) }, layoutAxes(built));
   const gains = new Float64Array(2 * gainShape.reduce((a, b) => a * b, 1));
   const gainsPerSubframe = gains.length / count;
   const job: TensorJob = {
     built, first, end, block, blocks, workers, gains, gainsPerSubframe,
     values: 2 * Math.min(block, count) * built.valuesPerSubframe,
     hash: options.checksum === true ? createHash('sha256') : undefined,
-    pool: { scenario, domain, seed: options.seed, gainsPerSubframe },
+    pool: { plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe },
     between: async () => {
       await yieldToEventLoop();
       if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
@@ -228,38 +231,44 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   };
 
   const sink = await openSink(options.format, options.out);
-  let sideFile: string | undefined;
   try {
-    await sink.beginTensor({ name: tensorName, dtype: g.precision, shape, units: '1', chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
+    await sink.beginTensor({ name: tensorName, dtype: plan.precision, shape, units: unitsOf(tensorName), chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
     const { sha256, kernel } = await streamTensor(sink, job);
     await job.between(); // a signal during the last block is served before the commit
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);
-    const formatVersion = scenario.formatVersion ?? CURRENT_FORMAT_VERSION;
-    await sink.setAttribute({ name: 'scenario', dtype: 'string', value: scenarioText });
-    await sink.setAttribute({ name: 'pathweaveVersion', dtype: 'string', value: PATHWEAVE_VERSION });
-    await sink.setAttribute({ name: 'seed', dtype: 'int64', value: seed });
-    await sink.setAttribute({ name: 'subframeRange', dtype: 'string', value: `${first}:${end}` });
-    await sink.setAttribute({ name: 'subframesTotal', dtype: 'int64', value: scenario.timing.subframes });
-    if (sha256 !== undefined) await sink.setAttribute({ name: 'tensorSha256', dtype: 'string', value: sha256 });
-    await sink.setAttribute({ name: 'kernel', dtype: 'string', value: kernel });
-    await sink.setAttribute({ name: 'formatVersion', dtype: 'int32', value: formatVersion });
-    if (options.format === 'npy') {
-      // The side file goes under its name before the .npy does: a kill between the two renames
-      // leaves the new side file beside the earlier .npy (or none), never a new .npy beside an
-      // earlier side file.
-      sideFile = `${options.out}.json`;
-      await writeNpySideFile(sideFile, built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion });
+    const formatVersion = plan.formatVersion;
+    const values: Record<string, string | number | undefined> = {
+      scenario: scenarioText,
+      pathweaveVersion: PATHWEAVE_VERSION,
+      seed,
+      subframeRange: `${first}:${end}`,
+      subframesTotal: plan.timing.subframes,
+      tensorSha256: sha256,
+      kernel,
+      formatVersion,
+    };
+    // The attribute list and dtypes of dataset/layout.ts, in its order.
+    for (const a of DATASET_ATTRIBUTES) {
+      const value = values[a.name];
+      if (value === undefined) {
+        if (a.optional === true) continue;
+        throw new Error(`generate(): no value for attribute ${a.name}`);
+      }
+      await sink.setAttribute(a.dtype === 'string' ? { name: a.name, dtype: a.dtype, value: String(value) } : { name: a.name, dtype: a.dtype, value: Number(value) });
     }
-    const fileBytes = await sink.commit();
+    // A .npy's side file goes under its name before the .npy does, and is restored should the
+    // .npy's commit fail (atomic.ts, commitWithSideFile).
+    const fileBytes =
+      options.format === 'npy'
+        ? await commitWithSideFile(`${options.out}.json`, npySideFileText(built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion }), () => sink.commit())
+        : await sink.commit();
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
     return {
-      out: options.out, format: options.format, tensorName, dtype: g.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe,
+      out: options.out, format: options.format, tensorName, dtype: plan.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe,
       ...(sha256 !== undefined ? { sha256 } : {}), kernel, seconds, warnings: built.warnings, built,
     };
   } catch (e) {
     await sink.abort();
-    // A side file whose .npy never arrived describes nothing.
-    if (sideFile !== undefined) await unlink(sideFile).catch(() => undefined);
     throw e;
   }
 }
@@ -295,7 +304,7 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
   const { built, first, end, block, blocks, gains, gainsPerSubframe } = job;
   const count = end - first;
   const perSubframe = 2 * built.valuesPerSubframe;
-  const Tensor = built.generator.precision === 'complex64' ? Float32Array : Float64Array;
+  const Tensor = built.plan.precision === 'complex64' ? Float32Array : Float64Array;
   // File writes go one at a time, in order, on libuv's thread pool, overlapping the next fill;
   // `writes` settles when the last write asked for is done.
   let writes: Promise<void> = Promise.resolve();
@@ -334,7 +343,7 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
       const hasher = new HashThread();
       try {
         const buffers = [0, 1, 2].map((): Float32Array | Float64Array =>
-          built.generator.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * job.values)) : new Float64Array(new SharedArrayBuffer(8 * job.values)),
+          built.plan.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * job.values)) : new Float64Array(new SharedArrayBuffer(8 * job.values)),
         );
         const free: Array<Promise<unknown>> = buffers.map(() => Promise.resolve());
         try {
@@ -415,23 +424,25 @@ function padded(rows: number, L: number, value: (row: number, l: number) => numb
  * [side.length, side[2]!.name, side[2]!.data] // [22, 'subframeTimesS', Float64Array [0, 0.001, 0.002, 0.003]]
  */
 export function sideArrays(built: BuiltScenario, first: number, count: number, gains: Float64Array, gainShape: number[]): NamedArray[] {
-  const s = built.scenario;
+  const plan = built.plan;
   const users = built.users;
-  const U = users.length;
   const Lmax = maxPathCount(built);
-  const userAxis = built.multiUser ? [U] : [];
   const out: NamedArray[] = [];
-  out.push({ name: 'gains', dtype: 'complex128', shape: gainShape, data: gains, units: '1' });
-  if (built.domain === 'frequency') out.push({ name: 'frequenciesHz', dtype: 'float64', shape: [s.band!.subcarriers], data: subcarrierOffsetsHz(s.band!.subcarriers, spacingOf(s)), units: 'Hz' });
-  else out.push({ name: 'tapDelaysS', dtype: 'float64', shape: [s.taps!.count], data: tapDelaysS(s.taps!.count, s.taps!.sampleRateHz), units: 's' });
-  out.push({ name: 'subframeTimesS', dtype: 'float64', shape: [count], data: subframeTimesS(first, count, s.timing.subframeS), units: 's' });
+  const array = (name: string, shape: number[], data: NamedArray['data'] | string[]): NamedArray =>
+    Array.isArray(data) ? { name, dtype: 'string', shape, strings: data, units: unitsOf(name) } : { name, dtype: datasetArrayDtype(name), shape, data: data!, units: unitsOf(name) };
+  out.push({ ...array('gains', gainShape, gains), dtype: 'complex128' });
+  const g = plan.grid;
+  if (g.domain === 'frequency') out.push(array('frequenciesHz', [g.subcarriers], subcarrierOffsetsHz(g.subcarriers, g.spacingHz)));
+  else out.push(array('tapDelaysS', [g.count], tapDelaysS(g.count, g.sampleRateHz)));
+  out.push(array('subframeTimesS', [count], subframeTimesS(first, count, plan.timing.subframeS)));
 
-  // Path table: [(U,) (E,) L]; the epoch axis appears when the geometry moves.
-  const epochs = users.map((u) => (u.timeline instanceof TracedTimeline && !u.timeline.constant ? u.timeline.epochs.map((m) => u.timeline.ids.map((id) => m.get(id))) : undefined));
+  // Path table: [(U,) (E,) L]; the epoch axis appears when the geometry moves (timelines that
+  // state their epochs and are not constant).
+  const epochs = users.map((u) => (u.timeline.epochs !== undefined && !u.timeline.constant ? u.timeline.epochs.map((m) => u.timeline.ids.map((id) => m.get(id))) : undefined));
   const E = Math.max(1, ...epochs.map((e) => e?.length ?? 1));
   const moving = epochs.some((e) => e !== undefined);
-  const rows = U * (moving ? E : 1);
-  const tableShape = [...userAxis, ...(moving ? [E] : []), Lmax];
+  const axes: LayoutAxes = { ...layoutAxes(built), epochs: moving ? E : undefined };
+  const rows = users.length * (moving ? E : 1);
   const cell = (row: number, l: number): { delayS: number; powerDb: number; aodDeg: number[]; aoaDeg: number[] } | undefined => {
     const u = Math.floor(row / (moving ? E : 1));
     const e = row % (moving ? E : 1);
@@ -443,18 +454,31 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
     }
     return user.paths[l];
   };
-  out.push({ name: 'paths/delayS', dtype: 'float64', shape: tableShape, data: padded(rows, Lmax, (r, l) => cell(r, l)?.delayS), units: 's' });
-  out.push({ name: 'paths/powerDb', dtype: 'float64', shape: tableShape, data: padded(rows, Lmax, (r, l) => cell(r, l)?.powerDb), units: 'dB' });
-  out.push({ name: 'paths/aodDeg', dtype: 'float64', shape: [...tableShape, 2], data: padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aodDeg[i % 2], 2), units: 'deg' });
-  out.push({ name: 'paths/aoaDeg', dtype: 'float64', shape: [...tableShape, 2], data: padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aoaDeg[i % 2], 2), units: 'deg' });
+  const sizes = { L: Lmax };
+  out.push(array('paths/delayS', arrayShape('paths/delayS', sizes, axes), padded(rows, Lmax, (r, l) => cell(r, l)?.delayS)));
+  out.push(array('paths/powerDb', arrayShape('paths/powerDb', sizes, axes), padded(rows, Lmax, (r, l) => cell(r, l)?.powerDb)));
+  out.push(array('paths/aodDeg', arrayShape('paths/aodDeg', sizes, axes), padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aodDeg[i % 2], 2)));
+  out.push(array('paths/aoaDeg', arrayShape('paths/aoaDeg', sizes, axes), padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aoaDeg[i % 2], 2)));
   const idRows = users.map((u) => Array.from({ length: Lmax }, (_, l) => u.timeline.ids[l] ?? ''));
   const kindRows = users.map((u) => Array.from({ length: Lmax }, (_, l) => u.timeline.kinds[l] ?? ''));
-  out.push({ name: 'paths/kind', dtype: 'string', shape: [...userAxis, Lmax], strings: kindRows.flat(), units: '1' });
-  out.push({ name: 'paths/id', dtype: 'string', shape: [...userAxis, Lmax], strings: idRows.flat(), units: '1' });
-  if (moving) out.push({ name: 'paths/epochTimesS', dtype: 'float64', shape: [E], data: Float64Array.from({ length: E }, (_, e) => e * (s.timing.geometryUpdateS ?? s.timing.subframeS)), units: 's' });
+  out.push(array('paths/kind', arrayShape('paths/kind', sizes, axes), kindRows.flat()));
+  out.push(array('paths/id', arrayShape('paths/id', sizes, axes), idRows.flat()));
+  if (moving) out.push(array('paths/epochTimesS', [E], Float64Array.from({ length: E }, (_, e) => e * plan.timing.geometryUpdateS)));
 
   out.push(...truthArrays(built, first, count));
   return out;
+}
+
+/** The optional axes of a built run's arrays (users, symbols; no epoch axis). */
+function layoutAxes(built: BuiltScenario): LayoutAxes {
+  return { users: built.multiUser ? built.users.length : undefined, symbols: built.plan.timing.symbolAxis ? built.plan.timing.stepsPerSubframe : undefined, epochs: undefined };
+}
+
+/** The stored dtype of a side array of the layout table. */
+function datasetArrayDtype(name: string): Exclude<NamedArray['dtype'], 'string'> {
+  const dtype = datasetArray(name)?.dtype;
+  if (dtype === undefined || dtype === 'tensor' || dtype === 'string') throw new Error(`generate(): "${name}" is not a numeric side array of the dataset layout`);
+  return dtype;
 }
 
 /**
@@ -471,7 +495,6 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
   const users = built.users;
   const U = users.length;
   const Lmax = maxPathCount(built);
-  const userAxis = built.multiUser ? [U] : [];
   const txPos = new Float64Array(3 * count), txVel = new Float64Array(3 * count), txOri = new Float64Array(3 * count);
   const rxPos = new Float64Array(3 * count * U), rxVel = new Float64Array(3 * count * U), rxOri = new Float64Array(3 * count * U);
   const los = new Uint8Array(count * U);
@@ -519,20 +542,23 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
       }
     });
   }
-  const pathShape = [count, ...userAxis, Lmax];
+  // Shapes, dtypes and units from the layout table.
+  const axes = layoutAxes(built);
+  const sizes = { S: count, L: Lmax };
+  const row = (name: string, data: Float64Array | Uint8Array): NamedArray => ({ name, dtype: datasetArrayDtype(name), shape: arrayShape(name, sizes, axes), data, units: unitsOf(name) });
   return [
-    { name: 'truth/transmitterPosition', dtype: 'float64', shape: [count, 3], data: txPos, units: 'm' },
-    { name: 'truth/transmitterVelocity', dtype: 'float64', shape: [count, 3], data: txVel, units: 'm/s' },
-    { name: 'truth/transmitterOrientationDeg', dtype: 'float64', shape: [count, 3], data: txOri, units: 'deg' },
-    { name: 'truth/receiverPosition', dtype: 'float64', shape: [count, ...userAxis, 3], data: rxPos, units: 'm' },
-    { name: 'truth/receiverVelocity', dtype: 'float64', shape: [count, ...userAxis, 3], data: rxVel, units: 'm/s' },
-    { name: 'truth/receiverOrientationDeg', dtype: 'float64', shape: [count, ...userAxis, 3], data: rxOri, units: 'deg' },
-    { name: 'truth/lineOfSight', dtype: 'uint8', shape: [count, ...userAxis], data: los, units: '1' },
-    { name: 'truth/delayS', dtype: 'float64', shape: pathShape, data: delay, units: 's' },
-    { name: 'truth/powerDb', dtype: 'float64', shape: pathShape, data: power, units: 'dB' },
-    { name: 'truth/dopplerHz', dtype: 'float64', shape: pathShape, data: doppler, units: 'Hz' },
-    { name: 'truth/aodDeg', dtype: 'float64', shape: [...pathShape, 2], data: aod, units: 'deg' },
-    { name: 'truth/aoaDeg', dtype: 'float64', shape: [...pathShape, 2], data: aoa, units: 'deg' },
+    row('truth/transmitterPosition', txPos),
+    row('truth/transmitterVelocity', txVel),
+    row('truth/transmitterOrientationDeg', txOri),
+    row('truth/receiverPosition', rxPos),
+    row('truth/receiverVelocity', rxVel),
+    row('truth/receiverOrientationDeg', rxOri),
+    row('truth/lineOfSight', los),
+    row('truth/delayS', delay),
+    row('truth/powerDb', power),
+    row('truth/dopplerHz', doppler),
+    row('truth/aodDeg', aod),
+    row('truth/aoaDeg', aoa),
   ];
 }
 
@@ -540,17 +566,16 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
  * The side file of a .npy (`<file>.npy.json`): the tensor's description (with its sha256 when
  * computed), the format version and kernel, seed, users, paths and scenario.
  */
-async function writeNpySideFile(
-  path: string,
+function npySideFileText(
   built: BuiltScenario,
   info: { first: number; end: number; shape: number[]; tensorName: string; sha256: string | undefined; seed: number; scenarioText: string; kernel: string; formatVersion: number },
-): Promise<void> {
+): string {
   const doc = {
     formatVersion: info.formatVersion,
     pathweaveVersion: PATHWEAVE_VERSION,
     kernel: info.kernel,
     tensor: {
-      name: info.tensorName, dtype: built.generator.precision, shape: info.shape, subframes: [info.first, info.end], subframesTotal: built.scenario.timing.subframes,
+      name: info.tensorName, dtype: built.plan.precision, shape: info.shape, subframes: [info.first, info.end], subframesTotal: built.plan.timing.subframes,
       ...(info.sha256 !== undefined ? { sha256: info.sha256 } : {}),
     },
     seed: info.seed,
@@ -558,5 +583,5 @@ async function writeNpySideFile(
     paths: sideFilePaths(built.paths),
     scenario: JSON.parse(info.scenarioText) as unknown,
   };
-  await writeFileAtomic(path, JSON.stringify(doc, null, 2) + '\n');
+  return JSON.stringify(doc, null, 2) + '\n';
 }

@@ -12,19 +12,26 @@
  * could look complete.
  */
 import { createHash } from 'node:crypto';
-import { readFile, stat } from 'node:fs/promises';
+import { stat } from 'node:fs/promises';
 import { basename, extname } from 'node:path';
 import { z } from 'zod';
 import { writeFileAtomic } from '../formats/atomic.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
-import { openDatasetReader, readRowBlocks, tensorOf } from '../formats/reader.js';
+import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, type DatasetReader } from '../formats/reader.js';
+import { InputFileError, openRegularFile, readAt, readSmallFile } from '../formats/read-support.js';
+import { outputEstimate, planScenario } from '../scenario/plan.js';
+import { ScenarioError, parseScenarioText } from '../scenario/validate.js';
 import type { OutputFormat } from '../formats/index.js';
 
 /** Value of a manifest's `kind` field. @example MANIFEST_KIND // "pathweave-part-manifest" */
 export const MANIFEST_KIND = 'pathweave-part-manifest';
 
-/** Version of the manifest layout; a reader refuses other versions. @example MANIFEST_VERSION // 1 */
-export const MANIFEST_VERSION = 1;
+/**
+ * Version of the manifest layout; a reader refuses other versions. Version 2 added the sha256 of
+ * the whole part file (and of a .npy's side file), which covers every array and attribute.
+ * @example MANIFEST_VERSION // 2
+ */
+export const MANIFEST_VERSION = 2;
 
 /** Bytes of tensor read at a time when checksumming a file. */
 const HASH_BLOCK_BYTES = 16 * 2 ** 20;
@@ -37,6 +44,10 @@ const manifestSchema = z.object({
   subframesTotal: z.number().int().min(1),
   file: z.string().min(1),
   fileBytes: z.number().int().min(0),
+  /** sha256 of the whole part file: every array and attribute, not only the tensor. */
+  fileSha256: z.string().regex(/^[0-9a-f]{64}$/),
+  /** sha256 of a .npy part's side file (`<part>.json`). */
+  sideFileSha256: z.string().regex(/^[0-9a-f]{64}$/).optional(),
   format: z.enum(['npy', 'npz', 'h5']),
   tensor: z.object({
     name: z.enum(['H', 'h']),
@@ -132,15 +143,20 @@ export async function writeManifest(partFile: string, manifest: PartManifest): P
 export async function readManifest(path: string): Promise<PartManifest> {
   let text: string;
   try {
-    text = await readFile(path, 'utf8');
+    text = await readSmallFile(path, 'manifest');
   } catch (e) {
-    throw new ManifestError(`${path}: cannot read the manifest (${(e as NodeJS.ErrnoException).code ?? (e as Error).message})`);
+    const code = ((e as Error).cause as NodeJS.ErrnoException | undefined)?.code;
+    throw new ManifestError(code !== undefined ? `${path}: cannot read the manifest (${code})` : (e as Error).message);
   }
   let doc: unknown;
   try {
     doc = JSON.parse(text);
   } catch (e) {
     throw new ManifestError(`${path}: not JSON (${(e as Error).message})`);
+  }
+  const version = (doc as { manifestVersion?: unknown } | null)?.manifestVersion;
+  if (typeof version === 'number' && version < MANIFEST_VERSION) {
+    throw new ManifestError(`${path}: a manifest of version ${version}, from an earlier pathweave, without the sha256 of the whole part; rerun its shard to write a version ${MANIFEST_VERSION} manifest`);
   }
   const parsed = manifestSchema.safeParse(doc);
   if (!parsed.success) {
@@ -180,6 +196,27 @@ export async function tensorSha256OfFile(path: string): Promise<{ sha256: string
 }
 
 /**
+ * sha256 of a whole file's bytes, read 16 MiB at a time (regular files only); `signal` is
+ * checked between reads, so a long check ends at a signal.
+ * @example
+ * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
+ * (await fileSha256('run.part-0-of-2.h5')) === (await readManifest('run.part-0-of-2.h5.manifest.json')).fileSha256 // true
+ */
+export async function fileSha256(path: string, signal?: AbortSignal): Promise<string> {
+  const { handle, size } = await openRegularFile(path, 'file');
+  try {
+    const hash = createHash('sha256');
+    for (let at = 0; at < size; at += HASH_BLOCK_BYTES) {
+      if (signal?.aborted) throw signal.reason ?? new Error('aborted');
+      hash.update(await readAt(handle, at, Math.min(HASH_BLOCK_BYTES, size - at), path));
+    }
+    return hash.digest('hex');
+  } finally {
+    await handle.close();
+  }
+}
+
+/**
  * Outcome of checking a part file against its manifest.
  * @example
  * await main(['generate', 'examples/street-corner-28ghz.json', '--shard', '0/2', '--out', 'run.part-{index}-of-{count}.h5']); // run.part-0-of-2.h5 and its manifest
@@ -202,6 +239,17 @@ export async function verifyPart(partFile: string, manifest: PartManifest, optio
   if (st === undefined || !st.isFile()) return { ok: false, reason: `${partFile} is missing` };
   if (st.size !== manifest.fileBytes) return { ok: false, reason: `${partFile} is ${st.size} bytes, the manifest says ${manifest.fileBytes}` };
   if (options.full === false) return { ok: true };
+  // The whole file first: it covers every array and attribute (scenario, version, side arrays, truth, paths).
+  try {
+    const whole = await fileSha256(partFile);
+    if (whole !== manifest.fileSha256) return { ok: false, reason: `${partFile}: file sha256 ${whole} differs from the manifest's ${manifest.fileSha256} (an array or attribute was changed after it was written)` };
+    if (manifest.format === 'npy') {
+      const side = await fileSha256(`${partFile}.json`).catch(() => undefined);
+      if (side !== manifest.sideFileSha256) return { ok: false, reason: `${partFile}.json: the side file ${side === undefined ? 'is missing' : `has sha256 ${side}`}, the manifest says ${manifest.sideFileSha256 ?? 'none'}` };
+    }
+  } catch (e) {
+    return { ok: false, reason: `${partFile} cannot be read: ${(e as Error).message}` };
+  }
   let sha: { sha256: string; bytes: number };
   try {
     sha = await tensorSha256OfFile(partFile);
@@ -218,7 +266,7 @@ export async function verifyPart(partFile: string, manifest: PartManifest, optio
  * The facts of a finished part run that go into its manifest.
  * @example
  * const facts: PartFacts = { index: 0, count: 2, range: [0, 100], subframesTotal: 200, partFile: 'out/run.part-0-of-2.h5', fileBytes: 6656680,
- *   format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
+ *   fileSha256: '1'.repeat(64), format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
  *   seed: 1, pathweaveVersion: '0.1.0', kernel: 'js-float64' };
  * manifestOf(facts).part // { index: 0, count: 2 }
  */
@@ -229,6 +277,10 @@ export interface PartFacts {
   subframesTotal: number;
   partFile: string;
   fileBytes: number;
+  /** sha256 of the whole part file. */
+  fileSha256: string;
+  /** sha256 of a .npy part's side file. */
+  sideFileSha256?: string;
   format: OutputFormat;
   tensorName: 'H' | 'h';
   dtype: 'complex64' | 'complex128';
@@ -244,7 +296,7 @@ export interface PartFacts {
  * The manifest document of a finished part.
  * @example
  * const facts: PartFacts = { index: 0, count: 2, range: [0, 100], subframesTotal: 200, partFile: 'out/run.part-0-of-2.h5', fileBytes: 6656680,
- *   format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
+ *   fileSha256: '1'.repeat(64), format: 'h5', tensorName: 'H', dtype: 'complex64', shape: [100, 64, 4, 32], sha256: '0'.repeat(64), scenarioText: '{"seed": 1}',
  *   seed: 1, pathweaveVersion: '0.1.0', kernel: 'js-float64' };
  * const m = manifestOf(facts);
  * [m.file, m.scenarioSha256 === scenarioSha256('{"seed":1}')] // ['run.part-0-of-2.h5', true]: the base name; the scenario hashed canonically
@@ -258,6 +310,8 @@ export function manifestOf(f: PartFacts): PartManifest {
     subframesTotal: f.subframesTotal,
     file: basename(f.partFile),
     fileBytes: f.fileBytes,
+    fileSha256: f.fileSha256,
+    ...(f.sideFileSha256 !== undefined ? { sideFileSha256: f.sideFileSha256 } : {}),
     format: f.format,
     tensor: { name: f.tensorName, dtype: f.dtype, shape: [...f.shape], sha256: f.sha256 },
     scenarioSha256: scenarioSha256(f.scenarioText),
@@ -291,4 +345,37 @@ export async function reusablePart(
   if (m.format !== request.format) return { reusable: false, reason: `the manifest is of format ${m.format}, not ${request.format}` };
   const check = await verifyPart(partFile, m);
   return check.ok ? { reusable: true, manifest: m } : { reusable: false, reason: check.reason };
+}
+
+/**
+ * Check that a file's `scenario` attribute describes its tensor: a valid scenario whose tensor
+ * shape (after the subframe axis) and precision are the file's. A file whose scenario was edited
+ * (another band, array or precision) is refused with an InputFileError; a file without one passes.
+ * @example
+ * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
+ * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
+ * checkScenarioAttribute(await openDatasetReader('run.h5')) // passes: the scenario says 64 subcarriers, 4 x 32 ports
+ */
+export function checkScenarioAttribute(reader: DatasetReader): void {
+  const text = attributeOf(reader, 'scenario');
+  if (text === undefined) return;
+  if (typeof text !== 'string') throw new InputFileError(reader.path, 'its scenario attribute is not text');
+  let scenario;
+  try {
+    scenario = parseScenarioText(text, `${reader.path}: scenario attribute`).scenario;
+  } catch (e) {
+    if (e instanceof ScenarioError) throw new InputFileError(reader.path, `its scenario attribute is not a valid scenario (${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}, the first: ${e.problems[0]?.path ?? ''} ${e.problems[0]?.message ?? ''})`, { cause: e });
+    throw e;
+  }
+  const tensor = tensorOf(reader);
+  const domain = tensor.name === 'h' ? 'taps' : 'frequency';
+  if ((domain === 'taps' ? scenario.taps : scenario.band) === undefined) {
+    throw new InputFileError(reader.path, `its scenario attribute has no ${domain === 'taps' ? 'taps' : 'band'} section, but the file holds ${tensor.name}: the scenario or the tensor was changed`);
+  }
+  const plan = planScenario(scenario, { domain });
+  const expected = outputEstimate(plan, tensor.shape[0]).shape;
+  const dtype = plan.precision;
+  if (expected.length !== tensor.shape.length || expected.some((v, i) => v !== tensor.shape[i]) || dtype !== tensor.dtype) {
+    throw new InputFileError(reader.path, `its scenario attribute describes ${tensor.name} ${dtype} [${expected.join(', ')}], but the file holds ${tensor.dtype} [${tensor.shape.join(', ')}]: the scenario or the tensor was changed`);
+  }
 }

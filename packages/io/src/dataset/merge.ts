@@ -14,13 +14,14 @@
 import { createHash } from 'node:crypto';
 import { stat } from 'node:fs/promises';
 import { basename } from 'node:path';
-import { writeFileAtomic } from '../formats/atomic.js';
+import { commitWithSideFile } from '../formats/atomic.js';
 import { formatFromPath, openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
-import { openDatasetReader, tensorOf, attributeOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
+import { openDatasetReader, tensorOf, attributeOf, InputFileError, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import type { ArrayData, Attribute, NamedArray } from '../formats/sink.js';
 import { blockSubframes, RequestError } from './generate.js';
-import { manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
+import { datasetArray, unitsOf } from './layout.js';
+import { checkScenarioAttribute, fileSha256, manifestPathOf, readManifest, ManifestError, type PartManifest } from './manifest.js';
 
 /**
  * Options of a merge.
@@ -36,8 +37,10 @@ export interface MergeOptions {
   format?: OutputFormat;
   /** Called after each block with subframes copied and total. */
   onProgress?: (done: number, total: number) => void;
-  /** Checked between blocks; when aborted the temporary file is removed. */
+  /** Checked between blocks, also while the parts are checked; when aborted the temporary file is removed. */
   signal?: AbortSignal;
+  /** Merge parts written by different pathweave versions (named in a warning); refused otherwise. */
+  allowVersions?: boolean;
 }
 
 /**
@@ -62,33 +65,9 @@ export interface MergeReport {
   warnings: string[];
 }
 
-/** Units of the side arrays generate writes, for formats that keep none (NPZ). */
-const UNITS: Record<string, string> = {
-  gains: '1',
-  frequenciesHz: 'Hz',
-  tapDelaysS: 's',
-  subframeTimesS: 's',
-  'paths/delayS': 's',
-  'paths/powerDb': 'dB',
-  'paths/aodDeg': 'deg',
-  'paths/aoaDeg': 'deg',
-  'paths/epochTimesS': 's',
-  'truth/transmitterPosition': 'm',
-  'truth/transmitterVelocity': 'm/s',
-  'truth/transmitterOrientationDeg': 'deg',
-  'truth/receiverPosition': 'm',
-  'truth/receiverVelocity': 'm/s',
-  'truth/receiverOrientationDeg': 'deg',
-  'truth/delayS': 's',
-  'truth/powerDb': 'dB',
-  'truth/dopplerHz': 'Hz',
-  'truth/aodDeg': 'deg',
-  'truth/aoaDeg': 'deg',
-};
-
-/** Whether a side array has the subframe axis first (and is concatenated by merge). @example isPerSubframe('truth/delayS') // true */
+/** Whether a side array has the subframe axis first (and is concatenated by merge), from the layout table. @example isPerSubframe('truth/delayS') // true */
 export function isPerSubframe(name: string): boolean {
-  return name === 'gains' || name === 'subframeTimesS' || name.startsWith('truth/');
+  return datasetArray(name)?.perSubframe === true;
 }
 
 interface Part {
@@ -125,7 +104,7 @@ function equalData(a: NamedArray, b: NamedArray): boolean {
 }
 
 /** Check the manifests and the tiling of the parts; returns them sorted by first subframe. */
-async function checkParts(partFiles: string[]): Promise<{ manifest: PartManifest; path: string }[]> {
+async function checkParts(partFiles: string[], options: MergeOptions, warnings: string[]): Promise<{ manifest: PartManifest; path: string }[]> {
   if (partFiles.length === 0) refuse('no part files given');
   const seen = new Set<string>();
   const parts: { manifest: PartManifest; path: string }[] = [];
@@ -148,6 +127,7 @@ async function checkParts(partFiles: string[]): Promise<{ manifest: PartManifest
     if (b.scenarioSha256 !== a.scenarioSha256) refuse(`${p.path} is of another scenario than ${ref.path} (scenario sha256 ${b.scenarioSha256.slice(0, 12)}... against ${a.scenarioSha256.slice(0, 12)}...)`);
     if (b.seed !== a.seed) refuse(`${p.path} is of seed ${b.seed}, ${ref.path} of seed ${a.seed}`);
     if (b.subframesTotal !== a.subframesTotal) refuse(`${p.path} is of a run of ${b.subframesTotal} subframes, ${ref.path} of ${a.subframesTotal}`);
+    if (b.format !== a.format) refuse(`${p.path} is a part in ${b.format}, ${ref.path} in ${a.format}: the parts of one run share one format (a mixed-format merge is refused); regenerate the odd parts or convert them`);
     if (b.tensor.name !== a.tensor.name || b.tensor.dtype !== a.tensor.dtype || !sameShape(b.tensor.shape.slice(1), a.tensor.shape.slice(1))) {
       refuse(`${p.path} holds ${b.tensor.name} ${b.tensor.dtype} [${b.tensor.shape.join(', ')}], ${ref.path} holds ${a.tensor.name} ${a.tensor.dtype} [${a.tensor.shape.join(', ')}]`);
     }
@@ -162,6 +142,27 @@ async function checkParts(partFiles: string[]): Promise<{ manifest: PartManifest
     next = b;
   }
   if (next < S) refuse(`subframes ${next}:${S} are in no part (missing at the end); give every part of the run`);
+  const versions = [...new Set(parts.map((p) => p.manifest.pathweaveVersion))];
+  if (versions.length > 1) {
+    const list = versions.map((v) => `${v} (${parts.filter((p) => p.manifest.pathweaveVersion === v).map((p) => p.path).join(', ')})`).join('; ');
+    if (options.allowVersions !== true) refuse(`the parts were written by different pathweave versions: ${list}; regenerate them with one version, or give --allow-versions to merge them anyway`);
+    warnings.push(`the parts were written by different pathweave versions (${list}); merged as asked (--allow-versions)`);
+  }
+  // Every byte of every part (and of a .npy's side file) against its manifest, before anything is written.
+  for (const p of parts) {
+    if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+    const { size } = await stat(p.path).catch(() => refuse(`${p.path} is missing`));
+    if (size !== p.manifest.fileBytes) refuse(`${p.path} is ${size} bytes, its manifest says ${p.manifest.fileBytes}: the part was changed or truncated after it was written`);
+    const whole = await fileSha256(p.path, options.signal).catch((e: unknown) => {
+      if (e instanceof InputFileError) refuse(e.message);
+      throw e;
+    });
+    if (whole !== p.manifest.fileSha256) refuse(`${p.path}: file sha256 ${whole} differs from its manifest's ${p.manifest.fileSha256}: an array or attribute of the part was changed after it was written; regenerate it (rerun its shard)`);
+    if (p.manifest.format === 'npy') {
+      const side = await fileSha256(`${p.path}.json`, options.signal).catch((e: Error) => refuse(`${p.path}.json: ${e.message}`));
+      if (side !== p.manifest.sideFileSha256) refuse(`${p.path}.json: side file sha256 ${side} differs from its manifest's ${p.manifest.sideFileSha256 ?? '(none)'}; regenerate the part`);
+    }
+  }
   return parts;
 }
 
@@ -180,15 +181,20 @@ export async function merge(partFiles: string[], out: string, options: MergeOpti
   const started = process.hrtime.bigint();
   const format = options.format ?? formatFromPath(out);
   if (format === undefined) refuse(`cannot tell the output format of ${out}; name it .npy, .npz or .h5`);
-  const checked = await checkParts(partFiles);
   const warnings: string[] = [];
+  const checked = await checkParts(partFiles, options, warnings);
   const parts: Part[] = [];
   try {
     for (const { path, manifest } of checked) {
       const { size } = await stat(path).catch(() => refuse(`${path} is missing`));
       if (size !== manifest.fileBytes) refuse(`${path} is ${size} bytes, its manifest says ${manifest.fileBytes}: the part was changed or truncated after it was written`);
-      const reader = await openDatasetReader(path).catch((e: Error) => refuse(`${path} cannot be read: ${e.message}`));
+      const reader = await openDatasetReader(path);
+      if (reader.format !== manifest.format) {
+        await reader.close();
+        refuse(`${path} is ${reader.format}, its manifest says ${manifest.format}`);
+      }
       parts.push({ path, manifest, reader, tensor: tensorOf(reader) });
+      checkScenarioAttribute(reader);
       const t = parts[parts.length - 1]!.tensor;
       if (t.name !== manifest.tensor.name && reader.format !== 'npy') refuse(`${path} holds ${t.name}, its manifest says ${manifest.tensor.name}`);
       if (t.dtype !== manifest.tensor.dtype || !sameShape(t.shape, manifest.tensor.shape)) {
@@ -225,11 +231,12 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
       if (stored === first.tensor) continue;
       const perPart: NamedArray[] = [];
       for (const p of parts) {
+        if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
         const a = p.reader.arrays.find((x) => x.name === stored.name);
         if (a === undefined) refuse(`${p.path} has no array ${stored.name}, ${first.path} has`);
         perPart.push(await p.reader.readArray(stored.name));
       }
-      const units = stored.units ?? UNITS[stored.name] ?? '1';
+      const units = stored.units ?? unitsOf(stored.name);
       if (isPerSubframe(stored.name)) {
         perPart.forEach((a, i) => {
           const rows = parts[i]!.manifest.range[1] - parts[i]!.manifest.range[0];
@@ -276,8 +283,8 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
       return a;
     });
     if (format !== 'npy') for (const a of attributes) await sink.setAttribute(a);
-    const fileBytes = await sink.commit();
-    if (format === 'npy') await writeSideFile(out, first.reader as NpyReader, shape, S, sha256);
+    // The side file first, restored should the .npy's commit fail (as generate does).
+    const fileBytes = format === 'npy' ? await commitWithSideFile(`${out}.json`, sideFileText(first.reader as NpyReader, shape, S, sha256), () => sink.commit()) : await sink.commit();
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
     return { out, format, tensorName: m.tensor.name, dtype: m.tensor.dtype, shape, parts: parts.length, fileBytes, sha256, seconds, warnings };
   } catch (e) {
@@ -287,8 +294,8 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
 }
 
 /** The merged .npy's side file: the first part's, with the tensor fields of the whole run. */
-async function writeSideFile(out: string, first: NpyReader, shape: number[], S: number, sha256: string): Promise<void> {
+function sideFileText(first: NpyReader, shape: number[], S: number, sha256: string): string {
   const doc = { ...(first.side ?? {}) };
   doc.tensor = { ...(doc.tensor ?? {}), shape, subframes: [0, S], subframesTotal: S, sha256 };
-  await writeFileAtomic(`${out}.json`, JSON.stringify(doc, null, 2) + '\n');
+  return JSON.stringify(doc, null, 2) + '\n';
 }

@@ -10,7 +10,7 @@
  * reader ever sees a partial file under the final name.
  */
 import { randomBytes } from 'node:crypto';
-import { open, rename, unlink, type FileHandle } from 'node:fs/promises';
+import { link, open, rename, unlink, type FileHandle } from 'node:fs/promises';
 import { unlinkSync } from 'node:fs';
 import { basename, dirname, join } from 'node:path';
 
@@ -76,7 +76,28 @@ export function removeLiveTemporaryFiles(): string[] {
  * @example temporaryPathFor('/data/run.npy') // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
  */
 export function temporaryPathFor(target: string): string {
-  return join(dirname(target), `.${basename(target)}.${process.pid}-${randomBytes(8).toString('hex')}.part`);
+  return join(dirname(target), `${temporaryPrefixFor(target)}${process.pid}-${randomBytes(8).toString('hex')}.part`);
+}
+
+/** Bytes a temporary name adds after its prefix: the process id (at most 7 digits on Linux), "-", 16 hex digits, ".part". */
+const TEMPORARY_TAIL_BYTES = 7 + 1 + 16 + 5;
+
+/**
+ * The start of every temporary name of `target` (before the process id): "." and the target's
+ * name and ".", the name cut short (at a character boundary) where the whole would pass the
+ * 255-byte file-name limit, so a valid final name never yields a temporary name too long.
+ * @example temporaryPrefixFor('/data/run.npy') // ".run.npy."
+ * @example Buffer.byteLength(temporaryPrefixFor('x'.repeat(255))) // 226: room for a 7-digit process id, "-", 16 hex digits and ".part"
+ */
+export function temporaryPrefixFor(target: string): string {
+  let name = basename(target);
+  const room = 255 - TEMPORARY_TAIL_BYTES - 2;
+  if (Buffer.byteLength(name) > room) {
+    const chars = [...name];
+    while (Buffer.byteLength(chars.join('')) > room - 1) chars.pop();
+    name = `${chars.join('')}~`; // "~" marks a shortened name
+  }
+  return `.${name}.`;
 }
 
 /** What the system's error codes mean for an output file, in words. */
@@ -267,6 +288,53 @@ export async function writeFileAtomic(target: string, data: Uint8Array | string)
     await f.commit();
   } catch (e) {
     await f.abort();
+    throw e;
+  }
+}
+
+/**
+ * Commit a data file and the side file that describes it, in the documented order (the side
+ * file under its name first, then the data file's rename, `commitMain`), so a kill between the
+ * two renames leaves the new side file beside the earlier data file, never a new data file beside
+ * an earlier side file. When `commitMain` fails, the earlier side file is put back (kept as a
+ * hard link meanwhile) or, if there was none, the new one removed: an error never deletes a side
+ * file that was already in place. Resolves to what `commitMain` resolves to.
+ * @example
+ * const dir = mkdtempSync(join(tmpdir(), 'pw-'));
+ * const file = await AtomicFile.create(join(dir, 'run.npy'));
+ * await file.write(Uint8Array.of(1));
+ * await commitWithSideFile(join(dir, 'run.npy.json'), '{}', async () => (await file.commit(), 1)) // 1
+ * readdirSync(dir).sort() // ['run.npy', 'run.npy.json']
+ */
+export async function commitWithSideFile<T>(sidePath: string, text: string, commitMain: () => Promise<T>): Promise<T> {
+  const side = await AtomicFile.create(sidePath);
+  let backup: string | undefined;
+  try {
+    await side.write(new TextEncoder().encode(text));
+    const earlier = temporaryPathFor(sidePath);
+    try {
+      await link(sidePath, earlier);
+      backup = earlier;
+      live.add(backup);
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'ENOENT') throw new OutputFileError(sidePath, 'commit', e);
+    }
+    await side.commit();
+  } catch (e) {
+    await side.abort();
+    if (backup !== undefined) await unlink(backup).catch(() => undefined), live.delete(backup);
+    throw e;
+  }
+  try {
+    const result = await commitMain();
+    if (backup !== undefined) await unlink(backup).catch(() => undefined), live.delete(backup);
+    return result;
+  } catch (e) {
+    // Put the earlier side file back (or take the new one away): it describes the earlier data file.
+    if (backup !== undefined) {
+      await rename(backup, sidePath).catch(() => undefined);
+      live.delete(backup);
+    } else await unlink(sidePath).catch(() => undefined);
     throw e;
   }
 }

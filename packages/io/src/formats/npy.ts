@@ -35,6 +35,9 @@ export const DTYPE_BYTES: Record<Exclude<DType, 'string'>, number> = { complex64
  * @example npyHeader('<f8', [3]).length % 64 // 0
  */
 export function npyHeader(descr: string, shape: readonly number[], fortranOrder = false, forceVersion2 = false): Uint8Array {
+  // Refused rather than escaped: nothing else is a numpy descr, and a quote would end the literal.
+  if (typeof descr !== 'string' || !/^[<>|=][a-zA-Z][0-9]*$/.test(descr)) throw new RangeError(`npyHeader(): descr must look like "<c8" or "|u1", got ${JSON.stringify(descr)}`);
+  if (!Array.isArray(shape) || !shape.every((d) => Number.isSafeInteger(d) && d >= 0)) throw new RangeError(`npyHeader(): shape must be integers >= 0, got ${JSON.stringify(shape)}`);
   const shapeText = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
   const dict = `{'descr': '${descr}', 'fortran_order': ${fortranOrder ? 'True' : 'False'}, 'shape': ${shapeText}, }`;
   let major = 1;
@@ -81,19 +84,88 @@ export function parseNpyHeader(bytes: Uint8Array): NpyHeaderInfo {
   const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   const prefix = major === 1 ? 10 : 12;
   if (major !== 1 && major !== 2 && major !== 3) throw new RangeError(`parseNpyHeader(): unsupported NPY version ${major}.${minor}`);
+  if (bytes.length < prefix) throw new RangeError(`parseNpyHeader(): header needs ${prefix} bytes, got ${bytes.length}`);
   const length = major === 1 ? view.getUint16(8, true) : view.getUint32(8, true);
   if (bytes.length < prefix + length) throw new RangeError(`parseNpyHeader(): header needs ${prefix + length} bytes, got ${bytes.length}`);
   const text = new TextDecoder('latin1').decode(bytes.subarray(prefix, prefix + length));
-  const descr = /'descr':\s*'([^']+)'/.exec(text)?.[1];
-  const fortran = /'fortran_order':\s*(True|False)/.exec(text)?.[1];
-  const shapeText = /'shape':\s*\(([^)]*)\)/.exec(text)?.[1];
-  if (descr === undefined || fortran === undefined || shapeText === undefined) throw new RangeError(`parseNpyHeader(): cannot read header ${JSON.stringify(text)}`);
-  const shape = shapeText
-    .split(',')
-    .map((s) => s.trim())
-    .filter((s) => s !== '')
-    .map(Number);
-  return { version: [major, minor], descr, fortranOrder: fortran === 'True', shape, dataOffset: prefix + length };
+  const dict = parseHeaderDict(text);
+  return { version: [major, minor], descr: dict.descr, fortranOrder: dict.fortranOrder, shape: dict.shape, dataOffset: prefix + length };
+}
+
+/**
+ * The header's Python dict literal, read strictly (the NPY format specification): exactly the
+ * keys descr, fortran_order and shape, each once (numpy's reader would take the last of a repeated
+ * key; refusing one keeps numpy and pathweave from reading different arrays), a string descr, True
+ * or False, and a tuple of decimal integers >= 0.
+ */
+function parseHeaderDict(text: string): { descr: string; fortranOrder: boolean; shape: number[] } {
+  const fail = (what: string): never => {
+    throw new RangeError(`parseNpyHeader(): ${what} in header ${JSON.stringify(text.length > 200 ? `${text.slice(0, 200)}...` : text)}`);
+  };
+  let at = 0;
+  const space = (): void => {
+    while (at < text.length && (text[at] === ' ' || text[at] === '\t' || text[at] === '\n')) at++;
+  };
+  const expect = (c: string): void => {
+    space();
+    if (text[at] !== c) fail(`expected ${JSON.stringify(c)} at ${at}`);
+    at++;
+  };
+  const quoted = (): string => {
+    space();
+    const q = text[at];
+    if (q !== "'" && q !== '"') fail(`expected a quoted string at ${at}`);
+    const end = text.indexOf(q!, at + 1);
+    if (end < 0) fail('an unterminated string');
+    const v = text.slice(at + 1, end);
+    at = end + 1;
+    return v;
+  };
+  const seen = new Map<string, unknown>();
+  expect('{');
+  for (;;) {
+    space();
+    if (text[at] === '}') break;
+    const key = quoted();
+    if (seen.has(key)) fail(`key ${JSON.stringify(key)} given twice`);
+    expect(':');
+    space();
+    let value: unknown;
+    if (key === 'descr') value = quoted();
+    else if (key === 'fortran_order') {
+      const m = /^(True|False)/.exec(text.slice(at));
+      if (m === null) fail('fortran_order must be True or False');
+      value = m![1] === 'True';
+      at += m![1]!.length;
+    } else if (key === 'shape') {
+      expect('(');
+      const dims: number[] = [];
+      for (;;) {
+        space();
+        if (text[at] === ')') break;
+        const m = /^[0-9]+/.exec(text.slice(at));
+        if (m === null) fail(`shape entry ${dims.length} is not a decimal integer >= 0`);
+        const d = Number(m![0]);
+        if (!Number.isSafeInteger(d)) fail(`shape entry ${dims.length} = ${m![0]} is beyond 2^53`);
+        dims.push(d);
+        at += m![0].length;
+        space();
+        if (text[at] === ',') at++;
+        else if (text[at] !== ')') fail(`shape entry ${dims.length - 1} is not followed by "," or ")"`);
+      }
+      at++;
+      if (dims.length === 1 && !/,\s*\)$/.test(text.slice(0, at))) fail('a 1-d shape must be written (n,)');
+      value = dims;
+    } else fail(`unknown key ${JSON.stringify(key)}; an NPY header holds descr, fortran_order and shape`);
+    seen.set(key, value);
+    space();
+    if (text[at] === ',') at++;
+    else if (text[at] !== '}') fail(`expected "," or "}" at ${at}`);
+  }
+  at++;
+  if (!/^[ \n]*$/.test(text.slice(at))) fail('text after the closing brace');
+  for (const k of ['descr', 'fortran_order', 'shape']) if (!seen.has(k)) fail(`no ${k}`);
+  return { descr: seen.get('descr') as string, fortranOrder: seen.get('fortran_order') as boolean, shape: seen.get('shape') as number[] };
 }
 
 /**

@@ -16,14 +16,13 @@
  * NPY: the one array is the tensor; its name ("H" or "h") and the root attributes come from the
  * side file `<file>.json` that generate writes beside it (without one the array is "tensor").
  */
-import { open } from 'node:fs/promises';
 import type { ArrayData } from './sink.js';
-import type { DatasetReader, StoredArray } from './read-support.js';
+import { InputFileError, openRegularFile, type DatasetReader, type StoredArray } from './read-support.js';
 import { NpyReader } from './npy-reader.js';
 import { NpzReader } from './npz-reader.js';
 import { Hdf5Reader } from './hdf5-reader.js';
 
-export type { DatasetReader, StoredArray } from './read-support.js';
+export { InputFileError, READ_LIMITS, printable, type DatasetReader, type StoredArray } from './read-support.js';
 export { NpyReader, type NpySideFile } from './npy-reader.js';
 
 const ZIP_MAGIC = 0x04034b50;
@@ -41,10 +40,11 @@ const HDF5_MAGIC = Buffer.from([0x89, 0x48, 0x44, 0x46, 0x0d, 0x0a, 0x1a, 0x0a])
  * await reader.close();
  */
 export async function openDatasetReader(path: string): Promise<DatasetReader> {
-  const handle = await open(path, 'r');
+  const { handle, size } = await openRegularFile(path, 'input file');
   let keep = false;
   try {
     const head = Buffer.alloc(8);
+    if (size < 8) throw new InputFileError(path, `is ${size} bytes: too short to be an NPY, a zip (.npz) or an HDF5 file`);
     await handle.read(head, 0, 8, 0);
     if (head.readUInt32LE(0) === ZIP_MAGIC) {
       const reader = await NpzReader.open(path, handle);
@@ -57,7 +57,7 @@ export async function openDatasetReader(path: string): Promise<DatasetReader> {
       return reader;
     }
     if (head.equals(HDF5_MAGIC)) return await Hdf5Reader.open(path);
-    throw new RangeError(`openDatasetReader(): ${path} is neither an NPY, a zip (.npz) nor an HDF5 file (first bytes ${head.toString('hex')})`);
+    throw new InputFileError(path, `is neither an NPY, a zip (.npz) nor an HDF5 file (first bytes ${head.toString('hex')})`);
   } finally {
     if (!keep) await handle.close();
   }
@@ -90,9 +90,10 @@ export async function* readRowBlocks(reader: DatasetReader, name: string, blockR
  */
 export function tensorOf(reader: DatasetReader): StoredArray {
   const t = reader.arrays.find((a) => a.name === 'H') ?? reader.arrays.find((a) => a.name === 'h') ?? (reader.format === 'npy' ? reader.arrays[0] : undefined);
-  if (t === undefined || (t.dtype !== 'complex64' && t.dtype !== 'complex128')) {
-    throw new RangeError(`tensorOf(): ${reader.path} holds no complex channel tensor H or h; it has ${reader.arrays.map((a) => a.name).join(', ') || 'no arrays'}`);
-  }
+  if (t === undefined) throw new InputFileError(reader.path, `holds no channel tensor H or h; it has ${reader.arrays.map((a) => a.name).join(', ') || 'no arrays'}`);
+  if (t.dtype !== 'complex64' && t.dtype !== 'complex128') throw new InputFileError(reader.path, `its tensor ${t.name} is ${t.dtype}; a channel tensor is complex64 or complex128`);
+  if (t.shape.length < 3) throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]; a channel tensor has at least 3 axes (subframes first)`);
+  if (t.shape[0] === 0 || t.shape.includes(0)) throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]: no data (pathweave never writes an empty tensor)`);
   return t;
 }
 

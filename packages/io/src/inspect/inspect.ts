@@ -17,6 +17,8 @@ import { stat } from 'node:fs/promises';
 import { DTYPE_BYTES } from '../formats/npy.js';
 import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import { formatBytes, RequestError } from '../dataset/generate.js';
+import { planScenario } from '../scenario/plan.js';
+import { safeParseScenario } from '../scenario/validate.js';
 
 /**
  * Options of `inspectFile`.
@@ -213,10 +215,15 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
   } catch {
     return { lines: ['  scenario     (recorded, but not JSON)'], data: undefined };
   }
+  // A scenario this build validates is read through its plan (defaults applied as generate
+  // applied them); one it does not (another version's) is read as recorded, key by key.
+  const checked = safeParseScenario(s);
+  const plan = checked.ok ? planScenario(checked.scenario) : undefined;
   const elements = (a: any): number => (a?.kind === 'upa' ? (a.rows ?? 1) * (a.columns ?? 1) : a?.kind === 'custom' ? (a.positions?.length ?? 0) : (a?.elements ?? 1));
   const layout = (a: any): string => (a?.kind === 'upa' ? `UPA ${a.rows}x${a.columns}` : a?.kind === 'custom' ? `custom ${elements(a)}` : `ULA ${a?.elements}`);
-  const receivers: any[] = s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []);
-  const grid = s.band !== undefined ? `${s.band.subcarriers} subcarriers x ${s.band.spacingHz / 1e3} kHz` : s.taps !== undefined ? `${s.taps.count} taps at ${s.taps.sampleRateHz / 1e6} MHz` : '';
+  const receivers: any[] = plan !== undefined ? plan.users.map((u) => u.config) : (s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []));
+  const spacingHz = plan?.grid.domain === 'frequency' ? plan.grid.spacingHz : s.band?.spacingHz;
+  const grid = s.band !== undefined ? `${s.band.subcarriers} subcarriers x ${spacingHz / 1e3} kHz` : s.taps !== undefined ? `${s.taps.count} taps at ${s.taps.sampleRateHz / 1e6} MHz` : '';
   const source = s.scene !== undefined ? `scene of ${s.scene.walls?.length ?? 0} walls, ${s.scene.scatterers?.length ?? 0} scatterers (traced)` : `${s.paths?.length ?? 0} explicit paths`;
   const data = {
     name: s.name,
@@ -224,8 +231,8 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
     subframes: s.timing?.subframes,
     subframeS: s.timing?.subframeS,
     grid,
-    transmitterElements: elements(s.transmitter?.array),
-    receiverElements: receivers.map((r) => elements(r.array)),
+    transmitterElements: plan !== undefined ? plan.transmitter.array.elements : elements(s.transmitter?.array),
+    receiverElements: plan !== undefined ? plan.users.map((u) => u.array.elements) : receivers.map((r) => elements(r.array)),
     users: receivers.length,
     fading: s.fading?.model,
     seed: s.seed,
@@ -259,9 +266,7 @@ export async function inspectFile(file: string, options: InspectOptions = {}): P
       throw new RequestError(`inspect: cannot read ${file}: ${e.code ?? e.message}`);
     },
   );
-  const reader = await openDatasetReader(file).catch((e: Error) => {
-    throw new RequestError(`inspect: cannot read ${file}: ${e.message}`);
-  });
+  const reader = await openDatasetReader(file);
   try {
     const tensor = tensorOf(reader);
     const lines = [`${file}: ${reader.format}, ${formatBytes(fileBytes)} (${fileBytes} bytes)`];

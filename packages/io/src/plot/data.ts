@@ -6,9 +6,10 @@
  * [S, (U,) (symbols,) L]; truth/* [S, (U,) L (, 2)].
  */
 import { readFile } from 'node:fs/promises';
-import { besselJ0, TracedTimeline } from '@pathweave/core';
+import { besselJ0 } from '@pathweave/core';
 import { buildScenario, summarizeTraced, type BuiltScenario, type PathSummary } from '../scenario/build.js';
 import { fillBlock, maxPathCount, RequestError } from '../dataset/generate.js';
+import { checkScenarioAttribute } from '../dataset/manifest.js';
 import { attributeOf, openDatasetReader, tensorOf, type DatasetReader } from '../formats/reader.js';
 import { parseScenarioText } from '../scenario/validate.js';
 import type { Scenario } from '../scenario/schema.js';
@@ -51,6 +52,7 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
   try {
     const text = attributeOf(reader, 'scenario');
     if (typeof text !== 'string') throw new RequestError(`${file} carries no scenario attribute (was it written by pathweave generate?)`);
+    checkScenarioAttribute(reader); // the figure is computed from the scenario: it must be the tensor's
     const { scenario } = parseScenarioText(text, `${file}: scenario`);
     const seed = attributeOf(reader, 'seed');
     const built = buildScenario(scenario, { domain: tensorOf(reader).name === 'h' ? 'taps' : reader.format === 'npy' ? undefined : 'frequency', ...(typeof seed === 'number' ? { seed } : {}) });
@@ -94,7 +96,7 @@ function userIndex(source: PlotSource, user: number): number {
  */
 export function pathsAt(source: PlotSource, atS = 0, user = 0): PathSummary[] {
   const u = source.built.users[userIndex(source, user)]!;
-  return u.timeline instanceof TracedTimeline ? u.timeline.pathsAt(atS).map(summarizeTraced) : u.paths;
+  return u.timeline.pathsAt !== undefined ? u.timeline.pathsAt(atS).map(summarizeTraced) : u.paths;
 }
 
 /**
@@ -106,7 +108,7 @@ export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigure
   const s = source.scenario;
   if (s.scene === undefined) throw new RequestError(`${source.file}: the scene figure needs a scenario with a scene; this one lists its paths explicitly`);
   const b = source.built;
-  const end = (s.timing.subframes - 1) * s.timing.subframeS;
+  const end = (b.plan.timing.subframes - 1) * b.plan.timing.subframeS;
   const steps = 40;
   const receivers: FigureTerminal[] = b.users.map((u) => {
     const motion = u.spec.receiver.motion!;
@@ -197,7 +199,7 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
   const shape = r !== undefined ? tensorOf(r).shape : b.shape;
   const { bins, Nr, Nt, perUser } = subframeLayout(b, shape);
   if (!(Number.isInteger(er) && er >= 0 && er < Nr && Number.isInteger(et) && et >= 0 && et < Nt)) throw new RequestError(`element must be [r, t] with r in [0, ${Nr - 1}] and t in [0, ${Nt - 1}], got [${er}, ${et}]`);
-  const S = r !== undefined ? shape[0]! : Math.min(options.subframes ?? b.scenario.timing.subframes, b.scenario.timing.subframes, 2000);
+  const S = r !== undefined ? shape[0]! : Math.min(options.subframes ?? b.plan.timing.subframes, b.plan.timing.subframes, 2000);
   const out = new Float64Array(S * bins);
   const pick = (block: Float32Array | Float64Array, count: number, firstRow: number): void => {
     const stride = b.multiUser ? b.users.length * perUser : perUser;
@@ -217,18 +219,19 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
       const n = Math.min(blockRows, S - s);
       pick((await r.readRows(name, s, s + n)) as Float32Array | Float64Array, n, s);
     }
-    timesS = r.arrays.some((a) => a.name === 'subframeTimesS') ? ((await r.readArray('subframeTimesS')).data as Float64Array) : Float64Array.from({ length: S }, (_, s) => s * b.scenario.timing.subframeS);
+    timesS = r.arrays.some((a) => a.name === 'subframeTimesS') ? ((await r.readArray('subframeTimesS')).data as Float64Array) : Float64Array.from({ length: S }, (_, s) => s * b.plan.timing.subframeS);
   } else {
-    const buffer = b.generator.precision === 'complex128' ? new Float64Array(2 * blockRows * b.valuesPerSubframe) : new Float32Array(2 * blockRows * b.valuesPerSubframe);
+    const buffer = b.plan.precision === 'complex128' ? new Float64Array(2 * blockRows * b.valuesPerSubframe) : new Float32Array(2 * blockRows * b.valuesPerSubframe);
     for (let s = 0; s < S; s += blockRows) {
       const n = Math.min(blockRows, S - s);
       const view = buffer.subarray(0, 2 * n * b.valuesPerSubframe);
       fillBlock(b, view, s, n);
       pick(view, n, s);
     }
-    timesS = Float64Array.from({ length: S }, (_, s) => s * b.scenario.timing.subframeS);
+    timesS = Float64Array.from({ length: S }, (_, s) => s * b.plan.timing.subframeS);
   }
-  const binsAxis = b.domain === 'frequency' ? centredOffsets(bins, b) : Float64Array.from({ length: bins }, (_, n) => n / b.scenario.taps!.sampleRateHz);
+  const grid = b.plan.grid;
+  const binsAxis = grid.domain === 'frequency' ? centredOffsets(bins, b) : Float64Array.from({ length: bins }, (_, n) => n / grid.sampleRateHz);
   return {
     magnitudeDb: out,
     timesS,
@@ -276,7 +279,7 @@ export async function correlationOf(source: PlotSource, options: { user?: number
     rows = new Float64Array(2 * S * Lmax);
     take(g, S, 0, rows);
   } else {
-    S = Math.min(options.subframes ?? b.scenario.timing.subframes, b.scenario.timing.subframes);
+    S = Math.min(options.subframes ?? b.plan.timing.subframes, b.plan.timing.subframes);
     rows = new Float64Array(2 * S * Lmax);
     const block = Math.max(1, Math.min(S, Math.floor(4e6 / (b.valuesPerSubframe || 1))));
     const tensor = gen.precision === 'complex128' ? new Float64Array(2 * block * b.valuesPerSubframe) : new Float32Array(2 * block * b.valuesPerSubframe);
@@ -288,7 +291,7 @@ export async function correlationOf(source: PlotSource, options: { user?: number
     }
   }
   // Default: four Doppler periods (J0's first few swings), within a quarter of the run.
-  const T = b.scenario.timing.subframeS;
+  const T = b.plan.timing.subframeS;
   const fastest = Math.max(0, ...gen.correlations.flatMap((c) => c.dopplersHz));
   const periods = fastest > 0 ? Math.ceil(4 / (fastest * T)) : 200;
   const maxLag = Math.min(options.lags ?? Math.min(200, Math.max(20, periods), Math.floor(S / 4)), S);
@@ -299,7 +302,7 @@ export async function correlationOf(source: PlotSource, options: { user?: number
   const estimate = gainCorrelation(own, S, L, maxLag);
   const lagsS = Float64Array.from({ length: maxLag }, (_, k) => k * T);
   const j0 = new Float64Array(maxLag), ak = new Float64Array(maxLag);
-  const model = b.scenario.fading.model;
+  const model = b.plan.fading.model;
   for (const c of gen.correlations) {
     for (let k = 0; k < maxLag; k++) {
       let v = 1;

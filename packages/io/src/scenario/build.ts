@@ -1,8 +1,10 @@
 /**
- * From a validated scenario to the core's generators: degrees to unit vectors, decibels to
- * linear power, spacings in wavelengths to metres at the carrier, arrays with their
- * orientation, motion, explicit or traced paths, fading model, time resolution, and one
- * generator per user (receiver).
+ * From a plan (plan.ts: a validated scenario with every default applied) to the core's
+ * generators: degrees to unit vectors, decibels to linear power, spacings in wavelengths to
+ * metres at the carrier, arrays with their orientation, motion, explicit or traced paths (the
+ * traced epochs, given or traced here), fading model, time resolution, and one generator per
+ * user (receiver). Building adds what the plan cannot hold as plain data: the traced epochs and
+ * the generators.
  */
 import {
   AntennaArray,
@@ -15,19 +17,19 @@ import {
   unitFromDeg,
   wavelength,
   type ElementPattern,
-  type Scene,
   type PathInteraction,
+  type Scene,
   type SceneObjectRef,
   type TracedPath,
   type Vec3,
 } from '@pathweave/geometry';
 import {
+  ArFitError,
   ChannelGenerator,
   ClusteredTimeline,
   ExplicitTimeline,
   PathSetFrame,
   PolarimetricTracedTimeline,
-  clusterPreset,
   Motion,
   TracedTimeline,
   alignmentShiftS,
@@ -36,20 +38,15 @@ import {
   type ChannelSpec,
   type ClusterSpread,
   type ExplicitPathSpec,
-  type FadingSpec,
   type OutputGrid,
   type PathTimeline,
   type SymbolTiming,
   type Terminal,
+  type TracedEpochs,
 } from '@pathweave/core';
-import type { ArrayConfig, ClusterConfig, ExplicitPathConfig, Scenario, TerminalConfig } from './schema.js';
+import { planScenario, type ArrayPlan, type Domain, type ScenarioPlan, type TerminalPlan } from './plan.js';
+import type { ArrayConfig, ExplicitPathConfig, Scenario, TerminalConfig } from './schema.js';
 import { ScenarioError } from './validate.js';
-
-/**
- * Output domain of a run.
- * @example const domain: Domain = 'taps'; // tap-delay output, [S, count, Nr, Nt]
- */
-export type Domain = 'frequency' | 'taps';
 
 /**
  * A path as listed by `pathweave paths` and stored in the path table.
@@ -99,6 +96,10 @@ export interface UserChannel {
   receiver: TerminalConfig;
   generator: ChannelGenerator;
   timeline: PathTimeline;
+  /** The timeline of the specular paths: `timeline` itself, or the one its clusters widen. */
+  specularTimeline: PathTimeline;
+  /** The traced epochs of a scene (plain data: a worker thread builds from them without tracing). */
+  tracedEpochs?: TracedEpochs;
   /** Paths at t = 0 (for tables and the path table). */
   paths: PathSummary[];
   /** With clusters: the specular paths at t = 0 that the sub-paths of `paths` come from. */
@@ -119,6 +120,9 @@ export interface UserChannel {
  * [built.domain, built.multiUser, built.shape, built.valuesPerSubframe] // ['frequency', false, [10, 64, 2, 4], 512]
  */
 export interface BuiltScenario {
+  /** The plan it was built from. */
+  plan: ScenarioPlan;
+  /** The validated scenario (plan.scenario). */
   scenario: Scenario;
   domain: Domain;
   /** One entry per receiver. */
@@ -151,78 +155,21 @@ function patternOf(element: ArrayConfig['element']): ElementPattern {
 }
 
 /**
- * Build the array of a scenario terminal at the given carrier.
- * @example buildArray({ kind: 'ula', elements: 2 }, 30e9).localOffsets // Float64Array [0, -0.002498, 0, 0, 0.002498, 0]: half a wavelength (4.997 mm at 30 GHz) apart
+ * Build the array of a planned terminal at the given carrier.
+ * @example buildArray(planArray({ kind: 'ula', elements: 2 }), 30e9).localOffsets // Float64Array [0, -0.002498, 0, 0, 0.002498, 0]: half a wavelength (4.997 mm at 30 GHz) apart
  */
-export function buildArray(config: ArrayConfig, carrierHz: number): AntennaArray {
-  const spacingM = (config.spacingWavelengths ?? 0.5) * wavelength(carrierHz);
+export function buildArray(array: ArrayPlan, carrierHz: number): AntennaArray {
+  const config = array.config;
   const pattern = patternOf(config.element);
   const orientation = config.orientation ?? {};
   switch (config.kind) {
     case 'ula':
-      return AntennaArray.ula(config.elements!, spacingM, orientation, pattern);
+      return AntennaArray.ula(config.elements!, array.spacingWavelengths! * wavelength(carrierHz), orientation, pattern);
     case 'upa':
-      return AntennaArray.upa(config.rows!, config.columns!, spacingM, orientation, pattern);
+      return AntennaArray.upa(config.rows!, config.columns!, array.spacingWavelengths! * wavelength(carrierHz), orientation, pattern);
     case 'custom':
       return AntennaArray.custom(config.positions!, orientation, pattern);
   }
-}
-
-/**
- * Number of elements of an array description without building it.
- * @example elementCount({ kind: 'upa', rows: 4, columns: 8, dualPolarized: 'vh' }) // 32: ports are counted by portCount
- */
-export function elementCount(config: ArrayConfig): number {
-  if (config.kind === 'ula') return config.elements ?? 0;
-  if (config.kind === 'upa') return (config.rows ?? 0) * (config.columns ?? 0);
-  return config.positions?.length ?? 0;
-}
-
-/**
- * Number of ports (the Nr or Nt axis): elements, times 2 for a dual-polarised array.
- * @example portCount({ kind: 'ula', elements: 4, dualPolarized: 'slant45' }) // 8
- */
-export function portCount(config: ArrayConfig): number {
-  return elementCount(config) * (config.dualPolarized !== undefined ? 2 : 1);
-}
-
-/**
- * True when a scenario needs the polarised-port assembly (a dual-polarised array or an XPR).
- * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * usesPorts(scenario) // false
- * usesPorts({ ...scenario, fading: { model: 'ar', xprDb: 9 } }) // true
- */
-export function usesPorts(scenario: Scenario): boolean {
-  const arrays = [scenario.transmitter, ...(scenario.receivers ?? []), ...(scenario.receiver !== undefined ? [scenario.receiver] : [])].map((t) => t.array);
-  return scenario.fading.xprDb !== undefined || arrays.some((a) => a.dualPolarized !== undefined);
-}
-
-/**
- * The cluster spread a scenario's cluster description asks for: the preset's values (38.901
- * Table 7.5-6) with any key given replacing them; without a preset, method "gaussian",
- * 20 sub-paths and zero spreads where not given.
- * @example clusterSpreadOf({ preset: 'umi-los' }).azimuthSpreadArrivalDeg // 17
- */
-export function clusterSpreadOf(c: ClusterConfig): ClusterSpread {
-  const base: ClusterSpread =
-    c.preset !== undefined
-      ? clusterPreset(c.preset)
-      : { subPaths: 20, method: 'gaussian', azimuthSpreadDepartureDeg: 0, elevationSpreadDepartureDeg: 0, azimuthSpreadArrivalDeg: 0, elevationSpreadArrivalDeg: 0, delaySpreadS: 0 };
-  return {
-    subPaths: c.subPaths ?? base.subPaths,
-    method: c.method ?? base.method,
-    azimuthSpreadDepartureDeg: c.azimuthSpreadDepartureDeg ?? base.azimuthSpreadDepartureDeg,
-    elevationSpreadDepartureDeg: c.elevationSpreadDepartureDeg ?? base.elevationSpreadDepartureDeg,
-    azimuthSpreadArrivalDeg: c.azimuthSpreadArrivalDeg ?? base.azimuthSpreadArrivalDeg,
-    elevationSpreadArrivalDeg: c.elevationSpreadArrivalDeg ?? base.elevationSpreadArrivalDeg,
-    delaySpreadS: c.delaySpreadS ?? base.delaySpreadS,
-  };
 }
 
 /** Records of a clustered timeline's sub-paths at t = 0 (the path table's rows). */
@@ -261,16 +208,17 @@ export function motionOf(t: TerminalConfig): Motion {
   return new Motion(vec3Of(trajectory?.[0]?.position ?? t.position), vec3Of(t.velocity), trajectory, t.array.orientation ?? {});
 }
 
-function buildTerminal(t: TerminalConfig, carrierHz: number): Terminal {
-  const motion = motionOf(t);
+function buildTerminal(t: TerminalPlan, carrierHz: number): Terminal {
+  const motion = motionOf(t.config);
+  const a = t.array.config;
   return {
     array: buildArray(t.array, carrierHz),
     position: motion.positionAt(0),
     velocity: motion.velocityAt(0),
     motion,
     wavefront: t.array.wavefront,
-    ...(t.array.dualPolarized !== undefined ? { ports: dualPolarizedPortVectors(t.array.dualPolarized) } : {}),
-    ...(t.array.polarization !== undefined ? { polarization: t.array.polarization } : {}),
+    ...(a.dualPolarized !== undefined ? { ports: dualPolarizedPortVectors(a.dualPolarized) } : {}),
+    ...(a.polarization !== undefined ? { polarization: a.polarization } : {}),
   };
 }
 
@@ -283,6 +231,7 @@ export function explicitPathId(p: ExplicitPathConfig, index: number): string {
 }
 
 function explicitPaths(scenario: Scenario): { paths: ExplicitPathSpec[]; records: PathSummary[] } {
+  // phaseDeg defaults to 0 (rho's phase at t = 0), the one default of an explicit path.
   const paths: ExplicitPathSpec[] = [];
   const records: PathSummary[] = [];
   (scenario.paths ?? []).forEach((p, i) => {
@@ -326,96 +275,17 @@ export function summarizeTraced(p: TracedPath): PathSummary {
 }
 
 /**
- * Choose the output domain: the only one given, or `prefer` when the scenario has both.
+ * Symbol timing of a plan (undefined: one step per subframe, no symbol axis): the NR symbol
+ * clock of a numerology, else uniform steps.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * chooseDomain(scenario) // "frequency"
- * chooseDomain({ ...scenario, taps: { sampleRateHz: 1e9, count: 16 } }, 'taps') // "taps"
+ * symbolTimingOf(planScenario(scenario)) // undefined
+ * symbolTimingOf(planScenario({ ...scenario, timing: { subframeS: 1e-3, subframes: 10, symbolsPerSubframe: 14 } }))!.perSubframe // 14
  */
-export function chooseDomain(scenario: Scenario, prefer?: Domain): Domain {
-  if (prefer === 'taps' && scenario.taps === undefined) throw new ScenarioError([{ path: 'taps', message: 'is required for tap-delay output (--domain taps)' }]);
-  if (prefer === 'frequency' && scenario.band === undefined) throw new ScenarioError([{ path: 'band', message: 'is required for frequency-domain output (--domain frequency)' }]);
-  return prefer ?? (scenario.band !== undefined ? 'frequency' : 'taps');
-}
-
-/**
- * The receivers of a scenario with their identities.
- * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * const { receiver, ...common } = scenario;
- * receiversOf({ ...common, receivers: [receiver!, { ...receiver!, id: 'ue-b' }] }).map((r) => [r.id, r.streamKey]) // [['0', '0'], ['ue-b', 'ue-b']]: ids (and stream keys) from id, else the index
- */
-export function receiversOf(scenario: Scenario): { id: string; config: TerminalConfig; streamKey: string | undefined }[] {
-  if (scenario.receivers !== undefined) {
-    return scenario.receivers.map((r, i) => ({ id: r.id ?? String(i), config: r, streamKey: r.id ?? String(i) }));
-  }
-  const r = scenario.receiver!;
-  return [{ id: r.id ?? '', config: r, streamKey: r.id }];
-}
-
-/**
- * Symbol timing of a scenario (undefined: one step per subframe, no symbol axis).
- * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * symbolTimingOf(scenario) // undefined
- * symbolTimingOf({ ...scenario, timing: { subframeS: 1e-3, subframes: 10, symbolsPerSubframe: 14 } })!.perSubframe // 14
- */
-export function symbolTimingOf(scenario: Scenario): SymbolTiming | undefined {
-  const t = scenario.timing;
-  if (t.numerology !== undefined) {
-    const nr = nrNumerology(t.numerology, t.cyclicPrefix ?? 'normal');
-    return { perSubframe: nr.symbolsPerSubframe, clock: numerologyClock(nr, 'start', t.subframeS) };
-  }
-  if (t.symbolsPerSubframe !== undefined) return { perSubframe: t.symbolsPerSubframe };
-  return undefined;
-}
-
-/**
- * Subcarrier spacing: band.spacingHz, or 15 kHz 2^mu from the numerology.
- * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * spacingOf(scenario) // 120000
- * spacingOf({ ...scenario, band: { subcarriers: 64 }, timing: { subframeS: 1e-3, subframes: 10, numerology: 3 } }) // 120000 (15 kHz * 2^3)
- */
-export function spacingOf(scenario: Scenario): number {
-  const band = scenario.band!;
-  if (band.spacingHz !== undefined) return band.spacingHz;
-  return 15e3 * 2 ** (scenario.timing.numerology ?? 0);
-}
-
-function fadingOf(f: Scenario['fading']): FadingSpec {
-  switch (f.model) {
-    case 'static':
-      return { model: 'static' };
-    case 'gauss-markov':
-      return { model: 'gauss-markov', speedMps: f.speedMps };
-    case 'ar':
-      return { model: 'ar', order: f.order, speedMps: f.speedMps };
-    case 'sum-of-sinusoids':
-      return { model: 'sum-of-sinusoids', sinusoids: f.sinusoids, speedMps: f.speedMps };
-    case 'geometric':
-      return { model: 'geometric', ricianKDb: f.ricianKDb, sinusoids: f.sinusoids, speedMps: f.speedMps };
-  }
+export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
+  const t = plan.timing;
+  if (!t.symbolAxis) return undefined;
+  if (t.numerology !== undefined) return { perSubframe: t.stepsPerSubframe, clock: numerologyClock(nrNumerology(t.numerology, t.cyclicPrefix), 'start', t.subframeS) };
+  return { perSubframe: t.stepsPerSubframe };
 }
 
 /**
@@ -452,56 +322,67 @@ export function sceneOf(scenario: Scenario): Scene {
  * };
  * buildScenario(scenario, { domain: 'frequency' }).generator.shape // [10, 64, 2, 4]: [S, K, Nr, Nt]
  */
-export function buildScenario(scenario: Scenario, options: { domain?: Domain; seed?: number } = {}): BuiltScenario {
-  const domain = chooseDomain(scenario, options.domain);
-  const carrierHz = scenario.carrierHz;
-  const tx = buildTerminal(scenario.transmitter, carrierHz);
-  const symbols = symbolTimingOf(scenario);
+export function buildScenario(scenario: Scenario, options: { domain?: Domain | undefined; seed?: number | undefined } = {}): BuiltScenario {
+  return buildPlan(planScenario(scenario, options));
+}
+
+/**
+ * Build the generators of a plan. With `traced` (one entry per user, from `UserChannel.tracedEpochs`
+ * of an earlier build of the same plan) the scene is not traced again: a worker thread builds
+ * this way and gets the same generators, bit for bit.
+ * @example
+ * const plan = planScenario(scenario);
+ * buildPlan(plan).generator.shape // [10, 64, 2, 4]: [S, K, Nr, Nt]
+ */
+export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (TracedEpochs | undefined)[] | undefined } = {}): BuiltScenario {
+  const { scenario, domain, carrierHz, seed } = plan;
+  const tx = buildTerminal(plan.transmitter, carrierHz);
+  const symbols = symbolTimingOf(plan);
+  const g = plan.grid;
   const grid: OutputGrid =
-    domain === 'frequency'
-      ? { domain, subcarriers: scenario.band!.subcarriers, spacingHz: spacingOf(scenario), beamSquint: scenario.band!.beamSquint ?? false }
-      : { domain, sampleRateHz: scenario.taps!.sampleRateHz, count: scenario.taps!.count, pulse: scenario.taps!.pulse ?? 'sinc', rollOff: scenario.taps!.rollOff ?? 0 };
-  const S = scenario.timing.subframes;
-  const stepsPerSubframe = symbols?.perSubframe ?? 1;
-  const lastStepTime = symbols?.clock !== undefined ? symbols.clock.timeS(S * stepsPerSubframe - 1) : ((S * stepsPerSubframe - 1) * scenario.timing.subframeS) / stepsPerSubframe;
+    g.domain === 'frequency'
+      ? { domain: g.domain, subcarriers: g.subcarriers, spacingHz: g.spacingHz, beamSquint: g.beamSquint }
+      : { domain: g.domain, sampleRateHz: g.sampleRateHz, count: g.count, pulse: g.pulse, rollOff: g.rollOff };
+  const S = plan.timing.subframes;
   const warnings: string[] = [];
   const users: UserChannel[] = [];
-  for (const r of receiversOf(scenario)) {
-    const rx = buildTerminal(r.config, carrierHz);
+  for (const [u, r] of plan.users.entries()) {
+    const rx = buildTerminal(r, carrierHz);
     let timeline: PathTimeline;
     let records: PathSummary[];
     let delays: number[];
     let totalPower: number;
-    const seed = options.seed ?? scenario.seed;
     let specular: PathSummary[] | undefined;
     let spreads: (ClusterSpread | undefined)[];
-    if (scenario.scene !== undefined) {
-      const Timeline = usesPorts(scenario) ? PolarimetricTracedTimeline : TracedTimeline;
+    let tracedEpochs: TracedEpochs | undefined;
+    if (plan.source === 'scene') {
+      const Timeline = plan.polarised ? PolarimetricTracedTimeline : TracedTimeline;
       const traced = new Timeline(
         sceneOf(scenario),
-        { motion: tx.motion!, polarization: scenario.transmitter.array.polarization, orientation: scenario.transmitter.array.orientation },
-        { motion: rx.motion!, polarization: r.config.array.polarization, orientation: r.config.array.orientation },
+        { motion: tx.motion!, polarization: plan.transmitter.array.config.polarization, orientation: plan.transmitter.array.config.orientation },
+        { motion: rx.motion!, polarization: r.array.config.polarization, orientation: r.array.config.orientation },
         carrierHz,
-        lastStepTime,
-        scenario.timing.geometryUpdateS ?? scenario.timing.subframeS,
+        plan.timing.lastStepTimeS,
+        plan.timing.geometryUpdateS,
+        {},
+        options.traced?.[u],
       );
       for (const w of traced.warnings) if (!warnings.includes(w)) warnings.push(w);
       timeline = traced;
+      tracedEpochs = traced.tracedEpochs();
       records = traced.pathsAt(0).map(summarizeTraced);
       delays = traced.epochs.flatMap((m) => [...m.values()].map((p) => p.delayS));
       totalPower = records.reduce((a, p) => a + 10 ** (p.powerDb / 10), 0);
-      spreads = traced.ids.map(() => (scenario.clusters !== undefined ? clusterSpreadOf(scenario.clusters) : undefined));
+      spreads = traced.ids.map(() => plan.clusters.scene ?? undefined);
     } else {
       const explicit = explicitPaths(scenario);
       timeline = new ExplicitTimeline(explicit.paths);
       records = explicit.records;
       delays = explicit.paths.map((p) => p.delayS);
       totalPower = explicit.paths.reduce((a, p) => a + p.power, 0);
-      spreads = (scenario.paths ?? []).map((p) => {
-        const c = p.cluster ?? scenario.clusters;
-        return c !== undefined ? clusterSpreadOf(c) : undefined;
-      });
+      spreads = plan.clusters.explicit.map((c) => c ?? undefined);
     }
+    const specularTimeline = timeline;
     if (spreads.some((c) => c !== undefined)) {
       const clustered = new ClusteredTimeline(timeline, spreads, seed, r.streamKey);
       specular = records;
@@ -509,93 +390,52 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain; se
       timeline = clustered;
     }
     if (timeline.ids.length === 0) {
-      const who = scenario.receivers !== undefined ? `receivers[${users.length}]` : 'receiver';
-      throw new ScenarioError([{ path: scenario.scene !== undefined ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
+      const who = plan.multiUser ? `receivers[${users.length}]` : 'receiver';
+      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
     }
-    const delayShiftS = scenario.taps?.alignFirstPath === true ? alignmentShiftS(delays, scenario.taps.sampleRateHz) : 0;
+    const delayShiftS = g.domain === 'taps' && g.alignFirstPath ? alignmentShiftS(delays, g.sampleRateHz) : 0;
     const spec: ChannelSpec = {
       carrierHz,
-      subframeS: scenario.timing.subframeS,
+      subframeS: plan.timing.subframeS,
       subframes: S,
       transmitter: tx,
       receiver: rx,
       timeline,
-      fading: fadingOf(scenario.fading),
+      fading: plan.fading,
       grid,
       delayShiftS,
       seed,
-      precision: scenario.precision ?? 'complex64',
+      precision: plan.precision,
       symbols,
       streamKey: r.streamKey,
-      amplitudeScale: scenario.fading.normalize === true && totalPower > 0 ? 1 / Math.sqrt(totalPower) : 1,
-      ...(scenario.fading.xprDb !== undefined ? { xprDb: scenario.fading.xprDb } : {}),
+      amplitudeScale: plan.normalize && totalPower > 0 ? 1 / Math.sqrt(totalPower) : 1,
+      ...(plan.xprDb !== undefined ? { xprDb: plan.xprDb } : {}),
     };
     let generator: ChannelGenerator;
     try {
       generator = new ChannelGenerator(spec);
     } catch (e) {
       // The AR fit can refuse an order its Yule-Walker system cannot carry: that is the input's fault.
-      if (e instanceof RangeError && scenario.fading.model === 'ar' && /AutoregressiveGains|fitAutoregressive/.test(e.message)) {
-        throw new ScenarioError([{ path: 'fading.order', message: e.message.replace(/^.*?: (?=order|the )/, '') }]);
-      }
+      if (e instanceof ArFitError) throw new ScenarioError([{ path: 'fading.order', message: e.problem }]);
       throw e;
     }
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
-    users.push({ id: r.id, receiver: r.config, generator, timeline, paths: records, ...(specular !== undefined ? { specularPaths: specular } : {}), spec });
+    users.push({
+      id: r.id, receiver: r.config, generator, timeline, specularTimeline, paths: records,
+      ...(specular !== undefined ? { specularPaths: specular } : {}), ...(tracedEpochs !== undefined ? { tracedEpochs } : {}), spec,
+    });
   }
   const first = users[0]!;
-  const multiUser = scenario.receivers !== undefined;
-  const userShape = first.generator.shape.slice(1);
-  const shape = multiUser ? [S, users.length, ...userShape] : [S, ...userShape];
   return {
+    plan,
     scenario,
     domain,
     users,
-    multiUser,
-    shape,
-    valuesPerSubframe: users.length * first.generator.valuesPerSubframe,
+    multiUser: plan.multiUser,
+    shape: plan.tensor.shape,
+    valuesPerSubframe: plan.tensor.valuesPerSubframe,
     generator: first.generator,
     paths: first.paths,
     warnings,
   };
-}
-
-/**
- * Tensor shape and size of a scenario, computed without building anything.
- * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
- * outputEstimate(scenario, 'frequency') // { shape: [10, 64, 2, 4], bytes: 40960, bytesPerSubframe: 4096 }: complex64
- */
-export function outputEstimate(scenario: Scenario, domain: Domain, subframes = scenario.timing.subframes): { shape: number[]; bytes: number; bytesPerSubframe: number } {
-  const receivers = scenario.receivers ?? (scenario.receiver !== undefined ? [scenario.receiver] : []);
-  const nr = receivers.length === 0 ? 0 : portCount(receivers[0]!.array);
-  const nt = portCount(scenario.transmitter.array);
-  const bins = domain === 'frequency' ? (scenario.band?.subcarriers ?? 0) : (scenario.taps?.count ?? 0);
-  const bytesPerValue = scenario.precision === 'complex128' ? 16 : 8;
-  let symbols: number | undefined;
-  if (scenario.timing.numerology !== undefined) symbols = (scenario.timing.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** scenario.timing.numerology;
-  else symbols = scenario.timing.symbolsPerSubframe;
-  const shape = [subframes, ...(scenario.receivers !== undefined ? [receivers.length] : []), ...(symbols !== undefined ? [symbols] : []), bins, nr, nt];
-  const bytesPerSubframe = (shape.slice(1).reduce((a, b) => a * b, 1) || 0) * bytesPerValue;
-  return { shape, bytes: subframes * bytesPerSubframe, bytesPerSubframe };
-}
-
-/**
- * Bytes of the per-subframe side arrays held in memory until the file is committed (gains and
- * ground truth: S x U x L values each), for `count` subframes and `pathCount` paths per user.
- * @example
- * const { scenario } = await loadScenario('examples/street-corner-28ghz.json'); // one receiver, no symbol axis
- * sideArrayBytes(scenario, 1000, 8) // 721000 = 1000 * (16 * 8 + 56 * 8 + 145)
- */
-export function sideArrayBytes(scenario: Scenario, count: number, pathCount: number): number {
-  const users = scenario.receivers?.length ?? 1;
-  const symbols = symbolTimingOf(scenario)?.perSubframe ?? 1;
-  const gains = 16 * users * symbols * pathCount;
-  const truth = 56 * users * pathCount + 72 * (1 + users) + users;
-  return count * (gains + truth);
 }

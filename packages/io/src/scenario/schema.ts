@@ -4,6 +4,8 @@
  * angles in degrees under keys ending in `Deg` and decibels under keys ending in `Db`.
  */
 import { z } from 'zod';
+import { AR_DEFAULT_ORDER, SOS_DEFAULT_SINUSOIDS } from '@pathweave/core';
+import { DEFAULT_MATERIAL, DEFAULT_REFLECTION_ORDER, MATERIAL_NAMES, MAX_REFLECTION_ORDER } from '@pathweave/geometry';
 
 /**
  * The scenario format this build writes and reads by default.
@@ -181,7 +183,7 @@ const sceneDefinition = z.strictObject({
       ]),
     )
     .optional(),
-  maxReflectionOrder: z.number().int().min(0).max(3).optional(),
+  maxReflectionOrder: z.number().int().min(0).max(MAX_REFLECTION_ORDER).optional(),
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
@@ -298,10 +300,220 @@ export type ClusterConfig = z.infer<typeof clusterSchema>;
 export type ExplicitPathConfig = z.infer<typeof pathSchema>;
 
 /**
- * The JSON Schema (draft 2020-12) of scenario files, for editors.
+ * The defaults of optional scenario keys: the plan (plan.ts) applies them, once, and the JSON
+ * Schema in docs/ shows them.
+ * @example [SCENARIO_DEFAULTS.precision, SCENARIO_DEFAULTS.spacingWavelengths] // ['complex64', 0.5]
+ */
+export const SCENARIO_DEFAULTS = Object.freeze({
+  precision: 'complex64' as 'complex64' | 'complex128',
+  spacingWavelengths: 0.5,
+  pulse: 'sinc' as 'sinc' | 'raised-cosine',
+  rollOff: 0,
+  beamSquint: false,
+  alignFirstPath: false,
+  cyclicPrefix: 'normal' as 'normal' | 'extended',
+  wavefront: 'plane' as 'plane' | 'spherical' | 'auto',
+  normalize: false,
+  /** Subcarrier spacing with a numerology: 15 kHz 2^mu (3GPP TS 38.211 Table 4.2-1). */
+  numerologyBaseSpacingHz: 15e3,
+});
+
+/** What the JSON Schema says of one key: a description, the unit of a number, the default of an optional key. */
+interface KeyDoc {
+  description: string;
+  unit?: string;
+  default?: unknown;
+}
+
+// Keys of the shared parts are documented once: a terminal's keys under "terminal.", a
+// cluster's under "cluster." (transmitter, receiver and receivers[]; clusters and paths[].cluster).
+const TERMINAL = ['transmitter', 'receiver', 'receivers'];
+const CLUSTER = ['clusters', 'paths.cluster'];
+const d = (description: string, unit?: string, def?: unknown): KeyDoc => ({ description, ...(unit !== undefined ? { unit } : {}), ...(def !== undefined ? { default: def } : {}) });
+const orientationDocs = (at: string): Record<string, KeyDoc> => ({
+  [`${at}`]: d('Orientation R = Rz(yaw) Ry(pitch) Rx(roll), local to global (docs/conventions.md, "Array frame").'),
+  [`${at}.yawDeg`]: d('Rotation about z, degrees.', 'deg', 0),
+  [`${at}.pitchDeg`]: d('Rotation about the new y, degrees; positive tilts the boresight down.', 'deg', 0),
+  [`${at}.rollDeg`]: d('Rotation about the new x, degrees.', 'deg', 0),
+});
+const KEY_DOCS: Record<string, KeyDoc> = {
+  formatVersion: d('Scenario format version; absent means the current one.', '1', CURRENT_FORMAT_VERSION),
+  name: d('A short name of the scenario (shown by inspect and in figure titles).'),
+  description: d('Free text describing the scenario.'),
+  carrierHz: d('Carrier frequency f_c.', 'Hz'),
+  timing: d('Time axis: subframes and, optionally, OFDM symbols within them.'),
+  'timing.subframeS': d('Duration T_s of one subframe (the step of the gain processes).', 's'),
+  'timing.subframes': d('Number of subframes S (axis 0 of every per-subframe array).', '1'),
+  'timing.symbolsPerSubframe': d('Uniform OFDM symbols per subframe (adds a symbol axis after S); with a numerology it must equal 14 2^mu (12 2^mu with the extended prefix).', '1'),
+  'timing.numerology': d('NR numerology mu, 0 to 4 (3GPP TS 38.211): sets the symbols per subframe, their true start times and the default subcarrier spacing 15 kHz 2^mu.', '1'),
+  'timing.cyclicPrefix': d('NR cyclic prefix with a numerology ("extended" only with numerology 2).', undefined, SCENARIO_DEFAULTS.cyclicPrefix),
+  'timing.geometryUpdateS': d('Time between two traces of the scene while terminals move; default one subframe.', 's'),
+  band: d('Frequency-domain output H[k]: the subcarrier grid f_k = (k - floor(K / 2)) df.'),
+  'band.subcarriers': d('Number of subcarriers K.', '1'),
+  'band.spacingHz': d('Subcarrier spacing df; required unless timing.numerology gives it (15 kHz 2^mu).', 'Hz'),
+  'band.beamSquint': d('Array responses at f_c + f_k per subcarrier instead of at the carrier.', undefined, SCENARIO_DEFAULTS.beamSquint),
+  taps: d('Tap-delay output h[n] at n / sampleRateHz.'),
+  'taps.sampleRateHz': d('Sample rate 1 / T of the taps.', 'Hz'),
+  'taps.count': d('Number of taps.', '1'),
+  'taps.pulse': d('Band-limiting pulse p of the taps.', undefined, SCENARIO_DEFAULTS.pulse),
+  'taps.rollOff': d('Roll-off of the raised-cosine pulse, 0 to 1.', '1', SCENARIO_DEFAULTS.rollOff),
+  'taps.alignFirstPath': d('Shift every delay so that the first arrival sits 4 samples after zero.', undefined, SCENARIO_DEFAULTS.alignFirstPath),
+  transmitter: d('The transmitter: position, motion and antenna array.'),
+  receiver: d('The receiver (or give receivers).'),
+  receivers: d('Several receivers (users): the tensors gain a user axis after S.'),
+  'terminal.id': d('Identity of a user: keys its random streams, so it has the same channel alone or among others; default its index.'),
+  'terminal.position': d('Position of the array reference point [x, y, z] (or [x, y] in a 2-D scene), global frame.', 'm'),
+  'terminal.velocity': d('Constant velocity [vx, vy, vz]; absent: the terminal stands still.', 'm/s'),
+  'terminal.trajectory': d('Waypoints { t, position, orientation? } followed piecewise linearly instead of a velocity.'),
+  'terminal.trajectory.t': d('Time of the waypoint.', 's'),
+  'terminal.trajectory.position': d('Position at time t.', 'm'),
+  ...orientationDocs('terminal.trajectory.orientation'),
+  'terminal.array': d('The antenna array.'),
+  'terminal.array.kind': d('"ula" (along local +y), "upa" (local y-z plane) or "custom" positions.'),
+  'terminal.array.elements': d('Elements of a ULA.', '1'),
+  'terminal.array.rows': d('Rows of a UPA (along local +z).', '1'),
+  'terminal.array.columns': d('Columns of a UPA (along local +y).', '1'),
+  'terminal.array.spacingWavelengths': d('Element spacing of a ULA or UPA, in carrier wavelengths.', 'wavelength', SCENARIO_DEFAULTS.spacingWavelengths),
+  'terminal.array.positions': d('Element positions of a custom array, local frame.', 'm'),
+  ...orientationDocs('terminal.array.orientation'),
+  'terminal.array.element': d('Element pattern: "isotropic", "3gpp-38.901" (TR 38.901 Table 7.3-1) or a table.', undefined, 'isotropic'),
+  'terminal.array.element.table': d('A tabulated element gain over azimuth and elevation (bilinear).'),
+  'terminal.array.element.table.azimuthsDeg': d('Azimuths of the table columns, increasing.', 'deg'),
+  'terminal.array.element.table.elevationsDeg': d('Elevations of the table rows, increasing.', 'deg'),
+  'terminal.array.element.table.gainsDbi': d('Gains, one row per elevation, one value per azimuth.', 'dBi'),
+  'terminal.array.polarization': d('Polarisation of the elements: "vertical", "horizontal" or a slant.', undefined, 'vertical'),
+  'terminal.array.polarization.slantDeg': d('Slant angle from vertical.', 'deg'),
+  'terminal.array.dualPolarized': d('Two ports per element: "slant45" (+45, -45) or "vh"; Nr or Nt then counts ports.'),
+  'terminal.array.wavefront': d('Plane or spherical wavefront; "auto": spherical inside 2 D^2 / lambda.', undefined, SCENARIO_DEFAULTS.wavefront),
+  scene: d('Scene objects traced into paths (or give explicit paths).'),
+  'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
+  'scene.imports': d('Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").'),
+  'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
+  'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
+  'scene.imports.origin.latitudeDeg': d('Latitude of the origin.', 'deg'),
+  'scene.imports.origin.longitudeDeg': d('Longitude of the origin.', 'deg'),
+  'scene.imports.origin.heightM': d('Height of the origin above the ellipsoid.', 'm', 0),
+  'scene.imports.heightProperty': d('Feature property holding the building height.', undefined, 'height'),
+  'scene.imports.defaultHeightM': d('Height of features without the height property (else they are refused).', 'm'),
+  'scene.imports.materialProperty': d('Feature property naming the material (looked up in materials, else a material name).'),
+  'scene.imports.materials': d('Property values (footprints) or group names (meshes) to materials.'),
+  'scene.imports.material': d('Material of surfaces not mapped by materials.', undefined, DEFAULT_MATERIAL),
+  'scene.imports.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
+  'scene.imports.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
+  'scene.imports.roofs': d('Add a flat roof on every footprint.', undefined, true),
+  'scene.imports.mesh': d('A Wavefront OBJ mesh file, relative to the scenario file; one wall per triangle.'),
+  'scene.imports.unit': d('Length unit of the mesh file.', undefined, 'm'),
+  'scene.imports.upAxis': d('Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)).', undefined, 'z'),
+  'scene.imports.offsetM': d('Shift added after scaling and turning.', 'm', [0, 0, 0]),
+  'scene.walls': d('Planar walls (3-D polygons) or vertical wall segments (2-D).'),
+  'scene.walls.vertices': d('Corners [[x, y, z], ...] (at least 3, coplanar) or the two ends [[x, y], [x, y]].', 'm'),
+  'scene.walls.material': d('A named material (ITU-R P.2040-3 Table 3, or metal) or { relativePermittivity, conductivitySpm }.', undefined, DEFAULT_MATERIAL),
+  'scene.walls.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
+  'scene.walls.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
+  'scene.walls.reflectionLossDb': d('A fixed reflection loss replacing the Fresnel coefficient.', 'dB'),
+  'scene.scatterers': d('Point scatterers (single bounce, bistatic radar equation).'),
+  'scene.scatterers.position': d('Position of the scatterer.', 'm'),
+  'scene.scatterers.rcsM2': d('Radar cross-section sigma.', 'm^2'),
+  'scene.blockers': d('Boxes and cylinders that attenuate the paths crossing them.'),
+  'scene.blockers.shape': d('"box" or "cylinder".'),
+  'scene.blockers.min': d('Lowest corner of a box.', 'm'),
+  'scene.blockers.max': d('Highest corner of a box.', 'm'),
+  'scene.blockers.lossDb': d('A fixed loss while a path crosses the blocker; absent: knife-edge diffraction (ITU-R P.526).', 'dB'),
+  'scene.blockers.base': d('Centre of a cylinder\'s base.', 'm'),
+  'scene.blockers.radiusM': d('Radius of a cylinder.', 'm'),
+  'scene.blockers.heightM': d('Height of a cylinder.', 'm'),
+  'scene.maxReflectionOrder': d(`Highest number of wall reflections per path, 0 to ${MAX_REFLECTION_ORDER}.`, '1', DEFAULT_REFLECTION_ORDER),
+  'scene.maxPaths': d('Keep at most this many paths (strongest first); absent: no limit.', '1'),
+  'scene.dynamicRangeDb': d('Drop paths more than this far below the strongest; absent: no limit.', 'dB'),
+  'scene.gasAttenuationDbPerKm': d('Gas absorption over the unfolded path length.', 'dB/km', 0),
+  'scene.atmosphere': d('Gas absorption by ITU-R P.676-13 Annex 1 (line by line) at the carrier, instead of gasAttenuationDbPerKm.'),
+  'scene.atmosphere.method': d('"p676-13-line-by-line".'),
+  'scene.atmosphere.dryPressureHpa': d('Dry-air pressure p (ITU-R P.676 reference atmosphere at sea level).', 'hPa', 1013.25),
+  'scene.atmosphere.temperatureK': d('Temperature T (ITU-R P.676 reference atmosphere at sea level).', 'K', 288.15),
+  'scene.atmosphere.waterVapourDensityGm3': d('Water-vapour density rho (ITU-R P.676 reference atmosphere at sea level).', 'g/m^3', 7.5),
+  paths: d('Explicit paths (or give a scene).'),
+  'paths.id': d('Stable id of the path (keys its random streams); default "paths[i]".'),
+  'paths.aodDeg': d('Direction of departure [azimuth, elevation], global frame.', 'deg'),
+  'paths.aoaDeg': d('Direction of arrival [azimuth, elevation], global frame.', 'deg'),
+  'paths.delayS': d('Propagation delay tau.', 's'),
+  'paths.powerDb': d('Mean power E|rho|^2, absolute.', 'dB'),
+  'paths.phaseDeg': d('arg(rho) at t = 0 (static and geometric fading).', 'deg', 0),
+  'paths.dopplerHz': d('Signed Doppler shift of the path.', 'Hz', 0),
+  'paths.maxDopplerHz': d('Maximum Doppler of the path\'s spread (replaces the speeds for its correlation).', 'Hz'),
+  'paths.cluster': d('This path\'s own cluster (replaces clusters for it).'),
+  'paths.kind': d('Descriptive (printed by pathweave paths --json); ignored.'),
+  'paths.interactions': d('Descriptive (printed by pathweave paths --json); ignored.'),
+  'paths.interactions.type': d('Descriptive; ignored.'),
+  'paths.interactions.object': d('Descriptive; ignored.'),
+  'paths.interactions.point': d('Descriptive; ignored.', 'm'),
+  'paths.lengthM': d('Descriptive (unfolded length); ignored.', 'm'),
+  'paths.aodLocalDeg': d('Descriptive (departure in the array frame); ignored.', 'deg'),
+  'paths.aoaLocalDeg': d('Descriptive (arrival in the array frame); ignored.', 'deg'),
+  'paths.blockageDb': d('Descriptive (blocker loss); ignored.', 'dB'),
+  clusters: d('Widen every path into a cluster of sub-paths (3GPP TR 38.901 cluster spreads).'),
+  'cluster.preset': d('A TR 38.901 Table 7.5-6 preset whose spreads apply where no key is given.'),
+  'cluster.method': d('How sub-path offsets are drawn; default "offsets-38901" with a preset, else "gaussian".'),
+  'cluster.subPaths': d('Sub-paths per cluster (20 for "offsets-38901").', '1', 20),
+  'cluster.azimuthSpreadDepartureDeg': d('Azimuth spread at departure.', 'deg', 0),
+  'cluster.elevationSpreadDepartureDeg': d('Elevation spread at departure.', 'deg', 0),
+  'cluster.azimuthSpreadArrivalDeg': d('Azimuth spread at arrival.', 'deg', 0),
+  'cluster.elevationSpreadArrivalDeg': d('Elevation spread at arrival.', 'deg', 0),
+  'cluster.delaySpreadS': d('Delay spread of the sub-paths.', 's', 0),
+  fading: d('How the path gains evolve over the subframes.'),
+  'fading.model': d('"static", "gauss-markov" (AR(1), Clarke/Jakes alpha), "ar" (AR(p)), "sum-of-sinusoids" or "geometric".'),
+  'fading.speedMps': d('Speed of the one moving end for the Doppler spread; default the terminals\' speeds.', 'm/s'),
+  'fading.order': d('Order p of the AR model.', '1', AR_DEFAULT_ORDER),
+  'fading.sinusoids': d('Sinusoids of sum-of-sinusoids (and of the diffuse part of geometric), at least 8.', '1', SOS_DEFAULT_SINUSOIDS),
+  'fading.ricianKDb': d('Rician K factor of the geometric model (specular over diffuse power).', 'dB'),
+  'fading.normalize': d('Scale each user\'s total path power to 1.', undefined, SCENARIO_DEFAULTS.normalize),
+  'fading.xprDb': d('Cross-polar ratio of stochastic paths and cluster sub-paths (turns polarised ports on).', 'dB'),
+  seed: d('Seed of every random stream, 0 <= seed < 2^53.', '1'),
+  precision: d('Complex sample type of the tensors.', undefined, SCENARIO_DEFAULTS.precision),
+};
+
+/** The documentation key of a dotted key path (shared parts under "terminal." and "cluster."). */
+function docKey(path: string): string {
+  for (const t of TERMINAL) if (path.startsWith(`${t}.`)) return `terminal.${path.slice(t.length + 1)}`;
+  for (const c of CLUSTER) if (path.startsWith(`${c}.`)) return `cluster.${path.slice(c.length + 1)}`;
+  return path;
+}
+
+/** Add description, unit and default to every property of a JSON Schema node, and the material names. */
+function annotate(node: unknown, path: string): void {
+  if (node === null || typeof node !== 'object') return;
+  const n = node as Record<string, unknown>;
+  const properties = n.properties as Record<string, Record<string, unknown>> | undefined;
+  if (properties !== undefined) {
+    for (const [key, child] of Object.entries(properties)) {
+      const at = path === '' ? key : `${path}.${key}`;
+      const doc = KEY_DOCS[docKey(at)];
+      if (doc === undefined) throw new Error(`scenarioJsonSchema(): no documentation for key ${at}`);
+      Object.assign(child, { description: doc.unit !== undefined && doc.unit !== '1' ? `${doc.description} Unit: ${doc.unit}.` : doc.description });
+      if (doc.unit !== undefined) child.unit = doc.unit;
+      if (doc.default !== undefined) child.default = doc.default;
+      if (at === 'scene.walls') {
+        // A material given by name: one of the table's names (the scene validation names them too).
+        const material = ((child.items as Record<string, unknown>).properties as Record<string, Record<string, unknown>>).material!;
+        for (const option of material.anyOf as Record<string, unknown>[]) if (option.type === 'string') option.enum = [...MATERIAL_NAMES];
+      }
+      annotate(child, at);
+    }
+  }
+  for (const key of ['items', 'anyOf', 'oneOf', 'allOf', 'prefixItems']) {
+    const v = n[key];
+    if (Array.isArray(v)) for (const x of v) annotate(x, path);
+    else annotate(v, path);
+  }
+}
+
+/**
+ * The JSON Schema (draft 2020-12) of scenario files, for editors: every key with a
+ * description, the unit of every number (`unit`, also in the description) and the default of
+ * optional keys; material names as an enum.
  * @example scenarioJsonSchema().type // "object"
  */
 export function scenarioJsonSchema(): Record<string, unknown> {
   const schema = z.toJSONSchema(scenarioSchema, { target: 'draft-2020-12' }) as Record<string, unknown>;
+  annotate(schema, '');
   return { $id: 'https://pathweave.invalid/scenario.schema.json', title: 'pathweave scenario', ...schema };
 }

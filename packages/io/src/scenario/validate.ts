@@ -6,20 +6,13 @@
 import { readFile } from 'node:fs/promises';
 import { dirname } from 'node:path';
 import type { z } from 'zod';
-import { validateScene, type Scene } from '@pathweave/geometry';
+import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
-import { CURRENT_FORMAT_VERSION, scenarioSchema, type Scenario } from './schema.js';
+import { portCount } from './plan.js';
+import { formatProblem, ScenarioError, type Problem } from './problems.js';
+import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, scenarioSchema, type Scenario } from './schema.js';
 
-/**
- * One problem of a scenario.
- * @example const problem: Problem = { path: 'receiver.array.spacingWavelengths', message: 'must be > 0, got -0.5' };
- */
-export interface Problem {
-  /** Dotted path, e.g. "transmitter.array.rows" or "paths[2].delayS" ("" for the document). */
-  path: string;
-  /** What is wrong and what is allowed. */
-  message: string;
-}
+export { formatProblem, ScenarioError, type Problem } from './problems.js';
 
 /**
  * Result of `safeParseScenario`.
@@ -28,28 +21,6 @@ export interface Problem {
  * result.ok ? result.warnings : result.problems.slice(0, 2) // [{ path: 'timing', message: 'is required (object)' }, { path: 'transmitter', message: 'is required (object)' }]
  */
 export type ScenarioResult = { ok: true; scenario: Scenario; warnings: string[] } | { ok: false; problems: Problem[] };
-
-/**
- * Thrown by `parseScenario` and `loadScenario`; carries every problem.
- * @example new ScenarioError([{ path: 'seed', message: 'must be an integer >= 0, got -1' }], 'run.json').message // "run.json: 1 problem\nseed: must be an integer >= 0, got -1"
- */
-export class ScenarioError extends Error {
-  constructor(
-    readonly problems: Problem[],
-    readonly source = 'scenario',
-  ) {
-    super(`${source}: ${problems.length} problem${problems.length === 1 ? '' : 's'}\n` + problems.map(formatProblem).join('\n'));
-    this.name = 'ScenarioError';
-  }
-}
-
-/**
- * "path: message" (or just the message for the document itself).
- * @example formatProblem({ path: 'paths[2].delayS', message: 'must be >= 0, got -1e-9' }) // "paths[2].delayS: must be >= 0, got -1e-9"
- */
-export function formatProblem(p: Problem): string {
-  return p.path === '' ? p.message : `${p.path}: ${p.message}`;
-}
 
 /**
  * Dotted path from zod's path segments: a.b[2].c
@@ -207,6 +178,12 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
 }
 
 /** Checks across fields that the per-key schema cannot express. */
+/** Most explicit paths a scenario may list. @example MAX_EXPLICIT_PATHS // 10000 */
+export const MAX_EXPLICIT_PATHS = 10_000;
+
+/** Most wall-reflection sequences a scene may ask the tracer to try (walls W at order N: W (W-1)^(k-1) summed over k <= N). @example MAX_REFLECTION_SEQUENCES // 1000000 */
+export const MAX_REFLECTION_SEQUENCES = 1_000_000;
+
 function crossChecks(s: Scenario): Problem[] {
   const problems: Problem[] = [];
   if (s.paths === undefined && s.scene === undefined) problems.push({ path: '', message: 'give either "paths" (explicit paths) or "scene" (paths traced from geometry)' });
@@ -262,6 +239,20 @@ function crossChecks(s: Scenario): Problem[] {
   if (s.taps?.rollOff !== undefined && s.taps.pulse !== 'raised-cosine') {
     problems.push({ path: 'taps.rollOff', message: 'applies only with pulse "raised-cosine"' });
   }
+  // Up-front limits on work (docs/conventions.md, "Limits"): refused here, before a build that
+  // would hold the event loop (and so a signal) for a long time.
+  if (s.paths !== undefined && s.paths.length > MAX_EXPLICIT_PATHS) {
+    problems.push({ path: 'paths', message: `lists ${s.paths.length} paths, more than the ${MAX_EXPLICIT_PATHS} allowed; split the scenario or widen fewer paths into clusters` });
+  }
+  if (s.scene !== undefined) {
+    const walls = s.scene.walls?.length ?? 0;
+    const order = s.scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
+    let sequences = 0;
+    for (let k = 1, n = walls; k <= order; k++, n *= Math.max(walls - 1, 0)) sequences += n; // no wall twice in a row
+    if (sequences > MAX_REFLECTION_SEQUENCES) {
+      problems.push({ path: 'scene.maxReflectionOrder', message: `${walls} walls at order ${order} mean ${sequences} reflection sequences to trace, more than the ${MAX_REFLECTION_SEQUENCES} allowed; lower maxReflectionOrder or give fewer walls` });
+    }
+  }
   const ids = new Set<string>();
   s.paths?.forEach((p, i) => {
     if (p.id === undefined) return;
@@ -270,8 +261,7 @@ function crossChecks(s: Scenario): Problem[] {
   });
   // Receivers share one tensor, so they must have the same number of elements.
   if (s.receivers !== undefined && s.receivers.length > 1) {
-    const count = (a: Scenario['transmitter']['array']): number =>
-      (a.kind === 'ula' ? (a.elements ?? 0) : a.kind === 'upa' ? (a.rows ?? 0) * (a.columns ?? 0) : (a.positions?.length ?? 0)) * (a.dualPolarized !== undefined ? 2 : 1);
+    const count = portCount;
     const n0 = count(s.receivers[0]!.array);
     s.receivers.forEach((r, i) => {
       if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} ports (elements, twice for dualPolarized) but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });
@@ -291,7 +281,7 @@ function crossChecks(s: Scenario): Problem[] {
       if (t.cyclicPrefix === 'extended' && t.numerology !== 2) problems.push({ path: 'timing.cyclicPrefix', message: `"extended" is allowed only with numerology 2 (60 kHz, TS 38.211 Table 4.2-1), got numerology ${t.numerology}` });
       const symbols = (t.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** t.numerology;
       if (t.symbolsPerSubframe !== undefined && t.symbolsPerSubframe !== symbols) problems.push({ path: 'timing.symbolsPerSubframe', message: `numerology ${t.numerology} has ${symbols} symbols per 1 ms subframe, got ${t.symbolsPerSubframe}` });
-      const spacing = 15e3 * 2 ** t.numerology;
+      const spacing = SCENARIO_DEFAULTS.numerologyBaseSpacingHz * 2 ** t.numerology;
       if (s.band?.spacingHz !== undefined && s.band.spacingHz !== spacing) problems.push({ path: 'band.spacingHz', message: `numerology ${t.numerology} means ${spacing} Hz; give that or leave spacingHz out, got ${s.band.spacingHz}` });
       if (t.subframeS < 1e-3) problems.push({ path: 'timing.subframeS', message: `an NR subframe is 1 ms: with a numerology it must be >= 0.001, got ${t.subframeS}` });
     }

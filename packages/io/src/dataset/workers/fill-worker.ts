@@ -1,5 +1,6 @@
 /**
- * Worker-thread entry of the block pool (pool.ts): builds the scenario once from workerData,
+ * Worker-thread entry of the block pool (pool.ts): builds the generators once from the plan and
+ * the traced epochs of workerData (no tracing: the main thread traced the scene once),
  * then fills each requested block of subframes with the same `fillBlock` the main thread uses,
  * so a block's bytes do not depend on which thread made it.
  *
@@ -11,12 +12,12 @@
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { KERNEL_NAME } from '@pathweave/core';
-import { buildScenario } from '../../scenario/build.js';
+import { buildPlan } from '../../scenario/build.js';
 import { fillBlock } from './fill.js';
 import type { BlockRequest, BlockWorkerData } from './pool.js';
 
 const data = workerData as BlockWorkerData;
-const built = buildScenario(data.scenario, { domain: data.domain, ...(data.seed !== undefined ? { seed: data.seed } : {}) });
+const built = buildPlan(data.plan, { traced: data.traced });
 const values = 2 * built.valuesPerSubframe;
 const Tensor = built.generator.precision === 'complex64' ? Float32Array : Float64Array;
 

@@ -1,7 +1,7 @@
 /**
  * A pool of worker threads that fill blocks of subframes for `generate` (design.md,
  * Reproducibility: the same tensor bytes with any worker count). Every worker builds the
- * scenario itself and runs ChannelGenerator.fill over the subframe range it is given, which is
+ * generators from the plan and the traced epochs it is given (it traces nothing) and runs ChannelGenerator.fill over the subframe range it is given, which is
  * bit-identical whatever range a call covers (gain streams keyed by (seed, path id, block) and
  * phase recurrences re-anchored at absolute indices), so the pool only decides who computes a
  * block, never what is in it. Blocks come back in request order through `take`.
@@ -11,14 +11,13 @@
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
-import type { Domain } from '../../scenario/build.js';
-import type { Scenario } from '../../scenario/schema.js';
+import type { TracedEpochs } from '@pathweave/core';
+import type { ScenarioPlan } from '../../scenario/plan.js';
 
-/** What each worker is started with. */
+/** What each worker is started with: the plan and each user's traced epochs (workers trace nothing). */
 export interface BlockWorkerData {
-  scenario: Scenario;
-  domain: Domain;
-  seed?: number | undefined;
+  plan: ScenarioPlan;
+  traced: (TracedEpochs | undefined)[];
   /** Float64 values of gains per subframe (2 x complex count). */
   gainsPerSubframe: number;
 }
@@ -66,7 +65,7 @@ export function defaultWorkers(blocks: number, cores: number = availableParallel
 /**
  * A fixed set of workers; request i goes to worker i mod size, and each answer resolves its own request.
  * @example
- * const pool = new BlockPool(2, { scenario, domain: 'frequency', gainsPerSubframe: 2 * L });
+ * const pool = new BlockPool(2, { plan: built.plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe: 2 * L });
  * const { tensor } = await pool.request(0, 8, new ArrayBuffer(bytes), new ArrayBuffer(16 * 8 * L)); // subframes 0-7
  * await pool.close();
  */
