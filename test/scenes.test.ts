@@ -3,7 +3,7 @@
  * back as explicit paths with fading "static" reproduces the same H (design.md, `pathweave
  * paths --json`), and bad scene input is refused with dotted paths.
  */
-import { readFileSync, readdirSync } from 'node:fs';
+import { cpSync, readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { decodeNpy } from '@pathweave/io';
@@ -19,6 +19,7 @@ describe('demo scenarios of examples/', () => {
     const s = example(name);
     s.timing.subframes = Math.min(s.timing.subframes, 40); // keep the suite quick; the full runs are the demo's
     const file = writeScenario(dir, name, s);
+    if (s.scene?.imports !== undefined) cpSync(join(ROOT, 'examples', 'scenes'), join(dir, 'scenes'), { recursive: true }); // imported files beside the scenario
     expect(runCli(['validate', file]).status).toBe(0);
     const r = runCli(['generate', file, '--out', join(dir, 'out.npy'), '--quiet']);
     expect(r.status, r.stderr).toBe(0);

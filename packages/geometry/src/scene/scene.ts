@@ -15,9 +15,13 @@
  *   in the plane and two in-plane unit axes), `polygons` Float64Array of [u, v] pairs of every
  *   wall's vertices in that frame, wall w at pairs polygonStart[w] .. polygonStart[w + 1] - 1,
  *   `bounds` Float64Array(4 W) [uMin, uMax, vMin, vMax];
- * - 2-D walls: `segments` Float64Array(5 W): [ax, ay, dx, dy, length], (dx, dy) the unit direction.
+ * - 2-D walls: `segments` Float64Array(5 W): [ax, ay, dx, dy, length], (dx, dy) the unit direction;
+ * - every wall: `vertices` Float64Array of xyz (2-D: the two ends at z = 0), wall w's at
+ *   vertexStart[w] .. vertexStart[w + 1] - 1; `bvh` a bounding volume hierarchy over the walls'
+ *   boxes (2-D walls unbounded in z), used by every segment-against-walls query.
  */
 import type { Vec3 } from '../vec3.js';
+import { Bvh } from './bvh.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
 /**
@@ -446,7 +450,24 @@ export class PreparedScene {
   readonly transmissive: Uint8Array;
   /** True when any wall is transmissive. */
   readonly hasTransmission: boolean;
+  /** Every wall's vertices, xyz (2-D: the two ends at z = 0). */
+  readonly vertices: Float64Array;
+  /** First vertex index of wall w, length W + 1. */
+  readonly vertexStart: Int32Array;
+  /** Bounding volume hierarchy over the walls' boxes (see bvh.ts). */
+  readonly bvh: Bvh;
+  /** 3-D: 1 per wall whose polygon is convex (every triangle), else 0; 2-D: all 1. */
+  readonly convex: Uint8Array;
+  /** Most vertices of one wall. */
+  readonly maxWallVertices: number;
+  /** Padding of the boxes in metres: 1e-8 times max(1, largest coordinate), so rounding never loses a hit. */
+  readonly padM: number;
   private readonly surfaceCache = new Map<number, ResolvedSurface[]>();
+  // the segment of the running segmentHitsWall query, read by its long-lived visitor (no closure per query);
+  // transmissive walls (thicknessM) let the segment through and are accounted by segmentTransmissions
+  private qax = 0; private qay = 0; private qaz = 0; private qbx = 0; private qby = 0; private qbz = 0;
+  private qSkipA = -1; private qSkipB = -1;
+  private readonly crossVisitor = (w: number): boolean => w !== this.qSkipA && w !== this.qSkipB && this.transmissive[w] !== 1 && this.segmentCrossesWall(w, this.qax, this.qay, this.qaz, this.qbx, this.qby, this.qbz);
 
   /** Use `prepareScene()`; the constructor trusts a validated scene. */
   constructor(scene: Scene, is2D: boolean) {
@@ -479,6 +500,41 @@ export class PreparedScene {
     });
     this.polygonStart[W] = uvAll.length / 2;
     this.polygons = Float64Array.from(uvAll);
+    this.vertexStart = new Int32Array(W + 1);
+    let nv = 0;
+    walls.forEach((wall, w) => { this.vertexStart[w] = nv; nv += wall.vertices.length; });
+    this.vertexStart[W] = nv;
+    this.vertices = new Float64Array(3 * nv);
+    const boxes = new Float64Array(6 * W);
+    let maxAbs = 1;
+    walls.forEach((wall, w) => {
+      let x0 = Infinity, y0 = Infinity, z0 = is2D ? -Infinity : Infinity, x1 = -Infinity, y1 = -Infinity, z1 = is2D ? Infinity : -Infinity;
+      wall.vertices.forEach((v, j) => {
+        const x = v[0]!, y = v[1]!, z = is2D ? 0 : v[2]!;
+        this.vertices.set([x, y, z], 3 * (this.vertexStart[w]! + j));
+        x0 = Math.min(x0, x); x1 = Math.max(x1, x); y0 = Math.min(y0, y); y1 = Math.max(y1, y);
+        if (!is2D) { z0 = Math.min(z0, z); z1 = Math.max(z1, z); }
+        maxAbs = Math.max(maxAbs, Math.abs(x), Math.abs(y), Math.abs(z));
+      });
+      boxes.set([x0, y0, z0, x1, y1, z1], 6 * w);
+    });
+    this.padM = 1e-8 * maxAbs;
+    this.bvh = new Bvh(boxes);
+    this.convex = new Uint8Array(W).fill(1);
+    let maxV = 0;
+    for (let w = 0; w < W; w++) {
+      const s = this.polygonStart[w]!, e = this.polygonStart[w + 1]!, n = e - s, poly = this.polygons;
+      maxV = Math.max(maxV, walls[w]!.vertices.length);
+      if (is2D) continue;
+      let pos = 0, neg = 0;
+      for (let i = 0; i < n; i++) {
+        const a = s + i, b = s + ((i + 1) % n), c = s + ((i + 2) % n);
+        const cr = (poly[2 * b]! - poly[2 * a]!) * (poly[2 * c + 1]! - poly[2 * b + 1]!) - (poly[2 * b + 1]! - poly[2 * a + 1]!) * (poly[2 * c]! - poly[2 * b]!);
+        if (cr > 0) pos++; else if (cr < 0) neg++;
+      }
+      this.convex[w] = pos === 0 || neg === 0 ? 1 : 0;
+    }
+    this.maxWallVertices = maxV;
     const blockers = scene.blockers ?? [];
     this.blockerSpheres = new Float64Array(4 * blockers.length);
     this.blockerPoints = blockers.map((b, i) => {
@@ -574,24 +630,30 @@ export class PreparedScene {
    * [ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1), ps.segmentHitsWall(0.2, 0.8, 1, 0.2, 0.8, -1, -1, -1)] // [true, false]: only the first crosses the triangle
    */
   segmentHitsWall(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number): boolean {
+    this.qax = ax; this.qay = ay; this.qaz = az; this.qbx = bx; this.qby = by; this.qbz = bz;
+    this.qSkipA = skipA; this.qSkipB = skipB;
+    return this.bvh.forEachOnSegment(ax, ay, az, bx, by, bz, this.crossVisitor, this.padM);
+  }
+
+  /**
+   * True when the open segment a -> b crosses wall w (the test of segmentHitsWall for one wall).
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
+   * ps.segmentCrossesWall(0, 0.8, 0.2, 1, 0.8, 0.2, -1) // true
+   */
+  segmentCrossesWall(w: number, ax: number, ay: number, az: number, bx: number, by: number, bz: number): boolean {
     const pl = this.planes;
-    const dx = bx - ax, dy = by - ay, dz = bz - az;
     const eps = 1e-9;
-    const tr = this.transmissive;
-    for (let w = 0; w < this.wallCount; w++) {
-      if (w === skipA || w === skipB || tr[w] === 1) continue;
-      const o = 4 * w;
-      const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
-      const fa = nx * ax + ny * ay + nz * az - d;
-      const fb = nx * bx + ny * by + nz * bz - d;
-      if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0)) continue; // both ends on one side
-      const den = fa - fb;
-      if (Math.abs(den) < 1e-15) continue; // in the plane: grazing
-      const t = fa / den;
-      if (t <= eps || t >= 1 - eps) continue;
-      if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) return true;
-    }
-    return false;
+    const o = 4 * w;
+    const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
+    const fa = nx * ax + ny * ay + nz * az - d;
+    const fb = nx * bx + ny * by + nz * bz - d;
+    if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0)) return false; // both ends on one side
+    const den = fa - fb;
+    if (Math.abs(den) < 1e-15) return false; // in the plane: grazing
+    const t = fa / den;
+    if (t <= eps || t >= 1 - eps) return false;
+    return this.insideWall(w, ax + t * (bx - ax), ay + t * (by - ay), az + t * (bz - az), 0);
   }
 
   /**

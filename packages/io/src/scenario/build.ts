@@ -301,6 +301,9 @@ export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
  * sceneOf({ ...traced, scene: { walls: [{ vertices: [[0, 20], [80, 20]] }], atmosphere: { method: 'p676-13-line-by-line' } } }).gasAttenuationDbPerKm // 0.1018: ITU-R P.676 at 28 GHz, sea level
  */
 export function sceneOf(scenario: Scenario): Scene {
+  if (scenario.scene?.imports !== undefined) {
+    throw new ScenarioError([{ path: 'scene.imports', message: 'the imported files are not read yet: load the scenario with loadScenario() or expand it with expandSceneImports(scenario, folder) first' }]);
+  }
   const { atmosphere, ...scene } = scenario.scene!;
   if (atmosphere === undefined) return scene as unknown as Scene;
   // Narrowband: the specific attenuation at the carrier applies across the band.

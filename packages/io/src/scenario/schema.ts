@@ -139,8 +139,32 @@ const materialSchema = z.union([
   z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
 ]);
 
+// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+const sceneImportSchema = z.union([
+  z.strictObject({
+    footprints: z.string().min(1),
+    origin: z.strictObject({ latitudeDeg: z.number().min(-90).max(90), longitudeDeg: z.number().min(-180).max(180), heightM: finite.optional() }),
+    heightProperty: z.string().min(1).optional(),
+    defaultHeightM: positive.optional(),
+    materialProperty: z.string().min(1).optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+    roofs: z.boolean().optional(),
+  }),
+  z.strictObject({
+    mesh: z.string().min(1),
+    unit: z.enum(['m', 'cm', 'mm', 'km', 'in', 'ft']).optional(),
+    upAxis: z.enum(['y', 'z']).optional(),
+    offsetM: vector3.optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+  }),
+]);
+
 const sceneDefinition = z.strictObject({
   lineOfSight: z.boolean().optional(),
+  /** Surfaces read from files, added after `walls` (expanded by loadScenario / expandSceneImports). */
+  imports: z.array(sceneImportSchema).optional(),
   walls: z
     .array(
       z.strictObject({
@@ -367,6 +391,24 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'terminal.array.wavefront': d('Plane or spherical wavefront; "auto": spherical inside 2 D^2 / lambda.', undefined, SCENARIO_DEFAULTS.wavefront),
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
+  'scene.imports': d('Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").'),
+  'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
+  'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
+  'scene.imports.origin.latitudeDeg': d('Latitude of the origin.', 'deg'),
+  'scene.imports.origin.longitudeDeg': d('Longitude of the origin.', 'deg'),
+  'scene.imports.origin.heightM': d('Height of the origin above the ellipsoid.', 'm', 0),
+  'scene.imports.heightProperty': d('Feature property holding the building height.', undefined, 'height'),
+  'scene.imports.defaultHeightM': d('Height of features without the height property (else they are refused).', 'm'),
+  'scene.imports.materialProperty': d('Feature property naming the material (looked up in materials, else a material name).'),
+  'scene.imports.materials': d('Property values (footprints) or group names (meshes) to materials.'),
+  'scene.imports.material': d('Material of surfaces not mapped by materials.', undefined, DEFAULT_MATERIAL),
+  'scene.imports.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
+  'scene.imports.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
+  'scene.imports.roofs': d('Add a flat roof on every footprint.', undefined, true),
+  'scene.imports.mesh': d('A Wavefront OBJ mesh file, relative to the scenario file; one wall per triangle.'),
+  'scene.imports.unit': d('Length unit of the mesh file.', undefined, 'm'),
+  'scene.imports.upAxis': d('Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)).', undefined, 'z'),
+  'scene.imports.offsetM': d('Shift added after scaling and turning.', 'm', [0, 0, 0]),
   'scene.walls': d('Planar walls (3-D polygons) or vertical wall segments (2-D).'),
   'scene.walls.vertices': d('Corners [[x, y, z], ...] (at least 3, coplanar) or the two ends [[x, y], [x, y]].', 'm'),
   'scene.walls.material': d('A named material (ITU-R P.2040-3 Table 3, or metal) or { relativePermittivity, conductivitySpm }.', undefined, DEFAULT_MATERIAL),

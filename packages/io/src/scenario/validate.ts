@@ -4,6 +4,7 @@
  * are refused with the nearest known key suggested.
  */
 import { readFile } from 'node:fs/promises';
+import { dirname } from 'node:path';
 import type { z } from 'zod';
 import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
@@ -410,7 +411,8 @@ export function parseScenarioText(text: string, source = 'scenario'): { scenario
 }
 
 /**
- * Read and validate a scenario file; throws ScenarioError (also for an unreadable file).
+ * Read and validate a scenario file, with `scene.imports` read into walls from files beside it;
+ * throws ScenarioError (also for an unreadable file).
  * @example await loadScenario('/nonexistent/run.json') // throws ScenarioError "/nonexistent/run.json: 1 problem\ncannot read the file: ENOENT"
  */
 export async function loadScenario(file: string): Promise<{ scenario: Scenario; warnings: string[]; text: string }> {
@@ -420,5 +422,8 @@ export async function loadScenario(file: string): Promise<{ scenario: Scenario; 
   } catch (e) {
     throw new ScenarioError([{ path: '', message: `cannot read the file: ${(e as NodeJS.ErrnoException).code ?? String(e)}` }], file);
   }
-  return { ...parseScenarioText(text, file), text };
+  const parsed = parseScenarioText(text, file);
+  // scene.imports: files beside the scenario, read into walls (scenario/imports.ts)
+  const { expandSceneImports } = await import('./imports.js');
+  return { ...parsed, scenario: expandSceneImports(parsed.scenario, dirname(file), file), text };
 }
