@@ -162,7 +162,8 @@ describe('beam space and beam search', () => {
     );
     const tensor = gen.fill(gen.allocate(S), 0, S);
     const fromGen = trackBeamPairs(gen, W, F);
-    const fromTensor = trackBeamPairs({ tensor, shape: gen.shape }, W, F);
+    // The generator's shape is typed number[] (it may carry a symbol axis); this one has four axes.
+    const fromTensor = trackBeamPairs({ tensor, shape: gen.shape as [number, number, number, number] }, W, F);
     expect(Array.from(fromGen.transmitBeam)).toEqual(Array.from(fromTensor.transmitBeam));
     expect(Array.from(fromGen.gain)).toEqual(Array.from(fromTensor.gain));
     const per = 2 * gen.valuesPerSubframe;
