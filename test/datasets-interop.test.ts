@@ -90,8 +90,7 @@ describe.each([
 ] as const)('generate output read by numpy, h5py and h5dump: %s', (_label, raw) => {
   const exp = expected(raw);
 
-  it.each(['npy', 'npz', 'h5'] as const)('.%s: every array equals the in-memory run', async (format) => {
-    if (!hasPython('numpy', 'h5py')) return;
+  it.runIf(hasPython('numpy', 'h5py')).each(['npy', 'npz', 'h5'] as const)('.%s: every array equals the in-memory run', async (format) => {
     const dir = tempDir();
     const out = join(dir, `run.${format}`);
     const text = JSON.stringify(raw);
@@ -120,8 +119,7 @@ describe.each([
     }
   });
 
-  it('.h5 read by h5dump: path table (epoch axis), truth and one complex H entry as r/i', async () => {
-    if (!hasCommand('h5dump')) return;
+  it.runIf(hasCommand('h5dump'))('.h5 read by h5dump: path table (epoch axis), truth and one complex H entry as r/i', async () => {
     const dir = tempDir();
     const out = join(dir, 'run.h5');
     const text = JSON.stringify(raw);

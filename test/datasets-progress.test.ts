@@ -41,8 +41,7 @@ describe('generate progress', () => {
     expect(r.stdout.trim()).toMatch(/^wrote \S+run\.h5: H complex64 \[400, 128, 8, 16\]/);
   });
 
-  it('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
-    if (!hasCommand('script')) return;
+  it.runIf(hasCommand('script'))('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
     const dir = tempDir();
     const scenario = writeScenario(dir, 's.json', readFileSync(factory, 'utf8'));
     const cmd = `${process.execPath} ${CLI} generate ${scenario} --out ${join(dir, 'run.npz')}`;

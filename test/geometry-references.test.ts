@@ -4,7 +4,7 @@
  * equations with the ITU-R P.2040 material model (numpy), the bistatic radar equation and the
  * ITU-R P.526 knife-edge loss for a blocker edge placed at a known height.
  */
-import { describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import { SPEED_OF_LIGHT, rotationFromOrientation, traceScene, type Scene, type TraceTerminal, type Vec3 } from '@pathweave/geometry';
 import { hasPython, pythonJson } from './support/python.js';
 
@@ -40,9 +40,12 @@ print(json.dumps({
 
 describe.skipIf(!py)('two-ray ground reflection against the closed form (numpy)', () => {
   const f = 28e9, h1 = 6, h2 = 1.5, D = 40;
-  const ref = pythonJson<{ d2: number; tau2: number; elevDeg: number; xSpec: number; gv: [number, number]; gh: [number, number]; ev: [number, number]; eh: [number, number] }>(
-    TWO_RAY, [JSON.stringify({ f, h1, h2, D })],
-  );
+  type TwoRay = { d2: number; tau2: number; elevDeg: number; xSpec: number; gv: [number, number]; gh: [number, number]; ev: [number, number]; eh: [number, number] };
+  // Evaluated in beforeAll, not while collecting: a skipped suite is still collected, and numpy may be absent.
+  let ref!: TwoRay;
+  beforeAll(() => {
+    ref = pythonJson<TwoRay>(TWO_RAY, [JSON.stringify({ f, h1, h2, D })]);
+  });
   const ground: Scene = { walls: [{ vertices: [[-100, -100, 0], [200, -100, 0], [200, 100, 0], [-100, 100, 0]], material: 'concrete' }] };
   // receiver faces the transmitter (yaw 180), both boresights horizontal
   const tx = (pol: 'vertical' | 'horizontal'): TraceTerminal => term([0, 0, h1], { polarization: pol });

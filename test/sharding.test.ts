@@ -126,8 +126,7 @@ function shardAll(dir: string, file: string, out: string, n: number, extra: stri
 describe('merge', () => {
   const S = 41;
 
-  it.each(['npz', 'h5'] as const)('sharded %s parts merge to the unsharded run (numpy / h5py, C)', (ext) => {
-    if (!hasPython('numpy', 'h5py')) return;
+  it.runIf(hasPython('numpy', 'h5py')).each(['npz', 'h5'] as const)('sharded %s parts merge to the unsharded run (numpy / h5py, C)', (ext) => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', movingScenario(S));
     // --checksum: the unsharded run records tensorSha256 too (shard runs always do), to compare it.
