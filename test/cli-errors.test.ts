@@ -1,5 +1,5 @@
 /**
- * Bad input: a clear message and exit code 2 (design.md, "Command line"), and no output file is
+ * Bad input: a clear message and exit code 2 (docs/conventions.md, "Command line"), and no output file is
  * created or overwritten.
  */
 import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
@@ -97,7 +97,7 @@ describe('refused input', () => {
     expect(missing.stderr).toContain('cannot read the file: ENOENT');
     const dir = tempDir();
     const intoDir = runCli(['generate', join(ROOT, 'test', 'fixtures', 'three-path-static.json'), '--out', dir]);
-    expect(intoDir.status).toBe(1); // a fault of the destination (issue 10), not of the input
+    expect(intoDir.status).toBe(1); // a fault of the destination, not of the input
     expect(intoDir.stderr).toContain('the output path is a directory (EISDIR)');
   });
 

@@ -107,7 +107,7 @@ describe.each([
         expect(g.sha256, a.name).toBe(sha(a));
       }
     }
-    // The layouts promised in design.md: user axis after S, epoch axis in the path tables.
+    // The layouts promised in docs/conventions.md: user axis after S, epoch axis in the path tables.
     const H = wanted[0]!;
     if (raw.receivers !== undefined) expect(H.shape).toEqual([23, 2, 8, 4, 32]);
     else expect(H.shape).toEqual([23, 8, 4, 32]);
@@ -137,7 +137,7 @@ describe.each([
       const got = numbers(['-d', `/${name}`]);
       expect(got, name).toEqual(Array.from(a.data as Float64Array));
     }
-    // One complex value: the compound's r and i members (design.md: r/i compound).
+    // One complex value: the compound's r and i members (docs/datasets.md: r/i compound).
     const H = exp.arrays[0]!.data as Float32Array;
     const dump = execFileSync('h5dump', ['-m', '%.9g', '-d', '/H', '-s', `0,${'0,'.repeat(exp.arrays[0]!.shape.length - 2)}0`, '-c', `1,${'1,'.repeat(exp.arrays[0]!.shape.length - 2)}1`, out], { encoding: 'utf8' });
     expect(dump).toMatch(/H5T_IEEE_F32LE "r";\s*H5T_IEEE_F32LE "i";/);

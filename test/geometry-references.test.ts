@@ -137,7 +137,7 @@ print(json.dumps(out))`, [JSON.stringify(heights)]);
 
 describe('bistatic radar equation', () => {
   it('gives power lambda^2 sigma / ((4 pi)^3 d1^2 d2^2) for a point scatterer', () => {
-    // Skolnik, Introduction to Radar Systems, bistatic radar equation (M); design.md formula
+    // Skolnik, Introduction to Radar Systems, bistatic radar equation (M); docs/conventions.md formula
     const f = 28e9, lambda = SPEED_OF_LIGHT / f, sigma = 3.5;
     const tx: Vec3 = [0, 0, 1], rx: Vec3 = [30, 5, 1], s: Vec3 = [12, 20, 1];
     const p = traceScene({ scatterers: [{ position: s, rcsM2: sigma }], lineOfSight: false }, term(tx), term(rx), f).paths[0]!;

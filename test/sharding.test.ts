@@ -1,5 +1,5 @@
 /**
- * Sharded runs and merge (design.md, "Command line" and "Reproducibility"): `--shard I/N` and
+ * Sharded runs and merge (docs/conventions.md, "Command line" and "Reproducibility"): `--shard I/N` and
  * `--shard auto` take subframes floor(I S / N) to floor((I+1) S / N) - 1; every part writes its
  * manifest; a rerun skips a verified part; merge refuses gaps, overlaps, foreign or tampered
  * parts (exit 2) and otherwise writes a file whose tensor equals the unsharded run's byte for
@@ -21,12 +21,12 @@ function movingScenario(subframes: number): Record<string, any> {
   return s;
 }
 
-/** The design.md formula, in exact integer arithmetic (BigInt), independent of shardRange. */
+/** The docs/conventions.md formula, in exact integer arithmetic (BigInt), independent of shardRange. */
 function formulaRange(i: number, n: number, s: number): [number, number] {
   return [Number((BigInt(i) * BigInt(s)) / BigInt(n)), Number((BigInt(i + 1) * BigInt(s)) / BigInt(n))];
 }
 
-describe('--shard ranges (design.md: floor(I S / N) to floor((I+1) S / N) - 1)', () => {
+describe('--shard ranges (docs/conventions.md: floor(I S / N) to floor((I+1) S / N) - 1)', () => {
   it('I/N tiles 0..S-1 for a sweep of S and N, matching the formula', () => {
     for (const S of [1, 7, 41, 100, 1000, 2 ** 31 + 11])
       for (const N of [1, 2, 3, 7, 8, 64]) {
@@ -80,7 +80,7 @@ describe('--shard ranges (design.md: floor(I S / N) to floor((I+1) S / N) - 1)',
     const m2 = JSON.parse(readFileSync(join(dir, 'run.part-4-of-5.npz.manifest.json'), 'utf8'));
     expect(m2.range).toEqual(formulaRange(4, 5, 41));
     expect(m2.tensor.shape[0]).toBe(m2.range[1] - m2.range[0]);
-    // design.md: --out is the file written; without {index}/{count} it is used as given.
+    // docs/conventions.md: --out is the file written; without {index}/{count} it is used as given.
     const exact = runCli(['generate', file, '--out', join(dir, 'shard-one.npy'), '--shard', '1/4', '--quiet']);
     expect(exact.status, exact.stderr).toBe(0);
     expect(existsSync(join(dir, 'shard-one.npy'))).toBe(true);

@@ -69,7 +69,7 @@ export interface PathTimeline {
 }
 
 /**
- * One explicit path (design.md `paths`), in SI units.
+ * One explicit path (a scenario's `paths`), in SI units.
  * @example const echo: ExplicitPath = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
  */
 export interface ExplicitPath {

@@ -64,7 +64,7 @@ describe('DFT codebooks', () => {
     expect(gramError(cb)).toBeGreaterThan(0.5); // not orthogonal, as expected
   });
 
-  it('transmit columns are conj(r_tx) / sqrt(N), receive columns r_rx / sqrt(N), of the array response (design.md)', () => {
+  it('transmit columns are conj(r_tx) / sqrt(N), receive columns r_rx / sqrt(N), of the array response (docs/conventions.md)', () => {
     const k0 = wavenumber(FC);
     const ula = AntennaArray.ula(8, HALF);
     const tx = ulaCodebook(8), rx = ulaCodebook(8, { side: 'receive' });

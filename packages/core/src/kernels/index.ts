@@ -1,6 +1,6 @@
 /**
  * The kernel in use for the assembler's inner loop. Chosen the same way on every run of a
- * machine and recorded in the output's metadata (design.md, Reproducibility): the WebAssembly
+ * machine and recorded in the output's metadata (docs/conventions.md, Reproducibility): the WebAssembly
  * SIMD kernel when its compiled file is present and validates (128-bit SIMD), else the plain
  * JavaScript one. `PATHWEAVE_KERNEL=js` forces the plain kernel (also recorded).
  *

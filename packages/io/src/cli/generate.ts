@@ -51,7 +51,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   if (args.values.subframes !== undefined && args.values.shard !== undefined) throw new UsageError('generate: give --subframes or --shard, not both');
 
   const outStat = await stat(out).catch(() => undefined);
-  // A fault of the destination, like a full disk or a read-only folder: exit 1 (issue 10), found before any work.
+  // A fault of the destination, like a full disk or a read-only folder: exit 1 (docs/conventions.md, Command line), found before any work.
   if (outStat?.isDirectory()) throw new OutputFileError(out, 'create', Object.assign(new Error('is a directory'), { code: 'EISDIR' }));
 
   const { scenario, warnings, text } = await loadScenario(file);

@@ -404,7 +404,7 @@ function padded(rows: number, L: number, value: (row: number, l: number) => numb
 }
 
 /**
- * The named side arrays of design.md ("Output files") for subframes [first, first + count):
+ * The named side arrays of docs/datasets.md ("What a file holds") for subframes [first, first + count):
  * gains, the grid, subframe times, the path table (rows per user and per geometry update when
  * the geometry moves; NaN where a path is absent) and ground truth per subframe (truth/...).
  * @example

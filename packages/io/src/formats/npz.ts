@@ -2,7 +2,7 @@
  * NPZ writer: one zip archive that numpy.load opens, holding every named array as `<name>.npy`
  * (a name with "/" stays a zip entry path: `paths/delayS.npy`, key "paths/delayS" in numpy).
  *
- * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], design.md)
+ * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], docs/conventions.md)
  * is row-major, complex interleaved re/im, exactly numpy's complex64 / complex128 bytes, so the
  * NPY entry body is the caller's blocks written in order. Its size is known from the header, so
  * the entry is streamed into the zip (yazl addReadStreamLazy with `size`) and memory stays

@@ -1,8 +1,8 @@
-/** Printing path lists: a readable table, and the explicit-path JSON form of design.md. */
+/** Printing path lists: a readable table, and the explicit-path JSON form of a scenario's `paths` (docs/guide.md). */
 import type { PathRecord } from './build.js';
 
 /**
- * A path in the explicit `paths` form of design.md, plus descriptive fields.
+ * A path in the explicit `paths` form of a scenario file (docs/guide.md), plus descriptive fields.
  * @example const los: ExplicitPathJson = { id: 'los', kind: 'los', aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 3.3e-8, powerDb: -81.4, phaseDeg: 12, dopplerHz: 0 };
  */
 export interface ExplicitPathJson {
