@@ -296,23 +296,20 @@ describe('retracePaths', () => {
   });
 });
 
-describe('speed', () => {
-  it('traces a 20-wall room at order 2 fast enough', () => {
-    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls (shared with bench/)
+// The tracer's rate on this room (asked: >= 1000 traces/s) is measured by the benchmark,
+// `node bench/run.mjs --only tracer`, never by a unit test (DEVELOPERS.md: no timed unit tests).
+describe('the 20-wall room shared with bench/', () => {
+  it('traces at order 2 with every wall in play and the same paths for the same geometry', () => {
+    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls
     const room = JSON.parse(readFileSync(new URL('../../../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')) as { scene: { walls: Wall[] } };
     const walls = room.scene.walls;
     expect(walls.length).toBe(20);
     const ps = prepareScene({ walls, maxReflectionOrder: 2 });
     const tx = term([2, 5, 2.5]), rx = term([17, 7, 1.5]);
-    const count = traceScene(ps, tx, rx, FC).paths.length;
-    expect(count).toBeGreaterThan(10);
-    for (let k = 0; k < 50; k++) traceScene(ps, tx, rx, FC); // warm-up
-    const runs = 400;
-    const t0 = performance.now();
-    for (let k = 0; k < runs; k++) traceScene(ps, tx, { ...rx, position: [17, 7 + k * 1e-4, 1.5] }, FC);
-    const perSecond = runs / ((performance.now() - t0) / 1000);
-    console.log(`20 walls, order 2: ${perSecond.toFixed(0)} traces/s, ${count} paths`);
-    // target >= 1000/s (about 1500/s measured alone); the bound is lower because the machine is shared
-    expect(perSecond).toBeGreaterThan(250);
+    const first = traceScene(ps, tx, rx, FC).paths;
+    expect(first.length).toBeGreaterThan(10);
+    expect(first.some((p) => p.kind === 'los')).toBe(true);
+    // a prepared scene keeps no state between traces: a second trace gives the same paths
+    expect(traceScene(ps, tx, rx, FC).paths.map((p) => [p.id, p.lengthM])).toEqual(first.map((p) => [p.id, p.lengthM]));
   });
 });
