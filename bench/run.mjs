@@ -13,7 +13,7 @@
  * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
-import { execFileSync, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';

@@ -8,7 +8,6 @@ import {
 const FC = 28e9;
 const LAMBDA = SPEED_OF_LIGHT / FC;
 const term = (position: Vec3, extra: Partial<TraceTerminal> = {}): TraceTerminal => ({ position, ...extra });
-const relClose = (a: number, b: number, tol: number): boolean => Math.abs(a - b) <= tol * Math.max(Math.abs(a), Math.abs(b), 1e-300);
 
 /** A 2-D rectangular room [0, lx] x [0, ly]: walls x=0, x=lx, y=0, y=ly. */
 function room2d(lx: number, ly: number, extra: Partial<Scene> = {}): Scene {

@@ -383,7 +383,7 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
         job.hash?.update(bytesOf(view));
         await writes; // the previous block is on disk: its buffers are free
         if (previous !== undefined && next < blocks) ask(next++, previous);
-        write(s, n, view);
+        void write(s, n, view); // awaited through `writes`, before the next block and at the end
         previous = [done.tensor, done.gains];
       }
       await writes;

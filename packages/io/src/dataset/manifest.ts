@@ -13,7 +13,7 @@
  */
 import { createHash } from 'node:crypto';
 import { readFile, stat } from 'node:fs/promises';
-import { basename, extname } from 'node:path';
+import { basename } from 'node:path';
 import { z } from 'zod';
 import { writeFileAtomic } from '../formats/atomic.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';

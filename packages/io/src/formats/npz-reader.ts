@@ -80,8 +80,14 @@ async function readCentralDirectory(path: string, handle: FileHandle): Promise<Z
       const len = cd.readUInt16LE(e + 2);
       if (id === 0x0001) {
         let f = e + 4;
-        if (uncompressed === 0xffffffff) (uncompressed = u64(cd, f)), (f += 8);
-        if (compressedSize === 0xffffffff) (compressedSize = u64(cd, f)), (f += 8);
+        if (uncompressed === 0xffffffff) {
+          uncompressed = u64(cd, f);
+          f += 8;
+        }
+        if (compressedSize === 0xffffffff) {
+          compressedSize = u64(cd, f);
+          f += 8;
+        }
         if (localHeaderOffset === 0xffffffff) localHeaderOffset = u64(cd, f);
       }
       e += 4 + len;

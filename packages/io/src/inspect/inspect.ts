@@ -204,6 +204,7 @@ async function pathRows(reader: DatasetReader): Promise<{ rows: PathRow[]; epoch
   return { rows, epochs };
 }
 
+/* eslint-disable @typescript-eslint/no-explicit-any -- a recorded scenario of any format version is read loosely, every field optional */
 /** The scenario in one or two lines, from the `scenario` attribute. */
 function scenarioBrief(text: string | undefined): { lines: string[]; data: Record<string, unknown> | undefined } {
   if (text === undefined) return { lines: ['  scenario     (not recorded in this file)'], data: undefined };
@@ -239,6 +240,7 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
     data,
   };
 }
+/* eslint-enable @typescript-eslint/no-explicit-any */
 
 const finite = (x: number): number | null => (Number.isFinite(x) ? x : null);
 const fmt = (x: number, digits = 4): string => (Number.isFinite(x) ? x.toPrecision(digits) : 'inf');
