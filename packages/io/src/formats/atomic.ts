@@ -73,7 +73,7 @@ export function removeLiveTemporaryFiles(): string[] {
 /**
  * The temporary name used for `target`: hidden, in the same folder (so rename is atomic),
  * unique per process and call (process id plus 64 random bits).
- * @example temporaryPathFor('/data/run.npy') // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
+ * @example temporaryPathFor('/data/run.npy') // /data/.run.npy.<process id>-<16 random hex digits>.part
  */
 export function temporaryPathFor(target: string): string {
   return join(dirname(target), `.${basename(target)}.${process.pid}-${randomBytes(8).toString('hex')}.part`);
