@@ -172,7 +172,7 @@ function instrument(example: Example): { body: string; claims: Claim[] } {
     const thrown = /^\s*\/\/\s*throws\s+(\w+)(?:\s+(['"])(.*)\2)?/.exec(line.slice(at));
     if (thrown !== null && code.length > 0) {
       const index = claims.length;
-      claims.push({ line: example.line + i, text: `throws ${thrown[1]}`, expected: { throws: thrown[1], message: thrown[3] } });
+      claims.push({ line: example.line + i, text: `throws ${thrown[1]}`, expected: { throws: thrown[1], message: thrown[2] === undefined ? undefined : (new Function(`return ${thrown[2]}${thrown[3]}${thrown[2]};`)() as string) } });
       const expr = code.replace(/;$/, '');
       return `try { await (async () => (${expr}))(); __claim(${index}, { threw: undefined }); } catch (e) { __claim(${index}, { threw: e.name, message: e.message }); }`;
     }

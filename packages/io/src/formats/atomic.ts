@@ -158,7 +158,7 @@ export class AtomicFile {
   /**
    * Create the temporary file next to `target` ("wx": never opens a file that exists, so two
    * writers cannot share one; a taken name is replaced by a fresh one).
-   * @example (await AtomicFile.create('/data/run.npy')).temporary // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
+   * @example (await AtomicFile.create('/data/run.npy')).temporary // /data/.run.npy.<process id>-<16 random hex digits>.part
    */
   static async create(target: string): Promise<AtomicFile> {
     if (typeof target !== 'string' || target === '') throw new TypeError(`AtomicFile.create(): target must be a non-empty path, got ${JSON.stringify(target)}`);

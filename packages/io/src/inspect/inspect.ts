@@ -35,7 +35,7 @@ export interface InspectOptions {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
  * const summary: InspectSummary = await inspectFile('run.h5');
- * summary.text.split('\n')[0] // "run.h5: h5, 285.8 KiB (292648 bytes)"
+ * summary.text.split('\n')[0] // "run.h5: h5, 285.7 KiB (292568 bytes)"
  */
 export interface InspectSummary {
   text: string;
