@@ -1,5 +1,5 @@
 /**
- * Bad input: a clear message and exit code 2 (design.md, "Command line"), and no output file is
+ * Bad input: a clear message and exit code 2 (docs/conventions.md, "Command line"), and no output file is
  * created or overwritten.
  */
 import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';

@@ -42,8 +42,7 @@ describe('generate progress', () => {
     expect(readFileSync(join(dir, 'run.h5')).length).toBeGreaterThan(0);
   });
 
-  it('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
-    if (!hasCommand('script')) return;
+  it.runIf(hasCommand('script'))('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
     const dir = tempDir();
     const scenario = writeScenario(dir, 's.json', readFileSync(factory, 'utf8'));
     const cmd = `${process.execPath} ${CLI} generate ${scenario} --out ${join(dir, 'run.npz')}`;

@@ -1,5 +1,5 @@
 /**
- * Packages a stranger can install (issue 10, item 5): `pnpm pack` of geometry, core and io gives
+ * Packages a stranger can install: `pnpm pack` of geometry, core and io gives
  * tarballs whose metadata is complete and which hold nothing of the tests or benchmarks; a fresh
  * project outside the workspace installs the three tarballs with plain npm (one install; only
  * zod, ml-matrix, fft.js, h5wasm and yazl come from the registry or npm's cache), imports them,
@@ -157,15 +157,15 @@ describe('a fresh project outside the workspace', () => {
     writeFileSync(join(app, 'use.mjs'), script);
     const out = JSON.parse(run(process.execPath, ['use.mjs'], app).stdout) as Record<string, any>;
     for (const p of out.resolved as string[]) expect(p.startsWith(join(app, 'node_modules', '@pathweave'))).toBe(true);
-    // design.md: isotropic entries of the array response have unit modulus.
+    // docs/conventions.md: isotropic entries of the array response have unit modulus.
     for (const m of out.moduli as number[]) expect(m).toBeCloseTo(1, 12);
     // A&S Table 9.5: the first zero of J0 is 2.404825557695773 (V); |J0| there below 1e-12.
     expect(Math.abs(out.j0)).toBeLessThan(1e-12);
     expect(out.version).toBe('0.1.0');
-    // design.md: frequency domain [S, K, Nr, Nt]; the fixture has 64 subcarriers, a 4-element ULA and a 4 x 8 UPA.
+    // docs/conventions.md: frequency domain [S, K, Nr, Nt]; the fixture has 64 subcarriers, a 4-element ULA and a 4 x 8 UPA.
     expect(out.shape).toEqual([4, 64, 4, 32]);
     expect(out.header).toMatchObject({ descr: '<c8', fortranOrder: false, shape: [4, 64, 4, 32] });
-    // The workspace's own CLI on the same scenario gives the same bytes (design.md, "Reproducibility").
+    // The workspace's own CLI on the same scenario gives the same bytes (docs/conventions.md, "Reproducibility").
     const reference = join(work, 'workspace.npy');
     expect(runCli(['generate', join(app, 'scenario.json'), '--out', reference, '--quiet']).status).toBe(0);
     expect(readFileSync(join(app, 'library.npy')).equals(readFileSync(reference))).toBe(true);

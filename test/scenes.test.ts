@@ -1,6 +1,6 @@
 /**
  * Traced scenes through the whole pipeline: the demo scenarios run, the traced path list pasted
- * back as explicit paths with fading "static" reproduces the same H (design.md, `pathweave
+ * back as explicit paths with fading "static" reproduces the same H (docs/guide.md, `pathweave
  * paths --json`), and bad scene input is refused with dotted paths.
  */
 import { cpSync, readFileSync, readdirSync } from 'node:fs';
@@ -57,7 +57,7 @@ print(json.dumps({'los': f['truth/powerDb'][:, ids.index('los')].tolist(), 'ids'
     expect(los[los.length - 1]!).toBeGreaterThan(clear - 1); // and recovers
   });
 
-  it('highway: the Doppler of the line of sight matches v cos(angle) / lambda (design.md sign)', () => {
+  it('highway: the Doppler of the line of sight matches v cos(angle) / lambda (docs/conventions.md sign)', () => {
     const r = runCli(['paths', join(ROOT, 'examples', 'highway-39ghz.json'), '--json']);
     expect(r.status).toBe(0);
     const paths = JSON.parse(r.stdout) as { id: string; dopplerHz: number; aoaDeg: [number, number] }[];

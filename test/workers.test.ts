@@ -1,5 +1,5 @@
 /**
- * generate() with worker threads: the same bytes for every worker count (design.md,
+ * generate() with worker threads: the same bytes for every worker count (docs/conventions.md,
  * Reproducibility: "the same tensor bytes ... on any machine and with any worker count"), and a
  * subframe range made by workers equal to that slice of the whole run. The scenarios are sized
  * to span several 8 MiB blocks so that blocks really go to different threads. Without

@@ -104,7 +104,7 @@ export interface TracedEpochs {
 }
 
 /**
- * One explicit path (design.md `paths`), in SI units.
+ * One explicit path (a scenario's `paths` entry), in SI units.
  * @example const echo: ExplicitPathSpec = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
  */
 export interface ExplicitPathSpec {

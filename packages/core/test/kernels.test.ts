@@ -2,7 +2,7 @@
  * The WebAssembly SIMD kernels (multiply then add, and fused multiply-add) against the plain
  * JavaScript kernel over a sweep of sizes (odd sizes, one element pair, one subcarrier, one
  * path), and the kernel in use against numpy's matmul.
- * Agreement bound: design.md (Reproducibility) asks kernels to agree to 1e-6 relative. The f32
+ * Agreement bound: docs/conventions.md (Reproducibility) asks kernels to agree to 1e-6 relative. The f32
  * kernel rounds weights and products to float32 (relative 2^-24 = 6e-8 each) and accumulates L
  * terms in float32: for these L <= 33 the Frobenius error is a few 1e-7 at most, and 1e-6 is
  * the contract. The f64 kernel differs from the plain one only by the order of two additions
@@ -79,7 +79,7 @@ describe('kernel choice', () => {
 
 for (const { name, kernel: wasm, allocate } of BUILDS) {
 describe.runIf(wasm !== undefined)(`${name} kernel against the plain kernel`, () => {
-  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (design.md)', (bins, L, M) => {
+  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (docs/conventions.md)', (bins, L, M) => {
     const w = values(2 * bins * L, 1 + bins + 100 * L), p = values(2 * L * M, 7 + M);
     const plain = new Float32Array(2 * bins * M), fast = new Float32Array(2 * bins * M).fill(99);
     accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));

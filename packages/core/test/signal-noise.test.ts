@@ -170,10 +170,12 @@ describe('link budget', () => {
     });
     const H = gen.fill(gen.allocate(3), 0, 3);
     const budget = { transmitPowerDbm: 20, bandwidthHz: 100e6, noiseFigureDb: 7 };
-    const snr = receivedSnr(H, gen.shape, 'frequency', budget);
+    // The generator's shape is typed number[] (it may carry a symbol axis); this one has four axes.
+    const shape = gen.shape as [number, number, number, number];
+    const snr = receivedSnr(H, shape, 'frequency', budget);
     // 20 dBm - 100 dB - (-173.975 + 80 + 7) dBm = 6.975 dB (C, from the formulas above).
     for (let s = 0; s < 3; s++) expect(snr.snrDb[s]).toBeCloseTo(20 - 100 - (10 * Math.log10(1.380649e-23 * 290 * 100e6 * 10 ** 0.7) + 30), 9);
-    expect(Array.from(channelPowerGain(H, gen.shape, 'frequency')).every((g) => Math.abs(g / 1e-10 - 1) < 1e-12)).toBe(true);
+    expect(Array.from(channelPowerGain(H, shape, 'frequency')).every((g) => Math.abs(g / 1e-10 - 1) < 1e-12)).toBe(true);
   });
 
   it('channelPowerGain of taps sums the tap energy', () => {

@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
 import {
   interactionLabel, pathIdOf, prepareScene, retracePaths, rotationFromOrientation, sceneObjectLabel, traceScene, SPEED_OF_LIGHT,
   type Scene, type TerminalState, type TracedPath, type Vec3, type Wall,
@@ -7,7 +8,6 @@ import {
 const FC = 28e9;
 const LAMBDA = SPEED_OF_LIGHT / FC;
 const term = (position: Vec3, extra: Partial<TerminalState> = {}): TerminalState => ({ position, ...extra });
-const relClose = (a: number, b: number, tol: number): boolean => Math.abs(a - b) <= tol * Math.max(Math.abs(a), Math.abs(b), 1e-300);
 
 /** A 2-D rectangular room [0, lx] x [0, ly]: walls x=0, x=lx, y=0, y=ly. */
 function room2d(lx: number, ly: number, extra: Partial<Scene> = {}): Scene {
@@ -350,6 +350,21 @@ describe('interaction records', () => {
     expect(() => retracePaths(ps, [bad], term([0, 0, 0]), term([10, 0, 0]), FC)).toThrow(
       new RangeError('retracePaths(): interaction object must be a wall, got {"kind":"scatterer","index":0}'),
     );
+// The tracer's rate on this room (asked: >= 1000 traces/s) is measured by the benchmark,
+// `node bench/run.mjs --only tracer`, never by a unit test (DEVELOPERS.md: no timed unit tests).
+describe('the 20-wall room shared with bench/', () => {
+  it('traces at order 2 with every wall in play and the same paths for the same geometry', () => {
+    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls
+    const room = JSON.parse(readFileSync(new URL('../../../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')) as { scene: { walls: Wall[] } };
+    const walls = room.scene.walls;
+    expect(walls.length).toBe(20);
+    const ps = prepareScene({ walls, maxReflectionOrder: 2 });
+    const tx = term([2, 5, 2.5]), rx = term([17, 7, 1.5]);
+    const first = traceScene(ps, tx, rx, FC).paths;
+    expect(first.length).toBeGreaterThan(10);
+    expect(first.some((p) => p.kind === 'los')).toBe(true);
+    // a prepared scene keeps no state between traces: a second trace gives the same paths
+    expect(traceScene(ps, tx, rx, FC).paths.map((p) => [p.id, p.lengthM])).toEqual(first.map((p) => [p.id, p.lengthM]));
   });
 });
 

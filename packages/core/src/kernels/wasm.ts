@@ -27,7 +27,7 @@ import type { KernelOut } from './accumulate.js';
 
 /**
  * Where setup puts the compiled kernel (the same file from src/kernels and dist/kernels).
- * @example WASM_KERNEL_PATH // "<checkout>/packages/core/dist/kernels/accumulate.wasm"
+ * @example WASM_KERNEL_PATH // <checkout>/packages/core/dist/kernels/accumulate.wasm
  */
 export const WASM_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate.wasm', import.meta.url));
 

@@ -3,7 +3,7 @@
  * once, each with a dotted path) and a `PreparedScene` that holds the wall planes and polygons
  * once, for the tracer's inner loops.
  *
- * Dimensions (design.md "2-D scenes"): a scene is 2-D when it has walls and every wall vertex has
+ * Dimensions (docs/conventions.md, "2-D scenes"): a scene is 2-D when it has walls and every wall vertex has
  * two coordinates, or it has no walls and every scatterer and blocker point has two. In a 2-D
  * scene every point of the scene has two coordinates, terminals sit at z = 0, walls are vertical
  * planes of unbounded height and blockers are extruded likewise; in a 3-D scene every point has
@@ -86,7 +86,7 @@ export interface CylinderBlocker {
 export type Blocker = BoxBlocker | CylinderBlocker;
 
 /**
- * The scene objects traced into paths, with the tracer's settings (the `scene` key of design.md).
+ * The scene objects traced into paths, with the tracer's settings (the `scene` key of a scenario file).
  * @example const street: Scene = { walls: [{ vertices: [[0, 10], [50, 10]] }, { vertices: [[0, -10], [50, -10]] }], maxReflectionOrder: 1 };
  */
 export interface Scene {

@@ -1,7 +1,7 @@
 /**
  * The path tracer: line of sight, image-method specular reflections up to `maxReflectionOrder`
  * and single-bounce point scatterers, with Fresnel coefficients, polarisation, blocker losses,
- * optional gas absorption, delays, angles and geometric Doppler (design.md conventions).
+ * optional gas absorption, delays, angles and geometric Doppler (docs/conventions.md).
  *
  * Image method: for every sequence of walls w1..wK (no wall twice in a row) the transmitter is
  * mirrored through w1, then w2, ... (images I1..IK); from the receiver the line towards IK meets
@@ -113,7 +113,7 @@ export interface PathInteraction {
 export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
 
 /**
- * A traced path (all angles in degrees, design.md convention; lengths m; times s).
+ * A traced path (all angles in degrees, docs/conventions.md; lengths m; times s).
  * @example
  * const [los]: TracedPath[] = traceScene({}, { position: [0, 0, 1] }, { position: [10, 10, 1] }, 28e9).paths;
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
@@ -239,7 +239,7 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
 
 /**
  * Recompute paths from their fixed interaction lists for new terminal positions and velocities
- * (issue 3 item 4): which paths exist and their Fresnel, polarisation and blocker factors stay as
+ * (between geometry updates): which paths exist and their Fresnel, polarisation and blocker factors stay as
  * traced at the last geometry update; lengths, delays, reflection points, angles, Doppler,
  * spreading, carrier phase and gas absorption follow the current positions. The reflection points
  * are found from the images of the new transmitter position through the same walls (without the

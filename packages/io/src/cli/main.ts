@@ -1,5 +1,5 @@
 /**
- * The `pathweave` command line (design.md, "Command line"). Exit codes: 0 done, 1 failure
+ * The `pathweave` command line (docs/conventions.md, "Command line"). Exit codes: 0 done, 1 failure
  * while running, 2 the input or the command line was refused.
  */
 import { InputFileError, printable } from '../formats/read-support.js';

@@ -392,7 +392,7 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
         await writes; // the previous block is on disk: its buffer goes back to its worker
         previous?.release();
         if (next < blocks) ask(next++);
-        write(s, n, view);
+        void write(s, n, view); // awaited through `writes`, before the next block and at the end
         previous = done;
       }
       await writes;
@@ -413,7 +413,7 @@ function padded(rows: number, L: number, value: (row: number, l: number) => numb
 }
 
 /**
- * The named side arrays of design.md ("Output files") for subframes [first, first + count):
+ * The named side arrays of docs/datasets.md ("What a file holds") for subframes [first, first + count):
  * gains, the grid, subframe times, the path table (rows per user and per geometry update when
  * the geometry moves; NaN where a path is absent) and ground truth per subframe (truth/...).
  * @example

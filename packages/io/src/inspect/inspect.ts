@@ -35,7 +35,7 @@ export interface InspectOptions {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
  * const summary: InspectSummary = await inspectFile('run.h5');
- * summary.text.split('\n')[0] // "run.h5: h5, 285.8 KiB (292648 bytes)"
+ * summary.text.split('\n')[0] // "run.h5: h5, 285.7 KiB (292568 bytes)"
  */
 export interface InspectSummary {
   text: string;
@@ -173,6 +173,7 @@ async function pathRows(reader: DatasetReader): Promise<{ rows: PathRow[]; epoch
   return { rows, epochs };
 }
 
+/* eslint-disable @typescript-eslint/no-explicit-any -- a recorded scenario of any format version is read loosely, every field optional */
 /** The scenario in one or two lines, from the `scenario` attribute. */
 function scenarioBrief(text: string | undefined): { lines: string[]; data: Record<string, unknown> | undefined } {
   if (text === undefined) return { lines: ['  scenario     (not recorded in this file)'], data: undefined };
@@ -213,6 +214,7 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
     data,
   };
 }
+/* eslint-enable @typescript-eslint/no-explicit-any */
 
 const finite = (x: number): number | null => (Number.isFinite(x) ? x : null);
 const fmt = (x: number, digits = 4): string => (Number.isFinite(x) ? x.toPrecision(digits) : 'inf');

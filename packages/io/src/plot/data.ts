@@ -161,7 +161,6 @@ export async function profilePathsOf(source: PlotSource, atS = 0, user: number |
     const times = (await r.readArray('subframeTimesS')).data as Float64Array;
     let s = 0;
     while (s + 1 < times.length && times[s + 1]! <= atS + 1e-12) s++;
-    const U = source.built.multiUser ? source.built.users.length : 1;
     const L = maxPathCount(source.built);
     const row = async (name: string, width: number): Promise<Float64Array> => {
       const data = (await r.readRows(name, s, s + 1)) as Float64Array;

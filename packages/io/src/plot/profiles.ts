@@ -7,7 +7,7 @@ import { Panel, colourBar, shade } from './axes.js';
 import { LabelPlacer, SvgDocument, THEME, escapeXml, fmt } from './svg.js';
 
 /**
- * A path as the profile figures need it (angles in degrees, design.md directions).
+ * A path as the profile figures need it (angles in degrees, docs/conventions.md directions).
  * @example const los: ProfilePath = { id: 'los', kind: 'los', delayS: 80.7e-9, powerDb: -89.1, aodDeg: [22.3, -10.7], aoaDeg: [-157.7, 10.7] }; // one stem at 80.7 ns
  */
 export interface ProfilePath {

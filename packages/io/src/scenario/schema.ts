@@ -1,5 +1,5 @@
 /**
- * The scenario file (design.md, "Scenario file"): one zod definition, from which the TypeScript
+ * The scenario file (docs/guide.md, "Scenario files"): one zod definition, from which the TypeScript
  * types, the validation and the JSON Schema in docs/ all come. SI units throughout, except
  * angles in degrees under keys ending in `Deg` and decibels under keys ending in `Db`.
  */

@@ -1,5 +1,5 @@
 /**
- * A pool of worker threads that fill blocks of subframes for `generate` (design.md,
+ * A pool of worker threads that fill blocks of subframes for `generate` (docs/conventions.md,
  * Reproducibility: the same tensor bytes with any worker count). Every worker builds the
  * generators from the plan and the traced epochs it is given (it traces nothing) and runs ChannelGenerator.fill over the subframe range it is given, which is
  * bit-identical whatever range a call covers (gain streams keyed by (seed, path id, block) and
