@@ -157,7 +157,7 @@ describe.skipIf(!py)('edge diffraction against exact solutions (scipy)', () => {
 
   it('the wedge coefficients equal an independent scipy implementation of Kouyoumjian-Pathak to 1e-9', () => {
     const cases: number[][] = [];
-    for (const n of [2, 1.75, 1.5, 1.2]) for (const [pp, p] of [[0.3, 2.0], [1.1, 4.0], [0.7, 3.0], [2.0, 0.5]]) {
+    for (const n of [2, 1.75, 1.5, 1.2]) for (const [pp, p] of [[0.3, 2.0], [1.1, 4.0], [0.7, 3.0], [2.0, 0.5]] as [number, number][]) {
       if (p <= n * Math.PI && pp <= n * Math.PI) cases.push([586.8, n, pp, p, 1.2, 3.7]);
     }
     const ref = pythonJson<number[][]>(KP, [JSON.stringify({ cases })]);

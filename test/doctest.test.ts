@@ -197,7 +197,10 @@ function instrument(example: Example): { body: string; claims: Claim[] } {
 }
 
 // Examples may use node's fs, os and path helpers (join, readFileSync, tmpdir, ...) without importing them.
-const scope: Record<string, unknown> = { ...fs, ...os, ...path, ...geometry, ...core, ...io, ...plot, ...cli };
+// The one shared fixture: `scenario` in an example is examples/one-path-28ghz.json, as the io
+// package's documentation says (instead of the same literal repeated in a dozen examples).
+const exampleScenario = io.parseScenarioText(readFileSync(join(ROOT, 'examples', 'one-path-28ghz.json'), 'utf8'), 'examples/one-path-28ghz.json').scenario;
+const scope: Record<string, unknown> = { ...fs, ...os, ...path, ...geometry, ...core, ...io, ...plot, ...cli, scenario: exampleScenario };
 delete scope.default;
 const AsyncFunction = Object.getPrototypeOf(async () => undefined).constructor as new (...args: string[]) => (...a: unknown[]) => Promise<void>;
 

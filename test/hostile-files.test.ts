@@ -213,7 +213,7 @@ describe('NPZ: the zip directory is checked against the file (exit 2)', () => {
     const opened = (reader as unknown as { inflatedBytes: number }).inflatedBytes;
     try {
       const rows: number[] = [];
-      for (let r = 0; r < 3; r++) rows.push(...(await reader.readRows('H', r, r + 1)));
+      for (let r = 0; r < 3; r++) rows.push(...((await reader.readRows('H', r, r + 1)) as Float32Array));
       expect(rows).toEqual([...(await plain.readRows('H', 0, 3))]);
       // One pass: rows read in order never restart the inflation (a restart per row, as before,
       // inflates the entry again for every row: at least twice its size here).
@@ -360,6 +360,7 @@ describe('the terminal never receives control characters from names or files', (
     const r = await run(['inspect', name]);
     expect(r.code).toBe(2);
     expect(r.err).toContain('evil\\u001b[2J\\u009b31m.npz');
+    // eslint-disable-next-line no-control-regex -- the check is that no control character is left
     expect(r.err).not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/);
   });
 });

@@ -11,7 +11,7 @@
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 
-const PYTHON = process.env.PATHWEAVE_PYTHON ?? '/usr/bin/python3';
+export const PYTHON = process.env.PATHWEAVE_PYTHON ?? '/usr/bin/python3';
 
 const cache = new Map<string, boolean>();
 

@@ -350,6 +350,9 @@ describe('interaction records', () => {
     expect(() => retracePaths(ps, [bad], term([0, 0, 0]), term([10, 0, 0]), FC)).toThrow(
       new RangeError('retracePaths(): interaction object must be a wall, got {"kind":"scatterer","index":0}'),
     );
+  });
+});
+
 // The tracer's rate on this room (asked: >= 1000 traces/s) is measured by the benchmark,
 // `node bench/run.mjs --only tracer`, never by a unit test (DEVELOPERS.md: no timed unit tests).
 describe('the 20-wall room shared with bench/', () => {

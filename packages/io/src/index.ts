@@ -3,6 +3,10 @@
  * pathweave io: scenario files (schema, validation, JSON Schema), NPY/NPZ/HDF5 writers and
  * readers, the streaming `generate` pipeline, manifests, merge and inspect. The command line is
  * `@pathweave/io/cli` and the SVG figures `@pathweave/io/plot`.
+ *
+ * In the examples, `scenario` is the one-path scenario of examples/one-path-28ghz.json (28 GHz,
+ * 10 subframes, 64 subcarriers at 120 kHz, a 4-element ULA to a 2-element ULA, one static path):
+ * `const { scenario } = await loadScenario('examples/one-path-28ghz.json')`.
  */
 export * from './scenario/json.js';
 export * from './scenario/schema.js';

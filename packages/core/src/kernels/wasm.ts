@@ -33,7 +33,7 @@ export const WASM_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernel
 
 /**
  * Where setup puts the fused build of the same source (relaxed-SIMD multiply-add).
- * @example FMA_KERNEL_PATH // "<checkout>/packages/core/dist/kernels/accumulate-fma.wasm"
+ * @example FMA_KERNEL_PATH // <checkout>/packages/core/dist/kernels/accumulate-fma.wasm
  */
 export const FMA_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate-fma.wasm', import.meta.url));
 

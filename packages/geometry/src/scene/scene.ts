@@ -109,7 +109,7 @@ export interface Scene {
 
 /**
  * One problem of a scene: dotted path, message naming the value and what is allowed, severity.
- * @example validateScene({ maxReflectionOrder: 9 }) // [{ path: 'scene.maxReflectionOrder', message: 'must be an integer from 0 to 6, got 9', severity: 'error' }]
+ * @example validateScene({ maxReflectionOrder: 9 }) // [{ path: 'scene.maxReflectionOrder', message: 'must be an integer from 0 to 3, got 9', severity: 'error' }]
  */
 export interface SceneProblem {
   path: string;

@@ -106,7 +106,8 @@ export function fresnelComplement(x: number): Complex {
   // h = continued fraction 1 / (b1 + a1 / (b2 + ...)) with b = 1 - j pi x^2, then
   // 1/2 - C + j (1/2 - S) = (1 + j) / 2 * exp(j pi x^2 / 2) * (x - j x) * h.
   const pix2 = Math.PI * x * x;
-  let bRe = 1, bIm = -pix2;
+  let bRe = 1;
+  const bIm = -pix2;
   let cRe = 1e300, cIm = 0;
   let den = bRe * bRe + bIm * bIm;
   let dRe = bRe / den, dIm = -bIm / den;

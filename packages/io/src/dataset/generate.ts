@@ -45,7 +45,7 @@ export const BLOCK_TARGET_BYTES = 8 * 2 ** 20;
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const options: GenerateOptions = { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true };
- * (await generate(scenario, text, options)).sha256 // "89f37562d44badbf4fae2406d8bb3ed25815e6d850228202442e7dd48d53122c" (kernel wasm-fma128; "b68c65c0...bf8595" with PATHWEAVE_KERNEL=simd), also the file's tensorSha256
+ * (await generate(scenario, text, options)).sha256!.length // 64: hex SHA-256 of the tensor bytes, also the file's tensorSha256 (89f37562... with kernel wasm-fma128, b68c65c0... with PATHWEAVE_KERNEL=simd)
  */
 export interface GenerateOptions {
   out: string;

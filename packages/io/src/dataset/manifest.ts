@@ -13,7 +13,7 @@
  */
 import { createHash } from 'node:crypto';
 import { stat } from 'node:fs/promises';
-import { basename, extname } from 'node:path';
+import { basename } from 'node:path';
 import { z } from 'zod';
 import { writeFileAtomic } from '../formats/atomic.js';
 import { bytesOf, DTYPE_BYTES } from '../formats/npy.js';
@@ -176,7 +176,7 @@ export async function readManifest(path: string): Promise<PartManifest> {
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true }); // H [4, 64, 4, 32]
- * await tensorSha256OfFile('run.h5') // { sha256: 'b68c65c08126d82661d3d3e4a667bd97d7df559de9ae865fade7b4ea06bf8595', bytes: 262144 }: 4 x 64 x 4 x 32 x 8 bytes, the sha256 the file records as tensorSha256
+ * (await tensorSha256OfFile('run.h5')).bytes // 262144: 4 x 64 x 4 x 32 x 8 bytes; its sha256 is the one the file records as tensorSha256 (it depends on the kernel, docs/conventions.md)
  */
 export async function tensorSha256OfFile(path: string): Promise<{ sha256: string; bytes: number }> {
   const reader = await openDatasetReader(path);

@@ -322,12 +322,18 @@ export async function commitWithSideFile<T>(sidePath: string, text: string, comm
     await side.commit();
   } catch (e) {
     await side.abort();
-    if (backup !== undefined) await unlink(backup).catch(() => undefined), live.delete(backup);
+    if (backup !== undefined) {
+      await unlink(backup).catch(() => undefined);
+      live.delete(backup);
+    }
     throw e;
   }
   try {
     const result = await commitMain();
-    if (backup !== undefined) await unlink(backup).catch(() => undefined), live.delete(backup);
+    if (backup !== undefined) {
+      await unlink(backup).catch(() => undefined);
+      live.delete(backup);
+    }
     return result;
   } catch (e) {
     // Put the earlier side file back (or take the new one away): it describes the earlier data file.

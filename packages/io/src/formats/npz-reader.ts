@@ -178,7 +178,10 @@ class EntryCursor {
     if (e.method === 0) {
       const bytes = await readAt(this.handle, e.dataOffset + from, to - from, this.path);
       if (from === this.position) this.advance(bytes);
-      else if (from === 0) this.restart(), this.advance(bytes);
+      else if (from === 0) {
+        this.restart();
+        this.advance(bytes);
+      }
       return bytes;
     }
     if (from < this.position) this.restart();

@@ -47,7 +47,7 @@ const KNOWN_EXTENSIONS = ['.npy', '.npz', '.h5', '.hdf5'];
 /**
  * Check an output name before any work; resolves when it may be written, else throws
  * OutputPathError saying why.
- * @example await checkOutputPath('out/run.h5', { format: 'npy' }) // throws OutputPathError '--out out/run.h5: the extension .h5 says h5, but --format is npy; ...'
+ * @example await checkOutputPath('out/run.h5', { format: 'npy' }) // throws OutputPathError '--out out/run.h5: the extension .h5 says h5, but the format asked for is npy; name the file .npy or drop --format'
  */
 export async function checkOutputPath(out: string, options: OutputPathOptions = {}): Promise<void> {
   const option = options.option ?? '--out';

@@ -51,12 +51,6 @@ import { ScenarioError } from './validate.js';
 /**
  * A path as listed by `pathweave paths` and stored in the path table.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
  * const [record]: PathSummary[] = buildScenario(scenario).paths;
  * record // { id: 'paths[0]', kind: 'explicit', delayS: 1.7e-7, powerDb: -90, phaseDeg: 0, aodDeg: [0, -10], aoaDeg: [180, 10], dopplerHz: 0, maxDopplerHz: undefined }
  */
@@ -81,12 +75,6 @@ export interface PathSummary {
 /**
  * One user's channel: its receiver, generator and paths.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
  * const [user]: UserChannel[] = buildScenario(scenario).users;
  * [user!.id, user!.generator.shape, user!.paths.length] // ['', [10, 64, 2, 4], 1]: a lone receiver without id
  */
@@ -110,12 +98,6 @@ export interface UserChannel {
 /**
  * A scenario made ready to generate.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
  * const built: BuiltScenario = buildScenario(scenario);
  * [built.domain, built.multiUser, built.shape, built.valuesPerSubframe] // ['frequency', false, [10, 64, 2, 4], 512]
  */
@@ -291,12 +273,6 @@ export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
 /**
  * The geometry's scene from the scenario's `scene` object.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
  * const { paths, ...traced } = scenario;
  * sceneOf({ ...traced, scene: { walls: [{ vertices: [[0, 20], [80, 20]] }], atmosphere: { method: 'p676-13-line-by-line' } } }).gasAttenuationDbPerKm // 0.1018: ITU-R P.676 at 28 GHz, sea level
  */
@@ -314,12 +290,6 @@ export function sceneOf(scenario: Scenario): Scene {
 /**
  * Build the generators of a validated scenario.
  * @example
- * const scenario: Scenario = {
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
- *   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * };
  * buildScenario(scenario, { domain: 'frequency' }).generator.shape // [10, 64, 2, 4]: [S, K, Nr, Nt]
  */
 export function buildScenario(scenario: Scenario, options: { domain?: Domain | undefined; seed?: number | undefined } = {}): BuiltScenario {

@@ -13,11 +13,11 @@ import type { Problem } from './validate.js';
 /** Lowest carrier accepted, Hz: below 1 MHz a value is almost surely in GHz or MHz. */
 export const MIN_CARRIER_HZ = 1e6;
 /** Lowest tap sample rate accepted, Hz (below it a value is in MHz or GHz). */
-export const MIN_SAMPLE_RATE_HZ = 1e3;
+const MIN_SAMPLE_RATE_HZ = 1e3;
 /** Lowest subcarrier spacing accepted, Hz (below it a value is in kHz). */
-export const MIN_SPACING_HZ = 100;
+const MIN_SPACING_HZ = 100;
 /** Smallest element spacing accepted, in wavelengths (1/20: closer elements are not an array one can build). */
-export const MIN_ELEMENT_SPACING_WAVELENGTHS = 1 / 20;
+const MIN_ELEMENT_SPACING_WAVELENGTHS = 1 / 20;
 
 const fmt = (v: number): string => String(Number(v.toPrecision(6)));
 

@@ -263,11 +263,7 @@ const scenarioDefinition = z.strictObject({
 /**
  * The whole scenario document.
  * @example
- * const result = scenarioSchema.safeParse({
- *   carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 10 }, band: { subcarriers: 64, spacingHz: 120e3 },
- *   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } }, receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
- *   paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
- * });
+ * const result = scenarioSchema.safeParse(scenario);
  * result.success // true
  */
 export const scenarioSchema: z.ZodType<z.output<typeof scenarioDefinition>, z.input<typeof scenarioDefinition>> = scenarioDefinition;
