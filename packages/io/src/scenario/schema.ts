@@ -122,16 +122,38 @@ const terminalDefinition = z.strictObject({
  */
 export const terminalSchema: z.ZodType<z.output<typeof terminalDefinition>, z.input<typeof terminalDefinition>> = terminalDefinition;
 
-const clusterDefinition = z.strictObject({
-  preset: z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional(),
-  method: z.enum(['gaussian', 'laplacian', 'offsets-38901']).optional(),
-  subPaths: count.max(1000).optional(),
+const OFFSETS_SUB_PATHS = 20;
+const offsetsSubPathsMessage = (got: unknown): string => `method "offsets-38901" has ${OFFSETS_SUB_PATHS} sub-paths (3GPP TR 38.901 Table 7.5-3), got ${describeValue(got)}`;
+const subPaths = count.max(1000).optional();
+const clusterPreset = z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional();
+const clusterSpreads = {
   azimuthSpreadDepartureDeg: nonNegative.optional(),
   elevationSpreadDepartureDeg: nonNegative.optional(),
   azimuthSpreadArrivalDeg: nonNegative.optional(),
   elevationSpreadArrivalDeg: nonNegative.optional(),
   delaySpreadS: nonNegative.optional(),
-});
+};
+// Variants by method. The method may be left out: it is then "offsets-38901" with a preset and
+// "gaussian" without (docs/deployments.md); that one rule across two keys is the refinement below.
+const clusterDefinition = z.discriminatedUnion('method', [
+  z
+    .strictObject({ preset: clusterPreset, method: z.literal('gaussian').optional(), subPaths, ...clusterSpreads })
+    .superRefine((c, ctx) => {
+      if (c.method === undefined && c.preset !== undefined && c.subPaths !== undefined && c.subPaths !== OFFSETS_SUB_PATHS) {
+        ctx.addIssue({ code: 'custom', path: ['subPaths'], message: offsetsSubPathsMessage(c.subPaths), input: c.subPaths });
+      }
+    }),
+  z.strictObject({ preset: clusterPreset, method: z.literal('laplacian'), subPaths, ...clusterSpreads }),
+  z.strictObject({
+    preset: clusterPreset,
+    method: z.literal('offsets-38901'),
+    subPaths: count
+      .max(1000)
+      .refine((n) => n === OFFSETS_SUB_PATHS, { error: (issue) => offsetsSubPathsMessage(issue.input), when: (payload) => payload.issues.length === 0 })
+      .optional(),
+    ...clusterSpreads,
+  }),
+]);
 
 /**
  * A cluster of sub-paths around a path (docs/deployments.md): a 3GPP TR 38.901 preset by name,

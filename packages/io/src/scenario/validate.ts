@@ -154,7 +154,7 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
     case 'invalid_union': {
       // A discriminated union whose tag (array kind, fading model) names no variant.
       if (issue.discriminator !== undefined && 'options' in issue && issue.options !== undefined && issue.errors.length === 0) {
-        return [{ path, message: `must be one of ${issue.options.map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
+        return [{ path, message: `must be one of ${issue.options.filter((v) => v !== undefined).map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
       }
       // Report the alternative that came closest (fewest problems) rather than a bare "invalid".
       let best: Problem[] | undefined;
@@ -264,13 +264,7 @@ function crossChecks(s: Scenario): Problem[] {
   // Which options each model takes is the schema's (the variants of the fading union).
   const polarised = f.xprDb !== undefined || terminals.some(([, t]) => t.array.dualPolarized !== undefined);
   if (polarised && s.band?.beamSquint === true) problems.push({ path: 'band.beamSquint', message: 'is not supported together with dual-polarised arrays or fading.xprDb' });
-  const clusterChecks: [string, NonNullable<Scenario['clusters']>][] = [];
-  if (s.clusters !== undefined) clusterChecks.push(['clusters', s.clusters]);
-  s.paths?.forEach((p, i) => { if (p.cluster !== undefined) clusterChecks.push([`paths[${i}].cluster`, p.cluster]); });
-  for (const [at, c] of clusterChecks) {
-    const method = c.method ?? (c.preset !== undefined ? 'offsets-38901' : 'gaussian');
-    if (method === 'offsets-38901' && c.subPaths !== undefined && c.subPaths !== 20) problems.push({ path: `${at}.subPaths`, message: `method "offsets-38901" has 20 sub-paths (3GPP TR 38.901 Table 7.5-3), got ${c.subPaths}` });
-  }
+  // A cluster's sub-path count with method "offsets-38901" is the schema's (the variants of clusterSchema).
   for (const [i, p] of (s.paths ?? []).entries()) {
     for (const key of ['aodDeg', 'aoaDeg'] as const) {
       const el = p[key][1];
