@@ -55,7 +55,8 @@ export const polarizationSchema: z.ZodType<z.output<typeof polarizationDefinitio
 
 // Each variant of a discriminated union lists every key of the others too: the keys another
 // variant takes are refused here with a message that names the variant (rather than "unknown
-// key"), and keys a variant requires say why when they are missing.
+// key"), and keys a variant requires say why when they are missing. These messages are the
+// ones users see: validate.ts words only the issues the schema leaves unworded.
 /** A key this variant does not take: refused, saying why and what was given. */
 const refused = (why: string) => z.never({ error: (issue) => `${why}, got ${describeValue(issue.input)}` }).optional();
 /** A number this variant requires: when missing, the message says what it is for. */
@@ -524,7 +525,9 @@ function annotate(node: unknown, path: string): void {
       const at = path === '' ? key : `${path}.${key}`;
       const doc = KEY_DOCS[docKey(at)];
       if (doc === undefined) throw new Error(`scenarioJsonSchema(): no documentation for key ${at}`);
-      Object.assign(child, { description: doc.unit !== undefined && doc.unit !== '1' ? `${doc.description} Unit: ${doc.unit}.` : doc.description });
+      const described = doc.unit !== undefined && doc.unit !== '1' ? `${doc.description} Unit: ${doc.unit}.` : doc.description;
+      // A key of another variant (array kind, fading model), refused in this one.
+      Object.assign(child, { description: child.not !== undefined ? `${described} Not allowed in this variant.` : described });
       if (doc.unit !== undefined) child.unit = doc.unit;
       if (doc.default !== undefined) child.default = doc.default;
       if (at === 'scene.walls') {
