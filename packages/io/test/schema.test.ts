@@ -40,7 +40,7 @@ describe('docs/scenario.schema.json', () => {
     const props = (scenarioJsonSchema() as Node).properties!;
     expect(props.carrierHz!.unit).toBe('Hz');
     expect(props.precision!.default).toBe(SCENARIO_DEFAULTS.precision);
-    expect(props.taps!.properties!.pulse!.default).toBe(SCENARIO_DEFAULTS.pulse);
+    expect(props.taps!.oneOf![0]!.properties!.pulse!.default).toBe(SCENARIO_DEFAULTS.pulse);
     expect(props.transmitter!.properties!.array!.oneOf![0]!.properties!.spacingWavelengths!.default).toBe(0.5);
   });
 

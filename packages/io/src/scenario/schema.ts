@@ -270,6 +270,14 @@ const fadingDefinition = z.discriminatedUnion('model', [
   fadingVariant('geometric', speed, notAr('geometric'), sinusoidCount, finite.optional()),
 ]);
 
+// Taps by pulse: the roll-off belongs to the raised cosine (sinc, the default, has none).
+const tapsVariant = <P extends z.ZodType, R extends z.ZodType>(pulse: P, rollOff: R) =>
+  z.strictObject({ sampleRateHz: positive, count, pulse, rollOff, alignFirstPath: z.boolean().optional() });
+const tapsDefinition = z.discriminatedUnion('pulse', [
+  tapsVariant(z.literal('sinc').optional(), z.never({ error: () => 'applies only with pulse "raised-cosine"' }).optional()),
+  tapsVariant(z.literal('raised-cosine'), z.number().min(0).max(1).optional()),
+]);
+
 const scenarioDefinition = z.strictObject({
   formatVersion: z.number().int().min(1).max(CURRENT_FORMAT_VERSION).optional(),
   name: z.string().max(200).optional(),
@@ -290,15 +298,7 @@ const scenarioDefinition = z.strictObject({
       beamSquint: z.boolean().optional(),
     })
     .optional(),
-  taps: z
-    .strictObject({
-      sampleRateHz: positive,
-      count,
-      pulse: z.enum(['sinc', 'raised-cosine']).optional(),
-      rollOff: z.number().min(0).max(1).optional(),
-      alignFirstPath: z.boolean().optional(),
-    })
-    .optional(),
+  taps: tapsDefinition.optional(),
   transmitter: terminalSchema,
   receiver: terminalSchema.optional(),
   receivers: z.array(terminalSchema).min(1).optional(),

@@ -209,9 +209,7 @@ function crossChecks(s: Scenario): Problem[] {
       if (t.velocity !== undefined) problems.push({ path: `${name}.velocity`, message: 'give either "velocity" or "trajectory", not both' });
     }
   }
-  if (s.taps?.rollOff !== undefined && s.taps.pulse !== 'raised-cosine') {
-    problems.push({ path: 'taps.rollOff', message: 'applies only with pulse "raised-cosine"' });
-  }
+  // The roll-off belongs to pulse "raised-cosine": the variants of the taps union say so.
   // Up-front limits on work (docs/conventions.md, "Limits"): refused here, before a build that
   // would hold the event loop (and so a signal) for a long time.
   if (s.paths !== undefined && s.paths.length > MAX_EXPLICIT_PATHS) {
