@@ -122,7 +122,7 @@ describe('the variants of the scenario schema state their own keys', () => {
     expect(safeParseScenario(scenario({ kind: 'upa', rows: 2, columns: 4, spacingWavelengths: 0.5 }, { model: 'ar', order: 3, speedMps: 2 })).ok).toBe(true);
   });
 
-  it('clusters by method: "offsets-38901", given or implied by a preset, has 20 sub-paths', () => {
+  it('clusters by method: "offsets-38901", given or implied by a preset, has 20 sub-paths; taps by pulse: a roll-off only with the raised cosine', () => {
     const withClusters = (clusters: object) => ({ ...scenario({ kind: 'ula', elements: 2 }, { model: 'static' }), clusters });
     const problems = (clusters: object) => { const r = safeParseScenario(withClusters(clusters)); return r.ok ? [] : r.problems.map(formatProblem); };
     const twenty = 'method "offsets-38901" has 20 sub-paths (3GPP TR 38.901 Table 7.5-3), got 10';
@@ -133,5 +133,8 @@ describe('the variants of the scenario schema state their own keys', () => {
     expect(problems({ preset: 'umi-nlos', subPaths: 20 })).toEqual([]);
     expect(problems({ method: 'circle' })).toEqual(['clusters.method: must be one of "gaussian", "laplacian", "offsets-38901", got "circle"']);
     expect(problems({ presett: 'umi-los' })).toEqual(['clusters.presett: unknown key; did you mean "preset"?']);
+    const taps = (t: object) => { const r = safeParseScenario({ ...withClusters({}), band: undefined, taps: { sampleRateHz: 1e9, count: 8, ...t } }); return r.ok ? [] : r.problems.map(formatProblem); };
+    expect(taps({ rollOff: 0.2 })).toEqual(['taps.rollOff: applies only with pulse "raised-cosine"']);
+    expect(taps({ pulse: 'raised-cosine', rollOff: 0.2 })).toEqual([]);
   });
 });
