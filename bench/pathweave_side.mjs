@@ -5,13 +5,16 @@
  * usage: node bench/pathweave_side.mjs <workload.json> memory|e2e|e2e-checksum|tracer|rawdisk <workers|default> [out]
  *   memory:  the fill loop over all subframes into reused block buffers (after a one-subframe
  *            warm-up; the buffers come from allocateKernelArray, as in `generate`, and are touched
- *            before the clock starts, as numpy's H is); with
- *            workers > 1 the blocks go to the worker pool of `generate`; `default` takes
- *            generate's default count (defaultWorkers)
+ *            before the clock starts, as numpy's H is); with workers > 1 the blocks go to the
+ *            worker pool of `generate` (each worker fills its own shared buffers, read in place;
+ *            warmed up with whole blocks); `default` takes generate's default count (defaultWorkers)
  *   e2e:     generate() to `out` (.npy, .npz), everything included, no checksum (a plain run);
  *            `default` leaves the worker count to generate
  *   e2e-checksum: the same with `checksum: true` (the tensor's SHA-256, as a --shard run)
  *   tracer:  traceScene on the 20-wall room at order 2, receiver moved a little per trace
+ *   startup: generate() of the workload's first 4 subframes to `out`, started by this process's
+ *            first line; reports the time from process start (performance.now(), whose origin is
+ *            the process's start) to the first block filled, and to the end
  *   rawdisk: write `bytes` (workload.rawBytes) to `out` in 16 MiB writes, then fsync
  * Prints one JSON line.
  */
@@ -28,7 +31,13 @@ const workers = workersArg === 'default' ? 'default' : Number(workersArg ?? 1);
 const rss = () => process.resourceUsage().maxRSS * 1024;
 const result = { side: 'pathweave', kernel: KERNEL_NAME, workers };
 
-if (mode === 'tracer') {
+if (mode === 'startup') {
+  const text = JSON.stringify({ ...cfg.scenario, timing: { ...cfg.scenario.timing, subframes: 4 } });
+  const { scenario } = parseScenarioText(text);
+  let firstBlock;
+  await generate(scenario, text, { out, format: 'npy', onProgress: () => (firstBlock ??= performance.now()) });
+  Object.assign(result, { firstBlockSeconds: firstBlock / 1000, doneSeconds: performance.now() / 1000 });
+} else if (mode === 'tracer') {
   const ps = prepareScene(twentyWallRoom());
   const tx = { position: [2, 5, 2.5] }, rx = { position: [17, 7, 1.5] };
   const first = traceScene(ps, tx, rx, 28e9);
@@ -78,19 +87,21 @@ if (mode === 'tracer') {
       seconds = (performance.now() - t0) / 1000;
     } else {
       const gainsPerSubframe = 2 * built.generator.pathCount;
-      const pool = new BlockPool(threads, { scenario, domain: built.domain, gainsPerSubframe });
-      const touched = (bytes) => new Uint8Array(bytes).fill(0).buffer; // pages touched outside the timed loop, as numpy's H
-      const fresh = () => [touched(8 * block * perSubframe), touched(8 * block * gainsPerSubframe)];
-      await Promise.all(Array.from({ length: threads }, () => pool.request(0, 1, ...fresh()))); // start-up and warm-up
+      const pool = new BlockPool(threads, { plan: built.plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe });
       const blocks = Math.ceil(S / block);
+      const depth = Math.min(2 * threads, blocks);
+      // Start-up and warm-up: each worker fills whole blocks into the buffers it keeps (their
+      // pages touched outside the timed loop, as numpy's H), then gives them back.
+      const warm = await Promise.all(Array.from({ length: depth }, (_, b) => pool.request(b * block, Math.min(block, S - b * block))));
+      for (const w of warm) w.release();
       const inFlight = [];
-      const ask = (b, bufs) => (inFlight[b] = pool.request(b * block, Math.min(block, S - b * block), ...bufs));
-      const first = Array.from({ length: Math.min(2 * threads, blocks) }, () => fresh());
+      const ask = (b) => (inFlight[b] = pool.request(b * block, Math.min(block, S - b * block)));
       const t0 = performance.now();
-      first.forEach((bufs, b) => ask(b, bufs));
+      for (let b = 0; b < depth; b++) ask(b);
       for (let b = 0; b < blocks; b++) {
         const done = await inFlight[b];
-        if (b + 2 * threads < blocks) ask(b + 2 * threads, [done.tensor, done.gains]);
+        done.release(); // read in place: nothing to copy out
+        if (b + depth < blocks) ask(b + depth);
       }
       seconds = (performance.now() - t0) / 1000;
       await pool.close();

@@ -4,7 +4,8 @@
  * the same run, alternating the two sides pair by pair (the machine is shared and noisy), with
  * the median and the spread (min-max) of each side and of the ratio.
  *
- * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--no-disk] [--no-scaling]
+ * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--combos memory:1,memory:default,e2e:1,e2e:default,e2e:pool,e2e-checksum:1]
+ *        [--no-disk] [--no-startup] [--no-scaling] [--no-pool-scaling]
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
@@ -13,7 +14,7 @@
  * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
-import { execFileSync, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
@@ -28,6 +29,7 @@ const value = (name, d) => (argv.includes(name) ? argv[argv.indexOf(name) + 1] :
 const JSON_OUT = flag('--json');
 const PAIRS = Number(value('--pairs', '5'));
 const ONLY = value('--only', 'dataset,wideband,taps,tracer').split(',');
+const COMBOS = argv.includes('--combos') ? value('--combos').split(',') : undefined; // e.g. memory:1,e2e:default
 const PYTHON = process.env.PATHWEAVE_BENCH_PYTHON ?? 'python3';
 const MEMDIR = process.env.PATHWEAVE_BENCH_MEMDIR ?? '/dev/shm';
 const DISKDIR = process.env.PATHWEAVE_BENCH_DISKDIR ?? tmpdir();
@@ -88,7 +90,7 @@ try {
       const tps = stats(runs.map((r) => r.tracesPerSecond));
       const row = { workload: name, description: w.description, mode: 'tracer', threads: '1', tracesPerSecond: tps, validPaths: runs[0].validPaths, maxRssBytes: Math.max(...runs.map((r) => r.maxRssBytes)), numpy: 'n/a (no numpy counterpart of the image-method tracer)' };
       emit(row);
-      log(`\n${name}: ${w.description}\n  traces/s ${spread(tps)} (${row.validPaths} valid paths), peak RSS ${(row.maxRssBytes / 2 ** 20).toFixed(0)} MiB`);
+      log(`\n${name}: ${w.description}\n  traces/s ${spread(tps)} (asked: >= 1000) (${row.validPaths} valid paths), peak RSS ${(row.maxRssBytes / 2 ** 20).toFixed(0)} MiB`);
       continue;
     }
     // The per-path alpha of the numpy side is pathweave's own (Clarke/Jakes J0 at the subframe lag).
@@ -106,7 +108,7 @@ try {
     const check = np([checkCfg, 'memory', '-', join(dir, `${name}-check.npz`)], 1);
     log(`\n${name}: ${w.description}\n  ${coefficients.toExponential(3)} coefficients; pathweave vs numpy relative Frobenius error ${check.relativeFrobenius.toExponential(2)} (target 2e-5)`);
 
-    const combos = [['memory', '1'], ['memory', 'default'], ...(w.endToEnd ? [['e2e', '1'], ['e2e', 'default'], ['e2e', 'pool'], ['e2e-checksum', '1']] : [])];
+    const combos = [['memory', '1'], ['memory', 'default'], ...(w.endToEnd ? [['e2e', '1'], ['e2e', 'default'], ['e2e', 'pool'], ['e2e-checksum', '1']] : [])].filter(([m, t]) => COMBOS === undefined || COMBOS.includes(`${m}:${t}`));
     for (const [mode, threads] of combos) {
       {
         const workers = threads === '1' ? '1' : threads === 'pool' ? String(availableParallelism()) : 'default';
@@ -156,6 +158,59 @@ try {
         rmSync(diskDir, { recursive: true, force: true });
       }
     }
+  }
+
+  if (!flag('--no-startup')) {
+    // Start-up: a bare node, then the command line generating 4 subframes of the dataset scene
+    // (whole process), then the time from process start to the first block inside generate().
+    const base = WORKLOADS.dataset.scenario;
+    const f = join(dir, 'startup.json');
+    writeFileSync(f, JSON.stringify({ ...base, timing: { ...base.timing, subframes: 4 } }));
+    writeFileSync(join(dir, 'startup-cfg.json'), JSON.stringify({ scenario: base }));
+    const bin = join(here, '..', 'packages', 'io', 'bin', 'pathweave.js');
+    const wall = (args) => {
+      const t0 = process.hrtime.bigint();
+      const r = spawnSync(process.execPath, args, { encoding: 'utf8' });
+      if (r.status !== 0) throw new Error(`node ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
+      return Number(process.hrtime.bigint() - t0) / 1e9;
+    };
+    const loadBefore = loadavg()[0];
+    const bare = [], cli = [], first = [];
+    for (let i = 0; i < PAIRS; i++) {
+      bare.push(wall(['-e', '0']));
+      cli.push(wall([bin, 'generate', f, '--out', join(dir, 'startup.npy'), '--quiet']));
+      first.push(pw([join(dir, 'startup-cfg.json'), 'startup', '1', join(dir, 'startup2.npy')]).firstBlockSeconds);
+    }
+    const row = { mode: 'startup', nodeBareSeconds: stats(bare), cliFourSubframesSeconds: stats(cli), firstBlockSeconds: stats(first), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+    emit(row);
+    log(`\nstart-up (4 subframes of the dataset scene): node -e 0 ${spread(row.nodeBareSeconds)} s; pathweave generate (whole process) ${spread(row.cliFourSubframesSeconds)} s; process start to first block ${spread(row.firstBlockSeconds)} s | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
+  }
+
+  if (!flag('--no-pool-scaling')) {
+    // Fill rate of the dataset against worker count, in memory (the workers fill their own
+    // shared buffers, read in place; 1 = the main thread in place), and end to end to /dev/shm.
+    const cfgFile = join(dir, 'dataset.json');
+    const { scenario } = parseScenarioText(JSON.stringify(WORKLOADS.dataset.scenario));
+    writeFileSync(cfgFile, JSON.stringify({ scenario: WORKLOADS.dataset.scenario, alpha: buildScenario(scenario, {}).generator.correlations.map((c) => c.alpha) }));
+    const coefficients = coefficientsOf(WORKLOADS.dataset.scenario);
+    log(`\npool scaling (dataset, ${PAIRS} runs each, interleaved; coeff/s, median [min-max]):`);
+    const counts = [1, 2, 3];
+    const mem = counts.map(() => []), e2e = counts.map(() => []);
+    const loadBefore = loadavg()[0];
+    for (let i = 0; i < PAIRS; i++) {
+      counts.forEach((w, j) => {
+        mem[j].push(coefficients / pw([cfgFile, 'memory', String(w)]).loopSeconds);
+        e2e[j].push(coefficients / pw([cfgFile, 'e2e', String(w), join(dir, 'scaling.npy')]).wallSeconds);
+        rmSync(join(dir, 'scaling.npy'), { force: true });
+        rmSync(join(dir, 'scaling.npy.json'), { force: true });
+      });
+    }
+    counts.forEach((w, j) => {
+      const row = { mode: 'pool-scaling', workers: w, memory: stats(mem[j]), e2e: stats(e2e[j]), memorySpeedup: stats(mem[j].map((x, i) => x / mem[0][i])), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+      emit(row);
+      log(`  workers ${w}: memory ${spread(row.memory)} (x${spread(row.memorySpeedup)} of 1), end to end ${spread(row.e2e)}`);
+    });
+    log(`  load ${loadBefore.toFixed(1)}-${loadavg()[0].toFixed(1)}`);
   }
 
   if (!flag('--no-scaling')) {

@@ -2,7 +2,7 @@ import { readFileSync } from 'node:fs';
 /**
  * Named benchmark workloads: scenarios of our own, written as pathweave scenario files, with the
  * per-path Gauss-Markov alpha the numpy side needs (numpy has no Bessel function; the value is
- * the Clarke/Jakes J0 lag correlation of design.md, taken from pathweave's own generator).
+ * the Clarke/Jakes J0 lag correlation of docs/conventions.md, taken from pathweave's own generator).
  * Tensor layout of every output: [S, K or taps, Nr, Nt] complex64, row-major, interleaved.
  */
 
@@ -35,7 +35,7 @@ function base({ subcarriers, subframes, rows = 8, columns = 8, rxRows = 4, rxCol
   };
 }
 
-/** The workloads of issue 7. `coefficients` = S x bins x Nr x Nt complex values. */
+/** The workloads of docs/performance.md. `coefficients` = S x bins x Nr x Nt complex values. */
 export const WORKLOADS = {
   dataset: {
     description: 'tx UPA 8x8, rx UPA 4x4, 8 paths, Gauss-Markov, 256 subcarriers, 600 subframes, complex64 to .npy',

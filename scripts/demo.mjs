@@ -19,7 +19,7 @@ function pathweave(...args) {
 
 console.log(`$ pathweave validate ${scenario}`);
 pathweave('validate', scenario);
-console.log(`\n$ pathweave generate ${scenario} --out ${out} --quiet`);
-pathweave('generate', scenario, '--out', out, '--quiet');
+console.log(`\n$ pathweave generate ${scenario} --out ${out}`);
+pathweave('generate', scenario, '--out', out); // not --quiet: the line saying what was written is part of the demo
 console.log(`\n$ pathweave inspect ${out}`);
 pathweave('inspect', out);

@@ -7,7 +7,7 @@
  *   node scripts/render-docs-images.mjs            # writes docs/images/*.svg and *.png
  *   node scripts/render-docs-images.mjs --out DIR  # elsewhere (the tests use a temporary folder)
  */
-import { mkdirSync, readFileSync } from 'node:fs';
+import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Resvg } from '@resvg/resvg-js';

@@ -1,8 +1,8 @@
 #!/usr/bin/env node
 // One-step set-up used by `npm run demo`, `npm test` and `npm run bench`:
 // installs the pinned pnpm (through npx, so nothing global is needed), the locked
-// dependencies, builds the TypeScript packages and compiles the WebAssembly SIMD kernel from
-// its AssemblyScript source (packages/core/assembly) with the pinned compiler from the npm
+// dependencies, builds the TypeScript packages and compiles the WebAssembly SIMD kernels from
+// their AssemblyScript source (packages/core/assembly) with the pinned compiler from the npm
 // registry. Safe to run again: each step is a no-op when its result is already up to date.
 import { execFileSync } from 'node:child_process';
 import { existsSync, mkdirSync, statSync } from 'node:fs';
@@ -18,13 +18,22 @@ function run(cmd, args) {
 }
 
 run('npx', ['--yes', PNPM, 'install', '--frozen-lockfile', '--reporter=silent']);
-// The SIMD kernel: rebuilt when missing or older than its source. It lands beside the compiled
-// kernels in dist/ (tsc -b, run next, leaves files it does not emit alone), where kernels/wasm.ts finds it.
+// The SIMD kernels, one source built twice: accumulate.wasm (128-bit SIMD, multiply then add)
+// and accumulate-fma.wasm (relaxed-SIMD fused multiply-add). Their memory is shared (a
+// SharedArrayBuffer, up to the 4 GiB of wasm32), so pool workers and the hash thread read the
+// blocks the kernel wrote in place. Each is rebuilt when missing or older than the source or
+// than this script. They land beside the compiled kernels in dist/ (tsc -b, run next, leaves
+// files it does not emit alone), where kernels/wasm.ts finds them.
 const kernelSource = join(root, 'packages', 'core', 'assembly', 'accumulate.ts');
-const kernelOut = join(root, 'packages', 'core', 'dist', 'kernels', 'accumulate.wasm');
-if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < statSync(kernelSource).mtimeMs) {
-  mkdirSync(dirname(kernelOut), { recursive: true });
-  run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', '--enable', 'simd', '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
+const kernelDir = join(root, 'packages', 'core', 'dist', 'kernels');
+const newest = Math.max(statSync(kernelSource).mtimeMs, statSync(fileURLToPath(import.meta.url)).mtimeMs);
+for (const [file, features] of [['accumulate.wasm', ['simd', 'threads']], ['accumulate-fma.wasm', ['simd', 'relaxed-simd', 'threads']]]) {
+  const kernelOut = join(kernelDir, file);
+  if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < newest) {
+    mkdirSync(kernelDir, { recursive: true });
+    const memory = ['--sharedMemory', '--maximumMemory', '65536'];
+    run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', ...features.flatMap((f) => ['--enable', f]), ...memory, '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
+  }
 }
 
 run(join(root, 'node_modules', '.bin', 'tsc'), ['-b']);

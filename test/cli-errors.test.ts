@@ -1,5 +1,5 @@
 /**
- * Bad input: a clear message and exit code 2 (design.md, "Command line"), and no output file is
+ * Bad input: a clear message and exit code 2 (docs/conventions.md, "Command line"), and no output file is
  * created or overwritten.
  */
 import { existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
@@ -55,8 +55,9 @@ describe('refused input', () => {
   });
 
   it('an unknown key, with the nearest known key', () => {
-    refuse(withChange((s) => (s.transmitter.array.spacingWavelength = 0.5)), 'transmitter.array.spacingWavelength: unknown key; did you mean "spacingWavelengths"?');
-    refuse(withChange((s) => (s.fadding = { model: 'static' })), 'fadding: unknown key; did you mean "fading"?');
+    // A typo replaces the key it misspells; a key already present is never suggested.
+    refuse(withChange((s) => { s.transmitter.array.spacingWavelength = 0.5; delete s.transmitter.array.spacingWavelengths; }), 'transmitter.array.spacingWavelength: unknown key; did you mean "spacingWavelengths"?');
+    refuse(withChange((s) => { s.fadding = s.fading; delete s.fading; }), 'fadding: unknown key; did you mean "fading"?');
   });
 
   it('a seed that is not an integer below 2^53', () => {

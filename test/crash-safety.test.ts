@@ -1,5 +1,5 @@
 /**
- * Crash safety of `generate` (design.md, "Output files"; atomic.ts): a run interrupted mid-way
+ * Crash safety of `generate` (docs/conventions.md, "Command line"; atomic.ts): a run interrupted mid-way
  * never leaves a file under the output name that looks complete. SIGINT and SIGTERM: the hidden
  * temporary file is removed within about a second, the exit code is 1 and stderr says what was
  * (not) written; an earlier file of that name survives untouched. kill -9 (no handler can run):

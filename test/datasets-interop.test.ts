@@ -90,8 +90,7 @@ describe.each([
 ] as const)('generate output read by numpy, h5py and h5dump: %s', (_label, raw) => {
   const exp = expected(raw);
 
-  it.each(['npy', 'npz', 'h5'] as const)('.%s: every array equals the in-memory run', async (format) => {
-    if (!hasPython('numpy', 'h5py')) return;
+  it.runIf(hasPython('numpy', 'h5py')).each(['npy', 'npz', 'h5'] as const)('.%s: every array equals the in-memory run', async (format) => {
     const dir = tempDir();
     const out = join(dir, `run.${format}`);
     const text = JSON.stringify(raw);
@@ -108,7 +107,7 @@ describe.each([
         expect(g.sha256, a.name).toBe(sha(a));
       }
     }
-    // The layouts promised in design.md: user axis after S, epoch axis in the path tables.
+    // The layouts promised in docs/conventions.md: user axis after S, epoch axis in the path tables.
     const H = wanted[0]!;
     if (raw.receivers !== undefined) expect(H.shape).toEqual([23, 2, 8, 4, 32]);
     else expect(H.shape).toEqual([23, 8, 4, 32]);
@@ -120,8 +119,7 @@ describe.each([
     }
   });
 
-  it('.h5 read by h5dump: path table (epoch axis), truth and one complex H entry as r/i', async () => {
-    if (!hasCommand('h5dump')) return;
+  it.runIf(hasCommand('h5dump'))('.h5 read by h5dump: path table (epoch axis), truth and one complex H entry as r/i', async () => {
     const dir = tempDir();
     const out = join(dir, 'run.h5');
     const text = JSON.stringify(raw);
@@ -139,7 +137,7 @@ describe.each([
       const got = numbers(['-d', `/${name}`]);
       expect(got, name).toEqual(Array.from(a.data as Float64Array));
     }
-    // One complex value: the compound's r and i members (design.md: r/i compound).
+    // One complex value: the compound's r and i members (docs/datasets.md: r/i compound).
     const H = exp.arrays[0]!.data as Float32Array;
     const dump = execFileSync('h5dump', ['-m', '%.9g', '-d', '/H', '-s', `0,${'0,'.repeat(exp.arrays[0]!.shape.length - 2)}0`, '-c', `1,${'1,'.repeat(exp.arrays[0]!.shape.length - 2)}1`, out], { encoding: 'utf8' });
     expect(dump).toMatch(/H5T_IEEE_F32LE "r";\s*H5T_IEEE_F32LE "i";/);

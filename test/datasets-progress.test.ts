@@ -2,8 +2,8 @@
  * Progress of generate (cli/progress.ts): plain periodic lines when stderr is not a terminal
  * (every 10 % or 5 s, and at the end), a bar redrawn in place with rate and time left on a
  * terminal (run under `script`, which gives the child a pseudo-terminal, and with an injected
- * stream whose isTTY is true), nothing with --quiet; the final line on stdout states the path,
- * shape, bytes and seconds. Common practice for command-line tools (no outside standard).
+ * stream whose isTTY is true), nothing at all with --quiet (stdout included); otherwise the final
+ * line on stdout states the path, shape, bytes and seconds. Common practice for command-line tools (no outside standard).
  */
 import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
@@ -33,16 +33,16 @@ describe('generate progress', () => {
     expect(Number(final?.[2])).toBe(readFileSync(out).length);
   });
 
-  it('--quiet: no progress at all, the final line still on stdout', () => {
+  it('--quiet: no progress at all and nothing on stdout; the file is written', () => {
     const dir = tempDir();
     const r = runCli(['generate', factory, '--out', join(dir, 'run.h5'), '--quiet']);
     expect(r.status).toBe(0);
     expect(r.stderr.split('\n').filter((l) => l !== '' && !l.startsWith('warning: '))).toEqual([]);
-    expect(r.stdout.trim()).toMatch(/^wrote \S+run\.h5: H complex64 \[400, 128, 8, 16\]/);
+    expect(r.stdout).toBe('');
+    expect(readFileSync(join(dir, 'run.h5')).length).toBeGreaterThan(0);
   });
 
-  it('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
-    if (!hasCommand('script')) return;
+  it.runIf(hasCommand('script'))('a terminal (pseudo-terminal from script): a bar redrawn with \\r, rate and time left', () => {
     const dir = tempDir();
     const scenario = writeScenario(dir, 's.json', readFileSync(factory, 'utf8'));
     const cmd = `${process.execPath} ${CLI} generate ${scenario} --out ${join(dir, 'run.npz')}`;

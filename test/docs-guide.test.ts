@@ -1,5 +1,5 @@
 /**
- * docs/guide.md runs as written: its `npx pathweave` commands (run with the built CLI from the
+ * docs/guide.md runs as written: its `npx --no-install pathweave` commands (run with the built CLI from the
  * repository root, in order), then every fenced python block with the reference interpreter
  * against the files those commands wrote, and every json block as a scenario. Links between
  * the docs and to their pictures point at files that exist.
@@ -23,8 +23,8 @@ function cliCommands(markdown: string): string[][] {
   return blocks(markdown, 'sh')
     .flatMap((b) => b.split('\n'))
     .map((l) => l.replace(/\s+#.*$/, '').trim())
-    .filter((l) => l.startsWith('npx pathweave '))
-    .map((l) => l.slice('npx pathweave '.length).split(/\s+/));
+    .filter((l) => l.startsWith('npx --no-install pathweave '))
+    .map((l) => l.slice('npx --no-install pathweave '.length).split(/\s+/));
 }
 
 describe('docs/guide.md', () => {
@@ -54,7 +54,7 @@ describe('docs/guide.md', () => {
       }
       expect(out.trim().length, `snippet ${i + 1} prints its result`).toBeGreaterThan(0);
     });
-  });
+  }, 600_000); // some twenty runs of the CLI: minutes on a loaded machine
 
   it('its json blocks are valid scenarios', () => {
     const json = blocks(GUIDE, 'json');

@@ -1,5 +1,5 @@
 /**
- * Faults while writing (issue 10, item 2): a full disk (a 1 MiB tmpfs mounted by the test), a
+ * Faults while writing: a full disk (a 1 MiB tmpfs mounted by the test), a
  * read-only folder (a tmpfs remounted read-only: chmod does not stop root), a folder that is
  * missing or vanishes during the run, and an output path that is a directory. Each gives a clear
  * error, removes the temporary file, leaves an earlier file of that name untouched and exits 1.

@@ -1,5 +1,5 @@
 /**
- * Hostile scenario input (issue 10, item 1): thousands of generated and mutated scenario
+ * Hostile scenario input: thousands of generated and mutated scenario
  * documents go to the JSON parser and to `pathweave validate`; every one ends in a valid
  * scenario (exit 0) or a clear refusal (exit 2), never an uncaught exception (exit 1), a stack
  * trace or a hang. Sizes beyond the machine are refused up front with the estimate.
@@ -317,7 +317,7 @@ describe('sizes beyond the machine are refused up front with the estimate', () =
 });
 
 /**
- * Cases this file first found failing (issue 10): each is now refused up front with exit 2.
+ * Cases this file first found failing: each is now refused up front with exit 2.
  */
 describe('extreme values found by the property test, refused up front', () => {
   const refusedQuickly = (scenario: Json, args: string[] = []): void => {

@@ -1,10 +1,14 @@
 /**
- * Packages a stranger can install (issue 10, item 5): `pnpm pack` of geometry, core and io gives
+ * Packages a stranger can install: `pnpm pack` of geometry, core and io gives
  * tarballs whose metadata is complete and which hold nothing of the tests or benchmarks; a fresh
  * project outside the workspace installs the three tarballs with plain npm (one install; only
  * zod, ml-matrix, fft.js, h5wasm and yazl come from the registry or npm's cache), imports them,
  * type-checks a consumer, generates a small channel to .npy through the library and through the
  * installed `pathweave` binary, and gets the same bytes as the workspace's own build.
+ *
+ * The tarballs come from scripts/pack.mjs, the route the READMEs give; the fresh project runs the
+ * first example of docs/library.md and prints what the guide shows, and calls the command as
+ * the READMEs say (`npx --no-install pathweave`).
  *
  * Needs the built dist/ (`npx tsc -b`) and pnpm 12.4.2 through npx (scripts/setup.mjs fetches it).
  * `pnpm pack` rather than `npm pack`: only pnpm rewrites `workspace:*` and `catalog:` into versions.
@@ -14,6 +18,7 @@ import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { ROOT, runCli, tempDir } from './support/run.js';
+import { librarySnippets } from './support/docs.js';
 
 const PACKAGES = ['geometry', 'core', 'io'] as const;
 type Pkg = (typeof PACKAGES)[number];
@@ -40,10 +45,11 @@ const scenario = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'explici
 scenario.timing.subframes = 4;
 
 beforeAll(() => {
-  mkdirSync(packs);
+  // The script of the READMEs (already built here: no set-up step).
+  const packed = run(process.execPath, [join(ROOT, 'scripts', 'pack.mjs'), packs, '--no-setup'], ROOT).stdout;
   for (const pkg of PACKAGES) {
-    run('npx', ['--yes', 'pnpm@12.4.2', 'pack', '--pack-destination', packs], join(ROOT, 'packages', pkg));
     tarballs[pkg] = join(packs, `pathweave-${pkg}-0.1.0.tgz`);
+    expect(packed).toContain(tarballs[pkg]);
     contents[pkg] = run('tar', ['tzf', tarballs[pkg]], work).stdout.trim().split('\n');
     manifests[pkg] = JSON.parse(run('tar', ['xzf', tarballs[pkg], '-O', 'package/package.json'], work).stdout) as Record<string, any>;
   }
@@ -151,15 +157,15 @@ describe('a fresh project outside the workspace', () => {
     writeFileSync(join(app, 'use.mjs'), script);
     const out = JSON.parse(run(process.execPath, ['use.mjs'], app).stdout) as Record<string, any>;
     for (const p of out.resolved as string[]) expect(p.startsWith(join(app, 'node_modules', '@pathweave'))).toBe(true);
-    // design.md: isotropic entries of the array response have unit modulus.
+    // docs/conventions.md: isotropic entries of the array response have unit modulus.
     for (const m of out.moduli as number[]) expect(m).toBeCloseTo(1, 12);
     // A&S Table 9.5: the first zero of J0 is 2.404825557695773 (V); |J0| there below 1e-12.
     expect(Math.abs(out.j0)).toBeLessThan(1e-12);
     expect(out.version).toBe('0.1.0');
-    // design.md: frequency domain [S, K, Nr, Nt]; the fixture has 64 subcarriers, a 4-element ULA and a 4 x 8 UPA.
+    // docs/conventions.md: frequency domain [S, K, Nr, Nt]; the fixture has 64 subcarriers, a 4-element ULA and a 4 x 8 UPA.
     expect(out.shape).toEqual([4, 64, 4, 32]);
     expect(out.header).toMatchObject({ descr: '<c8', fortranOrder: false, shape: [4, 64, 4, 32] });
-    // The workspace's own CLI on the same scenario gives the same bytes (design.md, "Reproducibility").
+    // The workspace's own CLI on the same scenario gives the same bytes (docs/conventions.md, "Reproducibility").
     const reference = join(work, 'workspace.npy');
     expect(runCli(['generate', join(app, 'scenario.json'), '--out', reference, '--quiet']).status).toBe(0);
     expect(readFileSync(join(app, 'library.npy')).equals(readFileSync(reference))).toBe(true);
@@ -175,6 +181,18 @@ describe('a fresh project outside the workspace', () => {
     const bad = spawnSync(bin, ['validate', 'bad.json'], { cwd: app, env: cleanEnv(), encoding: 'utf8' });
     expect(bad.status).toBe(2);
     expect(bad.stderr).toContain('carrierHz: must be > 0, got -1');
+  });
+
+  it("runs the first example of docs/library.md and prints what the guide shows", () => {
+    const [example] = librarySnippets(readFileSync(join(ROOT, 'docs', 'library.md'), 'utf8'));
+    writeFileSync(join(app, 'library-guide.mjs'), example!.code);
+    expect(run(process.execPath, ['library-guide.mjs'], app).stdout).toBe(example!.output);
+  });
+
+  it('`npx --no-install pathweave` runs the installed binary, as the READMEs say', () => {
+    expect(run('npx', ['--no-install', 'pathweave', '--version'], app).stdout.trim()).toBe('0.1.0');
+    const help = run('npx', ['--no-install', 'pathweave', 'validate', '--help'], app);
+    expect(help.stdout.startsWith('usage: pathweave validate <scenario.json>')).toBe(true);
   });
 
   it('type-checks a TypeScript consumer against the shipped declarations (strict, NodeNext)', () => {

@@ -1,5 +1,5 @@
 /**
- * design.md, Reproducibility: the same scenario and seed give the same bytes; subframes [a, b)
+ * docs/conventions.md, Reproducibility: the same scenario and seed give the same bytes; subframes [a, b)
  * generated alone equal the slice [a, b) of the full run bit for bit; a path's random numbers
  * depend on its id, not on the other paths; the subframe stream carries the same bits.
  */

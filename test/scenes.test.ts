@@ -1,9 +1,9 @@
 /**
  * Traced scenes through the whole pipeline: the demo scenarios run, the traced path list pasted
- * back as explicit paths with fading "static" reproduces the same H (design.md, `pathweave
+ * back as explicit paths with fading "static" reproduces the same H (docs/guide.md, `pathweave
  * paths --json`), and bad scene input is refused with dotted paths.
  */
-import { readFileSync, readdirSync } from 'node:fs';
+import { cpSync, readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { decodeNpy } from '@pathweave/io';
@@ -19,6 +19,7 @@ describe('demo scenarios of examples/', () => {
     const s = example(name);
     s.timing.subframes = Math.min(s.timing.subframes, 40); // keep the suite quick; the full runs are the demo's
     const file = writeScenario(dir, name, s);
+    if (s.scene?.imports !== undefined) cpSync(join(ROOT, 'examples', 'scenes'), join(dir, 'scenes'), { recursive: true }); // imported files beside the scenario
     expect(runCli(['validate', file]).status).toBe(0);
     const r = runCli(['generate', file, '--out', join(dir, 'out.npy'), '--quiet']);
     expect(r.status, r.stderr).toBe(0);
@@ -43,7 +44,10 @@ print(json.dumps({'los': f['truth/powerDb'][:, ids.index('los')].tolist(), 'ids'
     const los = r.los;
     const clear = los[0]!;
     const deepest = Math.min(...los);
-    expect(clear - deepest).toBeGreaterThan(15); // a person at 60 GHz: knife-edge loss of 15-25 dB (ITU-R P.526, C)
+    // a person at 60 GHz: one knife edge alone would cost 15-25 dB (ITU-R P.526, C); the wave passes
+    // the cylinder on both sides, whose fields add in phase when it is centred (P.526 finite-width
+    // screen, minimum loss, M): 6 dB less, so more than 10 dB
+    expect(clear - deepest).toBeGreaterThan(10);
     let biggestStep = 0;
     for (let i = 1; i < los.length; i++) biggestStep = Math.max(biggestStep, Math.abs(los[i]! - los[i - 1]!));
     // P.526: J(v) rises at most 20 / ln(10) = 8.69 dB per unit of v. The vehicle moves 3.75 mm per
@@ -53,7 +57,7 @@ print(json.dumps({'los': f['truth/powerDb'][:, ids.index('los')].tolist(), 'ids'
     expect(los[los.length - 1]!).toBeGreaterThan(clear - 1); // and recovers
   });
 
-  it('highway: the Doppler of the line of sight matches v cos(angle) / lambda (design.md sign)', () => {
+  it('highway: the Doppler of the line of sight matches v cos(angle) / lambda (docs/conventions.md sign)', () => {
     const r = runCli(['paths', join(ROOT, 'examples', 'highway-39ghz.json'), '--json']);
     expect(r.status).toBe(0);
     const paths = JSON.parse(r.stdout) as { id: string; dopplerHz: number; aoaDeg: [number, number] }[];

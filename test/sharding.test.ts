@@ -1,5 +1,5 @@
 /**
- * Sharded runs and merge (design.md, "Command line" and "Reproducibility"): `--shard I/N` and
+ * Sharded runs and merge (docs/conventions.md, "Command line" and "Reproducibility"): `--shard I/N` and
  * `--shard auto` take subframes floor(I S / N) to floor((I+1) S / N) - 1; every part writes its
  * manifest; a rerun skips a verified part; merge refuses gaps, overlaps, foreign or tampered
  * parts (exit 2) and otherwise writes a file whose tensor equals the unsharded run's byte for
@@ -21,12 +21,12 @@ function movingScenario(subframes: number): Record<string, any> {
   return s;
 }
 
-/** The design.md formula, in exact integer arithmetic (BigInt), independent of shardRange. */
+/** The docs/conventions.md formula, in exact integer arithmetic (BigInt), independent of shardRange. */
 function formulaRange(i: number, n: number, s: number): [number, number] {
   return [Number((BigInt(i) * BigInt(s)) / BigInt(n)), Number((BigInt(i + 1) * BigInt(s)) / BigInt(n))];
 }
 
-describe('--shard ranges (design.md: floor(I S / N) to floor((I+1) S / N) - 1)', () => {
+describe('--shard ranges (docs/conventions.md: floor(I S / N) to floor((I+1) S / N) - 1)', () => {
   it('I/N tiles 0..S-1 for a sweep of S and N, matching the formula', () => {
     for (const S of [1, 7, 41, 100, 1000, 2 ** 31 + 11])
       for (const N of [1, 2, 3, 7, 8, 64]) {
@@ -134,8 +134,7 @@ function shardAll(dir: string, file: string, out: string, n: number, extra: stri
 describe('merge', () => {
   const S = 41;
 
-  it.each(['npz', 'h5'] as const)('sharded %s parts merge to the unsharded run (numpy / h5py, C)', (ext) => {
-    if (!hasPython('numpy', 'h5py')) return;
+  it.runIf(hasPython('numpy', 'h5py')).each(['npz', 'h5'] as const)('sharded %s parts merge to the unsharded run (numpy / h5py, C)', (ext) => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', movingScenario(S));
     // --checksum: the unsharded run records tensorSha256 too (shard runs always do), to compare it.
@@ -143,7 +142,7 @@ describe('merge', () => {
     shardAll(dir, file, join(dir, `run.${ext}`), 3);
     // Given out of order: merge sorts by range.
     const parts = [2, 0, 1].map((i) => join(dir, `run.part-${i}-of-3.${ext}`));
-    const r = runCli(['merge', ...parts, '--out', join(dir, `merged.${ext}`), '--quiet']);
+    const r = runCli(['merge', ...parts, '--out', join(dir, `merged.${ext}`)]); // not --quiet: its report is read
     expect(r.status, r.stderr).toBe(0);
     expect(r.stdout).toContain(`from 3 parts`);
     const same = pythonJson<Record<string, boolean | string>>(COMPARE, [join(dir, `full.${ext}`), join(dir, `merged.${ext}`)]);

@@ -49,7 +49,7 @@ print(json.dumps({'x': flat(x), 'Y': flat(Y)}))`,
     expect(worst).toBeLessThan(1e-12);
   });
 
-  it('tapsToSubcarriers with count = K equals fftshift(fft(h, axis=0)) (design.md "DFT of h equals H"; numpy.fft, C)', () => {
+  it('tapsToSubcarriers with count = K equals fftshift(fft(h, axis=0)) (docs/conventions.md "DFT of h equals H"; numpy.fft, C)', () => {
     const K = 32, Nr = 2, Nt = 3;
     const h = complexNoise(K * Nr * Nt, 3);
     const H = tapsToSubcarriers(h, K, Nr, Nt, K);

@@ -1,5 +1,5 @@
 /**
- * Frequency response against the DFT of the tap-delay response (design.md: with count = K and
+ * Frequency response against the DFT of the tap-delay response (docs/conventions.md: with count = K and
  * sampleRate = K df, the DFT of h, fftshifted to the centred grid, equals H). fft.js is the
  * reference transform; the delays lie on the sample grid, where the sinc pulse is exact.
  */

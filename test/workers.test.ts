@@ -1,5 +1,5 @@
 /**
- * generate() with worker threads: the same bytes for every worker count (design.md,
+ * generate() with worker threads: the same bytes for every worker count (docs/conventions.md,
  * Reproducibility: "the same tensor bytes ... on any machine and with any worker count"), and a
  * subframe range made by workers equal to that slice of the whole run. The scenarios are sized
  * to span several 8 MiB blocks so that blocks really go to different threads. Without
@@ -11,8 +11,9 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { BLOCK_TARGET_BYTES, generate, parseScenarioText } from '@pathweave/io';
-import { defaultWorkers } from '../packages/io/src/dataset/workers/pool.js';
-import { tempDir } from './support/run.js';
+import { FMA_KERNEL_NAME, loadWasmKernel, FMA_KERNEL_PATH, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME } from '@pathweave/core';
+import { defaultWorkers, sharedBlockArray } from '../packages/io/src/dataset/workers/pool.js';
+import { runCli, tempDir, writeScenario } from './support/run.js';
 
 // Explicit paths, Gauss-Markov fading: tx UPA 8x8, rx ULA 4, 128 subcarriers = 256 KiB per
 // subframe, 32 subframes per block, 200 subframes = 7 blocks (the last one partial).
@@ -120,5 +121,31 @@ describe('generate with worker threads', () => {
     const text = JSON.stringify(explicitScenario);
     const { scenario } = parseScenarioText(text);
     await expect(generate(scenario, text, { out: join(tempDir(), 'x.npy'), format: 'npy', workers: 0 })).rejects.toThrow('generate(): options.workers must be an integer >= 1, got 0');
+  });
+});
+
+describe('every kernel with worker threads', () => {
+  // The kernel is chosen when the process starts, so each is run through the built command
+  // line (build first); PATHWEAVE_KERNEL unset gives the fused kernel where it can run.
+  const fused = loadWasmKernel(FMA_KERNEL_PATH).kernel !== undefined;
+  const kernels: Array<[env: string | undefined, name: string]> = [['js', PLAIN_KERNEL_NAME], ['simd', WASM_KERNEL_NAME], [undefined, fused ? FMA_KERNEL_NAME : WASM_KERNEL_NAME]];
+  it.each(kernels)('PATHWEAVE_KERNEL=%s: 1 and 2 workers write the same bytes, and the kernel %s is recorded', (env, name) => {
+    const dir = tempDir();
+    const file = writeScenario(dir, 's.json', explicitScenario);
+    const bytes: Buffer[] = [];
+    for (const workers of ['1', '2']) {
+      const out = join(dir, `w${workers}.npy`);
+      const r = runCli(['generate', file, '--out', out, '--workers', workers, '--subframes', '0:100', '--quiet'], { env: { PATHWEAVE_KERNEL: env } });
+      expect(r.status, r.stderr).toBe(0);
+      bytes.push(readFileSync(out));
+      expect(JSON.parse(readFileSync(`${out}.json`, 'utf8')).kernel).toBe(name);
+    }
+    expect(bytes[1]!.equals(bytes[0]!)).toBe(true);
+  });
+
+  it('gives block buffers in shared memory, which pool workers and the hash thread read in place', () => {
+    const a = sharedBlockArray(10, Float32Array), b = sharedBlockArray(3, Float64Array);
+    expect([a.buffer instanceof SharedArrayBuffer, b.buffer instanceof SharedArrayBuffer, a.length, b.length]).toEqual([true, true, 10, 3]);
+    expect(a.every((x) => x === 0) && b.every((x) => x === 0)).toBe(true);
   });
 });

@@ -1,5 +1,5 @@
 /**
- * Several writers (issue 10, item 3): two runs aimed at the same output path at once end with one
+ * Several writers: two runs aimed at the same output path at once end with one
  * complete file, the one renamed last, and no reader ever sees a partial file under the final
  * name; two shards of one job on one machine never share a temporary file.
  *
@@ -107,7 +107,7 @@ describe('shards of one job on one machine', () => {
       const bytes = readFileSync(p);
       return bytes.subarray(parseNpyHeader(bytes).dataOffset);
     };
-    // design.md: shard I of N takes subframes floor(I S / N) .. floor((I+1) S / N) - 1.
+    // docs/conventions.md: shard I of N takes subframes floor(I S / N) .. floor((I+1) S / N) - 1.
     const fullData = data(full);
     const half = fullData.length / 2;
     expect(data(parts[0]!).equals(fullData.subarray(0, half))).toBe(true);

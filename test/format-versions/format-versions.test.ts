@@ -1,5 +1,5 @@
 /**
- * Scenario format versions (issue 10, item 6). This folder keeps one scenario file per released
+ * Scenario format versions. This folder keeps one scenario file per released
  * format version (v1.json, ...), never edited after its release. Each must load with the same
  * meaning in every later build, or be refused naming what changed; files written record the
  * version; a version newer than the build is refused. When a format version is released, add
@@ -21,7 +21,7 @@ const versionFiles = readdirSync(HERE).filter((f) => /^v\d+\.json$/.test(f)).sor
 const v1Path = join(HERE, 'v1.json');
 const v1 = JSON.parse(readFileSync(v1Path, 'utf8')) as Record<string, any>;
 
-// design.md, "Physical conventions", evaluated independently in numpy (test/support/numpy-reference.ts).
+// docs/conventions.md, evaluated independently in numpy (test/support/numpy-reference.ts).
 const NUMPY_V1_MEANING = NUMPY_REFERENCE;
 
 describe('one scenario file per released format version', () => {
@@ -49,7 +49,7 @@ describe('one scenario file per released format version', () => {
     const result = pythonJson<{ dtype: string; shape: number[]; errors: number[] }>(NUMPY_V1_MEANING, [v1Path, out]);
     expect(result.dtype).toBe('complex64');
     expect(result.shape).toEqual([2, 24, 3, 6]);
-    // numpy evaluation of design.md's formula (C); complex64 rounding of unit-modulus phases
+    // numpy evaluation of docs/conventions.md's formula (C); complex64 rounding of unit-modulus phases
     // over 3 paths x 18 element pairs stays far below 2e-5 relative (as test/channel-numpy.test.ts).
     for (const e of result.errors) expect(e).toBeLessThanOrEqual(2e-5);
   });

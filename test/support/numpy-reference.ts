@@ -1,5 +1,5 @@
 /**
- * An independent numpy evaluation of design.md's channel formula,
+ * An independent numpy evaluation of docs/conventions.md's channel formula,
  * H_s[k] = sum_l rho_l exp(-j 2 pi f_k tau_l) r_rx(u_arr) r_tx(u_dep)^T, with the arrays,
  * orientations and directions rebuilt in numpy from the scenario file alone (explicit static
  * paths). Run as `python -c NUMPY_REFERENCE <scenario.json> <H.npy>`; prints the dtype, the

@@ -3,10 +3,15 @@
  * h5py (installed by .ci/run when missing). PATHWEAVE_PYTHON overrides the path.
  * In CI a missing interpreter or module fails the tests; elsewhere those tests are skipped with
  * a message, so a contributor without the packages still gets a useful run.
+ *
+ * Use the answer to skip, never to return early: `it.runIf(hasPython('numpy'))(...)` or
+ * `describe.skipIf(!hasPython('numpy'))(...)`, so the run reports a skip instead of a pass that
+ * asserted nothing. A skipped suite is still collected: call python in `beforeAll` or in the
+ * test, not in the describe body.
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 
-export const PYTHON = process.env.PATHWEAVE_PYTHON ?? '/usr/bin/python3';
+const PYTHON = process.env.PATHWEAVE_PYTHON ?? '/usr/bin/python3';
 
 const cache = new Map<string, boolean>();
 

@@ -12,8 +12,42 @@
 // float64: (acc + (Re w) P) + (Im w) Q), so a coefficient's bits never depend on which bins or
 // columns a call covers. IEEE arithmetic is exact per operation, so a SIMD lane and the scalar
 // tail give the same bits for the same formula.
-// Q is prepared once per call (prepareF32/turnF64) so the inner loop needs no shuffle (Node 20 has
-// no fused multiply-add without a flag: one multiply and one add per lane and term).
+// Q is prepared once per call (prepareF32/turnF64) so the inner loop needs no shuffle.
+//
+// The same source is compiled twice (scripts/setup.mjs): accumulate.wasm with `--enable simd`
+// (one multiply and one add per lane and term, the formulas above) and accumulate-fma.wasm with
+// `--enable simd,relaxed-simd`, where ASC_FEATURE_RELAXED_SIMD is true and every term is two
+// multiply-adds in the same order, acc = madd(Im w, Q, madd(Re w, P, acc)), l ascending, in every
+// code path (the last odd column too, in half a vector), so the bits again never depend on the
+// path. Fused and unfused results differ in the last bits: the builds are kernels of their own
+// names, and the fused one is used only where the runtime fuses (kernels/wasm.ts probes it).
+
+/** One f64 term of a complex value: (acc + (Re w) P) + (Im w) Q, or two multiply-adds in the fused build. */
+// @ts-ignore: decorator
+@inline function term64(acc: v128, wr: v128, x: v128, wi: v128, y: v128): v128 {
+  if (ASC_FEATURE_RELAXED_SIMD) return f64x2.relaxed_madd(wi, y, f64x2.relaxed_madd(wr, x, acc));
+  return f64x2.add(f64x2.add(acc, f64x2.mul(wr, x)), f64x2.mul(wi, y));
+}
+
+/** 1 in the fused build (relaxed-SIMD multiply-add), 0 in the plain one. */
+export function fusedBuild(): i32 {
+  return ASC_FEATURE_RELAXED_SIMD ? 1 : 0;
+}
+
+/**
+ * Fused build, float64 weights [n complex] at `src` to the f32 kernel's 16-byte weights at `dst`:
+ * (Re w, 0, -Im w, Im w), so one splat gives Re w and one 64-bit splat (-Im w, Im w, -Im w, Im w).
+ */
+export function weightsFusedF32(dst: usize, src: usize, n: i32): void {
+  for (let i = 0; i < n; i++) {
+    const re = <f32>load<f64>(src + (<usize>i << 4)), im = <f32>load<f64>(src + (<usize>i << 4), 8);
+    const d = dst + (<usize>i << 4);
+    store<f32>(d, re);
+    store<f32>(d, 0, 4);
+    store<f32>(d, -im, 8);
+    store<f32>(d, im, 12);
+  }
+}
 
 /**
  * float64 products [n complex] at `src` to float32 P and Q = P turned by +90 degrees (-im, re),
@@ -67,6 +101,10 @@ export function turnF64(q: usize, p: usize, n: i32): void {
  * vector registers V8 allocates on x64 without spilling (2 bins x 8 columns spilled; measured).
  */
 export function accumulateF32(out: usize, w: usize, p: usize, q: usize, bins: i32, L: i32, M: i32, tile: i32): void {
+  if (ASC_FEATURE_RELAXED_SIMD) {
+    fusedF32(out, w, p, bins, L, M, tile);
+    return;
+  }
   const rowBytes = <usize>M << 3;
   const wRow = <usize>L << 3;
   const M4 = M & ~3;
@@ -160,6 +198,139 @@ export function accumulateF32(out: usize, w: usize, p: usize, q: usize, bins: i3
   }
 }
 
+/** Fused f32 term of a complex column pair: madd((-Im w, Im w), swap(P), madd(Re w, P, acc)); (-Im w) im = -(Im w im) exactly, so this is madd(Im w, Q, .) bit for bit. */
+// @ts-ignore: decorator
+@inline function fma32(acc: v128, wr: v128, wi: v128, x: v128): v128 {
+  return f32x4.relaxed_madd(wi, v128.shuffle<f32>(x, x, 1, 0, 3, 2), f32x4.relaxed_madd(wr, x, acc));
+}
+
+/**
+ * Fused build's f32 kernel (reached from accumulateF32): weights from weightsFusedF32 (16 bytes
+ * each), P only (Q is P swapped in a register, a shuffle instead of a load: the multiply-add form
+ * is bound by loads, not arithmetic). 2 bins x 8 columns per register block (8 accumulators,
+ * 4 weights, P and its swap: 14 of the 16 vector registers), then 2 x 4, then the odd last bin,
+ * the last column pair and the last odd column, each lane with the same two multiply-adds.
+ */
+function fusedF32(out: usize, w: usize, p: usize, bins: i32, L: i32, M: i32, tile: i32): void {
+  const rowBytes = <usize>M << 3;
+  const wRow = <usize>L << 4;
+  const M4 = M & ~3;
+  const bins2 = bins & ~1;
+  for (let m0 = 0; m0 < M4; m0 += tile) {
+    const m1 = min(m0 + tile, M4);
+    for (let k = 0; k < bins2; k += 2) {
+      const wk = w + <usize>k * wRow;
+      const ok = out + <usize>k * rowBytes;
+      let m = m0;
+      for (; m + 8 <= m1; m += 8) {
+        const col = <usize>m << 3;
+        let a0 = f32x4.splat(0), a1 = f32x4.splat(0), a2 = f32x4.splat(0), a3 = f32x4.splat(0);
+        let b0 = f32x4.splat(0), b1 = f32x4.splat(0), b2 = f32x4.splat(0), b3 = f32x4.splat(0);
+        let pp = p + col, wp = wk;
+        for (let l = 0; l < L; l++) {
+          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
+          const vr = v128.load32_splat(wp + wRow), vi = v128.load64_splat(wp + wRow, 8);
+          let x = v128.load(pp);
+          a0 = fma32(a0, wr, wi, x);
+          b0 = fma32(b0, vr, vi, x);
+          x = v128.load(pp, 16);
+          a1 = fma32(a1, wr, wi, x);
+          b1 = fma32(b1, vr, vi, x);
+          x = v128.load(pp, 32);
+          a2 = fma32(a2, wr, wi, x);
+          b2 = fma32(b2, vr, vi, x);
+          x = v128.load(pp, 48);
+          a3 = fma32(a3, wr, wi, x);
+          b3 = fma32(b3, vr, vi, x);
+          pp += rowBytes;
+          wp += 16;
+        }
+        const o = ok + col;
+        v128.store(o, a0);
+        v128.store(o, a1, 16);
+        v128.store(o, a2, 32);
+        v128.store(o, a3, 48);
+        const o2 = o + rowBytes;
+        v128.store(o2, b0);
+        v128.store(o2, b1, 16);
+        v128.store(o2, b2, 32);
+        v128.store(o2, b3, 48);
+      }
+      for (; m < m1; m += 4) {
+        const col = <usize>m << 3;
+        let a0 = f32x4.splat(0), a1 = f32x4.splat(0);
+        let b0 = f32x4.splat(0), b1 = f32x4.splat(0);
+        let pp = p + col, wp = wk;
+        for (let l = 0; l < L; l++) {
+          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
+          const vr = v128.load32_splat(wp + wRow), vi = v128.load64_splat(wp + wRow, 8);
+          let x = v128.load(pp);
+          a0 = fma32(a0, wr, wi, x);
+          b0 = fma32(b0, vr, vi, x);
+          x = v128.load(pp, 16);
+          a1 = fma32(a1, wr, wi, x);
+          b1 = fma32(b1, vr, vi, x);
+          pp += rowBytes;
+          wp += 16;
+        }
+        const o = ok + col;
+        v128.store(o, a0);
+        v128.store(o, a1, 16);
+        const o2 = o + rowBytes;
+        v128.store(o2, b0);
+        v128.store(o2, b1, 16);
+      }
+    }
+    if (bins2 != bins) {
+      const wk = w + <usize>bins2 * wRow;
+      const ok = out + <usize>bins2 * rowBytes;
+      for (let m = m0; m < m1; m += 4) {
+        const col = <usize>m << 3;
+        let a0 = f32x4.splat(0), a1 = f32x4.splat(0);
+        let pp = p + col, wp = wk;
+        for (let l = 0; l < L; l++) {
+          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
+          a0 = fma32(a0, wr, wi, v128.load(pp));
+          a1 = fma32(a1, wr, wi, v128.load(pp, 16));
+          pp += rowBytes;
+          wp += 16;
+        }
+        v128.store(ok + col, a0);
+        v128.store(ok + col, a1, 16);
+      }
+    }
+  }
+  if (M4 == M) return;
+  const M2 = M & ~1;
+  for (let k = 0; k < bins; k++) {
+    const wk = w + <usize>k * wRow;
+    const ok = out + <usize>k * rowBytes;
+    for (let m = M4; m < M2; m += 2) {
+      const col = <usize>m << 3;
+      let a0 = f32x4.splat(0);
+      let pp = p + col, wp = wk;
+      for (let l = 0; l < L; l++) {
+        a0 = fma32(a0, v128.load32_splat(wp), v128.load64_splat(wp, 8), v128.load(pp));
+        pp += rowBytes;
+        wp += 16;
+      }
+      v128.store(ok + col, a0);
+    }
+    if (M2 != M) {
+      // No scalar multiply-add in WebAssembly: the last column in the low half of a vector.
+      const col = <usize>M2 << 3;
+      let a0 = f32x4.splat(0);
+      let pp = p + col, wp = wk;
+      for (let l = 0; l < L; l++) {
+        a0 = fma32(a0, v128.load32_splat(wp), v128.load64_splat(wp, 8), v128.load64_zero(pp));
+        pp += rowBytes;
+        wp += 16;
+      }
+      v128.store64_lane(ok + col, a0, 0);
+    }
+  }
+}
+
 /** f64 kernel (complex128 output): one complex value per v128, columns in tiles of `tile` (a multiple of 4). */
 export function accumulateF64(out: usize, w: usize, p: usize, q: usize, bins: i32, L: i32, M: i32, tile: i32): void {
   const rowBytes = <usize>M << 4;
@@ -176,10 +347,10 @@ export function accumulateF64(out: usize, w: usize, p: usize, q: usize, bins: i3
         for (let l = 0; l < L; l++) {
           const wr = v128.load64_splat(wp);
           const wi = v128.load64_splat(wp, 8);
-          a0 = f64x2.add(f64x2.add(a0, f64x2.mul(wr, v128.load(pp))), f64x2.mul(wi, v128.load(qq)));
-          a1 = f64x2.add(f64x2.add(a1, f64x2.mul(wr, v128.load(pp, 16))), f64x2.mul(wi, v128.load(qq, 16)));
-          a2 = f64x2.add(f64x2.add(a2, f64x2.mul(wr, v128.load(pp, 32))), f64x2.mul(wi, v128.load(qq, 32)));
-          a3 = f64x2.add(f64x2.add(a3, f64x2.mul(wr, v128.load(pp, 48))), f64x2.mul(wi, v128.load(qq, 48)));
+          a0 = term64(a0, wr, v128.load(pp), wi, v128.load(qq));
+          a1 = term64(a1, wr, v128.load(pp, 16), wi, v128.load(qq, 16));
+          a2 = term64(a2, wr, v128.load(pp, 32), wi, v128.load(qq, 32));
+          a3 = term64(a3, wr, v128.load(pp, 48), wi, v128.load(qq, 48));
           pp += rowBytes;
           qq += rowBytes;
           wp += 16;
@@ -200,7 +371,7 @@ export function accumulateF64(out: usize, w: usize, p: usize, q: usize, bins: i3
       let a0 = f64x2.splat(0);
       let pp = p + col, qq = q + col, wp = wk;
       for (let l = 0; l < L; l++) {
-        a0 = f64x2.add(f64x2.add(a0, f64x2.mul(v128.load64_splat(wp), v128.load(pp))), f64x2.mul(v128.load64_splat(wp, 8), v128.load(qq)));
+        a0 = term64(a0, v128.load64_splat(wp), v128.load(pp), v128.load64_splat(wp, 8), v128.load(qq));
         pp += rowBytes;
         qq += rowBytes;
         wp += 16;

@@ -1,5 +1,5 @@
 /**
- * The multipath channel of design.md, assembled per subframe (and per OFDM symbol).
+ * The multipath channel of docs/conventions.md, assembled per subframe (and per OFDM symbol).
  *
  * Tensor layout (row-major, complex interleaved re/im, numpy's complex64/complex128 bytes):
  *   frequency domain [S, K, Nr, Nt]:     H_s[k] = sum_l rho_(s,l) exp(-j 2 pi f_k tau_l) r_rx(u_arr,l) r_tx(u_dep,l)^T

@@ -1,6 +1,6 @@
 /**
  * Doppler frequencies and the Clarke/Jakes correlation of the Gauss-Markov gain
- * (design.md): one moving end, alpha = J0(2 pi f_D T); both ends moving with isotropic
+ * (docs/conventions.md, Gains): one moving end, alpha = J0(2 pi f_D T); both ends moving with isotropic
  * scattering around each, alpha = J0(2 pi f_t T) J0(2 pi f_r T) (Akki & Haber, 1986).
  */
 import { SPEED_OF_LIGHT } from '@pathweave/geometry';
@@ -23,7 +23,7 @@ export function clarkeCorrelation(dopplerHz: number, lagS: number): number {
 }
 
 /**
- * Where a path's Doppler spread came from (design.md precedence).
+ * Where a path's Doppler spread came from (the precedence of docs/conventions.md, Gains).
  * @example const source: DopplerSource = 'terminals'; // from the terminals' speeds
  */
 export type DopplerSource = 'path' | 'fading.speedMps' | 'terminals' | 'none';
@@ -42,7 +42,7 @@ export interface PathCorrelation {
 }
 
 /**
- * Resolve a path's correlation by the precedence of design.md: its own `maxDopplerHz`, else
+ * Resolve a path's correlation by the precedence of docs/conventions.md (Gains): its own `maxDopplerHz`, else
  * `fading.speedMps` (one moving end), else the terminals' speeds (one or both ends).
  * @example pathCorrelation({ carrierHz: 28e9, stepS: 1e-3, transmitterSpeedMps: 0, receiverSpeedMps: 3 }) // { dopplersHz: [280.19], alpha: 0.3629, source: 'terminals' }: J0(2 pi 280.19 Hz * 1 ms)
  */

@@ -2,7 +2,7 @@
  * Gain processes. Gains are laid out [steps, L] complex, interleaved re/im in a Float64Array:
  * the gain of path l at step s (relative to the first step asked for) is at 2 (s L + l).
  * Every path runs a unit-power process which is then scaled by sqrt(gamma_l), so its numbers
- * do not depend on its power (design.md, Reproducibility).
+ * do not depend on its power (docs/conventions.md, Reproducibility).
  */
 import { BlockedStreams, type RandomStream } from './random.js';
 
@@ -72,7 +72,7 @@ const drawOneComplex = (stream: RandomStream): void => {
 };
 
 /**
- * Gauss-Markov (AR(1)) gains of design.md: rho_s = alpha rho_(s-1) + sqrt(1 - alpha^2) nu_s,
+ * Gauss-Markov (AR(1)) gains of docs/conventions.md: rho_s = alpha rho_(s-1) + sqrt(1 - alpha^2) nu_s,
  * nu ~ CN(0, gamma) i.i.d., rho_0 ~ CN(0, gamma) (stationary start). Step s draws one complex
  * normal from the stream of (seed, path id, s div RANDOM_BLOCK_STEPS); rho_0 is that draw at s = 0.
  * @example

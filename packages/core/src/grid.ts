@@ -1,5 +1,5 @@
 /**
- * Frequency and time grids (design.md): f_k = (k - floor(K / 2)) df for k = 0..K-1 (centred
+ * Frequency and time grids (docs/conventions.md): f_k = (k - floor(K / 2)) df for k = 0..K-1 (centred
  * order, DC at index floor(K / 2)); subframe s starts at s T_s; tap n sits at n / sampleRate.
  */
 

@@ -1,7 +1,7 @@
 /**
  * Keyed random streams. A stream is identified by (seed, key string, block index, lane), so a
  * path's numbers never depend on how many other paths exist, on their order, or on where a run
- * is cut (design.md, Reproducibility). Generator: xoshiro128** (Blackman & Vigna), its 128-bit
+ * is cut (docs/conventions.md, Reproducibility). Generator: xoshiro128** (Blackman & Vigna), its 128-bit
  * state derived from the key by a 32-bit integer mixer; only 32-bit integer arithmetic and
  * V8's fdlibm-derived Math.log/cos/sin are used, so the bits are the same on every machine
  * running the same Node major version.

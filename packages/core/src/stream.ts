@@ -3,7 +3,7 @@
  * files. Each item's `tensor` and `gains` are views of buffers the stream owns and REUSES: they
  * are overwritten by the next item, so copy (`tensor.slice()`) what must outlive one iteration.
  * Items carry the same bits as `generate` writes for that subframe, whatever range a stream
- * covers (design.md, Reproducibility).
+ * covers (docs/conventions.md, Reproducibility).
  *
  * Layout of `tensor`: one subframe of the generator, [K or count, Nr, Nt] or
  * [symbols, K or count, Nr, Nt], complex interleaved.

@@ -104,7 +104,7 @@ export interface TracedEpochs {
 }
 
 /**
- * One explicit path (design.md `paths`), in SI units.
+ * One explicit path (a scenario's `paths` entry), in SI units.
  * @example const echo: ExplicitPathSpec = { id: 'wall', delayS: 80e-9, power: 1e-9, phaseRad: Math.PI, departure: [0.6, 0.8, 0], arrival: [-0.6, 0.8, 0] };
  */
 export interface ExplicitPathSpec {
@@ -288,11 +288,20 @@ export class TracedTimeline implements PathTimeline {
         const db = (1 - f) * before.blockageDb + f * after.blockageDb;
         w *= 10 ** (-(db - p.blockageDb) / 20);
       }
+      let [re, im] = p.amplitude;
+      // A diffracted path whose shadow or reflection boundaries lie on different sides at the two
+      // updates is blended from both (each held on its update's sides, geometry utd.ts), as the
+      // direct and reflected paths fade between the updates: their sum stays continuous.
+      if (p.kind === 'diffraction' && before !== undefined && after !== undefined && f > 0 && !sameSides(before, after)) {
+        const q = retracePaths(this.prepared, [after], this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options)[0]!;
+        re = (1 - f) * re + f * q.amplitude[0];
+        im = (1 - f) * im + f * q.amplitude[1];
+      }
       frame.delayS[l] = p.delayS;
       frame.departure.set(p.departure, 3 * l);
       frame.arrival.set(p.arrival, 3 * l);
-      frame.amplitude[2 * l] = w * p.amplitude[0];
-      frame.amplitude[2 * l + 1] = w * p.amplitude[1];
+      frame.amplitude[2 * l] = w * re;
+      frame.amplitude[2 * l + 1] = w * im;
       frame.dopplerHz[l] = p.dopplerHz;
       frame.visibility[l] = w;
       frame.lengthM[l] = p.lengthM;
@@ -319,6 +328,13 @@ export class TracedTimeline implements PathTimeline {
     if (timeS === this.epochTimesS[e]) return list;
     return retracePaths(this.prepared, list, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
   }
+}
+
+/** True when two traces of a diffracted path hold its boundary terms on the same sides. */
+function sameSides(a: TracedPath, b: TracedPath): boolean {
+  const sa = a.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
+  const sb = b.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
+  return sa === undefined || sb === undefined || sa.every((v, i) => v === sb[i]);
 }
 
 /**

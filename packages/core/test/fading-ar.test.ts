@@ -87,7 +87,7 @@ describe('fitAutoregressive (Yule-Walker with diagonal loading, Baddour & Beauli
   });
 });
 
-describe('AutoregressiveGains: reproducibility (design.md, Reproducibility)', () => {
+describe('AutoregressiveGains: reproducibility (docs/conventions.md, Reproducibility)', () => {
   const paths = [path('los', [120]), path('wall:3', [120]), path('both', [80, 40], 4)];
   const opts = { order: 12, stepS: 1e-3 };
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { GeometricGains, SumOfSinusoidsGains, nrNumerology, numerologyClock, uniformClock, type FadingPath } from '../src/index.js';
 
-describe('GeometricGains (design.md, geometric Doppler)', () => {
+describe('GeometricGains (docs/conventions.md, geometric Doppler)', () => {
   it('rho(t) = sqrt(gamma) exp(j (phase0 + 2 pi f_l t)) at the true NR symbol times', () => {
     const paths: FadingPath[] = [
       { id: 'los', power: 4, phaseRad: 0.3, dopplersHz: [500], dopplerHz: 412.5 },

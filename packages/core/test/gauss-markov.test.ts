@@ -33,7 +33,7 @@ describe('Clarke/Jakes correlation', () => {
     });
   });
 
-  it('follows the precedence of design.md and multiplies two moving ends (Akki & Haber 1986)', () => {
+  it('follows the precedence of docs/conventions.md and multiplies two moving ends (Akki & Haber 1986)', () => {
     const base = { carrierHz: 28e9, stepS: 1e-3, transmitterSpeedMps: 10, receiverSpeedMps: 3 };
     const both = pathCorrelation(base);
     expect(both.source).toBe('terminals');

@@ -1,19 +1,24 @@
 /**
- * The WebAssembly SIMD kernel against the plain JavaScript kernel over a sweep of sizes (odd
- * sizes, one element pair, one subcarrier, one path), and both against numpy's matmul.
- * Agreement bound: design.md (Reproducibility) asks kernels to agree to 1e-6 relative. The f32
+ * The WebAssembly SIMD kernels (multiply then add, and fused multiply-add) against the plain
+ * JavaScript kernel over a sweep of sizes (odd sizes, one element pair, one subcarrier, one
+ * path), and the kernel in use against numpy's matmul.
+ * Agreement bound: docs/conventions.md (Reproducibility) asks kernels to agree to 1e-6 relative. The f32
  * kernel rounds weights and products to float32 (relative 2^-24 = 6e-8 each) and accumulates L
  * terms in float32: for these L <= 33 the Frobenius error is a few 1e-7 at most, and 1e-6 is
  * the contract. The f64 kernel differs from the plain one only by the order of two additions
- * per term, a few ulps: 1e-13.
+ * per term (and, fused, one rounding less per multiply-add), a few ulps: 1e-13.
  */
 import { describe, expect, it, vi } from 'vitest';
-import { accumulatePaths, accumulatePathsPlain, allocateKernelArray, KERNEL_NAME, loadWasmKernel, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME, WASM_KERNEL_PATH } from '../src/kernels/index.js';
+import { accumulatePaths, accumulatePathsPlain, allocateKernelArray, FMA_KERNEL_NAME, FMA_KERNEL_PATH, KERNEL_NAME, loadWasmKernel, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME, WASM_KERNEL_PATH } from '../src/kernels/index.js';
 import { hasPython, pythonJson } from '../../../test/support/python.js';
 
 const loaded = loadWasmKernel();
-const wasm = loaded.kernel;
-const allocate = loaded.allocate;
+const fmaLoaded = loadWasmKernel(FMA_KERNEL_PATH);
+/** Both SIMD builds, each tested over the same sweep. */
+const BUILDS = [
+  { name: WASM_KERNEL_NAME, ...loaded },
+  { name: FMA_KERNEL_NAME, ...fmaLoaded },
+];
 
 /** Deterministic pseudo-random values in [-1, 1) (a small LCG, so the test needs no seed source). */
 function values(n: number, seed: number): Float64Array {
@@ -35,14 +40,36 @@ function relativeFrobenius(a: ArrayLike<number>, b: ArrayLike<number>): number {
   return Math.sqrt(num / den);
 }
 
+/** Bit patterns of a float array (exact comparison, -0 and NaN included). */
+const bits = (a: Float32Array | Float64Array): Uint32Array => new Uint32Array(a.buffer, a.byteOffset, a.byteLength / 4);
+
 const SIZES: Array<[bins: number, L: number, M: number]> = [];
 for (const bins of [1, 2, 5, 33]) for (const L of [1, 2, 7, 33]) for (const M of [1, 2, 3, 7, 8, 9, 15, 16, 17, 63, 1027]) SIZES.push([bins, L, M]);
 
 describe('kernel choice', () => {
-  it('uses the SIMD kernel when the compiled file validates, and records its name', () => {
-    // Built by scripts/setup.mjs; Node 20 validates 128-bit SIMD.
+  it('uses the fused SIMD kernel where it validates and fuses, else the SIMD kernel, and records its name', () => {
+    // Built by scripts/setup.mjs; Node 20 validates 128-bit SIMD, and relaxed SIMD behind V8's
+    // flag (set by loadWasmKernel); x86-64 with FMA3 and arm64 fuse the relaxed multiply-add.
     expect(loaded.reason, `${WASM_KERNEL_PATH}: run node scripts/setup.mjs`).toBeUndefined();
-    expect(KERNEL_NAME).toBe(process.env.PATHWEAVE_KERNEL === 'js' ? PLAIN_KERNEL_NAME : WASM_KERNEL_NAME);
+    expect(loaded.fused).toBe(false);
+    const forced = process.env.PATHWEAVE_KERNEL;
+    const expected = forced === 'js' ? PLAIN_KERNEL_NAME : forced === 'simd' || fmaLoaded.kernel === undefined ? WASM_KERNEL_NAME : FMA_KERNEL_NAME;
+    expect(KERNEL_NAME).toBe(expected);
+    if (fmaLoaded.kernel !== undefined) expect(fmaLoaded.fused).toBe(true);
+    else expect(fmaLoaded.reason).toMatch(/accumulate-fma\.wasm/);
+  });
+
+  it.runIf(fmaLoaded.kernel !== undefined)('the fused kernel rounds each multiply-add once, the SIMD kernel twice (IEEE 754-2008 fusedMultiplyAdd (M))', () => {
+    // w = -1 + (1 + e) j, P = (1 + e) + 1 j: the imaginary part is (-1)(1) + (1 + e)(1 + e).
+    // Fused: one rounding of 2e + e^2, exact in float32 for e = 2^-12. Multiply then add:
+    // (1 + e)^2 = 1 + 2e + e^2 rounds to 1 + 2e (e^2 = 2^-24 is half an ulp of 1, a tie, to
+    // even), then -1 + (1 + 2e) = 2e.
+    const e = 2 ** -12;
+    const w = Float64Array.of(-1, 1 + e), p = Float64Array.of(1 + e, 1);
+    const fused = new Float32Array(2), twice = new Float32Array(2);
+    fmaLoaded.kernel!(fused, 0, w, p, 1, 1, 1);
+    loaded.kernel!(twice, 0, w, p, 1, 1, 1);
+    expect([fused[1], twice[1]]).toEqual([2 * e + e * e, 2 * e]);
   });
 
   it('reports a missing file instead of failing', () => {
@@ -50,8 +77,9 @@ describe('kernel choice', () => {
   });
 });
 
-describe.runIf(wasm !== undefined)('SIMD kernel against the plain kernel', () => {
-  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (design.md)', (bins, L, M) => {
+for (const { name, kernel: wasm, allocate } of BUILDS) {
+describe.runIf(wasm !== undefined)(`${name} kernel against the plain kernel`, () => {
+  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (docs/conventions.md)', (bins, L, M) => {
     const w = values(2 * bins * L, 1 + bins + 100 * L), p = values(2 * L * M, 7 + M);
     const plain = new Float32Array(2 * bins * M), fast = new Float32Array(2 * bins * M).fill(99);
     accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
@@ -106,10 +134,7 @@ describe.runIf(wasm !== undefined)('SIMD kernel against the plain kernel', () =>
   });
 });
 
-/** Bit patterns of a float array (exact comparison, -0 and NaN included). */
-const bits = (a: Float32Array | Float64Array): Uint32Array => new Uint32Array(a.buffer, a.byteOffset, a.byteLength / 4);
-
-describe.runIf(wasm !== undefined)('SIMD kernel writing in place into its own memory (allocate)', () => {
+describe.runIf(wasm !== undefined)(`${name} kernel writing in place into its own memory (allocate)`, () => {
   // The same sweep as above, the output at an offset inside an allocated array: against the
   // plain kernel, and bit for bit against the copying path (the same arithmetic per lane).
   it.each(SIZES)('complex64: bins %i, L %i, M %i: plain within 1e-6, copying path bit for bit', (bins, L, M) => {
@@ -200,6 +225,26 @@ describe.runIf(wasm !== undefined)('SIMD kernel writing in place into its own me
     a.fill(5);
     expect(b.every((x) => x === 0)).toBe(true);
     expect(() => allocate!(-1, Float32Array)).toThrow(RangeError);
+  });
+});
+}
+
+describe.runIf(loaded.kernel !== undefined && fmaLoaded.kernel !== undefined)('fused kernel against the SIMD kernel', () => {
+  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative of each other, in place as copied', (bins, L, M) => {
+    const w = values(2 * bins * L, 81 + bins + 100 * L), p = values(2 * L * M, 83 + M);
+    const a = loaded.allocate!(2 * bins * M, Float32Array), b = fmaLoaded.allocate!(2 * bins * M, Float32Array);
+    loaded.kernel!(a, 0, w, p, bins, L, M);
+    fmaLoaded.kernel!(b, 0, w, p, bins, L, M);
+    expect(relativeFrobenius(b, a)).toBeLessThan(1e-6);
+  });
+
+  it('differs from it in the last bits (a kernel of its own name)', () => {
+    const bins = 8, L = 8, M = 64;
+    const w = values(2 * bins * L, 91), p = values(2 * L * M, 92);
+    const a = new Float32Array(2 * bins * M), b = new Float32Array(2 * bins * M);
+    loaded.kernel!(a, 0, w, p, bins, L, M);
+    fmaLoaded.kernel!(b, 0, w, p, bins, L, M);
+    expect(bits(b)).not.toEqual(bits(a));
   });
 });
 

@@ -64,7 +64,7 @@ describe('DFT codebooks', () => {
     expect(gramError(cb)).toBeGreaterThan(0.5); // not orthogonal, as expected
   });
 
-  it('transmit columns are conj(r_tx) / sqrt(N), receive columns r_rx / sqrt(N), of the array response (design.md)', () => {
+  it('transmit columns are conj(r_tx) / sqrt(N), receive columns r_rx / sqrt(N), of the array response (docs/conventions.md)', () => {
     const k0 = wavenumber(FC);
     const ula = AntennaArray.ula(8, HALF);
     const tx = ulaCodebook(8), rx = ulaCodebook(8, { side: 'receive' });
@@ -162,7 +162,8 @@ describe('beam space and beam search', () => {
     );
     const tensor = gen.fill(gen.allocate(S), 0, S);
     const fromGen = trackBeamPairs(gen, W, F);
-    const fromTensor = trackBeamPairs({ tensor, shape: gen.shape }, W, F);
+    // The generator's shape is typed number[] (it may carry a symbol axis); this one has four axes.
+    const fromTensor = trackBeamPairs({ tensor, shape: gen.shape as [number, number, number, number] }, W, F);
     expect(Array.from(fromGen.transmitBeam)).toEqual(Array.from(fromTensor.transmitBeam));
     expect(Array.from(fromGen.gain)).toEqual(Array.from(fromTensor.gain));
     const per = 2 * gen.valuesPerSubframe;

@@ -33,10 +33,10 @@ describe('NoiseSource at a stated SNR', () => {
   const relTol = 4 / Math.sqrt(M);
 
   for (const snrDb of [-5, 10, 30]) {
-    it(`measured SNR equals the SNR asked for (${snrDb} dB) within 4/sqrt(Nr N)`, () => {
+    it(`measured SNR equals the SNR asked for (${snrDb} dB) within 4/sqrt(Nr N), per-call measurement asked for`, () => {
       const clean = tone(Nr, N, 0.7);
       const y = clean.slice();
-      const level = new NoiseSource({ seed: 11, streams: Nr }).addAtSnr(y, N, snrDb);
+      const level = new NoiseSource({ seed: 11, streams: Nr }).addAtSnr(y, N, snrDb, { perCall: true });
       expect(level.signalPower).toBeCloseTo(0.49, 12); // |0.7 e^{j..}|^2
       let noise = 0, re2 = 0, pseudoRe = 0, pseudoIm = 0;
       for (let i = 0; i < y.length; i += 2) {
@@ -62,6 +62,33 @@ describe('NoiseSource at a stated SNR', () => {
     const level = new NoiseSource({ seed: 1, streams: 2 }).addAtSnr(y, 10, 20, 4);
     expect(level).toEqual({ signalPower: 4, noiseVariance: 0.04 });
     expect(noiseVarianceForSnr(2, 10)).toBeCloseTo(0.2, 15);
+  });
+
+  it('by default keeps one noise floor for the run: a fade of the signal does not lower the noise', () => {
+    // Two blocks, the second 20 dB weaker (a fade). With a fixed reference the noise variance is
+    // the same in both (sigma^2 = P_ref / SNR); per-call measurement (automatic gain control)
+    // lowers it by the same 20 dB, so the SNR of the faded block would stay at 10 dB.
+    const strong = tone(2, 100, 1), weak = tone(2, 100, 0.1);
+    const fixed = new NoiseSource({ seed: 5, streams: 2, referencePower: 1 });
+    const a = fixed.addAtSnr(strong, 100, 10), b = fixed.addAtSnr(weak, 100, 10);
+    expect(a).toEqual({ signalPower: 1, noiseVariance: 0.1 });
+    expect(b).toEqual({ signalPower: 1, noiseVariance: 0.1 });
+    const agc = new NoiseSource({ seed: 5, streams: 2 });
+    agc.addAtSnr(tone(2, 100, 1), 100, 10, { perCall: true });
+    const c = agc.addAtSnr(tone(2, 100, 0.1), 100, 10, { perCall: true });
+    expect(c.signalPower).toBeCloseTo(0.01, 14);
+    expect(c.noiseVariance).toBeCloseTo(0.001, 14);
+  });
+
+  it('a link budget sets the thermal floor k T B F: the noise power added matches it within 4/sqrt(M)', () => {
+    const budget = { transmitPowerDbm: 23, bandwidthHz: 100e6, noiseFigureDb: 7 };
+    const src = new NoiseSource({ seed: 9, streams: 2, budget });
+    // k T B F at 290 K, 100 MHz, NF 7 dB: -173.975 + 80 + 7 = -86.975 dBm (C: 10 log10(1.380649e-23 * 290 * 1e8) + 30 + 7).
+    expect(wattsToDbm(src.noiseFloor!)).toBeCloseTo(-86.975, 3);
+    const Ns = 50_000;
+    const y = src.add(new Float64Array(2 * 2 * Ns), Ns);
+    // |w|^2 exponential: relative std of the mean over 2 Ns samples is 1/sqrt(2 Ns); 4 sigma.
+    expect(Math.abs(meanPower(y, 2, Ns) / src.noiseFloor! - 1)).toBeLessThan(4 / Math.sqrt(2 * Ns));
   });
 
   it('adds the same noise whether the signal comes in one block or many (keyed by absolute sample)', () => {
@@ -98,6 +125,14 @@ describe('NoiseSource at a stated SNR', () => {
     );
     expect(() => src.add(new Float64Array(0), 0, 1)).toThrow('NoiseSource.add(): samples must be an integer >= 1, got 0');
     expect(() => src.addAtSnr(new Float64Array(40), 10, 10)).toThrow(
+      "NoiseSource.addAtSnr(): no reference power for the SNR: create the source with referencePower (the received signal power per antenna, fixed for the run), " +
+        "pass referencePower here, or pass { perCall: true } to scale the noise to each call's own signal power (this behaves like automatic gain control)",
+    );
+    expect(() => src.add(new Float64Array(40), 10)).toThrow(
+      'NoiseSource.add(): no noise power: give variance, or create the source with noisePowerW (a stated floor) or budget (thermal k T B F)',
+    );
+    expect(() => new NoiseSource({ seed: 1, streams: 1, noisePowerW: 1, budget: { transmitPowerDbm: 0, bandwidthHz: 1 } })).toThrow('NoiseSource(): give noisePowerW or budget, not both');
+    expect(() => src.addAtSnr(new Float64Array(40), 10, 10, { perCall: true })).toThrow(
       'NoiseSource.addAtSnr(): the signal has zero power, so an SNR cannot set the noise; give referencePower, got signal power 0',
     );
     expect(() => src.add(new Float64Array(40), 10, -1)).toThrow('NoiseSource.add(): variance must be a finite number >= 0, got -1');
@@ -135,10 +170,12 @@ describe('link budget', () => {
     });
     const H = gen.fill(gen.allocate(3), 0, 3);
     const budget = { transmitPowerDbm: 20, bandwidthHz: 100e6, noiseFigureDb: 7 };
-    const snr = receivedSnr(H, gen.shape, 'frequency', budget);
+    // The generator's shape is typed number[] (it may carry a symbol axis); this one has four axes.
+    const shape = gen.shape as [number, number, number, number];
+    const snr = receivedSnr(H, shape, 'frequency', budget);
     // 20 dBm - 100 dB - (-173.975 + 80 + 7) dBm = 6.975 dB (C, from the formulas above).
     for (let s = 0; s < 3; s++) expect(snr.snrDb[s]).toBeCloseTo(20 - 100 - (10 * Math.log10(1.380649e-23 * 290 * 100e6 * 10 ** 0.7) + 30), 9);
-    expect(Array.from(channelPowerGain(H, gen.shape, 'frequency')).every((g) => Math.abs(g / 1e-10 - 1) < 1e-12)).toBe(true);
+    expect(Array.from(channelPowerGain(H, shape, 'frequency')).every((g) => Math.abs(g / 1e-10 - 1) < 1e-12)).toBe(true);
   });
 
   it('channelPowerGain of taps sums the tap energy', () => {

@@ -110,7 +110,7 @@ export class AntennaArray {
   }
 
   /**
-   * Plane-wave array response towards a global unit direction u (design.md):
+   * Plane-wave array response towards a global unit direction u (docs/conventions.md):
    * r_n = g(u_local) exp(+j k0 dot(u, p_n)), written interleaved re/im into `out` (length 2 N).
    * @example new AntennaArray(Float64Array.of(0, 0, 0)).response(new Float64Array(2), [1, 0, 0], 1) // [1, 0]
    */

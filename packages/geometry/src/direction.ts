@@ -1,5 +1,5 @@
 /**
- * Directions (design.md): azimuth phi from +x towards +y in (-180, 180] degrees, elevation
+ * Directions (docs/conventions.md): azimuth phi from +x towards +y in (-180, 180] degrees, elevation
  * theta from the horizontal plane, positive up, in [-90, 90];
  * u = [cos(theta) cos(phi), cos(theta) sin(phi), sin(theta)].
  */

@@ -1,7 +1,7 @@
 /**
  * @packageDocumentation
  * Geometry for pathweave: vectors, rotations, directions, antenna arrays, element patterns and
- * array responses, following the conventions of design.md (global frame x, y horizontal, z up).
+ * array responses, following docs/conventions.md (global frame x, y horizontal, z up).
  */
 export * from './constants.js';
 export * from './vec3.js';

@@ -1,6 +1,6 @@
 /**
  * Rotations as 3x3 matrices stored row-major in a Float64Array(9): element (i, j) at 3 i + j.
- * Orientation convention (design.md): R = Rz(yaw) Ry(pitch) Rx(roll), local to global.
+ * Orientation convention (docs/conventions.md): R = Rz(yaw) Ry(pitch) Rx(roll), local to global.
  */
 import { DEG } from './constants.js';
 import type { Vec3 } from './vec3.js';

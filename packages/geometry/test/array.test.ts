@@ -10,7 +10,7 @@ const close = (a: ArrayLike<number>, b: ArrayLike<number>, tol = 1e-12): void =>
   for (let i = 0; i < a.length; i++) expect(Math.abs(a[i]! - b[i]!)).toBeLessThan(tol);
 };
 
-describe('orientation (design.md: R = Rz(yaw) Ry(pitch) Rx(roll))', () => {
+describe('orientation (docs/conventions.md: R = Rz(yaw) Ry(pitch) Rx(roll))', () => {
   it('tilts the boresight down for a positive pitch', () => {
     const b = applyRotation([0, 0, 0], rotationFromOrientation({ pitchDeg: 30 }), [1, 0, 0]);
     const [az, el] = degFromVector(b);
@@ -52,7 +52,7 @@ describe('AntennaArray', () => {
     close(upa.localOffsets.subarray(0, 3), [0, -1, -0.5]);
   });
 
-  it('computes r_n = g exp(+j k0 dot(u, p_n)) in the global frame (design.md)', () => {
+  it('computes r_n = g exp(+j k0 dot(u, p_n)) in the global frame (docs/conventions.md)', () => {
     const a = AntennaArray.upa(2, 2, 0.01, { yawDeg: 30, pitchDeg: 10 });
     const u = unitFromDeg(50, 20);
     const k0 = 2 * Math.PI * 28e9 / 299792458;

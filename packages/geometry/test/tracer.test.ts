@@ -1,5 +1,5 @@
-import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
 import {
   interactionLabel, pathIdOf, prepareScene, retracePaths, rotationFromOrientation, sceneObjectLabel, traceScene, SPEED_OF_LIGHT,
   type Scene, type TerminalState, type TracedPath, type Vec3, type Wall,
@@ -8,7 +8,6 @@ import {
 const FC = 28e9;
 const LAMBDA = SPEED_OF_LIGHT / FC;
 const term = (position: Vec3, extra: Partial<TerminalState> = {}): TerminalState => ({ position, ...extra });
-const relClose = (a: number, b: number, tol: number): boolean => Math.abs(a - b) <= tol * Math.max(Math.abs(a), Math.abs(b), 1e-300);
 
 /** A 2-D rectangular room [0, lx] x [0, ly]: walls x=0, x=lx, y=0, y=ly. */
 function room2d(lx: number, ly: number, extra: Partial<Scene> = {}): Scene {
@@ -254,10 +253,28 @@ describe('blockers', () => {
     for (let i = 1; i < losses.length; i++) maxJump = Math.max(maxJump, Math.abs(losses[i]! - losses[i - 1]!));
     expect(maxJump).toBeLessThan(0.6);
     expect(losses[0]).toBe(0); // 1.5 m aside: v < -0.78
-    expect(losses[150]).toBeGreaterThan(17); // centred: h ~ 0.3 m, v ~ 1.8, J ~ 18 dB
+    // centred: each side h = 0.3 m (v = 1.834, J = 18.35 dB), top and bottom h = 1.5 m (v = 9.17,
+    // J = 32.1 dB), combined as P.526's finite-width screen, the edges' fields in phase (M):
+    // -20 log10(2 * 10^(-18.35 / 20) + 2 * 10^(-32.1 / 20)) = 10.7 dB
+    const J = (v: number): number => 6.9 + 20 * Math.log10(Math.sqrt((v - 0.1) ** 2 + 1) + v - 0.1); // P.526 (V formula)
+    const kappa = Math.sqrt((2 * 20) / ((SPEED_OF_LIGHT / FC) * 10 * 10));
+    expect(losses[150]).toBeCloseTo(-20 * Math.log10(2 * 10 ** (-J(0.3 * kappa) / 20) + 2 * 10 ** (-J(1.5 * kappa) / 20)), 6);
     // rises to the middle, falls after it
     for (let i = 1; i <= 150; i++) expect(losses[i]!).toBeGreaterThanOrEqual(losses[i - 1]! - 1e-9);
     for (let i = 151; i < losses.length; i++) expect(losses[i]!).toBeLessThanOrEqual(losses[i - 1]! + 1e-9);
+  });
+
+  it('a cylinder passes the wave on both sides: centred in 2-D, 6.02 dB less than one edge alone', () => {
+    // two equal knife edges whose fields add in phase: J(v) - 20 log10(2) (P.526 finite-width screen, M)
+    const tx = term([0, 0, 0]), rx = term([20, 0, 0]);
+    const lambda = SPEED_OF_LIGHT / FC, kappa = Math.sqrt((2 * 20) / (lambda * 10 * 10));
+    const J = (v: number): number => 6.9 + 20 * Math.log10(Math.sqrt((v - 0.1) ** 2 + 1) + v - 0.1); // P.526 (V formula)
+    const centred = traceScene({ blockers: [{ shape: 'cylinder', base: [10, 0], radiusM: 0.25, heightM: 2 }] }, tx, rx, FC).paths[0]!.blockageDb;
+    expect(centred).toBeCloseTo(J(0.25 * kappa) - 20 * Math.log10(2), 9);
+    // off-centre by 0.2 m: the near side (h = 0.05 m) dominates, the far side (h = 0.45 m) still adds its field
+    const off = traceScene({ blockers: [{ shape: 'cylinder', base: [10, 0.2], radiusM: 0.25, heightM: 2 }] }, tx, rx, FC).paths[0]!.blockageDb;
+    expect(off).toBeCloseTo(-20 * Math.log10(10 ** (-J(0.05 * kappa) / 20) + 10 ** (-J(0.45 * kappa) / 20)), 9);
+    expect(off).toBeLessThan(J(0.05 * kappa));
   });
 
   it('a blocker with lossDb adds that loss only when crossed', () => {
@@ -333,26 +350,23 @@ describe('interaction records', () => {
     expect(() => retracePaths(ps, [bad], term([0, 0, 0]), term([10, 0, 0]), FC)).toThrow(
       new RangeError('retracePaths(): interaction object must be a wall, got {"kind":"scatterer","index":0}'),
     );
-  });
-});
-
-describe('speed', () => {
-  it('traces a 20-wall room at order 2 fast enough', () => {
-    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls (shared with bench/)
+// The tracer's rate on this room (asked: >= 1000 traces/s) is measured by the benchmark,
+// `node bench/run.mjs --only tracer`, never by a unit test (DEVELOPERS.md: no timed unit tests).
+describe('the 20-wall room shared with bench/', () => {
+  it('traces at order 2 with every wall in play and the same paths for the same geometry', () => {
+    // a 20 x 12 x 4 m room (6 surfaces) with 14 metal panels near the side walls
     const room = JSON.parse(readFileSync(new URL('../../../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')) as { scene: { walls: Wall[] } };
     const walls = room.scene.walls;
     expect(walls.length).toBe(20);
     const ps = prepareScene({ walls, maxReflectionOrder: 2 });
     const tx = term([2, 5, 2.5]), rx = term([17, 7, 1.5]);
-    const count = traceScene(ps, tx, rx, FC).paths.length;
-    expect(count).toBeGreaterThan(10);
-    for (let k = 0; k < 50; k++) traceScene(ps, tx, rx, FC); // warm-up
-    const runs = 400;
-    const t0 = performance.now();
-    for (let k = 0; k < runs; k++) traceScene(ps, tx, { ...rx, position: [17, 7 + k * 1e-4, 1.5] }, FC);
-    const perSecond = runs / ((performance.now() - t0) / 1000);
-    console.log(`20 walls, order 2: ${perSecond.toFixed(0)} traces/s, ${count} paths`);
-    // target >= 1000/s (about 1500/s measured alone); the bound is lower because the machine is shared
-    expect(perSecond).toBeGreaterThan(250);
+    const first = traceScene(ps, tx, rx, FC).paths;
+    expect(first.length).toBeGreaterThan(10);
+    expect(first.some((p) => p.kind === 'los')).toBe(true);
+    // a prepared scene keeps no state between traces: a second trace gives the same paths
+    expect(traceScene(ps, tx, rx, FC).paths.map((p) => [p.id, p.lengthM])).toEqual(first.map((p) => [p.id, p.lengthM]));
   });
 });
+
+// Speed is measured in bench/tracer-scale.mjs (no timed unit tests); the 20-wall room's paths
+// against the exhaustive search are checked in tracer-scale.test.ts.

@@ -9,6 +9,7 @@ export * from './scenario/schema.js';
 export * from './scenario/validate.js';
 export * from './scenario/plan.js';
 export * from './scenario/build.js';
+export * from './scenario/imports.js';
 export * from './dataset/layout.js';
 export * from './formats/atomic.js';
 export * from './formats/sink.js';

@@ -15,8 +15,7 @@ import { hasPython, pythonJson } from '../../../test/support/python.js';
 import { ROOT, tempDir } from '../../../test/support/run.js';
 
 describe('complexSingularValues (real embedding [[Re, -Im], [Im, Re]])', () => {
-  it('equals numpy.linalg.svd of the complex matrix over a sweep of shapes (C, 1e-12 relative)', () => {
-    if (!hasPython('numpy')) return;
+  it.runIf(hasPython('numpy'))('equals numpy.linalg.svd of the complex matrix over a sweep of shapes (C, 1e-12 relative)', () => {
     const rng = new RandomStream(7, 'inspect-test');
     const cases: { Nr: number; Nt: number; data: number[] }[] = [];
     for (const [Nr, Nt] of [[1, 1], [1, 4], [4, 1], [2, 2], [3, 5], [4, 32], [8, 16], [16, 8]] as const) {
@@ -57,8 +56,7 @@ describe('sampling and spread', () => {
     for (let i = 1; i < 16; i++) expect(Math.abs(s[i]! - s[i - 1]! - 999 / 15)).toBeLessThanOrEqual(1);
   });
 
-  it('spreadOf: median as numpy.median (C)', () => {
-    if (!hasPython('numpy')) return;
+  it.runIf(hasPython('numpy'))('spreadOf: median as numpy.median (C)', () => {
     const sets = [[3, 1, 2], [4, 1, 3, 2], [5], [1e-3, 7, -2, 9, 9, 0.5]];
     const ref = pythonJson<number[]>(`import json, sys, numpy as np\nprint(json.dumps([float(np.median(s)) for s in json.loads(sys.stdin.read())]))`, [], JSON.stringify(sets));
     sets.forEach((s, i) => expect(spreadOf(s)).toEqual({ min: Math.min(...s), median: ref[i], max: Math.max(...s) }));
@@ -72,8 +70,7 @@ describe('inspectFile on generated files', () => {
   const text = JSON.stringify(raw);
   const scenario = parseScenarioText(text).scenario;
 
-  it.each(['npy', 'npz', 'h5'] as const)('.%s: mean power and conditioning equal numpy on the sampled matrices (C)', async (format) => {
-    if (!hasPython('numpy')) return;
+  it.runIf(hasPython('numpy')).each(['npy', 'npz', 'h5'] as const)('.%s: mean power and conditioning equal numpy on the sampled matrices (C)', async (format) => {
     const dir = tempDir();
     const out = join(dir, `run.${format}`);
     await generate(scenario, text, { out, format, workers: 1 });

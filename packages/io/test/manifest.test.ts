@@ -16,7 +16,7 @@ describe('names', () => {
   it('partPath writes --out as given, with {index} and {count} replaced', () => {
     expect(partPath('data/run.part-{index}-of-{count}.h5', 2, 8)).toBe('data/run.part-2-of-8.h5');
     expect(partPath('/x/y.z/shard-{index}', 0, 1)).toBe('/x/y.z/shard-0');
-    expect(partPath('data/run.h5', 2, 8)).toBe('data/run.h5'); // design.md: --out is the file written
+    expect(partPath('data/run.h5', 2, 8)).toBe('data/run.h5'); // docs/conventions.md: --out is the file written
     expect(manifestPathOf('run.part-2-of-8.npy')).toBe('run.part-2-of-8.npy.manifest.json');
     expect(() => partPath('run.h5', 8, 8)).toThrow('partPath(): need integers 0 <= index < count, got index 8, count 8');
   });
@@ -40,8 +40,7 @@ async function writeTensorFile(dir: string, format: 'npy' | 'h5'): Promise<{ pat
 }
 
 describe('checksums and verification', () => {
-  it.each(['npy', 'h5'] as const)('tensorSha256OfFile (.%s) equals hashlib.sha256 of numpy/h5py tobytes (C)', async (format) => {
-    if (!hasPython('numpy', 'h5py')) return;
+  it.runIf(hasPython('numpy', 'h5py')).each(['npy', 'h5'] as const)('tensorSha256OfFile (.%s) equals hashlib.sha256 of numpy/h5py tobytes (C)', async (format) => {
     const { path } = await writeTensorFile(tempDir(), format);
     const ref = python(
       `import sys, hashlib, numpy as np

@@ -12,7 +12,7 @@ describe('docs/scenario.schema.json', () => {
     const committed = JSON.parse(readFileSync(join(ROOT, 'docs', 'scenario.schema.json'), 'utf8')) as unknown;
     expect(committed).toEqual(JSON.parse(JSON.stringify(scenarioJsonSchema())));
   });
-  it('declares the fixed keys of design.md and refuses unknown ones', () => {
+  it('declares the fixed keys of docs/guide.md and refuses unknown ones', () => {
     const schema = scenarioJsonSchema() as { properties: Record<string, unknown>; required: string[]; additionalProperties: boolean };
     for (const key of ['carrierHz', 'timing', 'band', 'taps', 'transmitter', 'receiver', 'scene', 'paths', 'fading', 'seed', 'precision', 'formatVersion']) {
       expect(schema.properties).toHaveProperty(key);

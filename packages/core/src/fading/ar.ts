@@ -72,7 +72,7 @@ export interface ArFit {
 
 /**
  * Target R(k) = prod_i J0(2 pi f_i k T), k = 0..order.
- * @example clarkeTargetCorrelation([280.194], 0.125e-3, 1)[1] // 0.98792958
+ * @example clarkeTargetCorrelation([280.194], 0.125e-3, 1)[1] // 0.98792957
  */
 export function clarkeTargetCorrelation(dopplersHz: readonly number[], stepS: number, order: number): Float64Array {
   const r = new Float64Array(order + 1);

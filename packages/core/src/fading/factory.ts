@@ -37,7 +37,7 @@ export interface GainProcessPath extends GainPath, FadingPath {}
 export interface FadingGains {
   /** Unit-power gains of the paths, keyed by their ids. */
   readonly process: GainProcess;
-  /** True when the gains keep the phase of the timeline's amplitude (static, geometric); false when they draw it (design of channel.ts). */
+  /** True when the gains keep the phase of the timeline's amplitude (static, geometric); false when they draw it (see the module comment of channel.ts). */
   readonly deterministic: boolean;
   /** True when the gains change with time, so the step must resolve their Doppler (every model but static). */
   readonly timeVarying: boolean;

@@ -1,7 +1,7 @@
 /**
  * Geometric Doppler gains in continuous time.
  *
- * Without a Rician factor each path turns at its own signed Doppler shift f_l (design.md):
+ * Without a Rician factor each path turns at its own signed Doppler shift f_l (docs/conventions.md, Gains):
  *   rho_l(t) = sqrt(gamma_l) exp(j (phase_l + 2 pi f_l t)).
  * With `ricianKDb` (K = 10^(K_dB / 10)) the path is a specular part of power K / (K + 1) turning at
  * f_l plus a diffuse part of power 1 / (K + 1), a unit-power Clarke process X_l(t) of the path's

@@ -1,7 +1,7 @@
 /**
- * The WebAssembly SIMD kernel (128-bit lanes, built from packages/core/assembly/accumulate.ts by
- * scripts/setup.mjs into packages/core/dist/kernels/accumulate.wasm) behind the same signature as
- * the plain one.
+ * The WebAssembly SIMD kernels (128-bit lanes, built from packages/core/assembly/accumulate.ts by
+ * scripts/setup.mjs into packages/core/dist/kernels/accumulate.wasm, and with relaxed-SIMD
+ * multiply-add into accumulate-fma.wasm) behind the same signature as the plain one.
  *
  * Layouts (complex interleaved re/im, row-major), as in accumulate.ts:
  *   weights  [bins, L]  float64 in, copied into the kernel's memory (and rounded to float32 there
@@ -22,13 +22,20 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
+import { setFlagsFromString } from 'node:v8';
 import type { KernelOut } from './accumulate.js';
 
 /**
  * Where setup puts the compiled kernel (the same file from src/kernels and dist/kernels).
- * @example WASM_KERNEL_PATH // "<checkout>/packages/core/dist/kernels/accumulate.wasm"
+ * @example WASM_KERNEL_PATH // <checkout>/packages/core/dist/kernels/accumulate.wasm
  */
 export const WASM_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate.wasm', import.meta.url));
+
+/**
+ * Where setup puts the fused build of the same source (relaxed-SIMD multiply-add).
+ * @example FMA_KERNEL_PATH // "<checkout>/packages/core/dist/kernels/accumulate-fma.wasm"
+ */
+export const FMA_KERNEL_PATH: string = fileURLToPath(new URL('../../dist/kernels/accumulate-fma.wasm', import.meta.url));
 
 /** Output bytes per kernel call: a chunk stays in L2 while the column tiles sweep it (and, on the copying path, until it is copied out). */
 const CHUNK_BYTES = 128 * 1024;
@@ -55,6 +62,8 @@ const wasmApi = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
 
 interface KernelExports {
   memory: WasmMemory;
+  fusedBuild(): number;
+  weightsFusedF32(dst: number, src: number, n: number): void;
   prepareF32(p: number, q: number, src: number, n: number): void;
   roundF32(dst: number, src: number, n: number): void;
   turnF64(q: number, p: number, n: number): void;
@@ -64,10 +73,14 @@ interface KernelExports {
 
 const align = (n: number): number => Math.ceil(n / 16) * 16;
 
-/** Workspace bytes of one call: staged float64 products and weights, then P, Q and weights in the kernel's float type. */
-function workspaceBytes(bins: number, L: number, M: number, double: boolean): number {
+/**
+ * Workspace bytes of one call: staged float64 products and weights, then P, Q and weights in the
+ * kernel's float type (the fused f32 kernel: P and 16-byte weights, no Q).
+ */
+function workspaceBytes(bins: number, L: number, M: number, double: boolean, fused: boolean): number {
   const staged = align(16 * L * M) + align(16 * bins * L);
-  return double ? staged + align(16 * L * M) : staged + 2 * align(8 * L * M) + align(8 * bins * L);
+  if (double) return staged + align(16 * L * M);
+  return fused ? staged + align(8 * L * M) + align(16 * bins * L) : staged + 2 * align(8 * L * M) + align(8 * bins * L);
 }
 
 /** One instance of the SIMD kernel with its linear-memory workspace at [base, base + workspace). */
@@ -75,6 +88,8 @@ class WasmKernel {
   private readonly base: number;
   private f64: Float64Array;
   private f32: Float32Array;
+  /** The fused (relaxed-SIMD multiply-add) build: f32 weights of 16 bytes, no Q. */
+  private readonly fused: boolean;
 
   /** `fixedWorkspace`: the memory was sized once and must never grow (an allocated output array lives in it). */
   constructor(
@@ -83,6 +98,7 @@ class WasmKernel {
   ) {
     // Our buffers live in pages grown past the module's own (it has no static data, but stay clear).
     this.base = exports.memory.buffer.byteLength;
+    this.fused = exports.fusedBuild() === 1;
     if (fixedWorkspace !== undefined) exports.memory.grow(Math.ceil(fixedWorkspace / PAGE));
     this.f64 = new Float64Array(exports.memory.buffer);
     this.f32 = new Float32Array(exports.memory.buffer);
@@ -99,7 +115,7 @@ class WasmKernel {
 
   /** Whether a call of this size fits the fixed workspace (always true for a growable one). */
   fits(bins: number, L: number, M: number, double: boolean): boolean {
-    return this.fixedWorkspace === undefined || workspaceBytes(bins, L, M, double) <= this.fixedWorkspace;
+    return this.fixedWorkspace === undefined || workspaceBytes(bins, L, M, double, this.fused) <= this.fixedWorkspace;
   }
 
   private reserve(bytes: number): void {
@@ -122,6 +138,8 @@ class WasmKernel {
   run(out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, L: number, M: number, target: number | undefined): void {
     const double = out instanceof Float64Array;
     const eb = double ? 16 : 8; // bytes per complex value
+    const fusedF32 = this.fused && !double;
+    const wb = fusedF32 ? 16 : eb; // bytes per staged weight
     const chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
     const stageP = this.base;
     const stageW = stageP + align(16 * L * M);
@@ -131,6 +149,11 @@ class WasmKernel {
       w = stageW;
       q = stageW + align(16 * bins * L);
       o = q + align(16 * L * M);
+    } else if (fusedF32) {
+      p = stageW + align(16 * bins * L);
+      q = p; // unused: the fused kernel swaps P in a register
+      w = p + align(8 * L * M);
+      o = w + align(16 * bins * L);
     } else {
       p = stageW + align(16 * bins * L);
       q = p + align(8 * L * M);
@@ -141,10 +164,15 @@ class WasmKernel {
     const f64 = this.f64;
     f64.set(products.subarray(0, 2 * L * M), stageP / 8);
     f64.set(weights.subarray(0, 2 * bins * L), stageW / 8);
-    const lanes = 4; // complex values per register block of the kernel (f32: 2 bins x 4, f64: 1 bin x 4)
-    const tile = Math.max(lanes, Math.floor(TILE_BYTES / (2 * L * eb * lanes)) * lanes); // P and Q columns of one tile fill about TILE_BYTES
+    // Complex columns per register block (f32: 2 bins x 4, fused 2 bins x 8; f64: 1 bin x 4); the
+    // P (and Q) columns of one tile fill about TILE_BYTES.
+    const lanes = fusedF32 ? 8 : 4;
+    const tile = Math.max(lanes, Math.floor(TILE_BYTES / ((fusedF32 ? 1 : 2) * L * eb * lanes)) * lanes);
     if (double) {
       this.exports.turnF64(q, p, L * M);
+    } else if (fusedF32) {
+      this.exports.roundF32(p, stageP, 2 * L * M);
+      this.exports.weightsFusedF32(w, stageW, bins * L);
     } else {
       this.exports.prepareF32(p, q, stageP, L * M);
       this.exports.roundF32(w, stageW, 2 * bins * L);
@@ -153,7 +181,7 @@ class WasmKernel {
     if (target !== undefined) {
       // Straight into the caller's array, still chunk by chunk: a chunk's rows stay in L2 while
       // the column tiles sweep over them (one pass over all bins thrashes the cache sets).
-      for (let k0 = 0; k0 < bins; k0 += chunkBins) kernel(target + k0 * M * eb, w + k0 * L * eb, p, q, Math.min(chunkBins, bins - k0), L, M, tile);
+      for (let k0 = 0; k0 < bins; k0 += chunkBins) kernel(target + k0 * M * eb, w + k0 * L * wb, p, q, Math.min(chunkBins, bins - k0), L, M, tile);
       return;
     }
     const scale = double ? 8 : 4; // bytes per float
@@ -161,7 +189,7 @@ class WasmKernel {
     const o0 = o / scale;
     for (let k0 = 0; k0 < bins; k0 += chunkBins) {
       const n = Math.min(chunkBins, bins - k0);
-      kernel(o, w + k0 * L * eb, p, q, n, L, M, tile);
+      kernel(o, w + k0 * L * wb, p, q, n, L, M, tile);
       out.set(view.subarray(o0, o0 + 2 * n * M), outOffset + 2 * k0 * M);
     }
   }
@@ -171,19 +199,42 @@ class WasmKernel {
 const pinned = new WeakMap<ArrayBuffer, WasmKernel>();
 
 /**
- * Compile and instantiate the SIMD kernel, or say why it cannot be used here. `allocate` gives
- * zeroed output arrays that the kernel writes without a copy.
+ * Whether `kernel` evaluates multiply-add terms with one rounding, in float32 and in float64
+ * lanes. Each case is one term whose fused and twice-rounded results differ: with w = -1 + (1 + e) j
+ * and P = (1 + e) + 1 j the imaginary lane is madd(1 + e, 1 + e, -1) = 2e + e^2 fused, while
+ * rounding (1 + e)^2 first drops e^2 (a tie, to even); e = 2^-12 (float32), 2^-27 (float64).
+ */
+function fusesBoth(kernel: WasmKernelFunction): boolean {
+  const f32 = new Float32Array(2), f64 = new Float64Array(2);
+  const e32 = 2 ** -12, e64 = 2 ** -27;
+  kernel(f32, 0, Float64Array.of(-1, 1 + e32), Float64Array.of(1 + e32, 1), 1, 1, 1);
+  kernel(f64, 0, Float64Array.of(-1, 1 + e64), Float64Array.of(1 + e64, 1), 1, 1, 1);
+  return f32[1] === 2 * e32 + e32 * e32 && f64[1] === 2 * e64 + e64 * e64;
+}
+
+/**
+ * Compile and instantiate a SIMD kernel, or say why it cannot be used here. `allocate` gives
+ * zeroed output arrays that the kernel writes without a copy. For the fused build
+ * (FMA_KERNEL_PATH) Node 20 needs V8's relaxed-SIMD flag, set here before compiling when the
+ * module does not validate without it; `fused` says whether this runtime fused its multiply-adds
+ * (the relaxed instruction may also round twice, which would be neither kernel's arithmetic).
  * @example loadWasmKernel().kernel !== undefined // true after setup on Node 20
  */
-export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: WasmKernelFunction; allocate?: WasmKernelAllocate; reason?: string } {
+export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: WasmKernelFunction; allocate?: WasmKernelAllocate; fused?: boolean; reason?: string } {
   const WebAssembly = wasmApi;
   if (WebAssembly === undefined) return { reason: 'no WebAssembly in this runtime' };
   if (!existsSync(path)) return { reason: `${path} is missing (run node scripts/setup.mjs)` };
   const bytes = readFileSync(path);
-  if (!WebAssembly.validate(bytes)) return { reason: `${path} does not validate here (no 128-bit SIMD?)` };
+  if (!WebAssembly.validate(bytes)) {
+    // Relaxed SIMD is behind a flag on Node 20 (on by default later); it must be set before compiling.
+    setFlagsFromString('--experimental-wasm-relaxed-simd');
+    if (!WebAssembly.validate(bytes)) return { reason: `${path} does not validate here (no 128-bit or relaxed SIMD?)` };
+  }
   const module = new WebAssembly.Module(bytes);
   const instantiate = (): KernelExports => new WebAssembly.Instance(module, {}).exports as unknown as KernelExports;
-  const shared = new WasmKernel(instantiate());
+  const first = instantiate();
+  const build = first.fusedBuild() === 1;
+  const shared = new WasmKernel(first);
   const kernel: WasmKernelFunction = (out, outOffset, weights, products, bins, paths, elementPairs) => {
     if (bins === 0 || elementPairs === 0) return;
     if (paths === 0) {
@@ -204,7 +255,8 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: Wasm
     pinned.set(k.memory.buffer, k);
     return array;
   };
-  return { kernel, allocate };
+  if (build && !fusesBoth(kernel)) return { reason: `${path}: relaxed multiply-add is not fused on this machine` };
+  return { kernel, allocate, fused: build };
 }
 
 /**

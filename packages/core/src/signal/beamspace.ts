@@ -1,7 +1,7 @@
 /**
  * Beam space: DFT codebooks for ULAs and UPAs, the beam-space channel and beam-pair search.
  *
- * Conventions (design.md): H = sum rho a_r a_t^H with a_r = r_rx(u_arr), a_t = conj(r_tx(u_dep)),
+ * Conventions (docs/conventions.md): H = sum rho a_r a_t^H with a_r = r_rx(u_arr), a_t = conj(r_tx(u_dep)),
  * r_n(u) = exp(+j k0 dot(u, p_n)) for isotropic elements. A transmit codebook column is the
  * matched precoder a_t(u_b) / sqrt(Nt); a receive codebook column is the matched combiner
  * a_r(u_b) / sqrt(Nr), and the combiner output is w^H y.
@@ -12,7 +12,7 @@
  *   beam-space channel [K, Br, Bt]    W^H H[k] F
  *   ULA beam b (along local +y, spacing d wavelengths, oversampling O, B = O N beams):
  *     spatial frequency psi_b = pi (2 b / (O N) - 1) = 2 pi d u_b, u_b the direction cosine on local y,
- *     transmit weight n = exp(-j psi_b (n - (N - 1) / 2)) / sqrt(N) (element offsets centred, design.md)
+ *     transmit weight n = exp(-j psi_b (n - (N - 1) / 2)) / sqrt(N) (element offsets centred, docs/conventions.md)
  *   UPA (rows along local +z, columns along +y, element n = row C + column): the Kronecker
  *   product of a row codebook (on u_z) and a column codebook (on u_y), beam b = bRow Bc + bColumn.
  */

@@ -8,7 +8,7 @@
  * y[r, n] = sum_t sum_d h_n[d, r, t] x[t, n - d], where h_n is the tap set in force at absolute
  * sample n (switched at subframe or symbol boundaries) and x before the first sample is zero.
  */
-import type { ChannelGenerator } from '../channel.js';
+import type { ChannelGenerator, TensorArray } from '../channel.js';
 import { allocateLike, checkComplexArray, checkInteger, checkLength, checkSignal, type ComplexArray } from './checks.js';
 
 /**
@@ -207,5 +207,99 @@ export class ChannelFilter {
         hist[base + 2 * (kept + j) + 1] = x[src + 1]!;
       }
     }
+  }
+}
+
+/**
+ * Options of a ChannelStreamFilter.
+ * @example const o: ChannelStreamFilterOptions = { firstSubframe: 10 }; // sample 0 is the start of subframe 10
+ */
+export interface ChannelStreamFilterOptions {
+  /** Subframe at which sample 0 of the signal starts; default 0. */
+  firstSubframe?: number;
+}
+
+/**
+ * Samples through a time-varying tap-delay channel in ONE call per block: the filter pulls the
+ * generator's tap sets itself and switches them at the first sample of each step (a subframe,
+ * or an OFDM symbol with a symbol axis). The channel is constant within a step: step j (counted
+ * from `firstSubframe`) holds from sample round((t_j - t_0) fs) to the sample before step j + 1,
+ * t_j the step's time on the generator's clock (for NR symbols the start of the cyclic prefix)
+ * and fs the generator's sample rate. State (past samples, the step in force) is carried across
+ * calls, so a signal cut into blocks of any sizes gives the same output bits as one call.
+ *
+ * Layouts as ChannelFilter: x [Nt, N] in, y [Nr, N] out, complex interleaved.
+ *
+ * @example
+ * const end = (position: Vec3) => ({ position, velocity: [0, 0, 0] as Vec3, array: AntennaArray.ula(1, 0) });
+ * const gen = new ChannelGenerator({ carrierHz: 28e9, subframeS: 1e-6, subframes: 3, seed: 1, fading: { model: 'static' }, transmitter: end([0, 0, 0]),
+ *   receiver: end([10, 0, 0]), paths: [{ id: 'los', delayS: 0, power: 1, phaseRad: 0, departure: [1, 0, 0], arrival: [-1, 0, 0] }], grid: { domain: 'taps', sampleRateHz: 4e6, count: 1 } });
+ * const channel = new ChannelStreamFilter(gen);           // 4 samples per subframe
+ * channel.process(new Float64Array(2 * 12).fill(1), 12).length // 24: y [1, 12], the taps switched at samples 4 and 8
+ */
+export class ChannelStreamFilter {
+  /** The filter that does the convolution (its tap sets are queued by `process`). */
+  readonly filter: ChannelFilter;
+  /** Sample rate of the signal, Hz (the generator's tap grid). */
+  readonly sampleRateHz: number;
+  private readonly generator: ChannelGenerator;
+  private readonly firstStep: number;
+  private readonly lastStep: number; // exclusive
+  private readonly t0: number;
+  private readonly buffer: TensorArray;
+  private bufferedSubframe = -1;
+  private nextStep: number; // first step not yet queued
+
+  constructor(generator: ChannelGenerator, options: ChannelStreamFilterOptions = {}) {
+    const fn = 'ChannelStreamFilter()';
+    this.filter = ChannelFilter.forGenerator(generator);
+    this.generator = generator;
+    const grid = generator.spec.grid as { sampleRateHz: number };
+    this.sampleRateHz = grid.sampleRateHz;
+    const first = options.firstSubframe ?? 0;
+    checkInteger(fn, 'firstSubframe', first, 0);
+    if (first >= generator.spec.subframes) throw new RangeError(`${fn}: firstSubframe must be < ${generator.spec.subframes} (the generator's subframes), got ${first}`);
+    const per = generator.stepsPerSubframe;
+    this.firstStep = first * per;
+    this.lastStep = generator.spec.subframes * per;
+    this.nextStep = this.firstStep;
+    this.t0 = generator.clock.timeS(this.firstStep);
+    this.buffer = generator.allocate(1);
+  }
+
+  /** First sample (relative to sample 0 of the signal) at which step `step` (absolute) is in force. */
+  startSample(step: number): number {
+    return Math.round((this.generator.clock.timeS(step) - this.t0) * this.sampleRateHz);
+  }
+
+  /**
+   * Pass the next `samples` samples x [Nt, samples] through the channel into y [Nr, samples]
+   * (allocated in x's precision when `out` is omitted). Throws a RangeError when the block runs
+   * past the generator's last subframe.
+   */
+  process(x: ComplexArray, samples: number, out?: ComplexArray): ComplexArray {
+    const fn = 'ChannelStreamFilter.process()';
+    checkInteger(fn, 'samples', samples, 1);
+    const end = this.filter.samplesProcessed + samples;
+    const per = this.generator.stepsPerSubframe;
+    const stepValues = 2 * this.generator.valuesPerStep;
+    // Queue every step that starts before the end of this block.
+    while (this.nextStep < this.lastStep && this.startSample(this.nextStep) < end) {
+      const subframe = Math.floor(this.nextStep / per);
+      if (subframe !== this.bufferedSubframe) {
+        this.generator.fill(this.buffer, subframe, 1);
+        this.bufferedSubframe = subframe;
+      }
+      this.filter.setTaps(this.buffer, Math.max(this.startSample(this.nextStep), this.filter.samplesProcessed), (this.nextStep % per) * stepValues);
+      this.nextStep++;
+    }
+    if (this.nextStep === this.lastStep) {
+      // Past the last step's nominal length the channel is not defined.
+      const lastEnd = Math.round((this.generator.spec.subframes * this.generator.spec.subframeS - this.t0) * this.sampleRateHz);
+      if (end > lastEnd) {
+        throw new RangeError(`${fn}: the block ends at sample ${end}, past the generator's last subframe (${this.generator.spec.subframes - 1}), which ends at sample ${lastEnd}; generate more subframes`);
+      }
+    }
+    return this.filter.process(x, samples, out);
   }
 }

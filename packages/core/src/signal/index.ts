@@ -10,3 +10,4 @@ export * from './impairments.js';
 export * from './ofdm.js';
 export * from './beamspace.js';
 export * from './estimate.js';
+export * from './matrix.js';

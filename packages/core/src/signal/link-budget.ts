@@ -1,7 +1,7 @@
 /**
  * Link budget: thermal noise k T B F and the received SNR of generated channels.
  *
- * Channel tensors (design.md layout, row-major, complex interleaved):
+ * Channel tensors (docs/conventions.md layout, row-major, complex interleaved):
  *   frequency domain [S, K, Nr, Nt], tap-delay [S, count, Nr, Nt].
  * Path powers are absolute (E|rho|^2 includes spreading and reflection losses), so with the
  * transmit power P_t split equally over Nt streams of unit-power, independent symbols

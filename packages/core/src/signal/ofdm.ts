@@ -2,13 +2,13 @@
  * OFDM modulation and demodulation with a cyclic prefix, on fft.js.
  *
  * Layouts (row-major, complex interleaved re/im):
- *   resource grid X [streams, symbols, K]    subcarriers in the centred order of design.md:
+ *   resource grid X [streams, symbols, K]    subcarriers in the centred order of docs/conventions.md:
  *                                            index k has offset k' = k - floor(K / 2) (DC at floor(K / 2))
  *   time signal   x [streams, symbols (cp + K)]  each symbol: its last cp samples, then the K samples
  * Unitary scaling: x[n] = (1 / sqrt K) sum_k X[k] exp(+j 2 pi k' n / K), n = 0..K-1, and
  * demodulation Y[k] = (1 / sqrt K) sum_n y[n] exp(-j 2 pi k' n / K), so sum |x|^2 over the K
  * useful samples equals sum |X|^2 (Parseval) and a tap channel h shorter than the prefix acts on
- * subcarrier k as H[k] = sum_d h[d] exp(-j 2 pi k' d / K) (no 1 / sqrt K on H, as design.md's
+ * subcarrier k as H[k] = sum_d h[d] exp(-j 2 pi k' d / K) (no 1 / sqrt K on H, as docs/conventions.md's
  * "DFT of h equals H").
  */
 import FFT from 'fft.js';

@@ -15,6 +15,15 @@
  *   [0.001 d, 0.999 d]), d2 = d - d1, and v = h sqrt(2 d / (lambda d1 d2));
  * - a blocker entirely behind either end of the segment (its extent along t outside [0, d])
  *   adds nothing. Several blockers add their losses in dB (no multiple-edge method).
+ *
+ * A cylinder (a person, a pole) is not one edge: the wave passes it on both sides (and over the
+ * top in 3-D). Its silhouette is taken as the rectangle spanned by its extent across the segment
+ * (2-D: [x - r, x + r]; 3-D: the extent along e1 and e2 below), each side of it a knife edge with
+ * its own obstruction h_i and loss J(v_i), combined as ITU-R P.526's finite-width screen (the
+ * minimum-loss form, the edges' fields in phase, M):
+ *   L = max(0, -20 log10(sum_i 10^(-J(v_i) / 20))),
+ * so a receiver right behind a slim person gets both sides' fields (J - 6 dB for a centred one),
+ * and where one side dominates L tends to that side's J(v).
  */
 import type { PreparedScene } from './scene.js';
 import { knifeEdgeLossDb } from './knife-edge.js';
@@ -58,6 +67,8 @@ export function segmentBlockageDb(ps: PreparedScene, ax: number, ay: number, az:
 function knifeEdgeOfBlocker(ps: PreparedScene, i: number, ax: number, ay: number, az: number, tx: number, ty: number, tz: number, d: number, lambda: number): number {
   const b = ps.scene.blockers![i]!;
   let h: number, sMin: number, sMax: number;
+  // cylinders: obstruction of each side of the silhouette rectangle (right, left, top, bottom)
+  let hR = Infinity, hL = Infinity, hT = Infinity, hB = Infinity;
   if (ps.is2D) {
     // Horizontal segment; across-track unit e = (-ty, tx).
     const ex = -ty, ey = tx;
@@ -65,7 +76,8 @@ function knifeEdgeOfBlocker(ps: PreparedScene, i: number, ax: number, ay: number
       const cx = b.base[0]! - ax, cy = b.base[1]! - ay;
       const s = cx * tx + cy * ty, x = cx * ex + cy * ey;
       sMin = s - b.radiusM; sMax = s + b.radiusM;
-      h = Math.min(x + b.radiusM, b.radiusM - x);
+      hR = x + b.radiusM; hL = b.radiusM - x;
+      h = Math.min(hR, hL);
     } else {
       const p = ps.blockerPoints[i]!;
       let lo = Infinity, hi = -Infinity;
@@ -99,12 +111,25 @@ function knifeEdgeOfBlocker(ps: PreparedScene, i: number, ax: number, ay: number
       ys[k] = cx * e2x + cy * e2y + cz * e2z;
     }
     h = signedDepthInHull(m);
+    if (b.shape === 'cylinder') {
+      let u0 = Infinity, u1 = -Infinity, w0 = Infinity, w1 = -Infinity;
+      for (let k = 0; k < m; k++) {
+        if (xs[k]! < u0) u0 = xs[k]!;
+        if (xs[k]! > u1) u1 = xs[k]!;
+        if (ys[k]! < w0) w0 = ys[k]!;
+        if (ys[k]! > w1) w1 = ys[k]!;
+      }
+      hR = u1; hL = -u0; hT = w1; hB = -w0;
+    }
   }
   if (sMax <= 0 || sMin >= d) return 0;
   let d1 = (Math.max(sMin, 0) + Math.min(sMax, d)) / 2;
   d1 = Math.min(Math.max(d1, 1e-3 * d), (1 - 1e-3) * d);
-  const v = h * Math.sqrt((2 * d) / (lambda * d1 * (d - d1)));
-  return knifeEdgeLossDb(v);
+  const kappa = Math.sqrt((2 * d) / (lambda * d1 * (d - d1)));
+  if (b.shape !== 'cylinder') return knifeEdgeLossDb(h * kappa);
+  let sum = 0;
+  for (const hi of [hR, hL, hT, hB]) if (hi !== Infinity) sum += 10 ** (-knifeEdgeLossDb(hi * kappa) / 20);
+  return Math.max(0, -20 * Math.log10(sum));
 }
 
 /**

@@ -107,7 +107,7 @@ export interface ResolvedSurface {
 
 /**
  * Complex relative permittivity eta = eps' - j sigma / (2 pi f eps0) of a P.2040 material.
- * @example p2040Permittivity('concrete', 28e9) // { eta: [5.24, -0.401904], conductivitySpm: 0.626053 }
+ * @example p2040Permittivity('concrete', 28e9) // { eta: [5.24, -0.401904], conductivitySpm: 0.62605 }
  */
 export function p2040Permittivity(name: P2040MaterialName, frequencyHz: number): { eta: Complex; conductivitySpm: number; warning?: string } {
   const co = P2040_MATERIALS[name];

@@ -15,7 +15,7 @@
  * Complex field vectors are Float64Array(6): [re x, re y, re z, im x, im y, im z].
  *
  * Direction basis (the basis of the 2x2 polarimetric matrix `[[tt, tp], [pt, pp]]`): for a unit
- * direction u of azimuth phi and elevation theta (design.md),
+ * direction u of azimuth phi and elevation theta (docs/conventions.md),
  *   theta_hat = du/dtheta = [-sin(theta) cos(phi), -sin(theta) sin(phi), cos(theta)]  (upward,
  *               the negative of the zenith-angle unit vector of physics texts),
  *   phi_hat   = [-sin(phi), cos(phi), 0],

@@ -3,7 +3,7 @@
  * once, each with a dotted path) and a `PreparedScene` that holds the wall planes and polygons
  * once, for the tracer's inner loops.
  *
- * Dimensions (design.md "2-D scenes"): a scene is 2-D when it has walls and every wall vertex has
+ * Dimensions (docs/conventions.md, "2-D scenes"): a scene is 2-D when it has walls and every wall vertex has
  * two coordinates, or it has no walls and every scatterer and blocker point has two. In a 2-D
  * scene every point of the scene has two coordinates, terminals sit at z = 0, walls are vertical
  * planes of unbounded height and blockers are extruded likewise; in a 3-D scene every point has
@@ -15,9 +15,13 @@
  *   in the plane and two in-plane unit axes), `polygons` Float64Array of [u, v] pairs of every
  *   wall's vertices in that frame, wall w at pairs polygonStart[w] .. polygonStart[w + 1] - 1,
  *   `bounds` Float64Array(4 W) [uMin, uMax, vMin, vMax];
- * - 2-D walls: `segments` Float64Array(5 W): [ax, ay, dx, dy, length], (dx, dy) the unit direction.
+ * - 2-D walls: `segments` Float64Array(5 W): [ax, ay, dx, dy, length], (dx, dy) the unit direction;
+ * - every wall: `vertices` Float64Array of xyz (2-D: the two ends at z = 0), wall w's at
+ *   vertexStart[w] .. vertexStart[w + 1] - 1; `bvh` a bounding volume hierarchy over the walls'
+ *   boxes (2-D walls unbounded in z), used by every segment-against-walls query.
  */
 import type { Vec3 } from '../vec3.js';
+import { Bvh } from './bvh.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
 /**
@@ -37,6 +41,8 @@ export interface Wall {
   material?: MaterialSpec;
   /** A fixed reflection loss in dB (>= 0) replacing the Fresnel coefficients. */
   reflectionLossDb?: number;
+  /** Thickness in metres (> 0): the wall lets waves through as an ITU-R P.2040 slab of its material (slab.ts); without it the wall is opaque. */
+  thicknessM?: number;
 }
 
 /**
@@ -80,7 +86,7 @@ export interface CylinderBlocker {
 export type Blocker = BoxBlocker | CylinderBlocker;
 
 /**
- * The scene objects traced into paths, with the tracer's settings (the `scene` key of design.md).
+ * The scene objects traced into paths, with the tracer's settings (the `scene` key of a scenario file).
  * @example const street: Scene = { walls: [{ vertices: [[0, 10], [50, 10]] }, { vertices: [[0, -10], [50, -10]] }], maxReflectionOrder: 1 };
  */
 export interface Scene {
@@ -97,6 +103,8 @@ export interface Scene {
   dynamicRangeDb?: number;
   /** Specific gas attenuation in dB/km applied over each unfolded length (default 0). */
   gasAttenuationDbPerKm?: number;
+  /** Edge diffraction by the UTD at the wedges of the walls (edges.ts, diffraction.ts): single, and with one reflection when maxReflectionOrder >= 1 (default false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -207,6 +215,11 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
           if (typeof g === 'string') err(`${wp}.vertices`, g);
         }
       }
+      if (wall.thicknessM !== undefined) {
+        if (!(typeof wall.thicknessM === 'number' && Number.isFinite(wall.thicknessM) && wall.thicknessM > 0)) err(`${wp}.thicknessM`, `must be a finite number > 0 (m), got ${fmt(wall.thicknessM)}`);
+        else if (wall.reflectionLossDb !== undefined) err(`${wp}.thicknessM`, 'a wall with reflectionLossDb has no permittivity to transmit through; give a material instead');
+        else if (wall.material === 'metal') err(`${wp}.thicknessM`, 'a metal wall (a perfect conductor) transmits nothing; leave thicknessM out');
+      }
       if (wall.reflectionLossDb !== undefined && !(typeof wall.reflectionLossDb === 'number' && Number.isFinite(wall.reflectionLossDb) && wall.reflectionLossDb >= 0)) {
         err(`${wp}.reflectionLossDb`, `must be a finite number >= 0 (dB), got ${fmt(wall.reflectionLossDb)}`);
       }
@@ -268,6 +281,8 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (scene.gasAttenuationDbPerKm !== undefined && !(typeof scene.gasAttenuationDbPerKm === 'number' && Number.isFinite(scene.gasAttenuationDbPerKm) && scene.gasAttenuationDbPerKm >= 0)) {
     err(`${sp}.gasAttenuationDbPerKm`, `must be a finite number >= 0 (dB/km), got ${fmt(scene.gasAttenuationDbPerKm)}`);
   }
+
+  if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean') err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
@@ -431,7 +446,28 @@ export class PreparedScene {
   readonly blockerSpheres: Float64Array;
   readonly lineOfSight: boolean;
   readonly maxReflectionOrder: number;
+  /** 1 for a wall with `thicknessM` (waves pass through it, slab.ts), 0 for an opaque one. */
+  readonly transmissive: Uint8Array;
+  /** True when any wall is transmissive. */
+  readonly hasTransmission: boolean;
+  /** Every wall's vertices, xyz (2-D: the two ends at z = 0). */
+  readonly vertices: Float64Array;
+  /** First vertex index of wall w, length W + 1. */
+  readonly vertexStart: Int32Array;
+  /** Bounding volume hierarchy over the walls' boxes (see bvh.ts). */
+  readonly bvh: Bvh;
+  /** 3-D: 1 per wall whose polygon is convex (every triangle), else 0; 2-D: all 1. */
+  readonly convex: Uint8Array;
+  /** Most vertices of one wall. */
+  readonly maxWallVertices: number;
+  /** Padding of the boxes in metres: 1e-8 times max(1, largest coordinate), so rounding never loses a hit. */
+  readonly padM: number;
   private readonly surfaceCache = new Map<number, ResolvedSurface[]>();
+  // the segment of the running segmentHitsWall query, read by its long-lived visitor (no closure per query);
+  // transmissive walls (thicknessM) let the segment through and are accounted by segmentTransmissions
+  private qax = 0; private qay = 0; private qaz = 0; private qbx = 0; private qby = 0; private qbz = 0;
+  private qSkipA = -1; private qSkipB = -1;
+  private readonly crossVisitor = (w: number): boolean => w !== this.qSkipA && w !== this.qSkipB && this.transmissive[w] !== 1 && this.segmentCrossesWall(w, this.qax, this.qay, this.qaz, this.qbx, this.qby, this.qbz);
 
   /** Use `prepareScene()`; the constructor trusts a validated scene. */
   constructor(scene: Scene, is2D: boolean) {
@@ -464,6 +500,41 @@ export class PreparedScene {
     });
     this.polygonStart[W] = uvAll.length / 2;
     this.polygons = Float64Array.from(uvAll);
+    this.vertexStart = new Int32Array(W + 1);
+    let nv = 0;
+    walls.forEach((wall, w) => { this.vertexStart[w] = nv; nv += wall.vertices.length; });
+    this.vertexStart[W] = nv;
+    this.vertices = new Float64Array(3 * nv);
+    const boxes = new Float64Array(6 * W);
+    let maxAbs = 1;
+    walls.forEach((wall, w) => {
+      let x0 = Infinity, y0 = Infinity, z0 = is2D ? -Infinity : Infinity, x1 = -Infinity, y1 = -Infinity, z1 = is2D ? Infinity : -Infinity;
+      wall.vertices.forEach((v, j) => {
+        const x = v[0]!, y = v[1]!, z = is2D ? 0 : v[2]!;
+        this.vertices.set([x, y, z], 3 * (this.vertexStart[w]! + j));
+        x0 = Math.min(x0, x); x1 = Math.max(x1, x); y0 = Math.min(y0, y); y1 = Math.max(y1, y);
+        if (!is2D) { z0 = Math.min(z0, z); z1 = Math.max(z1, z); }
+        maxAbs = Math.max(maxAbs, Math.abs(x), Math.abs(y), Math.abs(z));
+      });
+      boxes.set([x0, y0, z0, x1, y1, z1], 6 * w);
+    });
+    this.padM = 1e-8 * maxAbs;
+    this.bvh = new Bvh(boxes);
+    this.convex = new Uint8Array(W).fill(1);
+    let maxV = 0;
+    for (let w = 0; w < W; w++) {
+      const s = this.polygonStart[w]!, e = this.polygonStart[w + 1]!, n = e - s, poly = this.polygons;
+      maxV = Math.max(maxV, walls[w]!.vertices.length);
+      if (is2D) continue;
+      let pos = 0, neg = 0;
+      for (let i = 0; i < n; i++) {
+        const a = s + i, b = s + ((i + 1) % n), c = s + ((i + 2) % n);
+        const cr = (poly[2 * b]! - poly[2 * a]!) * (poly[2 * c + 1]! - poly[2 * b + 1]!) - (poly[2 * b + 1]! - poly[2 * a + 1]!) * (poly[2 * c]! - poly[2 * b]!);
+        if (cr > 0) pos++; else if (cr < 0) neg++;
+      }
+      this.convex[w] = pos === 0 || neg === 0 ? 1 : 0;
+    }
+    this.maxWallVertices = maxV;
     const blockers = scene.blockers ?? [];
     this.blockerSpheres = new Float64Array(4 * blockers.length);
     this.blockerPoints = blockers.map((b, i) => {
@@ -477,6 +548,8 @@ export class PreparedScene {
       this.blockerSpheres.set([cx, cy, is2D ? 0 : cz, r], 4 * i);
       return pts;
     });
+    this.transmissive = Uint8Array.from(walls, (w) => (w.thicknessM !== undefined ? 1 : 0));
+    this.hasTransmission = this.transmissive.includes(1);
     this.lineOfSight = scene.lineOfSight ?? true;
     this.maxReflectionOrder = scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
   }
@@ -549,30 +622,67 @@ export class PreparedScene {
   }
 
   /**
-   * True when the open segment a -> b crosses any wall other than `skipA` and `skipB` (use -1 for
-   * none). Grazing along a wall's plane does not count as crossing it.
+   * True when the open segment a -> b crosses any opaque wall other than `skipA` and `skipB` (use
+   * -1 for none); walls with `thicknessM` let it through (see `segmentTransmissions`). Grazing
+   * along a wall's plane does not count as crossing it.
    * @example
    * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
    * [ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1), ps.segmentHitsWall(0.2, 0.8, 1, 0.2, 0.8, -1, -1, -1)] // [true, false]: only the first crosses the triangle
    */
   segmentHitsWall(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number): boolean {
+    this.qax = ax; this.qay = ay; this.qaz = az; this.qbx = bx; this.qby = by; this.qbz = bz;
+    this.qSkipA = skipA; this.qSkipB = skipB;
+    return this.bvh.forEachOnSegment(ax, ay, az, bx, by, bz, this.crossVisitor, this.padM);
+  }
+
+  /**
+   * True when the open segment a -> b crosses wall w (the test of segmentHitsWall for one wall).
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] }); // one triangle in the plane z = 0
+   * ps.segmentCrossesWall(0, 0.8, 0.2, 1, 0.8, 0.2, -1) // true
+   */
+  segmentCrossesWall(w: number, ax: number, ay: number, az: number, bx: number, by: number, bz: number): boolean {
     const pl = this.planes;
-    const dx = bx - ax, dy = by - ay, dz = bz - az;
     const eps = 1e-9;
-    for (let w = 0; w < this.wallCount; w++) {
-      if (w === skipA || w === skipB) continue;
+    const o = 4 * w;
+    const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
+    const fa = nx * ax + ny * ay + nz * az - d;
+    const fb = nx * bx + ny * by + nz * bz - d;
+    if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0)) return false; // both ends on one side
+    const den = fa - fb;
+    if (Math.abs(den) < 1e-15) return false; // in the plane: grazing
+    const t = fa / den;
+    if (t <= eps || t >= 1 - eps) return false;
+    return this.insideWall(w, ax + t * (bx - ax), ay + t * (by - ay), az + t * (bz - az), 0);
+  }
+
+  /**
+   * The transmissive walls (other than `skipA`, `skipB`) the open segment a -> b passes through,
+   * in order from a: [wall, t] pairs, t the fraction of the way (or, with `only`, the crossings of
+   * those walls' planes without the polygon test, for retracing).
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[5, -5], [5, 5]], material: 'glass', thicknessM: 0.01 }] });
+   * ps.segmentTransmissions(0, 0, 0, 10, 0, 0, -1, -1) // [[0, 0.5]]
+   */
+  segmentTransmissions(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number, only?: readonly number[]): [number, number][] {
+    const out: [number, number][] = [];
+    if (!this.hasTransmission) return out;
+    const pl = this.planes, eps = 1e-9;
+    const dx = bx - ax, dy = by - ay, dz = bz - az;
+    const list = only ?? Array.from({ length: this.wallCount }, (_, w) => w);
+    for (const w of list) {
+      if (only === undefined && (w === skipA || w === skipB || this.transmissive[w] !== 1)) continue;
       const o = 4 * w;
-      const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
-      const fa = nx * ax + ny * ay + nz * az - d;
-      const fb = nx * bx + ny * by + nz * bz - d;
-      if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0)) continue; // both ends on one side
+      const fa = pl[o]! * ax + pl[o + 1]! * ay + pl[o + 2]! * az - pl[o + 3]!;
+      const fb = pl[o]! * bx + pl[o + 1]! * by + pl[o + 2]! * bz - pl[o + 3]!;
       const den = fa - fb;
-      if (Math.abs(den) < 1e-15) continue; // in the plane: grazing
+      if (Math.abs(den) < 1e-15) { if (only !== undefined) out.push([w, 0.5]); continue; }
       const t = fa / den;
-      if (t <= eps || t >= 1 - eps) continue;
-      if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) return true;
+      if (only !== undefined) { out.push([w, Math.min(1, Math.max(0, t))]); continue; }
+      if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0) || t <= eps || t >= 1 - eps) continue;
+      if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) out.push([w, t]);
     }
-    return false;
+    return out.sort((p, q) => p[1] - q[1]);
   }
 }
 

@@ -1,7 +1,7 @@
 /**
  * The path tracer: line of sight, image-method specular reflections up to `maxReflectionOrder`
  * and single-bounce point scatterers, with Fresnel coefficients, polarisation, blocker losses,
- * optional gas absorption, delays, angles and geometric Doppler (design.md conventions).
+ * optional gas absorption, delays, angles and geometric Doppler (docs/conventions.md).
  *
  * Image method: for every sequence of walls w1..wK (no wall twice in a row) the transmitter is
  * mirrored through w1, then w2, ... (images I1..IK); from the receiver the line towards IK meets
@@ -28,8 +28,13 @@ import type { Vec3 } from '../vec3.js';
 import { gasAmplitudeFactor } from './atmosphere.js';
 import { segmentBlockageDb } from './blockage.js';
 import type { Complex } from './complex.js';
+import { diffractField, diffractionPoints, traceDiffractions, wedgeDiffraction, type DiffractionStep } from './diffraction.js';
+import { sceneWedges } from './edges.js';
+import type { DiffractionCoefficients } from './utd.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
+import { slabCoefficients } from './slab.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
+import { Occlusion } from './occlusion.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
 /**
@@ -58,6 +63,8 @@ export interface TraceOptions {
   gasAttenuationDbPerKm?: number;
   /** Keep paths whose amplitude is exactly zero (orthogonal polarisations); default false, they are dropped. */
   keepNullPaths?: boolean;
+  /** Edge diffraction (UTD), single and combined with one reflection when maxReflectionOrder >= 1; default the scene's `diffraction` (false). */
+  diffraction?: boolean;
 }
 
 /**
@@ -65,9 +72,13 @@ export interface TraceOptions {
  * @example const third: SceneObjectRef = { kind: 'wall', index: 3 }; // scene.walls[3]
  */
 export interface SceneObjectRef {
-  /** "wall" (scene.walls), "scatterer" (scene.scatterers) or "blocker" (scene.blockers). */
-  kind: 'wall' | 'scatterer' | 'blocker';
-  /** Index into that list, from 0. */
+  /** "wall" (scene.walls), "scatterer" (scene.scatterers), "blocker" (scene.blockers) or "edge" (a diffracting edge of wall `index`, edges.ts). */
+  kind: 'wall' | 'scatterer' | 'blocker' | 'edge';
+  /** Edges, 2-D: the segment end (vertex 0 or 1) of wall `index`; the label is "walls[i].vertices[j]". */
+  vertex?: number;
+  /** Edges, 3-D: the polygon edge from vertex `edge` to the next one of wall `index`; the label is "walls[i].edges[j]". */
+  edge?: number;
+  /** Index into that list, from 0 (edges: the lowest-numbered wall holding the edge). */
   index: number;
 }
 
@@ -78,15 +89,21 @@ export interface SceneObjectRef {
  * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: { kind: 'wall', index: 0 }, point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
  */
 export interface PathInteraction {
-  type: 'reflection' | 'scatter';
-  /** The wall (reflections) or scatterer (scattering), by its index in the scene's list. */
+  type: 'reflection' | 'scatter' | 'diffraction' | 'transmission';
+  /** The wall (reflections), scatterer (scattering) or edge (diffraction: `kind: 'edge'`, see SceneObjectRef). */
   object: SceneObjectRef;
   /** Where it happens, metres (global). */
   point: Vec3;
-  /** Reflections: angle of incidence from the wall's normal, degrees. */
+  /** Reflections and transmissions: angle of incidence from the wall's normal, degrees. */
   incidenceDeg?: number;
-  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts). */
+  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts); transmissions: the slab's TE and TM transmission coefficients (slab.ts). */
   coefficients?: FresnelCoefficients;
+  /** Diffractions: the walls forming the wedge, face 0 then face n (the same wall for a free edge). */
+  faces?: [SceneObjectRef, SceneObjectRef];
+  /** Diffractions: the wedge's exterior angle n pi, degrees (360 for a free edge). */
+  exteriorAngleDeg?: number;
+  /** Diffractions: the UTD soft and hard coefficients used, sqrt(m), and the side of each boundary as traced (utd.ts). */
+  diffraction?: DiffractionCoefficients;
 }
 
 /**
@@ -96,15 +113,16 @@ export interface PathInteraction {
 export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
 
 /**
- * A traced path (all angles in degrees, design.md convention; lengths m; times s).
+ * A traced path (all angles in degrees, docs/conventions.md; lengths m; times s).
  * @example
  * const [los]: TracedPath[] = traceScene({}, { position: [0, 0, 1] }, { position: [10, 10, 1] }, 28e9).paths;
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
  */
 export interface TracedPath {
-  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]". */
+  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]", "D:walls[0].vertices[1]", "R:walls[2]>D:walls[0].edges[1]". */
   id: string;
-  kind: 'los' | 'reflection' | 'scatter';
+  /** `diffraction` for every path with an edge diffraction (alone or with a reflection); `transmission` for a direct path through walls with thicknessM (transmissions are named in the interactions of every kind). */
+  kind: 'los' | 'reflection' | 'scatter' | 'diffraction' | 'transmission';
   interactions: PathInteraction[];
   /** Unfolded length, m. */
   lengthM: number;
@@ -156,19 +174,21 @@ const ZERO: Readonly<Vec3> = [0, 0, 0];
 
 // The text forms below are what users see (path ids, `paths --json`, path tables): they are
 // rendered from the structured records and never parsed back.
-const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers' };
-const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S' };
+const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers', edge: 'walls' };
+const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S', diffraction: 'D', transmission: 'T' };
 
 /**
  * The scene object as the scene file names it: its list and index.
- * @example sceneObjectLabel({ kind: 'scatterer', index: 2 }) // 'scatterers[2]'
+ * @example [sceneObjectLabel({ kind: 'scatterer', index: 2 }), sceneObjectLabel({ kind: 'edge', index: 1, vertex: 0 })] // ['scatterers[2]', 'walls[1].vertices[0]']
  */
 export function sceneObjectLabel(ref: Readonly<SceneObjectRef>): string {
-  return `${LIST_NAME[ref.kind]}[${ref.index}]`;
+  const base = `${LIST_NAME[ref.kind]}[${ref.index}]`;
+  if (ref.kind !== 'edge') return base;
+  return ref.vertex !== undefined ? `${base}.vertices[${ref.vertex}]` : `${base}.edges[${ref.edge ?? 0}]`;
 }
 
 /**
- * One interaction as it appears in a path id and a path table: R (reflection) or S (scattering), a colon, the object.
+ * One interaction as it appears in a path id and a path table: R (reflection), S (scattering) or D (diffraction), a colon, the object.
  * @example interactionLabel({ type: 'reflection', object: { kind: 'wall', index: 3 } }) // 'R:walls[3]'
  */
 export function interactionLabel(interaction: Readonly<Pick<PathInteraction, 'type' | 'object'>>): string {
@@ -211,12 +231,15 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
     if (ps.segmentHitsWall(p[0], p[1], p[2], r[0], r[1], r[2], -1, -1)) return;
     raw.push(ctx.build('scatter', [i], [p]));
   });
+  if (settings.diffraction) {
+    traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => { raw.push(ctx.build('diffraction', steps.map((s) => s.index), points, steps)); });
+  }
   return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb, options.keepNullPaths ?? false), warnings };
 }
 
 /**
  * Recompute paths from their fixed interaction lists for new terminal positions and velocities
- * (issue 3 item 4): which paths exist and their Fresnel, polarisation and blocker factors stay as
+ * (between geometry updates): which paths exist and their Fresnel, polarisation and blocker factors stay as
  * traced at the last geometry update; lengths, delays, reflection points, angles, Doppler,
  * spreading, carrier phase and gas absorption follow the current positions. The reflection points
  * are found from the images of the new transmitter position through the same walls (without the
@@ -233,7 +256,7 @@ export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx
   return paths.map((p) => ctx.refresh(p));
 }
 
-interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number }
+interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number; diffraction: boolean }
 
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   const s = ps.scene;
@@ -245,7 +268,7 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   if (!(dr > 0)) throw new RangeError(`traceScene(): dynamicRangeDb must be > 0, got ${dr}`);
   const gas = o.gasAttenuationDbPerKm ?? s.gasAttenuationDbPerKm ?? 0;
   if (!Number.isFinite(gas) || gas < 0) throw new RangeError(`traceScene(): gasAttenuationDbPerKm must be a finite number >= 0, got ${gas}`);
-  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas };
+  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas, diffraction: o.diffraction ?? s.diffraction ?? false };
 }
 
 /**
@@ -309,21 +332,174 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
     emit(walls, points);
   };
 
+  // Beam pruning (exact: it only skips sequences tryPath would refuse). Every valid path's
+  // reflection point P(k+1) lies in beam k: beyond wall w(k) as seen from image I(k), inside the
+  // cone from I(k) through w(k)'s bounding rectangle, and (mirrored through w(k)) in beam k - 1,
+  // since P(k+1) is on the ray from I(k) through P(k). A wall wholly outside one of the beam's
+  // half-spaces cannot hold P(k+1), so neither it nor any sequence continuing from it is tried.
+  // Small scenes: the exhaustive enumeration is cheaper than building beams.
+  const prune = W >= PRUNE_MIN_WALLS;
+  const perLevel = ps.is2D ? 3 : 1 + Math.max(4, ps.maxWallVertices);
+  const slot = 4 * perLevel * maxOrder;
+  const beams = new Float64Array(prune ? slot * (maxOrder + 1) : 0);
+  const beamCount = new Int32Array(maxOrder + 1);
+  const cand = new Int32Array(prune ? W * (maxOrder + 1) : W);
+  for (let w = 0; w < W; w++) cand[w] = w;
+  const margin = 100 * ps.padM; // conservative: reflection points may sit 1e-9 m outside a polygon
+  const grow = 1e-6 * (ps.padM / 1e-8); // the cone's polygon widened by 1e-6 m per metre of scene size
+  const verts = ps.vertices, vStart = ps.vertexStart;
+  const fr = ps.frames, bd = ps.bounds, sg = ps.segments;
+
+  /**
+   * Beam of depth k + 1 (image I at images[3 (k + 1)], through wall w, source side sign s): the
+   * half-space beyond w, the cone from I through w (its own edges when convex, else its bounding
+   * rectangle; widened by `grow`), then the parent's half-spaces mirrored through w (the most
+   * selective first, for the hierarchy's early outs).
+   */
+  let bDst = 0, bCount = 0, bix = 0, biy = 0, biz = 0; // the beam being made (shared with addPlane)
+  /** The plane through I and the points a, b (relative to I), oriented to hold (cx, cy, cz). */
+  const addPlane = (pxa: number, pya: number, pza: number, pxb: number, pyb: number, pzb: number, cx: number, cy: number, cz: number): void => {
+    let nx = pya * pzb - pza * pyb, ny = pza * pxb - pxa * pzb, nz = pxa * pyb - pya * pxb;
+    const l = Math.hypot(nx, ny, nz);
+    if (!(l > 1e-12 * Math.hypot(pxa, pya, pza) * Math.hypot(pxb, pyb, pzb))) return; // degenerate: no plane (still conservative)
+    nx /= l; ny /= l; nz /= l;
+    if (nx * cx + ny * cy + nz * cz < 0) { nx = -nx; ny = -ny; nz = -nz; }
+    const q = bDst + 4 * bCount++;
+    beams[q] = nx; beams[q + 1] = ny; beams[q + 2] = nz; beams[q + 3] = nx * bix + ny * biy + nz * biz;
+  };
+  const makeBeam = (k: number, w: number, s: number): void => {
+    const src = slot * k, dst = slot * (k + 1);
+    const o = 4 * w, mx = pl[o]!, my = pl[o + 1]!, mz = pl[o + 2]!, e = pl[o + 3]!;
+    let c = 0;
+    let b = dst + 4 * c++; // beyond the wall: the source's side
+    beams[b] = s * mx; beams[b + 1] = s * my; beams[b + 2] = s * mz; beams[b + 3] = s * e;
+    const ix = images[3 * k + 3]!, iy = images[3 * k + 4]!, iz = images[3 * k + 5]!;
+    bDst = dst; bCount = c; bix = ix; biy = iy; biz = iz;
+    if (ps.is2D) {
+      const so = 5 * w, ax = sg[so]!, ay = sg[so + 1]!, ux = sg[so + 2]!, uy = sg[so + 3]!, len = sg[so + 4]!;
+      const cx = ax + 0.5 * len * ux - ix, cy = ay + 0.5 * len * uy - iy;
+      // vertical planes through I and each end (pushed out by grow along the wall)
+      addPlane(ax - grow * ux - ix, ay - grow * uy - iy, 0, ax - grow * ux - ix, ay - grow * uy - iy, 1, cx, cy, 0);
+      addPlane(ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 0, ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 1, cx, cy, 0);
+    } else if (ps.convex[w] === 1) {
+      const f9 = 9 * w, v0 = vStart[w]!, v1 = vStart[w + 1]!;
+      const ox = fr[f9]!, oy = fr[f9 + 1]!, oz = fr[f9 + 2]!; // the vertices' centroid: inside a convex polygon
+      const cx = ox - ix, cy = oy - iy, cz = oz - iz;
+      for (let v = v0; v < v1; v++) {
+        const u = v + 1 < v1 ? v + 1 : v0;
+        const ax = verts[3 * v]!, ay = verts[3 * v + 1]!, az = verts[3 * v + 2]!;
+        const ex = verts[3 * u]! - ax, ey = verts[3 * u + 1]! - ay, ez = verts[3 * u + 2]! - az;
+        // in-plane outward normal of the edge, to push it out by grow
+        let qx = ey * mz - ez * my, qy = ez * mx - ex * mz, qz = ex * my - ey * mx;
+        const ql = Math.hypot(qx, qy, qz);
+        if (!(ql > 0)) continue;
+        const sgn = qx * (ox - ax) + qy * (oy - ay) + qz * (oz - az) > 0 ? -grow / ql : grow / ql;
+        qx *= sgn; qy *= sgn; qz *= sgn;
+        addPlane(ax + qx - ix, ay + qy - iy, az + qz - iz, ax + ex + qx - ix, ay + ey + qy - iy, az + ez + qz - iz, cx, cy, cz);
+      }
+    } else {
+      const f9 = 9 * w, b4 = 4 * w;
+      const u0 = bd[b4]! - grow, u1 = bd[b4 + 1]! + grow, v0 = bd[b4 + 2]! - grow, v1 = bd[b4 + 3]! + grow;
+      const ox = fr[f9]!, oy = fr[f9 + 1]!, oz = fr[f9 + 2]!;
+      const e1x = fr[f9 + 3]!, e1y = fr[f9 + 4]!, e1z = fr[f9 + 5]!, e2x = fr[f9 + 6]!, e2y = fr[f9 + 7]!, e2z = fr[f9 + 8]!;
+      const um = 0.5 * (u0 + u1), vm = 0.5 * (v0 + v1);
+      const cx = ox + um * e1x + vm * e2x - ix, cy = oy + um * e1y + vm * e2y - iy, cz = oz + um * e1z + vm * e2z - iz;
+      for (let edge = 0; edge < 4; edge++) {
+        const ua = edge === 0 || edge === 3 ? u0 : u1, va = edge < 2 ? v0 : v1;
+        const ub = edge < 2 ? u1 : u0, vb = edge === 0 || edge === 3 ? v0 : v1;
+        addPlane(ox + ua * e1x + va * e2x - ix, oy + ua * e1y + va * e2y - iy, oz + ua * e1z + va * e2z - iz,
+          ox + ub * e1x + vb * e2x - ix, oy + ub * e1y + vb * e2y - iy, oz + ub * e1z + vb * e2z - iz, cx, cy, cz);
+      }
+    }
+    c = bCount;
+    for (let q = 0; q < beamCount[k]!; q++) { // the parent's half-spaces mirrored through w
+      const a = src + 4 * q;
+      const nx = beams[a]!, ny = beams[a + 1]!, nz = beams[a + 2]!, d = beams[a + 3]!;
+      const nm = nx * mx + ny * my + nz * mz;
+      b = dst + 4 * c++;
+      beams[b] = nx - 2 * nm * mx; beams[b + 1] = ny - 2 * nm * my; beams[b + 2] = nz - 2 * nm * mz; beams[b + 3] = d - 2 * e * nm;
+    }
+    beamCount[k + 1] = c;
+  };
+
+  /** True when some vertex of wall w is inside (within margin) every half-space of beam k. */
+  const wallMeetsBeam = (k: number, w: number): boolean => {
+    const base = slot * k;
+    const v0 = vStart[w]!, v1 = vStart[w + 1]!;
+    for (let q = 0; q < beamCount[k]!; q++) {
+      const a = base + 4 * q;
+      const nx = beams[a]!, ny = beams[a + 1]!, nz = beams[a + 2]!, d = beams[a + 3]! - margin;
+      let inside = false;
+      for (let v = v0; v < v1; v++) {
+        if (nx * verts[3 * v]! + ny * verts[3 * v + 1]! + nz * verts[3 * v + 2]! >= d) { inside = true; break; }
+      }
+      if (!inside) return false;
+    }
+    return true;
+  };
+
+  // Occlusion pruning (3-D, exact in the same sense): a first wall hidden from the transmitter, a
+  // wall hidden from the previous one, or a last wall hidden from the receiver, by one convex wall.
+  const occ = ps.is2D || W > OCCLUSION_MAX_WALLS || W < OCCLUSION_MIN_WALLS ? undefined : occlusionOf(ps);
+  const txSeen = new Int8Array(W), rxSeen = new Int8Array(W); // 0 unknown, 1 visible, 2 hidden
+  const hiddenFrom = (seen: Int8Array, w: number, p: Readonly<Vec3>): boolean => {
+    if (occ === undefined) return false;
+    if (seen[w] === 0) seen[w] = occ.wallHiddenFromPoint(w, p[0], p[1], p[2]) ? 2 : 1;
+    return seen[w] === 2;
+  };
+
+  // The last wall of a sequence must be visible from the receiver: with occlusion, the leaves are
+  // drawn from that list (built once per trace) instead of the beam query.
+  let rxList: Int32Array | undefined, rxCount = 0;
+  const leafList = (): Int32Array => {
+    if (rxList === undefined) {
+      rxList = new Int32Array(W);
+      for (let w = 0; w < W; w++) if (!hiddenFrom(rxSeen, w, rx)) rxList[rxCount++] = w;
+    }
+    return rxList;
+  };
+
   const descend = (depth: number): void => {
     const px = images[3 * depth]!, py = images[3 * depth + 1]!, pz = images[3 * depth + 2]!;
-    for (let w = 0; w < W; w++) {
-      if (depth > 0 && seq[depth - 1] === w) continue;
+    const leaves = depth + 1 === maxOrder;
+    let list: Int32Array = cand, base = W * depth, n = W;
+    if (!prune) base = 0; // every wall, as listed in slot 0
+    else if (leaves && occ !== undefined) { list = leafList(); base = 0; n = rxCount; }
+    else if (depth > 0) n = ps.bvh.collectInHalfSpaces(beams, beamCount[depth]!, margin, cand, base, (slot * depth) / 4);
+    for (let i = 0; i < n; i++) {
+      const w = list[base + i]!;
+      if (depth > 0) {
+        if (seq[depth - 1] === w) continue;
+        // leaves: tryPath's own first test is cheaper than the beam and pair tests
+        if (prune && !leaves && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
+      } else if (hiddenFrom(txSeen, w, tx)) continue;
       const o = 4 * w;
       const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!;
       const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
       if (f === 0) continue; // the source lies in the plane: no image
       images[3 * depth + 3] = px - 2 * f * nx; images[3 * depth + 4] = py - 2 * f * ny; images[3 * depth + 5] = pz - 2 * f * nz;
       seq[depth] = w;
-      tryPath(depth + 1);
-      if (depth + 1 < maxOrder) descend(depth + 1);
+      if (!hiddenFrom(rxSeen, w, rx)) tryPath(depth + 1);
+      if (!leaves) {
+        if (prune) makeBeam(depth, w, f > 0 ? 1 : -1);
+        descend(depth + 1);
+      }
     }
   };
   descend(0);
+}
+
+/** Largest wall count pruned by occlusion (above it the per-trace visibility tests cost more than they save). */
+const OCCLUSION_MAX_WALLS = 4096;
+/** Fewest walls for beam pruning (measured: below it the 20-wall room traces faster without). */
+const PRUNE_MIN_WALLS = 32;
+/** Fewest walls pruned by occlusion (below it the exhaustive tests are cheaper than the visibility tests). */
+const OCCLUSION_MIN_WALLS = 32;
+const occlusionCache = new WeakMap<PreparedScene, Occlusion>();
+function occlusionOf(ps: PreparedScene): Occlusion {
+  let o = occlusionCache.get(ps);
+  if (o === undefined) { o = new Occlusion(ps); occlusionCache.set(ps, o); }
+  return o;
 }
 
 /** Per-trace constants and the construction of path objects (allocation is fine here: valid paths only). */
@@ -352,11 +528,37 @@ class TraceContext {
     this.rxVel = rx.velocity ?? ZERO;
   }
 
-  /** A full path from its interaction list (wall or scatterer indices) and interaction points. */
-  build(kind: TracedPath['kind'], objects: number[], points: Vec3[]): TracedPath {
+  /** A full path from its interaction list (wall, scatterer or wedge indices, with `steps` for diffracted paths) and interaction points. */
+  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[], sides?: readonly number[], throughWalls?: readonly (readonly number[])[]): TracedPath {
     const ps = this.ps;
-    const chain: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
-    const surfaces = kind === 'reflection' ? ps.surfacesAt(this.carrierHz) : [];
+    const main: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
+    const mainTypes: PathInteraction['type'][] = objects.map((_, k) => (steps !== undefined ? steps[k]!.type : kind === 'scatter' ? 'scatter' : 'reflection'));
+    // Walls with thicknessM crossed by a segment become transmission interactions on it
+    // (`throughWalls` per segment when retracing: the same walls, found by their planes).
+    let chain = main, types = mainTypes, objs = objects;
+    if (ps.hasTransmission) {
+      chain = [main[0]!]; types = []; objs = [];
+      for (let k = 0; k + 1 < main.length; k++) {
+        const a = main[k]!, b = main[k + 1]!;
+        const skipA = k > 0 && mainTypes[k - 1] === 'reflection' ? objects[k - 1]! : -1, skipB = k < objects.length && mainTypes[k] === 'reflection' ? objects[k]! : -1;
+        for (const [w, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], skipA, skipB, throughWalls?.[k])) {
+          chain.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
+          types.push('transmission'); objs.push(w);
+        }
+        if (k < objects.length) { chain.push(b); types.push(mainTypes[k]!); objs.push(objects[k]!); }
+      }
+      chain.push(main[main.length - 1]!);
+      if (kind === 'los' && types.length > 0) kind = 'transmission';
+    }
+    const surfaces = ps.surfacesAt(this.carrierHz);
+    const wedges = kind === 'diffraction' ? sceneWedges(ps) : undefined;
+    let diffractionAt = -1, lengthBefore = 0, lengthAfter = 0;
+    if (steps !== undefined) {
+      diffractionAt = types.indexOf('diffraction') + 1;
+      for (let k = 0; k + 1 < chain.length; k++) {
+        if (k < diffractionAt) lengthBefore += dist(chain[k]!, chain[k + 1]!); else lengthAfter += dist(chain[k]!, chain[k + 1]!);
+      }
+    }
     const interactions: PathInteraction[] = [];
     // Propagate the departure basis vectors through the interactions.
     const dep = unit(chain[0]!, chain[1]!);
@@ -365,8 +567,25 @@ class TraceContext {
     const eP = Float64Array.of(basis[3]!, basis[4]!, basis[5]!, 0, 0, 0);
     for (let k = 1; k < chain.length - 1; k++) {
       const kIn = unit(chain[k - 1]!, chain[k]!), kOut = unit(chain[k]!, chain[k + 1]!);
-      const o = objects[k - 1]!;
-      if (kind === 'reflection') {
+      const o = objs[k - 1]!, type = types[k - 1]!;
+      if (type === 'transmission') {
+        const pl = ps.planes;
+        const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
+        const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
+        const surface = surfaces[o]!.surface;
+        const eta: Complex = surface.kind === 'dielectric' ? surface.eta : [1, 0];
+        const c = slabCoefficients(eta, ps.scene.walls![o]!.thicknessM!, this.lambda, cosT).transmission;
+        reflectField(eT, eT, kIn, kIn, n, c); // the wave leaves the slab along its incident direction
+        reflectField(eP, eP, kIn, kIn, n, c);
+        interactions.push({ type: 'transmission', object: { kind: 'wall', index: o }, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
+      } else if (k === diffractionAt && wedges !== undefined) {
+        const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz, sides);
+        diffractField(eT, eT, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        diffractField(eP, eP, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
+        const f = wedges.faces;
+        const object: SceneObjectRef = ps.is2D ? { kind: 'edge', index: wedges.wall[o]!, vertex: wedges.part[o]! } : { kind: 'edge', index: wedges.wall[o]!, edge: wedges.part[o]! };
+        interactions.push({ type: 'diffraction', object, point: chain[k]!, faces: [{ kind: 'wall', index: f[2 * o]! }, { kind: 'wall', index: f[2 * o + 1]! }], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard, sides: sides !== undefined ? [sides[0]!, sides[1]!, sides[2]!, sides[3]!] : d.sides } });
+      } else if (type === 'reflection') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
         const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
@@ -413,9 +632,20 @@ class TraceContext {
   refresh(p: TracedPath): TracedPath {
     const ps = this.ps;
     const tx = vec(this.tx.position), rx = vec(this.rx.position);
+    if (p.kind === 'diffraction') {
+      // The UTD coefficient changes quickly near shadow and reflection boundaries: rebuild it
+      // at the new positions, each boundary term held on the side it had when traced (utd.ts),
+      // as the direct and reflected paths keep their traced set (the blocker loss stays as traced).
+      const steps = diffractionSteps(ps, p);
+      const sides = p.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
+      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps, sides, transmissionsPerSegment(p));
+      if (out.blockageDb !== p.blockageDb) { out.blockageDb = p.blockageDb; this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]); }
+      return out;
+    }
     let points: Vec3[];
+    const mainInteractions = p.interactions.filter((it) => it.type !== 'transmission');
     if (p.kind === 'reflection') {
-      const walls = p.interactions.map(wallIndex);
+      const walls = mainInteractions.map(wallIndex);
       const images: Vec3[] = [tx];
       for (const w of walls) images.push(mirror(ps, w, images[images.length - 1]!));
       points = new Array<Vec3>(walls.length);
@@ -428,7 +658,18 @@ class TraceContext {
         points[k - 1] = q;
       }
     } else {
-      points = p.interactions.map((it) => vec(it.point));
+      points = mainInteractions.map((it) => vec(it.point));
+    }
+    if (mainInteractions.length !== p.interactions.length) {
+      // put the transmission points back on their segments, in their order
+      const perSegment = transmissionsPerSegment(p);
+      const main = [tx, ...points, rx];
+      points = [];
+      for (let k = 0; k + 1 < main.length; k++) {
+        const a = main[k]!, b = main[k + 1]!;
+        for (const [, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], -1, -1, perSegment[k])) points.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
+        if (k + 2 < main.length) points.push(b);
+      }
     }
     const chain = [tx, ...points, rx];
     const out: TracedPath = {
@@ -456,15 +697,31 @@ class TraceContext {
     p.dopplerHz = (v1[0] * p.departure[0] + v1[1] * p.departure[1] + v1[2] * p.departure[2] + v2[0] * p.arrival[0] + v2[1] * p.arrival[1] + v2[2] * p.arrival[2]) / this.lambda;
     let spreading: number;
     if (p.kind === 'scatter') {
-      const o = objectIndex(p.interactions[0]!, 'scatterer');
+      const at = p.interactions.findIndex((it) => it.type === 'scatter');
+      const o = objectIndex(p.interactions[at]!, 'scatterer');
       const rcs = ps.scene.scatterers![o]!.rcsM2;
-      const d1 = dist(chain[0]!, chain[1]!), d2 = dist(chain[1]!, chain[2]!);
+      let d1 = 0;
+      for (let k = 0; k <= at; k++) d1 += dist(chain[k]!, chain[k + 1]!);
+      const d2 = length - d1;
       spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * Math.sqrt(rcs / (4 * Math.PI));
-      p.virtualSource = vec(chain[1]!);
-      p.virtualSink = vec(chain[1]!);
+      p.virtualSource = vec(chain[at + 1]!);
+      p.virtualSink = vec(chain[at + 1]!);
+    } else if (p.kind === 'diffraction') {
+      // lambda / (4 pi) / sqrt(s' s (s' + s)), s' and s unfolded before and after the edge
+      const at = p.interactions.findIndex((it) => it.type === 'diffraction') + 1;
+      let before = 0;
+      for (let k = 0; k < at; k++) before += dist(chain[k]!, chain[k + 1]!);
+      const after = length - before;
+      spreading = this.lambda / (4 * Math.PI * Math.sqrt(before * after * length));
+      // seen from each end, the wave comes from the edge point mirrored through the walls in between
+      let src = vec(chain[at]!), sink = vec(chain[at]!);
+      for (let k = at; k < p.interactions.length; k++) if (p.interactions[k]!.type === 'reflection') src = mirror(ps, wallIndex(p.interactions[k]!), src);
+      for (let k = at - 2; k >= 0; k--) if (p.interactions[k]!.type === 'reflection') sink = mirror(ps, wallIndex(p.interactions[k]!), sink);
+      p.virtualSource = src;
+      p.virtualSink = sink;
     } else {
       spreading = this.lambda / (4 * Math.PI * length);
-      const walls = p.interactions.map(wallIndex);
+      const walls = p.interactions.filter((it) => it.type === 'reflection').map(wallIndex);
       let src = vec(chain[0]!), sink = vec(chain[chain.length - 1]!);
       for (const w of walls) src = mirror(ps, w, src);
       for (let k = walls.length - 1; k >= 0; k--) sink = mirror(ps, walls[k]!, sink);
@@ -527,4 +784,25 @@ function objectIndex(it: PathInteraction, kind: SceneObjectRef['kind']): number 
 
 function wallIndex(it: PathInteraction): number {
   return objectIndex(it, 'wall');
+}
+
+/** The walls a path passes through on each segment between its other interactions. */
+function transmissionsPerSegment(p: TracedPath): number[][] {
+  const out: number[][] = [[]];
+  for (const it of p.interactions) {
+    if (it.type === 'transmission') out[out.length - 1]!.push(wallIndex(it));
+    else out.push([]);
+  }
+  return out;
+}
+
+/** The steps of a diffracted path from its interactions (wedges by their edge's label). */
+function diffractionSteps(ps: PreparedScene, p: TracedPath): DiffractionStep[] {
+  const index = sceneWedges(ps).index;
+  return p.interactions.filter((it) => it.type !== 'transmission').map((it) => {
+    if (it.type === 'reflection') return { type: 'reflection', index: wallIndex(it) };
+    const w = it.object.kind === 'edge' ? index.get(sceneObjectLabel(it.object)) : undefined;
+    if (w === undefined) throw new RangeError(`retracePaths(): the scene has no diffracting edge ${JSON.stringify(it.object)}`);
+    return { type: 'diffraction', index: w };
+  });
 }

@@ -1,22 +1,22 @@
 /**
- * The `pathweave` command line (design.md, "Command line"). Exit codes: 0 done, 1 failure
+ * The `pathweave` command line (docs/conventions.md, "Command line"). Exit codes: 0 done, 1 failure
  * while running, 2 the input or the command line was refused.
  */
-import { RequestError } from '../dataset/generate.js';
 import { InputFileError, printable } from '../formats/read-support.js';
-import { OutputPathError } from '../formats/output-path.js';
-import { ScenarioError, formatProblem } from '../scenario/validate.js';
+// The scenario, dataset and output-path modules are imported when an error is classified (they
+// are loaded already when one of theirs was thrown), so --version and help start without them.
 import { PATHWEAVE_VERSION } from '../version.js';
 import { UsageError } from './args.js';
 import { COMMANDS } from './commands.js';
 import type { Io } from './common.js';
 
-function usage(): string {
+async function usage(): Promise<string> {
+  const commands = await Promise.all(Object.values(COMMANDS).map((load) => load()));
   return [
     `pathweave ${PATHWEAVE_VERSION}: time-varying geometric multipath MIMO channels`,
     '',
     'usage:',
-    ...Object.values(COMMANDS).map((c) => `  ${c.usage}`),
+    ...commands.map((c) => `  ${c.usage}`),
     '  pathweave help | --version',
     '',
     'exit codes: 0 done, 1 failure while running, 2 input or command line refused',
@@ -41,17 +41,20 @@ export async function main(argv: readonly string[], given: Io = defaultIo): Prom
   const [command, ...rest] = argv;
   try {
     if (command === undefined || command === 'help' || command === '--help' || command === '-h') {
-      io.out(usage());
+      io.out(await usage());
       return command === undefined ? 2 : 0;
     }
     if (command === '--version') {
       io.out(PATHWEAVE_VERSION);
       return 0;
     }
-    const c = COMMANDS[command];
-    if (c === undefined) throw new UsageError(`unknown command ${JSON.stringify(command)}; commands are ${Object.keys(COMMANDS).join(', ')}, help`);
-    return await c.run(rest, io);
+    const load = Object.hasOwn(COMMANDS, command) ? COMMANDS[command] : undefined;
+    if (load === undefined) throw new UsageError(`unknown command ${JSON.stringify(command)}; commands are ${Object.keys(COMMANDS).join(', ')}, help`);
+    return await (await load()).run(rest, io);
   } catch (e) {
+    const { ScenarioError, formatProblem } = await import('../scenario/validate.js');
+    const { RequestError } = await import('../dataset/generate.js');
+    const { OutputPathError } = await import('../formats/output-path.js');
     if (e instanceof ScenarioError) {
       io.err(`error: ${e.source}: ${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}`);
       for (const p of e.problems) io.err(`  ${formatProblem(p)}`);
@@ -59,7 +62,7 @@ export async function main(argv: readonly string[], given: Io = defaultIo): Prom
     }
     if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError || e instanceof OutputPathError) {
       io.err(`error: ${e.message}`);
-      if (e instanceof UsageError) io.err('run "pathweave help" for usage');
+      if (e instanceof UsageError) io.err(command !== undefined && COMMANDS[command] !== undefined ? `run "pathweave ${command} --help" for its options` : 'run "pathweave help" for usage');
       return 2;
     }
     io.err(`error: ${e instanceof Error ? e.message : String(e)}`);

@@ -2,7 +2,7 @@
 import { buildScenario, summarizeTraced } from '../scenario/build.js';
 import { pathsJson, pathsTable } from '../scenario/paths.js';
 import { loadScenario } from '../scenario/validate.js';
-import { parseArgs, parseInteger, UsageError } from './args.js';
+import { parseArgs, UsageError } from './args.js';
 import { onePositional, type Command, type Io } from './common.js';
 
 async function run(argv: string[], io: Io): Promise<number> {
@@ -17,8 +17,14 @@ async function run(argv: string[], io: Io): Promise<number> {
   const built = buildScenario(scenario);
   let userIndex = 0;
   if (args.values.user !== undefined) {
-    userIndex = built.users.findIndex((u) => u.id === args.values.user);
-    if (userIndex < 0) userIndex = parseInteger('--user', args.values.user, 0, built.users.length - 1);
+    const ids = built.users.map((u) => u.id);
+    userIndex = ids.indexOf(args.values.user);
+    if (userIndex < 0 || args.values.user === '') {
+      const index = /^\d+$/.test(args.values.user) ? Number(args.values.user) : -1;
+      const named = ids.filter((id) => id !== '');
+      if (!(index >= 0 && index < ids.length)) throw new UsageError(`paths: --user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${ids.length - 1}], got ${JSON.stringify(args.values.user)}`);
+      userIndex = index;
+    }
   }
   const user = built.users[userIndex]!;
   // With clusters the specular paths are listed (each stands for its sub-paths `${id}#k`).
@@ -41,6 +47,6 @@ async function run(argv: string[], io: Io): Promise<number> {
 
 /** The paths command. */
 export const pathsCommand: Command = {
-  usage: 'pathweave paths    <scenario.json> [--json] [--at <seconds>] [--user N]',
+  usage: 'pathweave paths    <scenario.json> [--json] [--at <seconds>] [--user ID|N]',
   run,
 };

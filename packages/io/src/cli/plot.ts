@@ -20,7 +20,7 @@ async function run(argv: string[], io: Io): Promise<number> {
     if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0) throw new UsageError(`plot: --at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
     options.atS = at;
   }
-  if (args.values.user !== undefined) options.user = parseInteger('--user', args.values.user);
+  if (args.values.user !== undefined) options.user = args.values.user; // an id or an index, resolved against the scenario
   if (args.values.lags !== undefined) options.lags = parseInteger('--lags', args.values.lags, 2);
   if (args.values.element !== undefined) {
     const m = /^(\d+),(\d+)$/.exec(args.values.element);
@@ -30,13 +30,17 @@ async function run(argv: string[], io: Io): Promise<number> {
   await access(file).catch((e: NodeJS.ErrnoException) => {
     throw new RequestError(`plot: cannot read ${file}: ${e.code ?? e.message}`);
   });
-  await plotFile(file, kind as PlotKind, out, options);
+  await plotFile(file, kind as PlotKind, out, options).catch((e: unknown) => {
+    // The library names options.user; on the command line it is --user.
+    if (e instanceof RequestError && e.message.startsWith('user must be')) throw new UsageError(`plot: --${e.message}`);
+    throw e;
+  });
   io.out(`wrote ${out}: ${kind} figure of ${file}`);
   return 0;
 }
 
 /** The plot command. */
 export const plotCommand: Command = {
-  usage: 'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation> --out <file.svg> [--at <seconds>] [--user N] [--element r,t] [--lags N]',
+  usage: 'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
   run,
 };

@@ -55,7 +55,7 @@ export class Progress {
 }
 
 /** A duration for people. @example formatSeconds(75) // "1m15s" */
-export function formatSeconds(s: number): string {
+function formatSeconds(s: number): string {
   if (!Number.isFinite(s)) return '?';
   if (s < 60) return `${s.toFixed(s < 10 ? 1 : 0)}s`;
   const m = Math.floor(s / 60);

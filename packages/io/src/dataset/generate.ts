@@ -23,7 +23,7 @@ import { PATHWEAVE_VERSION } from '../version.js';
 import { arrayShape, DATASET_ATTRIBUTES, datasetArray, unitsOf, type LayoutAxes } from './layout.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
 import { HashThread } from './workers/hash.js';
-import { BlockPool, defaultWorkers } from './workers/pool.js';
+import { BlockPool, defaultWorkers, sharedBlockArray, type FilledBlock } from './workers/pool.js';
 
 /**
  * Default refusal threshold for one output file, bytes (raise with --max-bytes).
@@ -45,7 +45,7 @@ export const BLOCK_TARGET_BYTES = 8 * 2 ** 20;
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const options: GenerateOptions = { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true };
- * (await generate(scenario, text, options)).sha256 // "b68c65c08126d82661d3d3e4a667bd97d7df559de9ae865fade7b4ea06bf8595", also the file's tensorSha256
+ * (await generate(scenario, text, options)).sha256 // "89f37562d44badbf4fae2406d8bb3ed25815e6d850228202442e7dd48d53122c" (kernel wasm-fma128; "b68c65c0...bf8595" with PATHWEAVE_KERNEL=simd), also the file's tensorSha256
  */
 export interface GenerateOptions {
   out: string;
@@ -84,7 +84,7 @@ export interface GenerateOptions {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * const report: GenerateReport = await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] });
  * [report.tensorName, report.shape, report.fileBytes, report.sha256, report.kernel]
- * // ['H', [4, 64, 4, 32], 262272, undefined, 'wasm-simd128']: a 128-byte header and 262144 tensor bytes; no checksum asked
+ * // ['H', [4, 64, 4, 32], 262272, undefined, 'wasm-fma128']: a 128-byte header and 262144 tensor bytes; no checksum asked
  */
 export interface GenerateReport {
   out: string;
@@ -339,12 +339,10 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
       // Hashing (about 1.1 GB/s) is slower than the kernel: a thread of its own hashes each block
       // while the next is filled, and the file write overlaps both. A buffer is filled again once
       // its hash and its write are done; three buffers keep all three busy. The hash thread reads
-      // the blocks in place, so they live in SharedArrayBuffers (filled through the kernel's copy).
+      // the blocks in place: they live in the kernel's shared memory, filled there.
       const hasher = new HashThread();
       try {
-        const buffers = [0, 1, 2].map((): Float32Array | Float64Array =>
-          built.plan.precision === 'complex64' ? new Float32Array(new SharedArrayBuffer(4 * job.values)) : new Float64Array(new SharedArrayBuffer(8 * job.values)),
-        );
+        const buffers = [0, 1, 2].map((): Float32Array | Float64Array => sharedBlockArray(job.values, Tensor));
         const free: Array<Promise<unknown>> = buffers.map(() => Promise.resolve());
         try {
           for (let s = first, b = 0; s < end; s += block, b++) {
@@ -367,34 +365,35 @@ async function streamTensor(sink: DatasetSink, job: TensorJob): Promise<{ sha256
         await hasher.close();
       }
     }
-    // Worker threads fill; this thread only writes (and hashes). IN_FLIGHT_PER_WORKER requests
-    // per worker wait or compute while one block is written; a block's buffers take the next
-    // request once its write is done.
+    // Worker threads fill, each into block buffers of its own in shared memory; this thread
+    // writes (and hashes) from there, no copy. IN_FLIGHT_PER_WORKER requests per worker wait or
+    // compute while one block is written; a block is released to its worker once written.
     const pool = new BlockPool(Math.min(job.workers, blocks), job.pool);
     try {
       const depth = Math.min(blocks, IN_FLIGHT_PER_WORKER * pool.size + 1);
-      const inFlight: Array<Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }>> = [];
-      const ask = (b: number, [tensor, gainBuffer]: [ArrayBuffer, ArrayBuffer]): void => {
+      const inFlight: Array<Promise<FilledBlock>> = [];
+      const ask = (b: number): void => {
         const s = first + b * block;
-        inFlight[b] = pool.request(s, Math.min(block, end - s), tensor, gainBuffer);
+        inFlight[b] = pool.request(s, Math.min(block, end - s));
         inFlight[b].catch(() => undefined); // awaited in order below; avoid an unhandled rejection meanwhile
       };
-      for (let b = 0; b < depth; b++) ask(b, [new ArrayBuffer(job.values * Tensor.BYTES_PER_ELEMENT), new ArrayBuffer(8 * block * gainsPerSubframe)]);
+      for (let b = 0; b < depth; b++) ask(b);
       let next = depth;
-      let previous: [ArrayBuffer, ArrayBuffer] | undefined;
+      let previous: FilledBlock | undefined;
       for (let b = 0; b < blocks; b++) {
         await job.between();
         const s = first + b * block;
         const n = Math.min(block, end - s);
         const done = await inFlight[b]!;
         delete inFlight[b];
-        gainsOf(s, n).set(new Float64Array(done.gains, 0, n * gainsPerSubframe));
-        const view = new Tensor(done.tensor, 0, n * perSubframe);
+        gainsOf(s, n).set(done.gains);
+        const view = done.tensor;
         job.hash?.update(bytesOf(view));
-        await writes; // the previous block is on disk: its buffers are free
-        if (previous !== undefined && next < blocks) ask(next++, previous);
-        write(s, n, view);
-        previous = [done.tensor, done.gains];
+        await writes; // the previous block is on disk: its buffer goes back to its worker
+        previous?.release();
+        if (next < blocks) ask(next++);
+        void write(s, n, view); // awaited through `writes`, before the next block and at the end
+        previous = done;
       }
       await writes;
       return { sha256: job.hash?.digest('hex'), kernel: pool.kernel ?? KERNEL_NAME };
@@ -414,7 +413,7 @@ function padded(rows: number, L: number, value: (row: number, l: number) => numb
 }
 
 /**
- * The named side arrays of design.md ("Output files") for subframes [first, first + count):
+ * The named side arrays of docs/datasets.md ("What a file holds") for subframes [first, first + count):
  * gains, the grid, subframe times, the path table (rows per user and per geometry update when
  * the geometry moves; NaN where a path is absent) and ground truth per subframe (truth/...).
  * @example

@@ -176,7 +176,7 @@ export async function readManifest(path: string): Promise<PartManifest> {
  * @example
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4], checksum: true }); // H [4, 64, 4, 32]
- * await tensorSha256OfFile('run.h5') // { sha256: 'b68c65c0...', bytes: 262144 }: 4 x 64 x 4 x 32 x 8 bytes, the sha256 the file records as tensorSha256
+ * await tensorSha256OfFile('run.h5') // { sha256: 'b68c65c08126d82661d3d3e4a667bd97d7df559de9ae865fade7b4ea06bf8595', bytes: 262144 }: 4 x 64 x 4 x 32 x 8 bytes, the sha256 the file records as tensorSha256
  */
 export async function tensorSha256OfFile(path: string): Promise<{ sha256: string; bytes: number }> {
   const reader = await openDatasetReader(path);

@@ -26,7 +26,7 @@ import { checkScenarioAttribute, fileSha256, manifestPathOf, readManifest, Manif
 /**
  * Options of a merge.
  * @example
- * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.part-{index}-of-{count}.h5']);
  * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
  * const done: number[] = [];
  * const options: MergeOptions = { format: 'npz', onProgress: (subframes) => done.push(subframes) };
@@ -46,7 +46,7 @@ export interface MergeOptions {
 /**
  * What a merge wrote.
  * @example
- * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.part-{index}-of-{count}.h5']);
  * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
  * const report: MergeReport = await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.h5');
  * [report.shape, report.parts, report.warnings] // [[200, 64, 4, 32], 2, []]
@@ -172,7 +172,7 @@ async function checkParts(partFiles: string[], options: MergeOptions, warnings: 
  * overlap, parts of another scenario or seed, a part whose size or tensor checksum differs
  * from its manifest (tampered or truncated).
  * @example
- * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.h5']);
+ * for (const shard of ['0/2', '1/2']) await main(['generate', 'examples/street-corner-28ghz.json', '--shard', shard, '--out', 'run.part-{index}-of-{count}.h5']);
  * // run.part-0-of-2.h5 (subframes 0:100 of 200) and run.part-1-of-2.h5 (100:200), each with its manifest
  * (await merge(['run.part-0-of-2.h5', 'run.part-1-of-2.h5'], 'run.h5')).sha256
  * // 'f367d319...': the tensorSha256 of the same 200 subframes generated in one run

@@ -73,7 +73,7 @@ export function removeLiveTemporaryFiles(): string[] {
 /**
  * The temporary name used for `target`: hidden, in the same folder (so rename is atomic),
  * unique per process and call (process id plus 64 random bits).
- * @example temporaryPathFor('/data/run.npy') // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
+ * @example temporaryPathFor('/data/run.npy') // /data/.run.npy.<process id>-<16 random hex digits>.part
  */
 export function temporaryPathFor(target: string): string {
   return join(dirname(target), `${temporaryPrefixFor(target)}${process.pid}-${randomBytes(8).toString('hex')}.part`);
@@ -179,7 +179,7 @@ export class AtomicFile {
   /**
    * Create the temporary file next to `target` ("wx": never opens a file that exists, so two
    * writers cannot share one; a taken name is replaced by a fresh one).
-   * @example (await AtomicFile.create('/data/run.npy')).temporary // "/data/.run.npy.4242-1a2b3c4d5e6f7a8b.part"
+   * @example (await AtomicFile.create('/data/run.npy')).temporary // /data/.run.npy.<process id>-<16 random hex digits>.part
    */
   static async create(target: string): Promise<AtomicFile> {
     if (typeof target !== 'string' || target === '') throw new TypeError(`AtomicFile.create(): target must be a non-empty path, got ${JSON.stringify(target)}`);

@@ -1,7 +1,7 @@
 /**
  * HDF5 writer through h5wasm (the HDF5 C library compiled to WebAssembly, host files via NODERAWFS).
  *
- * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], design.md)
+ * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], docs/conventions.md)
  * arrives row-major with complex interleaved re/im. In the file it is a chunked dataset of the
  * compound type { r: float, i: float } (float32 for complex64, float64 for complex128), packed,
  * which h5py reads as complex64 / complex128 and MATLAB's h5read as a struct with fields r and i.

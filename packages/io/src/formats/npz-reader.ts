@@ -111,8 +111,14 @@ async function readCentralDirectory(path: string, handle: FileHandle, size: numb
       if (id === 0x0001) {
         const field = cd.subarray(e + 4, e + 4 + len);
         let f = 0;
-        if (uncompressed === 0xffffffff) (uncompressed = u64(field, f, 'a ZIP64 size')), (f += 8);
-        if (compressedSize === 0xffffffff) (compressedSize = u64(field, f, 'a ZIP64 size')), (f += 8);
+        if (uncompressed === 0xffffffff) {
+          uncompressed = u64(field, f, 'a ZIP64 size');
+          f += 8;
+        }
+        if (compressedSize === 0xffffffff) {
+          compressedSize = u64(field, f, 'a ZIP64 size');
+          f += 8;
+        }
         if (localHeaderOffset === 0xffffffff) localHeaderOffset = u64(field, f, 'a ZIP64 offset');
       }
       e += 4 + len;

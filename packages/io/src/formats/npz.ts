@@ -2,7 +2,7 @@
  * NPZ writer: one zip archive that numpy.load opens, holding every named array as `<name>.npy`
  * (a name with "/" stays a zip entry path: `paths/delayS.npy`, key "paths/delayS" in numpy).
  *
- * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], design.md)
+ * Tensor layout: the streamed tensor ("H" [S, K, Nr, Nt] or "h" [S, count, Nr, Nt], docs/conventions.md)
  * is row-major, complex interleaved re/im, exactly numpy's complex64 / complex128 bytes, so the
  * NPY entry body is the caller's blocks written in order. Its size is known from the header, so
  * the entry is streamed into the zip (yazl addReadStreamLazy with `size`) and memory stays
@@ -36,7 +36,7 @@ import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArra
  * taken in the time zone of its load, which would shift an epoch timestamp by the zone offset.
  * @example NPZ_ENTRY_TIME // [1980, 1, 1, 0, 0, 0]
  */
-export const NPZ_ENTRY_TIME: readonly [number, number, number, number, number, number] = [1980, 1, 1, 0, 0, 0];
+const NPZ_ENTRY_TIME: readonly [number, number, number, number, number, number] = [1980, 1, 1, 0, 0, 0];
 
 /** Options of {@link openNpzSink}. */
 export interface NpzSinkOptions {
@@ -81,7 +81,7 @@ export function elementCount(shape: readonly number[]): number {
 }
 
 /** Throw unless `shape` is a list of non-negative safe integers. @internal */
-export function checkShape(fn: string, what: string, shape: unknown): asserts shape is number[] {
+function checkShape(fn: string, what: string, shape: unknown): asserts shape is number[] {
   if (!Array.isArray(shape) || !shape.every((e) => Number.isSafeInteger(e) && (e as number) >= 0)) {
     throw new RangeError(`${fn}(): ${what} must be a list of non-negative integers, got ${JSON.stringify(shape)}`);
   }
@@ -90,7 +90,7 @@ export function checkShape(fn: string, what: string, shape: unknown): asserts sh
 const NAME_SEGMENT = /^[A-Za-z0-9_][A-Za-z0-9_.-]*$/;
 
 /** Throw unless `name` is "/"-separated segments of [A-Za-z0-9_.-] (no empty, "." or ".." segment). @internal */
-export function checkName(fn: string, name: unknown): asserts name is string {
+function checkName(fn: string, name: unknown): asserts name is string {
   if (typeof name !== 'string' || !name.split('/').every((seg) => NAME_SEGMENT.test(seg))) {
     throw new RangeError(
       `${fn}(): name must be "/"-separated segments of letters, digits, "_", "." and "-" (not starting with "." or "-"), got ${JSON.stringify(name)}`,
@@ -230,7 +230,7 @@ function encodeUnicode(strings: readonly string[], width: number): Buffer {
 }
 
 /** The whole NPY file of a small array, as one Buffer. @internal */
-export function encodeNpy(array: NamedArray): Buffer {
+function encodeNpy(array: NamedArray): Buffer {
   if (array.dtype === 'string') {
     const strings = array.strings as string[];
     const width = unicodeWidth(strings);

@@ -7,13 +7,11 @@
  * Tensor layout read: [S, (U,) (symbols,) K or count, Nr, Nt], complex interleaved; every axis
  * between S and Nr is a "bin" here (users, symbols, subcarriers or taps, flattened row-major).
  *
- * Singular values: ml-matrix's SVD works on real matrices, so each complex H = A + jB is
- * embedded as the real 2Nr x 2Nt matrix [[A, -B], [B, A]], whose singular values are those of H,
- * each exactly twice (the embedding is unitarily similar to diag(H, conj(H))); every other
- * value of the sorted list is kept.
+ * Singular values: core's complexSingularValues (the real 2Nr x 2Nt embedding
+ * [[A, -B], [B, A]] of H = A + jB, whose singular values are those of H, each twice).
  */
-import { createRequire } from 'node:module';
 import { stat } from 'node:fs/promises';
+import { complexSingularValues } from '@pathweave/core';
 import { DTYPE_BYTES } from '../formats/npy.js';
 import { attributeOf, openDatasetReader, readRowBlocks, tensorOf, NpyReader, type DatasetReader, type StoredArray } from '../formats/reader.js';
 import { formatBytes, RequestError } from '../dataset/generate.js';
@@ -37,7 +35,7 @@ export interface InspectOptions {
  * const { scenario, text } = await loadScenario('examples/street-corner-28ghz.json');
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32]
  * const summary: InspectSummary = await inspectFile('run.h5');
- * summary.text.split('\n')[0] // "run.h5: h5, 285.8 KiB (292648 bytes)"
+ * summary.text.split('\n')[0] // "run.h5: h5, 285.7 KiB (292568 bytes)"
  */
 export interface InspectSummary {
   text: string;
@@ -78,40 +76,9 @@ export interface Conditioning {
   smallestSingularValue: Spread;
 }
 
-type SvdModule = { SingularValueDecomposition: new (m: number[][], o: { computeLeftSingularVectors: boolean; computeRightSingularVectors: boolean; autoTranspose: boolean }) => { diagonal: number[] } };
-
-let svdModule: SvdModule | undefined;
-
-/** ml-matrix (a dependency of this package), loaded on first use so importing io stays cheap. */
-function mlMatrix(): SvdModule {
-  svdModule ??= createRequire(import.meta.url)('ml-matrix') as SvdModule;
-  return svdModule;
-}
-
-/**
- * Singular values of the complex Nr x Nt matrix stored row-major and interleaved at
- * `data[offset..]`, in decreasing order, min(Nr, Nt) of them (via the real 2Nr x 2Nt embedding).
- * @example complexSingularValues(Float64Array.of(3, 4, 0, 0, 0, 0, 0, 1), 0, 2, 2) // [5, 1]
- */
-export function complexSingularValues(data: Float32Array | Float64Array, offset: number, Nr: number, Nt: number): number[] {
-  if (!(Number.isSafeInteger(Nr) && Nr >= 1 && Number.isSafeInteger(Nt) && Nt >= 1)) throw new RangeError(`complexSingularValues(): Nr and Nt must be integers >= 1, got ${Nr} x ${Nt}`);
-  if (!(offset >= 0 && offset + 2 * Nr * Nt <= data.length)) throw new RangeError(`complexSingularValues(): ${Nr} x ${Nt} values at offset ${offset} exceed the ${data.length} numbers given`);
-  const real: number[][] = Array.from({ length: 2 * Nr }, () => new Array<number>(2 * Nt).fill(0));
-  for (let r = 0; r < Nr; r++) {
-    for (let c = 0; c < Nt; c++) {
-      const re = data[offset + 2 * (r * Nt + c)]!;
-      const im = data[offset + 2 * (r * Nt + c) + 1]!;
-      real[r]![c] = re;
-      real[r]![c + Nt] = -im;
-      real[r + Nr]![c] = im;
-      real[r + Nr]![c + Nt] = re;
-    }
-  }
-  const { SingularValueDecomposition } = mlMatrix();
-  const all = new SingularValueDecomposition(real, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal.slice().sort((a, b) => b - a);
-  // Each value appears twice: keep one of each pair.
-  return Array.from({ length: Math.min(Nr, Nt) }, (_, i) => all[2 * i]!);
-}
+// The complex singular values live in core (with the rest of the signal path); re-exported here
+// for the callers of io.
+export { complexSingularValues };
 
 /**
  * `count` indices evenly spaced over 0..n-1, first and last included (all of them when n <= count).
@@ -206,6 +173,7 @@ async function pathRows(reader: DatasetReader): Promise<{ rows: PathRow[]; epoch
   return { rows, epochs };
 }
 
+/* eslint-disable @typescript-eslint/no-explicit-any -- a recorded scenario of any format version is read loosely, every field optional */
 /** The scenario in one or two lines, from the `scenario` attribute. */
 function scenarioBrief(text: string | undefined): { lines: string[]; data: Record<string, unknown> | undefined } {
   if (text === undefined) return { lines: ['  scenario     (not recorded in this file)'], data: undefined };
@@ -246,6 +214,7 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
     data,
   };
 }
+/* eslint-enable @typescript-eslint/no-explicit-any */
 
 const finite = (x: number): number | null => (Number.isFinite(x) ? x : null);
 const fmt = (x: number, digits = 4): string => (Number.isFinite(x) ? x.toPrecision(digits) : 'inf');

@@ -84,9 +84,23 @@ export async function closePlotSource(source: PlotSource): Promise<void> {
   await source.reader?.close();
 }
 
-function userIndex(source: PlotSource, user: number): number {
-  const U = source.built.users.length;
-  if (!(Number.isInteger(user) && user >= 0 && user < U)) throw new RequestError(`user must be an integer in [0, ${U - 1}], got ${user}`);
+/**
+ * The index of a receiver given by its id or its index (an id is matched first).
+ * @example userIndexOf(await openPlotSource('examples/street-corner-users-28ghz.json'), 'crossing-a') // 1
+ */
+export function userIndexOf(source: PlotSource, user: number | string): number {
+  const ids = source.built.users.map((u) => u.id);
+  const U = ids.length;
+  // An id first (ids are the stable names), then an index.
+  if (typeof user === 'string') {
+    const byId = ids.indexOf(user);
+    if (byId >= 0 && user !== '') return byId;
+    if (/^\d+$/.test(user)) user = Number(user);
+  }
+  if (!(typeof user === 'number' && Number.isInteger(user) && user >= 0 && user < U)) {
+    const named = ids.filter((id) => id !== '');
+    throw new RequestError(`user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${U - 1}], got ${JSON.stringify(user)}`);
+  }
   return user;
 }
 
@@ -94,8 +108,8 @@ function userIndex(source: PlotSource, user: number): number {
  * Paths of a user at time t: traced again at t for a scene, the explicit list otherwise.
  * @example pathsAt(await openPlotSource('examples/street-corner-28ghz.json'))[0].kind // "los"
  */
-export function pathsAt(source: PlotSource, atS = 0, user = 0): PathSummary[] {
-  const u = source.built.users[userIndex(source, user)]!;
+export function pathsAt(source: PlotSource, atS = 0, user: number | string = 0): PathSummary[] {
+  const u = source.built.users[userIndexOf(source, user)]!;
   return u.timeline.pathsAt !== undefined ? u.timeline.pathsAt(atS).map(summarizeTraced) : u.paths;
 }
 
@@ -104,7 +118,7 @@ export function pathsAt(source: PlotSource, atS = 0, user = 0): PathSummary[] {
  * the run) and the paths of `user` at t. Explicit-path scenarios have no scene and are refused.
  * @example sceneInputOf(await openPlotSource('examples/street-corner-28ghz.json')).paths.length // 8
  */
-export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigureInput {
+export function sceneInputOf(source: PlotSource, atS = 0, user: number | string = 0): SceneFigureInput {
   const s = source.scenario;
   if (s.scene === undefined) throw new RequestError(`${source.file}: the scene figure needs a scenario with a scene; this one lists its paths explicitly`);
   const b = source.built;
@@ -120,7 +134,7 @@ export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigure
     if (motion.moves) terminal.track = Array.from({ length: steps + 1 }, (_, k) => motion.positionAt((k * end) / steps, [0, 0, 0]));
     return terminal;
   });
-  const ui = userIndex(source, user);
+  const ui = userIndexOf(source, user);
   [receivers[0], receivers[ui]] = [receivers[ui]!, receivers[0]!];
   const txm = b.users[0]!.spec.transmitter.motion!;
   return {
@@ -140,14 +154,13 @@ export function sceneInputOf(source: PlotSource, atS = 0, user = 0): SceneFigure
  * await generate(scenario, text, { out: 'run.h5', format: 'h5', range: [0, 4] }); // H [4, 64, 4, 32] with its truth tables
  * (await profilePathsOf(await openPlotSource('run.h5'))).origin // 'run.h5, truth tables at subframe 0 (t = 0.000 s)'
  */
-export async function profilePathsOf(source: PlotSource, atS = 0, user = 0): Promise<{ paths: ProfilePath[]; origin: string }> {
-  const ui = userIndex(source, user);
+export async function profilePathsOf(source: PlotSource, atS = 0, user: number | string = 0): Promise<{ paths: ProfilePath[]; origin: string }> {
+  const ui = userIndexOf(source, user);
   const r = source.reader;
   if (r !== undefined && r.arrays.some((a) => a.name === 'truth/delayS')) {
     const times = (await r.readArray('subframeTimesS')).data as Float64Array;
     let s = 0;
     while (s + 1 < times.length && times[s + 1]! <= atS + 1e-12) s++;
-    const U = source.built.multiUser ? source.built.users.length : 1;
     const L = maxPathCount(source.built);
     const row = async (name: string, width: number): Promise<Float64Array> => {
       const data = (await r.readRows(name, s, s + 1)) as Float64Array;
@@ -193,7 +206,7 @@ function subframeLayout(built: BuiltScenario, shape: readonly number[]): { bins:
  */
 export async function timeFrequencyOf(source: PlotSource, options: FieldOptions = {}): Promise<Omit<TimeFrequencyInput, 'title'>> {
   const b = source.built;
-  const ui = userIndex(source, options.user ?? 0);
+  const ui = userIndexOf(source, options.user ?? 0);
   const [er, et] = options.element ?? [0, 0];
   const r = source.reader;
   const shape = r !== undefined ? tensorOf(r).shape : b.shape;
@@ -255,7 +268,7 @@ function centredOffsets(K: number, b: BuiltScenario): Float64Array {
  */
 export async function correlationOf(source: PlotSource, options: { user?: number; lags?: number; subframes?: number } = {}): Promise<{ lagsS: Float64Array; series: CorrelationSeries[]; subtitle: string }> {
   const b = source.built;
-  const ui = userIndex(source, options.user ?? 0);
+  const ui = userIndexOf(source, options.user ?? 0);
   const gen = b.users[ui]!.generator;
   const L = gen.pathCount, Lmax = maxPathCount(b);
   const U = b.users.length;

@@ -6,7 +6,7 @@
  * (svg.ts), axes with units and a colour ramp whose lightness is monotone (axes.ts).
  */
 import { writeFileAtomic } from '../formats/atomic.js';
-import { closePlotSource, correlationOf, openPlotSource, profilePathsOf, sceneInputOf, timeFrequencyOf, type PlotSource } from './data.js';
+import { closePlotSource, correlationOf, openPlotSource, profilePathsOf, sceneInputOf, timeFrequencyOf, userIndexOf, type PlotSource } from './data.js';
 import { correlationFigure, timeFrequencyFigure } from './fields.js';
 import { anglesFigure, delayProfileFigure } from './profiles.js';
 import { sceneFigure } from './scene.js';
@@ -38,8 +38,8 @@ export type PlotKind = (typeof PLOT_KINDS)[number];
 export interface PlotOptions {
   /** Time of the path snapshot, seconds (scene, delay-profile, angles); default 0. */
   atS?: number;
-  /** Receiver index for scenarios with `receivers`; default 0. */
-  user?: number;
+  /** Receiver of a scenario with `receivers`: its id, or its index; default 0. */
+  user?: number | string;
   /** Element pair [rx, tx] of the time-frequency figure; default [0, 0]. */
   element?: [number, number];
   /** Largest lag of the correlation figure, in subframes. */
@@ -53,7 +53,7 @@ export interface PlotOptions {
 export async function plotSource(source: PlotSource, kind: PlotKind, options: PlotOptions = {}): Promise<string> {
   const name = source.scenario.name ?? source.file;
   const at = options.atS ?? 0;
-  const user = options.user ?? 0;
+  const user = userIndexOf(source, options.user ?? 0);
   switch (kind) {
     case 'scene':
       return sceneFigure(sceneInputOf(source, at, user));

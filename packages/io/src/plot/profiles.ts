@@ -7,7 +7,7 @@ import { Panel, colourBar, shade } from './axes.js';
 import { LabelPlacer, SvgDocument, THEME, escapeXml, fmt } from './svg.js';
 
 /**
- * A path as the profile figures need it (angles in degrees, design.md directions).
+ * A path as the profile figures need it (angles in degrees, docs/conventions.md directions).
  * @example const los: ProfilePath = { id: 'los', kind: 'los', delayS: 80.7e-9, powerDb: -89.1, aodDeg: [22.3, -10.7], aoaDeg: [-157.7, 10.7] }; // one stem at 80.7 ns
  */
 export interface ProfilePath {
@@ -25,13 +25,14 @@ const AZIMUTH_TICKS = [-180, -90, 0, 90, 180];
 function marker(svg: SvgDocument, kind: string, x: number, y: number, fill: string, cls: string): void {
   if (kind === 'los') svg.circle(x, y, 5, { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
   else if (kind === 'scatter') svg.rect(x - 4.5, y - 4.5, 9, 9, { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
+  else if (kind === 'diffraction') svg.polygon([x, y - 5.5, x + 5.5, y, x, y + 5.5, x - 5.5, y], { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
   else svg.polygon([x, y - 5.5, x + 5, y + 4, x - 5, y + 4], { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
 }
 
 function kindLegend(svg: SvgDocument, x: number, y: number, kinds: readonly string[]): void {
   svg.group({ class: 'legend' });
   let cx = x;
-  for (const k of ['los', 'reflection', 'scatter', 'explicit']) {
+  for (const k of ['los', 'reflection', 'diffraction', 'scatter', 'explicit']) {
     if (!kinds.includes(k)) continue;
     marker(svg, k, cx, y, '#ffffff', 'legend-marker');
     const label = k === 'los' ? 'line of sight' : k;

@@ -156,7 +156,7 @@ export class SvgDocument {
  * @example
  * const labels = new LabelPlacer(0, 800);
  * labels.place(100, 50, 'walls[0] brick', 10).y; // 50
- * labels.place(100, 50, 'walls[1] glass', 10).y; // 62: moved below the first
+ * labels.place(100, 50, 'walls[1] glass', 10).y; // 61.5: moved below the first
  */
 export class LabelPlacer {
   private readonly boxes: [number, number, number, number][] = [];

@@ -301,6 +301,9 @@ export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
  * sceneOf({ ...traced, scene: { walls: [{ vertices: [[0, 20], [80, 20]] }], atmosphere: { method: 'p676-13-line-by-line' } } }).gasAttenuationDbPerKm // 0.1018: ITU-R P.676 at 28 GHz, sea level
  */
 export function sceneOf(scenario: Scenario): Scene {
+  if (scenario.scene?.imports !== undefined) {
+    throw new ScenarioError([{ path: 'scene.imports', message: 'the imported files are not read yet: load the scenario with loadScenario() or expand it with expandSceneImports(scenario, folder) first' }]);
+  }
   const { atmosphere, ...scene } = scenario.scene!;
   if (atmosphere === undefined) return scene as unknown as Scene;
   // Narrowband: the specific attenuation at the carrier applies across the band.
@@ -388,7 +391,7 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
     }
     if (timeline.ids.length === 0) {
       const who = plan.multiUser ? `receivers[${users.length}]` : 'receiver';
-      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers and maxReflectionOrder)` }]);
+      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers, maxReflectionOrder and diffraction)` }]);
     }
     const delayShiftS = g.domain === 'taps' && g.alignFirstPath ? alignmentShiftS(delays, g.sampleRateHz) : 0;
     const spec: ChannelSpec = {

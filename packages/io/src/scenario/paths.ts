@@ -1,5 +1,5 @@
 /**
- * Printing path lists: a readable table, and the explicit-path JSON form of design.md. Path
+ * Printing path lists: a readable table, and the explicit-path JSON form of a scenario's `paths` (docs/conventions.md). Path
  * summaries hold their interactions as structured records; the text forms ("walls[3]",
  * "R:walls[3]") are rendered here, at the edge, by the geometry's label functions.
  */
@@ -17,7 +17,7 @@ export interface PathInteractionJson {
 }
 
 /**
- * A path summary as JSON: the explicit `paths` form of design.md (which a scenario accepts back), plus descriptive fields.
+ * A path summary as JSON: the explicit `paths` form of a scenario file (which a scenario accepts back), plus descriptive fields.
  * @example const los: PathSummaryJson = { id: 'los', kind: 'los', aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 3.3e-8, powerDb: -81.4, phaseDeg: 12, dopplerHz: 0 };
  */
 export interface PathSummaryJson {

@@ -1,5 +1,5 @@
 /**
- * The scenario file (design.md, "Scenario file"): one zod definition, from which the TypeScript
+ * The scenario file (docs/guide.md, "Scenario files"): one zod definition, from which the TypeScript
  * types, the validation and the JSON Schema in docs/ all come. SI units throughout, except
  * angles in degrees under keys ending in `Deg` and decibels under keys ending in `Db`.
  */
@@ -195,14 +195,40 @@ const materialSchema = z.union([
   z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
 ]);
 
+// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+const sceneImportSchema = z.union([
+  z.strictObject({
+    footprints: z.string().min(1),
+    origin: z.strictObject({ latitudeDeg: z.number().min(-90).max(90), longitudeDeg: z.number().min(-180).max(180), heightM: finite.optional() }),
+    heightProperty: z.string().min(1).optional(),
+    defaultHeightM: positive.optional(),
+    materialProperty: z.string().min(1).optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+    roofs: z.boolean().optional(),
+  }),
+  z.strictObject({
+    mesh: z.string().min(1),
+    unit: z.enum(['m', 'cm', 'mm', 'km', 'in', 'ft']).optional(),
+    upAxis: z.enum(['y', 'z']).optional(),
+    offsetM: vector3.optional(),
+    materials: z.record(z.string(), materialSchema).optional(),
+    material: materialSchema.optional(),
+  }),
+]);
+
 const sceneDefinition = z.strictObject({
   lineOfSight: z.boolean().optional(),
+  /** Surfaces read from files, added after `walls` (expanded by loadScenario / expandSceneImports). */
+  imports: z.array(sceneImportSchema).optional(),
   walls: z
     .array(
       z.strictObject({
         vertices: z.array(z.array(coordinate).min(2).max(3)).min(2),
         material: materialSchema.optional(),
         reflectionLossDb: nonNegative.optional(),
+        /** Thickness in metres: the wall transmits as an ITU-R P.2040 slab of its material (off: opaque). */
+        thicknessM: positive.optional(),
       }),
     )
     .optional(),
@@ -219,6 +245,8 @@ const sceneDefinition = z.strictObject({
   maxPaths: count.optional(),
   dynamicRangeDb: positive.optional(),
   gasAttenuationDbPerKm: nonNegative.optional(),
+  /** Edge diffraction (UTD) at the walls' wedges, single and with one reflection; off by default. */
+  diffraction: z.boolean().optional(),
   /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
   atmosphere: z
     .strictObject({
@@ -442,12 +470,31 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'terminal.array.wavefront': d('Plane or spherical wavefront; "auto": spherical inside 2 D^2 / lambda.', undefined, SCENARIO_DEFAULTS.wavefront),
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
+  'scene.imports': d('Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").'),
+  'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
+  'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
+  'scene.imports.origin.latitudeDeg': d('Latitude of the origin.', 'deg'),
+  'scene.imports.origin.longitudeDeg': d('Longitude of the origin.', 'deg'),
+  'scene.imports.origin.heightM': d('Height of the origin above the ellipsoid.', 'm', 0),
+  'scene.imports.heightProperty': d('Feature property holding the building height.', undefined, 'height'),
+  'scene.imports.defaultHeightM': d('Height of features without the height property (else they are refused).', 'm'),
+  'scene.imports.materialProperty': d('Feature property naming the material (looked up in materials, else a material name).'),
+  'scene.imports.materials': d('Property values (footprints) or group names (meshes) to materials.'),
+  'scene.imports.material': d('Material of surfaces not mapped by materials.', undefined, DEFAULT_MATERIAL),
+  'scene.imports.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
+  'scene.imports.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
+  'scene.imports.roofs': d('Add a flat roof on every footprint.', undefined, true),
+  'scene.imports.mesh': d('A Wavefront OBJ mesh file, relative to the scenario file; one wall per triangle.'),
+  'scene.imports.unit': d('Length unit of the mesh file.', undefined, 'm'),
+  'scene.imports.upAxis': d('Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)).', undefined, 'z'),
+  'scene.imports.offsetM': d('Shift added after scaling and turning.', 'm', [0, 0, 0]),
   'scene.walls': d('Planar walls (3-D polygons) or vertical wall segments (2-D).'),
   'scene.walls.vertices': d('Corners [[x, y, z], ...] (at least 3, coplanar) or the two ends [[x, y], [x, y]].', 'm'),
   'scene.walls.material': d('A named material (ITU-R P.2040-3 Table 3, or metal) or { relativePermittivity, conductivitySpm }.', undefined, DEFAULT_MATERIAL),
   'scene.walls.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
   'scene.walls.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
   'scene.walls.reflectionLossDb': d('A fixed reflection loss replacing the Fresnel coefficient.', 'dB'),
+  'scene.walls.thicknessM': d('Thickness of the wall as a slab (ITU-R P.2040): given, waves pass through it; absent, the wall is opaque.', 'm'),
   'scene.scatterers': d('Point scatterers (single bounce, bistatic radar equation).'),
   'scene.scatterers.position': d('Position of the scatterer.', 'm'),
   'scene.scatterers.rcsM2': d('Radar cross-section sigma.', 'm^2'),
@@ -459,6 +506,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.blockers.base': d('Centre of a cylinder\'s base.', 'm'),
   'scene.blockers.radiusM': d('Radius of a cylinder.', 'm'),
   'scene.blockers.heightM': d('Height of a cylinder.', 'm'),
+  'scene.diffraction': d('Trace edge-diffracted paths (uniform theory of diffraction) around the wedges of the walls.', undefined, false),
   'scene.maxReflectionOrder': d(`Highest number of wall reflections per path, 0 to ${MAX_REFLECTION_ORDER}.`, '1', DEFAULT_REFLECTION_ORDER),
   'scene.maxPaths': d('Keep at most this many paths (strongest first); absent: no limit.', '1'),
   'scene.dynamicRangeDb': d('Drop paths more than this far below the strongest; absent: no limit.', 'dB'),

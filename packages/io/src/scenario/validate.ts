@@ -4,9 +4,11 @@
  * are refused with the nearest known key suggested.
  */
 import { readFile } from 'node:fs/promises';
+import { dirname } from 'node:path';
 import type { z } from 'zod';
 import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/geometry';
 import { JsonSyntaxError, parseJson } from './json.js';
+import { checkPlausibility } from './plausibility.js';
 import { portCount } from './plan.js';
 import { describeValue, formatProblem, ScenarioError, type Problem } from './problems.js';
 import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, scenarioSchema, type Scenario } from './schema.js';
@@ -122,9 +124,12 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
   if (issue.message !== UNWORDED && issue.code !== 'unrecognized_keys') return [{ path, message: issue.message }];
   switch (issue.code) {
     case 'unrecognized_keys': {
+      // A key already present is never the one meant (timing.subframs must not suggest subframeS).
+      const here = valueAt(input, issue.path);
       const known = knownKeysAt(scenarioSchema as unknown as AnySchema, issue.path, input);
+      const absent = known.filter((k) => here === null || typeof here !== 'object' || !Object.hasOwn(here, k));
       return issue.keys.map((key) => {
-        const near = nearestKey(key, known);
+        const near = nearestKey(key, absent);
         const hint = near !== undefined ? `; did you mean "${near}"?` : known.length > 0 ? `; allowed here: ${known.join(', ')}` : '';
         return { path: dottedPath([...issue.path, key]), message: `unknown key${hint}` };
       });
@@ -330,7 +335,7 @@ export function safeParseScenario(input: unknown): ScenarioResult {
   const problems = crossChecks(result.data);
   const warnings: string[] = [...sceneWarnings];
   if (problems.length === 0) {
-    for (const check of extraChecks) {
+    for (const check of [checkPlausibility, ...extraChecks]) {
       const r = check(result.data);
       problems.push(...r.problems);
       warnings.push(...r.warnings);
@@ -367,7 +372,8 @@ export function parseScenarioText(text: string, source = 'scenario'): { scenario
 }
 
 /**
- * Read and validate a scenario file; throws ScenarioError (also for an unreadable file).
+ * Read and validate a scenario file, with `scene.imports` read into walls from files beside it;
+ * throws ScenarioError (also for an unreadable file).
  * @example await loadScenario('/nonexistent/run.json') // throws ScenarioError "/nonexistent/run.json: 1 problem\ncannot read the file: ENOENT"
  */
 export async function loadScenario(file: string): Promise<{ scenario: Scenario; warnings: string[]; text: string }> {
@@ -377,5 +383,8 @@ export async function loadScenario(file: string): Promise<{ scenario: Scenario; 
   } catch (e) {
     throw new ScenarioError([{ path: '', message: `cannot read the file: ${(e as NodeJS.ErrnoException).code ?? String(e)}` }], file);
   }
-  return { ...parseScenarioText(text, file), text };
+  const parsed = parseScenarioText(text, file);
+  // scene.imports: files beside the scenario, read into walls (scenario/imports.ts)
+  const { expandSceneImports } = await import('./imports.js');
+  return { ...parsed, scenario: expandSceneImports(parsed.scenario, dirname(file), file), text };
 }

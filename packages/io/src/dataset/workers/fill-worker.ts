@@ -4,9 +4,10 @@
  * then fills each requested block of subframes with the same `fillBlock` the main thread uses,
  * so a block's bytes do not depend on which thread made it.
  *
- * Messages in: { id, first, n, tensor: ArrayBuffer, gains: ArrayBuffer } (buffers transferred);
- * out: { id, tensor, gains, kernel } (buffers transferred back; kernel: the KERNEL_NAME of this
- * thread) or { id, error }.
+ * Messages in: { kind: 'fill', id, first, n } and { kind: 'release', slot }; out: { id, slot,
+ * tensor, gains, kernel } (tensor: a view of this worker's block buffer `slot`, in shared memory,
+ * so the main thread reads it in place; gains copied; kernel: the KERNEL_NAME of this thread) or
+ * { id, error }. A buffer is filled again only after its release.
  * Layouts: tensor [n, (U,) (symbols,) K or count, Nr, Nt] complex interleaved (Float32Array for
  * complex64, Float64Array for complex128); gains [n, (U,) (symbols,) Lmax] complex128.
  */
@@ -14,19 +15,33 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { KERNEL_NAME } from '@pathweave/core';
 import { buildPlan } from '../../scenario/build.js';
 import { fillBlock } from './fill.js';
-import type { BlockRequest, BlockWorkerData } from './pool.js';
+import { sharedBlockArray, type BlockRequest, type BlockWorkerData } from './pool.js';
 
 const data = workerData as BlockWorkerData;
 const built = buildPlan(data.plan, { traced: data.traced });
 const values = 2 * built.valuesPerSubframe;
 const Tensor = built.generator.precision === 'complex64' ? Float32Array : Float64Array;
+/** This worker's block buffers (grown to the largest block asked for) and which are free. */
+const buffers: Array<Float32Array | Float64Array> = [];
+const free: number[] = [];
 
 parentPort!.on('message', (request: BlockRequest) => {
+  if (request.kind === 'release') {
+    free.push(request.slot);
+    return;
+  }
   try {
-    const tensor = new Tensor(request.tensor, 0, request.n * values);
-    const gains = new Float64Array(request.gains, 0, request.n * data.gainsPerSubframe);
+    const length = request.n * values;
+    let slot = free.pop();
+    if (slot !== undefined && buffers[slot]!.length < length) buffers[slot] = sharedBlockArray(length, Tensor);
+    if (slot === undefined) {
+      slot = buffers.length;
+      buffers.push(sharedBlockArray(length, Tensor));
+    }
+    const tensor = buffers[slot]!.subarray(0, length);
+    const gains = new Float64Array(request.n * data.gainsPerSubframe);
     fillBlock(built, tensor, request.first, request.n, gains);
-    parentPort!.postMessage({ id: request.id, tensor: request.tensor, gains: request.gains, kernel: KERNEL_NAME }, [request.tensor, request.gains]);
+    parentPort!.postMessage({ id: request.id, slot, tensor, gains, kernel: KERNEL_NAME }, [gains.buffer]);
   } catch (e) {
     parentPort!.postMessage({ id: request.id, error: e instanceof Error ? `${e.name}: ${e.message}` : String(e) });
   }

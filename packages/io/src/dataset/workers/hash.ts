@@ -1,7 +1,8 @@
 /**
  * SHA-256 of a stream of blocks in a thread of its own, so `generate` can compute the next block
  * while the last one is hashed (hashing runs at about 1.3 GB/s, slower than the kernel fills).
- * The blocks must live in SharedArrayBuffers: the thread reads them in place, no copy. Ranges
+ * The blocks must live in SharedArrayBuffers: the thread reads them in place, no copy (block
+ * buffers from `sharedBlockArray`, which the kernel fills in place, are such views). Ranges
  * are hashed in the order given; the digest is the SHA-256 of their concatenation, the same
  * value `createHash('sha256')` gives on the main thread.
  */

@@ -1,17 +1,19 @@
 /**
- * A pool of worker threads that fill blocks of subframes for `generate` (design.md,
+ * A pool of worker threads that fill blocks of subframes for `generate` (docs/conventions.md,
  * Reproducibility: the same tensor bytes with any worker count). Every worker builds the
  * generators from the plan and the traced epochs it is given (it traces nothing) and runs ChannelGenerator.fill over the subframe range it is given, which is
  * bit-identical whatever range a call covers (gain streams keyed by (seed, path id, block) and
  * phase recurrences re-anchored at absolute indices), so the pool only decides who computes a
- * block, never what is in it. Blocks come back in request order through `take`.
+ * block, never what is in it. Each worker fills its blocks in place into block buffers of its
+ * own in shared memory (`sharedBlockArray`) and hands back a view of them, so nothing is copied
+ * or transferred; the caller releases a block once written, and the worker reuses its buffer.
  *
  * Layouts: a block's tensor is [n, (U,) (symbols,) K or count, Nr, Nt] complex interleaved, its
  * gains [n, (U,) (symbols,) Lmax] complex128, exactly as `fillBlock` writes them.
  */
 import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
-import type { TracedEpochs } from '@pathweave/core';
+import { allocateKernelArray, type TracedEpochs } from '@pathweave/core';
 import type { ScenarioPlan } from '../../scenario/plan.js';
 
 /** What each worker is started with: the plan and each user's traced epochs (workers trace nothing). */
@@ -22,21 +24,38 @@ export interface BlockWorkerData {
   gainsPerSubframe: number;
 }
 
-/** One block request (buffers are transferred to the worker and back). */
-export interface BlockRequest {
-  id: number;
-  first: number;
-  n: number;
-  tensor: ArrayBuffer;
-  gains: ArrayBuffer;
-}
+/** Messages to a worker: fill a block, or take back a block buffer once the main thread is done with it. */
+export type BlockRequest = { kind: 'fill'; id: number; first: number; n: number } | { kind: 'release'; slot: number };
 
 interface BlockReply {
   id: number;
-  tensor?: ArrayBuffer;
-  gains?: ArrayBuffer;
+  /** The worker's block buffer that holds the block (released with `release`). */
+  slot?: number;
+  /** The block, a view of the worker's shared kernel memory (not copied). */
+  tensor?: Float32Array | Float64Array;
+  gains?: Float64Array;
   kernel?: string;
   error?: string;
+}
+
+/** A filled block: `tensor` stays valid until `release()`, after which the worker fills it again. */
+export interface FilledBlock {
+  tensor: Float32Array | Float64Array;
+  gains: Float64Array;
+  release(): void;
+}
+
+/**
+ * A zeroed block buffer in shared memory that the kernel in use fills in place: an
+ * `allocateKernelArray` array (the SIMD kernels' memory is a SharedArrayBuffer), or, with the
+ * plain kernel, a typed array over a SharedArrayBuffer (it writes any array equally fast).
+ * Pool workers and the hash thread read such a buffer where it is, without a copy.
+ * @example sharedBlockArray(8, Float32Array).buffer instanceof SharedArrayBuffer // true
+ */
+export function sharedBlockArray<T extends typeof Float32Array | typeof Float64Array>(length: number, type: T): InstanceType<T> {
+  const a = allocateKernelArray(length, type);
+  if (a.buffer instanceof SharedArrayBuffer) return a;
+  return new type(new SharedArrayBuffer(length * type.BYTES_PER_ELEMENT) as unknown as ArrayBuffer) as InstanceType<T>; // the lib types the constructor with ArrayBuffer only
 }
 
 /**
@@ -51,11 +70,10 @@ const SINGLE_THREAD_CORES = 2;
 
 /**
  * Default worker count of a run with `blocks` blocks on a machine of `cores` available cores:
- * 1 (the main thread fills in place, no worker thread) for runs of fewer than 2 blocks and on
- * machines of up to 2 cores; otherwise one per core, never more than the blocks. A pool worker
- * fills through a copy out of the kernel's memory (about 35 % more per block than in place) and
- * starts in about 0.25 s; on 2 cores two workers measured no faster than the main thread alone
- * (docs/performance.md), so they pay off only with more cores.
+ * 1 (the main thread fills in place, no worker thread) for runs of fewer than 2 blocks;
+ * otherwise one per core, never more than the blocks. On up to SINGLE_THREAD_CORES cores the
+ * main thread alone measured faster end to end (docs/performance.md): the file writes need
+ * a core of their own.
  * @example [defaultWorkers(1, 8), defaultWorkers(10, 2), defaultWorkers(10, 8), defaultWorkers(3, 8)] // [1, 1, 8, 3]
  */
 export function defaultWorkers(blocks: number, cores: number = availableParallelism()): number {
@@ -66,12 +84,14 @@ export function defaultWorkers(blocks: number, cores: number = availableParallel
  * A fixed set of workers; request i goes to worker i mod size, and each answer resolves its own request.
  * @example
  * const pool = new BlockPool(2, { plan: built.plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe: 2 * L });
- * const { tensor } = await pool.request(0, 8, new ArrayBuffer(bytes), new ArrayBuffer(16 * 8 * L)); // subframes 0-7
+ * const block = await pool.request(0, 8); // subframes 0-7, block.tensor in the worker's shared memory
+ * await sink.writeRows(block.tensor);
+ * block.release();
  * await pool.close();
  */
 export class BlockPool {
   private readonly workers: Worker[];
-  private readonly pending = new Map<number, { resolve: (r: BlockReply) => void; reject: (e: Error) => void }>();
+  private readonly pending = new Map<number, { worker: Worker; resolve: (r: BlockReply) => void; reject: (e: Error) => void }>();
   private nextId = 0;
   private failure: Error | undefined;
   private readonly kernels = new Set<string>();
@@ -98,18 +118,29 @@ export class BlockPool {
     return this.kernels.size === 0 ? undefined : [...this.kernels].sort().join(',');
   }
 
-  /** Ask for subframes [first, first + n) into `tensor` and `gains`; resolves with the filled buffers. */
-  request(first: number, n: number, tensor: ArrayBuffer, gains: ArrayBuffer): Promise<{ tensor: ArrayBuffer; gains: ArrayBuffer }> {
+  /** Ask for subframes [first, first + n); resolves with the block, to be released once used. */
+  request(first: number, n: number): Promise<FilledBlock> {
     if (this.failure !== undefined) return Promise.reject(this.failure);
     const id = this.nextId++;
     const worker = this.workers[id % this.workers.length]!;
     return new Promise((resolve, reject) => {
       this.pending.set(id, {
-        resolve: (r) => (r.error !== undefined ? reject(new Error(`generate worker: ${r.error}`)) : resolve({ tensor: r.tensor!, gains: r.gains! })),
+        worker,
+        resolve: (r) => {
+          if (r.error !== undefined) return reject(new Error(`generate worker: ${r.error}`));
+          let released = false;
+          const release = (): void => {
+            if (released || this.failure !== undefined) return;
+            released = true;
+            const message: BlockRequest = { kind: 'release', slot: r.slot! };
+            worker.postMessage(message);
+          };
+          resolve({ tensor: r.tensor!, gains: r.gains!, release });
+        },
         reject,
       });
-      const message: BlockRequest = { id, first, n, tensor, gains };
-      worker.postMessage(message, [tensor, gains]);
+      const message: BlockRequest = { kind: 'fill', id, first, n };
+      worker.postMessage(message);
     });
   }
 

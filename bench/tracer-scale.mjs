@@ -1,0 +1,57 @@
+#!/usr/bin/env node
+/**
+ * Tracer at scale: full traces per second (traceScene, receiver moved 1 cm per trace as on a
+ * walk, after warm-up traces) on the 20-wall room at order 2 (test/fixtures/twenty-wall-room.json),
+ * a 10 x 10 street grid (400 facades and a ground plane, 28 GHz) at order 3 and a 50 000-triangle
+ * hall at order 2 (bench/scenes.mjs), with the process's CPU time beside the wall clock (the
+ * machine may be shared), the load average, the heap taken by the prepared scene and the peak RSS.
+ *
+ * usage: node bench/tracer-scale.mjs [--only room,grid,mesh] [--json]
+ */
+import { readFileSync } from 'node:fs';
+import { loadavg } from 'node:os';
+import { prepareScene, traceScene } from '@pathweave/geometry';
+import { streetGrid, triangulatedHall } from './scenes.mjs';
+
+const argv = process.argv.slice(2);
+const only = (argv.includes('--only') ? argv[argv.indexOf('--only') + 1] : 'room,grid,mesh').split(',');
+const JSON_OUT = argv.includes('--json');
+
+const room = () => ({
+  scene: { walls: JSON.parse(readFileSync(new URL('../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')).scene.walls, maxReflectionOrder: 2 },
+  transmitter: [2, 5, 2.5], receiver: [17, 7, 1.5], step: 1e-4, warm: 100, runs: 2000,
+});
+const CASES = {
+  room,
+  grid: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 30 }),
+  mesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 3 }),
+};
+
+const results = [];
+for (const name of only) {
+  const c = CASES[name]();
+  global.gc?.();
+  const heap0 = process.memoryUsage().heapUsed;
+  const p0 = performance.now();
+  const ps = prepareScene(c.scene);
+  const prepareS = (performance.now() - p0) / 1000;
+  const tx = { position: c.transmitter };
+  const at = (k) => ({ position: [c.receiver[0], c.receiver[1] + c.step * k, c.receiver[2]] });
+  const f0 = performance.now();
+  const first = traceScene(ps, tx, at(0), 28e9);
+  const firstS = (performance.now() - f0) / 1000;
+  for (let k = 1; k <= c.warm; k++) traceScene(ps, tx, at(k), 28e9);
+  const cpu0 = process.cpuUsage(), t0 = performance.now();
+  for (let k = 0; k < c.runs; k++) traceScene(ps, tx, at(k), 28e9);
+  const wall = (performance.now() - t0) / 1000, cu = process.cpuUsage(cpu0), cpu = (cu.user + cu.system) / 1e6;
+  const heapMiB = (process.memoryUsage().heapUsed - heap0) / 2 ** 20;
+  const r = {
+    scene: name, walls: ps.wallCount, order: c.scene.maxReflectionOrder, paths: first.paths.length,
+    prepareS: +prepareS.toFixed(3), firstTraceS: +firstS.toFixed(3),
+    tracesPerSecond: +(c.runs / wall).toFixed(2), tracesPerCpuSecond: +(c.runs / cpu).toFixed(2),
+    heapMiB: +heapMiB.toFixed(1), rssMiB: +(process.resourceUsage().maxRSS / 1024).toFixed(0), load1: +loadavg()[0].toFixed(2),
+  };
+  results.push(r);
+  if (!JSON_OUT) console.log(`${name}: ${r.walls} faces, order ${r.order}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`);
+}
+if (JSON_OUT) console.log(JSON.stringify(results));
