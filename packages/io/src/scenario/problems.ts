@@ -37,3 +37,17 @@ export function formatProblem(p: Problem): string {
   return p.path === '' ? p.message : `${p.path}: ${p.message}`;
 }
 
+/**
+ * A short rendering of a value for messages.
+ * @example [describeValue(undefined), describeValue('x'), describeValue([1, 2]), describeValue({ a: 1 })] // ['nothing', '"x"', '[1,2]', 'an object']
+ */
+export function describeValue(v: unknown): string {
+  if (v === undefined) return 'nothing';
+  if (typeof v === 'string') return JSON.stringify(v.length > 60 ? `${v.slice(0, 57)}...` : v);
+  if (typeof v === 'number' || typeof v === 'boolean' || v === null) return String(v);
+  if (Array.isArray(v)) {
+    const s = JSON.stringify(v);
+    return s.length > 60 ? `an array of ${v.length} items` : s;
+  }
+  return 'an object';
+}

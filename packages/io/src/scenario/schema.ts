@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { AR_DEFAULT_ORDER, SOS_DEFAULT_SINUSOIDS } from '@pathweave/core';
 import { DEFAULT_MATERIAL, DEFAULT_REFLECTION_ORDER, MATERIAL_NAMES, MAX_REFLECTION_ORDER } from '@pathweave/geometry';
+import { describeValue } from './problems.js';
 
 /**
  * The scenario format this build writes and reads by default.
@@ -52,20 +53,53 @@ const polarizationDefinition = z.union([z.enum(['vertical', 'horizontal']), z.st
  */
 export const polarizationSchema: z.ZodType<z.output<typeof polarizationDefinition>, z.input<typeof polarizationDefinition>> = polarizationDefinition;
 
-const arrayDefinition = z.strictObject({
-  kind: z.enum(['ula', 'upa', 'custom']),
-  elements: count.max(65536).optional(),
-  rows: count.max(4096).optional(),
-  columns: count.max(4096).optional(),
-  spacingWavelengths: positive.optional(),
-  positions: z.array(vector3).min(1).max(65536).optional(),
+// Each variant of a discriminated union lists every key of the others too: the keys another
+// variant takes are refused here with a message that names the variant (rather than "unknown
+// key"), and keys a variant requires say why when they are missing. These messages are the
+// ones users see: validate.ts words only the issues the schema leaves unworded.
+/** A key this variant does not take: refused, saying why and what was given. */
+const refused = (why: string) => z.never({ error: (issue) => `${why}, got ${describeValue(issue.input)}` }).optional();
+/** A number this variant requires: when missing, the message says what it is for. */
+const requiredNumber = (why: string) => z.number({ error: (issue) => (issue.input === undefined ? why : undefined) });
+
+const arrayCommon = {
   orientation: orientationSchema.optional(),
   element: z.union([z.enum(['isotropic', '3gpp-38.901']), z.strictObject({ table: elementTableSchema })]).optional(),
   polarization: polarizationSchema.optional(),
   /** Two ports per element (Nr, Nt count ports, port = 2 element + p): "slant45" (+45, -45) or "vh" (vertical, horizontal). */
   dualPolarized: z.enum(['slant45', 'vh']).optional(),
   wavefront: z.enum(['plane', 'spherical', 'auto']).optional(),
-});
+};
+const notForKind = (kind: string) => refused(`does not apply to kind "${kind}"`);
+const arrayDefinition = z.discriminatedUnion('kind', [
+  z.strictObject({
+    kind: z.literal('ula'),
+    elements: requiredNumber('is required for kind "ula" (the number of elements)').int().min(1).max(65536),
+    rows: notForKind('ula'),
+    columns: notForKind('ula'),
+    spacingWavelengths: positive.optional(),
+    positions: notForKind('ula'),
+    ...arrayCommon,
+  }),
+  z.strictObject({
+    kind: z.literal('upa'),
+    elements: notForKind('upa'),
+    rows: requiredNumber('is required for kind "upa" (elements along local +z)').int().min(1).max(4096),
+    columns: requiredNumber('is required for kind "upa" (elements along local +y)').int().min(1).max(4096),
+    spacingWavelengths: positive.optional(),
+    positions: notForKind('upa'),
+    ...arrayCommon,
+  }),
+  z.strictObject({
+    kind: z.literal('custom'),
+    elements: notForKind('custom'),
+    rows: notForKind('custom'),
+    columns: notForKind('custom'),
+    spacingWavelengths: notForKind('custom'),
+    positions: z.array(vector3, { error: (issue) => (issue.input === undefined ? 'is required for kind "custom" (element positions in metres, local frame)' : undefined) }).min(1).max(65536),
+    ...arrayCommon,
+  }),
+]);
 
 /**
  * An antenna array (ULA along local +y, UPA in the local y-z plane, or custom positions).
@@ -89,16 +123,38 @@ const terminalDefinition = z.strictObject({
  */
 export const terminalSchema: z.ZodType<z.output<typeof terminalDefinition>, z.input<typeof terminalDefinition>> = terminalDefinition;
 
-const clusterDefinition = z.strictObject({
-  preset: z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional(),
-  method: z.enum(['gaussian', 'laplacian', 'offsets-38901']).optional(),
-  subPaths: count.max(1000).optional(),
+const OFFSETS_SUB_PATHS = 20;
+const offsetsSubPathsMessage = (got: unknown): string => `method "offsets-38901" has ${OFFSETS_SUB_PATHS} sub-paths (3GPP TR 38.901 Table 7.5-3), got ${describeValue(got)}`;
+const subPaths = count.max(1000).optional();
+const clusterPreset = z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional();
+const clusterSpreads = {
   azimuthSpreadDepartureDeg: nonNegative.optional(),
   elevationSpreadDepartureDeg: nonNegative.optional(),
   azimuthSpreadArrivalDeg: nonNegative.optional(),
   elevationSpreadArrivalDeg: nonNegative.optional(),
   delaySpreadS: nonNegative.optional(),
-});
+};
+// Variants by method. The method may be left out: it is then "offsets-38901" with a preset and
+// "gaussian" without (docs/deployments.md); that one rule across two keys is the refinement below.
+const clusterDefinition = z.discriminatedUnion('method', [
+  z
+    .strictObject({ preset: clusterPreset, method: z.literal('gaussian').optional(), subPaths, ...clusterSpreads })
+    .superRefine((c, ctx) => {
+      if (c.method === undefined && c.preset !== undefined && c.subPaths !== undefined && c.subPaths !== OFFSETS_SUB_PATHS) {
+        ctx.addIssue({ code: 'custom', path: ['subPaths'], message: offsetsSubPathsMessage(c.subPaths), input: c.subPaths });
+      }
+    }),
+  z.strictObject({ preset: clusterPreset, method: z.literal('laplacian'), subPaths, ...clusterSpreads }),
+  z.strictObject({
+    preset: clusterPreset,
+    method: z.literal('offsets-38901'),
+    subPaths: count
+      .max(1000)
+      .refine((n) => n === OFFSETS_SUB_PATHS, { error: (issue) => offsetsSubPathsMessage(issue.input), when: (payload) => payload.issues.length === 0 })
+      .optional(),
+    ...clusterSpreads,
+  }),
+]);
 
 /**
  * A cluster of sub-paths around a path (docs/deployments.md): a 3GPP TR 38.901 preset by name,
@@ -208,6 +264,48 @@ const sceneDefinition = z.strictObject({
  */
 export const sceneSchema: z.ZodType<z.output<typeof sceneDefinition>, z.input<typeof sceneDefinition>> = sceneDefinition;
 
+// Orders above a few dozen are ill-conditioned anyway (AR_MAX_CONDITION refuses them); the cap keeps the fit's cost bounded.
+const arOrder = count.max(256).optional();
+// Zheng & Xiao (2003) need at least 8 sinusoids for their statistics (checked once the count itself is valid).
+const sinusoidCount = count
+  .max(4096)
+  .refine((n) => n >= 8, { error: (issue) => `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${describeValue(issue.input)}`, when: (payload) => payload.issues.length === 0 })
+  .optional();
+/** A key of other models, refused with `model` (the message names the model given). */
+const onlyFor = (models: string, model: string) => z.never({ error: () => `applies only to ${models}, got model "${model}"` }).optional();
+// Every variant lists the keys in one order (the parsed scenario keeps it): model, speedMps, order, sinusoids, ricianKDb, normalize, xprDb.
+const fadingVariant = <M extends string, O extends z.ZodType, S extends z.ZodType, K extends z.ZodType, V extends z.ZodType>(model: M, speedMps: V, order: O, sinusoids: S, ricianKDb: K) =>
+  z.strictObject({
+    model: z.literal(model),
+    speedMps,
+    order,
+    sinusoids,
+    ricianKDb,
+    normalize: z.boolean().optional(),
+    /** Cross-polar ratio (dB) of stochastic paths and cluster sub-paths, with random initial phases. */
+    xprDb: finite.optional(),
+  });
+// Below the speed of light, so Doppler spreads stay finite.
+const speed = nonNegative.max(1e8).optional();
+const notAr = (model: string) => onlyFor('model "ar"', model);
+const notSinusoids = (model: string) => onlyFor('models "sum-of-sinusoids" and "geometric"', model);
+const notGeometric = (model: string) => onlyFor('model "geometric"', model);
+const fadingDefinition = z.discriminatedUnion('model', [
+  fadingVariant('static', z.never({ error: () => 'has no effect with model "static"' }).optional(), notAr('static'), notSinusoids('static'), notGeometric('static')),
+  fadingVariant('gauss-markov', speed, notAr('gauss-markov'), notSinusoids('gauss-markov'), notGeometric('gauss-markov')),
+  fadingVariant('ar', speed, arOrder, notSinusoids('ar'), notGeometric('ar')),
+  fadingVariant('sum-of-sinusoids', speed, notAr('sum-of-sinusoids'), sinusoidCount, notGeometric('sum-of-sinusoids')),
+  fadingVariant('geometric', speed, notAr('geometric'), sinusoidCount, finite.optional()),
+]);
+
+// Taps by pulse: the roll-off belongs to the raised cosine (sinc, the default, has none).
+const tapsVariant = <P extends z.ZodType, R extends z.ZodType>(pulse: P, rollOff: R) =>
+  z.strictObject({ sampleRateHz: positive, count, pulse, rollOff, alignFirstPath: z.boolean().optional() });
+const tapsDefinition = z.discriminatedUnion('pulse', [
+  tapsVariant(z.literal('sinc').optional(), z.never({ error: () => 'applies only with pulse "raised-cosine"' }).optional()),
+  tapsVariant(z.literal('raised-cosine'), z.number().min(0).max(1).optional()),
+]);
+
 const scenarioDefinition = z.strictObject({
   formatVersion: z.number().int().min(1).max(CURRENT_FORMAT_VERSION).optional(),
   name: z.string().max(200).optional(),
@@ -228,15 +326,7 @@ const scenarioDefinition = z.strictObject({
       beamSquint: z.boolean().optional(),
     })
     .optional(),
-  taps: z
-    .strictObject({
-      sampleRateHz: positive,
-      count,
-      pulse: z.enum(['sinc', 'raised-cosine']).optional(),
-      rollOff: z.number().min(0).max(1).optional(),
-      alignFirstPath: z.boolean().optional(),
-    })
-    .optional(),
+  taps: tapsDefinition.optional(),
   transmitter: terminalSchema,
   receiver: terminalSchema.optional(),
   receivers: z.array(terminalSchema).min(1).optional(),
@@ -244,18 +334,7 @@ const scenarioDefinition = z.strictObject({
   paths: z.array(pathSchema).min(1).optional(),
   /** Widen every path (traced or explicit) into a cluster of sub-paths. */
   clusters: clusterSchema.optional(),
-  fading: z.strictObject({
-    model: z.enum(['static', 'gauss-markov', 'ar', 'sum-of-sinusoids', 'geometric']),
-    // Below the speed of light, so Doppler spreads stay finite.
-    speedMps: nonNegative.max(1e8).optional(),
-    // Orders above a few dozen are ill-conditioned anyway (AR_MAX_CONDITION refuses them); the cap keeps the fit's cost bounded.
-    order: count.max(256).optional(),
-    sinusoids: count.max(4096).optional(),
-    ricianKDb: finite.optional(),
-    normalize: z.boolean().optional(),
-    /** Cross-polar ratio (dB) of stochastic paths and cluster sub-paths, with random initial phases. */
-    xprDb: finite.optional(),
-  }),
+  fading: fadingDefinition,
   seed: z.number().int().min(0).max(2 ** 53 - 1),
   precision: z.enum(['complex64', 'complex128']).optional(),
 });
@@ -490,7 +569,9 @@ function annotate(node: unknown, path: string): void {
       const at = path === '' ? key : `${path}.${key}`;
       const doc = KEY_DOCS[docKey(at)];
       if (doc === undefined) throw new Error(`scenarioJsonSchema(): no documentation for key ${at}`);
-      Object.assign(child, { description: doc.unit !== undefined && doc.unit !== '1' ? `${doc.description} Unit: ${doc.unit}.` : doc.description });
+      const described = doc.unit !== undefined && doc.unit !== '1' ? `${doc.description} Unit: ${doc.unit}.` : doc.description;
+      // A key of another variant (array kind, fading model), refused in this one.
+      Object.assign(child, { description: child.not !== undefined ? `${described} Not allowed in this variant.` : described });
       if (doc.unit !== undefined) child.unit = doc.unit;
       if (doc.default !== undefined) child.default = doc.default;
       if (at === 'scene.walls') {

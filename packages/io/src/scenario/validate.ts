@@ -10,10 +10,10 @@ import { DEFAULT_REFLECTION_ORDER, validateScene, type Scene } from '@pathweave/
 import { JsonSyntaxError, parseJson } from './json.js';
 import { checkPlausibility } from './plausibility.js';
 import { portCount } from './plan.js';
-import { formatProblem, ScenarioError, type Problem } from './problems.js';
+import { describeValue, formatProblem, ScenarioError, type Problem } from './problems.js';
 import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, scenarioSchema, type Scenario } from './schema.js';
 
-export { formatProblem, ScenarioError, type Problem } from './problems.js';
+export { describeValue, formatProblem, ScenarioError, type Problem } from './problems.js';
 
 /**
  * Result of `safeParseScenario`.
@@ -34,21 +34,6 @@ export function dottedPath(segments: readonly PropertyKey[]): string {
     else out += out === '' ? String(s) : `.${String(s)}`;
   }
   return out;
-}
-
-/**
- * A short rendering of a value for messages.
- * @example [describeValue(undefined), describeValue('x'), describeValue([1, 2]), describeValue({ a: 1 })] // ['nothing', '"x"', '[1,2]', 'an object']
- */
-export function describeValue(v: unknown): string {
-  if (v === undefined) return 'nothing';
-  if (typeof v === 'string') return JSON.stringify(v.length > 60 ? `${v.slice(0, 57)}...` : v);
-  if (typeof v === 'number' || typeof v === 'boolean' || v === null) return String(v);
-  if (Array.isArray(v)) {
-    const s = JSON.stringify(v);
-    return s.length > 60 ? `an array of ${v.length} items` : s;
-  }
-  return 'an object';
 }
 
 function valueAt(root: unknown, segments: readonly PropertyKey[]): unknown {
@@ -126,10 +111,17 @@ function boundText(inclusive: boolean | undefined, bound: unknown, below: boolea
   return `${below ? (inclusive ? '>=' : '>') : inclusive ? '<=' : '<'} ${bound as string}`;
 }
 
+/**
+ * The message of every issue the schema states no message for: those are worded here, from the
+ * issue's code; a message the schema states (a variant's required or refused key) is kept as is.
+ */
+const UNWORDED = '\u0000unworded';
+
 function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
   const path = dottedPath(issue.path);
   const value = valueAt(input, issue.path);
   const got = `got ${describeValue(value)}`;
+  if (issue.message !== UNWORDED && issue.code !== 'unrecognized_keys') return [{ path, message: issue.message }];
   switch (issue.code) {
     case 'unrecognized_keys': {
       // A key already present is never the one meant (timing.subframs must not suggest subframeS).
@@ -165,6 +157,10 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
     case 'invalid_value':
       return [{ path, message: `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
     case 'invalid_union': {
+      // A discriminated union whose tag (array kind, fading model) names no variant.
+      if (issue.discriminator !== undefined && 'options' in issue && issue.options !== undefined && issue.errors.length === 0) {
+        return [{ path, message: `must be one of ${issue.options.filter((v) => v !== undefined).map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
+      }
       // Report the alternative that came closest (fewest problems) rather than a bare "invalid".
       let best: Problem[] | undefined;
       for (const branch of issue.errors) {
@@ -201,29 +197,7 @@ function crossChecks(s: Scenario): Problem[] {
   for (const [name, t] of terminals) {
     const a = t.array;
     const at = `${name}.array`;
-    const need = (key: keyof typeof a, why: string): void => {
-      if (a[key] === undefined) problems.push({ path: `${at}.${String(key)}`, message: `is required for kind "${a.kind}" (${why})` });
-    };
-    const forbid = (key: keyof typeof a): void => {
-      if (a[key] !== undefined) problems.push({ path: `${at}.${String(key)}`, message: `does not apply to kind "${a.kind}", got ${describeValue(a[key])}` });
-    };
-    if (a.kind === 'ula') {
-      need('elements', 'the number of elements');
-      forbid('rows');
-      forbid('columns');
-      forbid('positions');
-    } else if (a.kind === 'upa') {
-      need('rows', 'elements along local +z');
-      need('columns', 'elements along local +y');
-      forbid('elements');
-      forbid('positions');
-    } else {
-      need('positions', 'element positions in metres, local frame');
-      forbid('elements');
-      forbid('rows');
-      forbid('columns');
-      forbid('spacingWavelengths');
-    }
+    // Which keys each kind requires or refuses is the schema's (the variants of arraySchema).
     if (a.dualPolarized !== undefined && a.polarization !== undefined) {
       problems.push({ path: `${at}.polarization`, message: `does not apply to a dual-polarised array (dualPolarized "${a.dualPolarized}" sets both ports), got ${describeValue(a.polarization)}` });
     }
@@ -240,9 +214,7 @@ function crossChecks(s: Scenario): Problem[] {
       if (t.velocity !== undefined) problems.push({ path: `${name}.velocity`, message: 'give either "velocity" or "trajectory", not both' });
     }
   }
-  if (s.taps?.rollOff !== undefined && s.taps.pulse !== 'raised-cosine') {
-    problems.push({ path: 'taps.rollOff', message: 'applies only with pulse "raised-cosine"' });
-  }
+  // The roll-off belongs to pulse "raised-cosine": the variants of the taps union say so.
   // Up-front limits on work (docs/conventions.md, "Limits"): refused here, before a build that
   // would hold the event loop (and so a signal) for a long time.
   if (s.paths !== undefined && s.paths.length > MAX_EXPLICIT_PATHS) {
@@ -291,22 +263,11 @@ function crossChecks(s: Scenario): Problem[] {
     }
   } else if (t.cyclicPrefix !== undefined) problems.push({ path: 'timing.cyclicPrefix', message: 'applies only with timing.numerology' });
   if (s.band !== undefined && s.band.spacingHz === undefined && t.numerology === undefined) problems.push({ path: 'band.spacingHz', message: 'is required (or give timing.numerology, from which it follows)' });
-  // Fading options belong to their models.
   const f = s.fading;
-  if (f.order !== undefined && f.model !== 'ar') problems.push({ path: 'fading.order', message: `applies only to model "ar", got model "${f.model}"` });
-  if (f.sinusoids !== undefined && f.model !== 'sum-of-sinusoids' && f.model !== 'geometric') problems.push({ path: 'fading.sinusoids', message: `applies only to models "sum-of-sinusoids" and "geometric", got model "${f.model}"` });
-  if (f.sinusoids !== undefined && f.sinusoids < 8) problems.push({ path: 'fading.sinusoids', message: `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${f.sinusoids}` });
-  if (f.ricianKDb !== undefined && f.model !== 'geometric') problems.push({ path: 'fading.ricianKDb', message: `applies only to model "geometric", got model "${f.model}"` });
+  // Which options each model takes is the schema's (the variants of the fading union).
   const polarised = f.xprDb !== undefined || terminals.some(([, t]) => t.array.dualPolarized !== undefined);
   if (polarised && s.band?.beamSquint === true) problems.push({ path: 'band.beamSquint', message: 'is not supported together with dual-polarised arrays or fading.xprDb' });
-  const clusterChecks: [string, NonNullable<Scenario['clusters']>][] = [];
-  if (s.clusters !== undefined) clusterChecks.push(['clusters', s.clusters]);
-  s.paths?.forEach((p, i) => { if (p.cluster !== undefined) clusterChecks.push([`paths[${i}].cluster`, p.cluster]); });
-  for (const [at, c] of clusterChecks) {
-    const method = c.method ?? (c.preset !== undefined ? 'offsets-38901' : 'gaussian');
-    if (method === 'offsets-38901' && c.subPaths !== undefined && c.subPaths !== 20) problems.push({ path: `${at}.subPaths`, message: `method "offsets-38901" has 20 sub-paths (3GPP TR 38.901 Table 7.5-3), got ${c.subPaths}` });
-  }
-  if (f.model === 'static' && f.speedMps !== undefined) problems.push({ path: 'fading.speedMps', message: 'has no effect with model "static"' });
+  // A cluster's sub-path count with method "offsets-38901" is the schema's (the variants of clusterSchema).
   for (const [i, p] of (s.paths ?? []).entries()) {
     for (const key of ['aodDeg', 'aoaDeg'] as const) {
       const el = p[key][1];
@@ -365,7 +326,7 @@ export function safeParseScenario(input: unknown): ScenarioResult {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) {
     return { ok: false, problems: [{ path: '', message: `a scenario must be a JSON object, got ${describeValue(input)}` }] };
   }
-  const result = scenarioSchema.safeParse(input);
+  const result = scenarioSchema.safeParse(input, { error: () => UNWORDED });
   if (!result.success) {
     const problems = result.error.issues.flatMap((issue) => issueToProblems(issue, input));
     return { ok: false, problems: dedupe(problems) };
