@@ -232,7 +232,8 @@ describe('doc examples state true results', () => {
 
   it.each(runnable.map((r) => [`${r.example.file}:${r.example.line} ${r.example.owner}`, r] as const))('%s', async (_name, r) => {
     const got: unknown[] = [];
-    const fn = new AsyncFunction(...Object.keys(scope), '__claim', r.body);
+    // The body in a block of its own, so an example may declare a name of the scope (its own `scenario`).
+    const fn = new AsyncFunction(...Object.keys(scope), '__claim', `{\n${r.body}\n}`);
     await fn(...Object.values(scope), (i: number, v: unknown) => {
       got[i] = v;
     });
