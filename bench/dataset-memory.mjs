@@ -72,5 +72,6 @@ try {
 console.log(`pathweave generate ${extraArgs.join(' ')}, 2 GiB tensor [4096, 256, 32, 8] complex64, Node ${process.version}, limit ${LIMIT_MB} MB`);
 console.log('| format | file bytes | seconds | peak RSS (VmHWM) | under limit |');
 console.log('|---|---|---|---|---|');
-for (const r of rows) console.log(`| ${r.format} | ${r.bytes} | ${r.seconds.toFixed(1)} | ${r.peakMb.toFixed(0)} MB | ${r.code === 0 && r.peakMb < LIMIT_MB ? 'yes' : 'NO'} |`);
+for (const r of rows)
+  console.log(`| ${r.format} | ${r.bytes} | ${r.seconds.toFixed(1)} | ${r.peakMb.toFixed(0)} MB | ${r.code === 0 && r.peakMb < LIMIT_MB ? 'yes' : 'NO'} |`);
 process.exitCode = rows.every((r) => r.code === 0 && r.peakMb < LIMIT_MB) ? 0 : 1;

@@ -39,7 +39,8 @@ if (mode === 'startup') {
   Object.assign(result, { firstBlockSeconds: firstBlock / 1000, doneSeconds: performance.now() / 1000 });
 } else if (mode === 'tracer') {
   const ps = prepareScene(twentyWallRoom());
-  const tx = { position: [2, 5, 2.5] }, rx = { position: [17, 7, 1.5] };
+  const tx = { position: [2, 5, 2.5] },
+    rx = { position: [17, 7, 1.5] };
   const first = traceScene(ps, tx, rx, 28e9);
   for (let k = 0; k < 100; k++) traceScene(ps, tx, rx, 28e9); // warm-up
   const runs = 2000;
@@ -62,7 +63,12 @@ if (mode === 'startup') {
   const text = JSON.stringify(cfg.scenario);
   const { scenario } = parseScenarioText(text);
   if (mode === 'e2e' || mode === 'e2e-checksum') {
-    const report = await generate(scenario, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', checksum: mode === 'e2e-checksum', ...(workers === 'default' ? {} : { workers }) });
+    const report = await generate(scenario, text, {
+      out,
+      format: out.endsWith('.npz') ? 'npz' : 'npy',
+      checksum: mode === 'e2e-checksum',
+      ...(workers === 'default' ? {} : { workers }),
+    });
     const blocks = Math.ceil(scenario.timing.subframes / blockSubframes(report.built.valuesPerSubframe * report.built.generator.bytesPerValue));
     result.workers = workers === 'default' ? defaultWorkers(blocks) : workers;
     Object.assign(result, { loopSeconds: report.seconds, fileBytes: report.fileBytes, coefficients: report.tensorBytes / 8 });

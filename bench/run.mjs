@@ -64,7 +64,14 @@ const spread = (s) => `${fmt(s.median)} [${fmt(s.min)}-${fmt(s.max)}]`;
 
 function numpyInfo() {
   const env = { ...numpyEnv(0), OPENBLAS_VERBOSE: '2' };
-  const r = spawnSync(PYTHON, ['-c', 'import sys, numpy; print(sys.executable, numpy.__version__); c = numpy.show_config(mode="dicts"); print(c["Build Dependencies"]["blas"]["name"], c["Build Dependencies"]["blas"].get("version", ""))'], { env, encoding: 'utf8' });
+  const r = spawnSync(
+    PYTHON,
+    [
+      '-c',
+      'import sys, numpy; print(sys.executable, numpy.__version__); c = numpy.show_config(mode="dicts"); print(c["Build Dependencies"]["blas"]["name"], c["Build Dependencies"]["blas"].get("version", ""))',
+    ],
+    { env, encoding: 'utf8' },
+  );
   const core = /Core: (\S+)/.exec(r.stdout + r.stderr)?.[1] ?? 'unknown';
   const [exe, blas] = r.stdout.trim().split('\n');
   return { python: exe, blas, openblasCore: core };
@@ -88,9 +95,20 @@ try {
       writeFileSync(join(dir, 'tracer.json'), '{}');
       const runs = Array.from({ length: PAIRS }, () => pw([join(dir, 'tracer.json'), 'tracer', '1']));
       const tps = stats(runs.map((r) => r.tracesPerSecond));
-      const row = { workload: name, description: w.description, mode: 'tracer', threads: '1', tracesPerSecond: tps, validPaths: runs[0].validPaths, maxRssBytes: Math.max(...runs.map((r) => r.maxRssBytes)), numpy: 'n/a (no numpy counterpart of the image-method tracer)' };
+      const row = {
+        workload: name,
+        description: w.description,
+        mode: 'tracer',
+        threads: '1',
+        tracesPerSecond: tps,
+        validPaths: runs[0].validPaths,
+        maxRssBytes: Math.max(...runs.map((r) => r.maxRssBytes)),
+        numpy: 'n/a (no numpy counterpart of the image-method tracer)',
+      };
       emit(row);
-      log(`\n${name}: ${w.description}\n  traces/s ${spread(tps)} (asked: >= 1000) (${row.validPaths} valid paths), peak RSS ${(row.maxRssBytes / 2 ** 20).toFixed(0)} MiB`);
+      log(
+        `\n${name}: ${w.description}\n  traces/s ${spread(tps)} (asked: >= 1000) (${row.validPaths} valid paths), peak RSS ${(row.maxRssBytes / 2 ** 20).toFixed(0)} MiB`,
+      );
       continue;
     }
     // The per-path alpha of the numpy side is pathweave's own (Clarke/Jakes J0 at the subframe lag).
@@ -106,20 +124,40 @@ try {
     writeFileSync(checkCfg, JSON.stringify({ scenario: checkScenario, alpha: built.generator.correlations.map((c) => c.alpha) }));
     pw([checkCfg, 'e2e', '1', join(dir, `${name}-check.npz`)]);
     const check = np([checkCfg, 'memory', '-', join(dir, `${name}-check.npz`)], 1);
-    log(`\n${name}: ${w.description}\n  ${coefficients.toExponential(3)} coefficients; pathweave vs numpy relative Frobenius error ${check.relativeFrobenius.toExponential(2)} (target 2e-5)`);
+    log(
+      `\n${name}: ${w.description}\n  ${coefficients.toExponential(3)} coefficients; pathweave vs numpy relative Frobenius error ${check.relativeFrobenius.toExponential(2)} (target 2e-5)`,
+    );
 
-    const combos = [['memory', '1'], ['memory', 'default'], ...(w.endToEnd ? [['e2e', '1'], ['e2e', 'default'], ['e2e', 'pool'], ['e2e-checksum', '1']] : [])].filter(([m, t]) => COMBOS === undefined || COMBOS.includes(`${m}:${t}`));
+    const combos = [
+      ['memory', '1'],
+      ['memory', 'default'],
+      ...(w.endToEnd
+        ? [
+            ['e2e', '1'],
+            ['e2e', 'default'],
+            ['e2e', 'pool'],
+            ['e2e-checksum', '1'],
+          ]
+        : []),
+    ].filter(([m, t]) => COMBOS === undefined || COMBOS.includes(`${m}:${t}`));
     for (const [mode, threads] of combos) {
       {
         const workers = threads === '1' ? '1' : threads === 'pool' ? String(availableParallelism()) : 'default';
         const loadBefore = loadavg()[0]; // the machine is shared: say how busy it was
-        const p = [], n = [];
+        const p = [],
+          n = [];
         for (let i = 0; i < PAIRS; i++) {
           const out = join(dir, `${name}.npy`);
           const first = i % 2 === 0; // alternate which side goes first
           const runP = () => p.push(pw([cfgFile, mode, workers, out]));
           const runN = () => n.push(np([cfgFile, mode, out], threads === '1' ? 1 : 0));
-          if (first) { runP(); runN(); } else { runN(); runP(); }
+          if (first) {
+            runP();
+            runN();
+          } else {
+            runN();
+            runP();
+          }
           rmSync(out, { force: true });
           rmSync(`${out}.json`, { force: true });
         }
@@ -128,15 +166,34 @@ try {
         const ns = stats(n.map((r) => coefficients / seconds(r)));
         const ratio = stats(p.map((r, i) => seconds(n[i]) / seconds(r)));
         const row = {
-          workload: name, description: w.description, mode, threads, pathweaveWorkers: p[0].workers, kernel: p[0].kernel,
-          coefficients, relativeFrobenius: check.relativeFrobenius,
-          pathweave: { coefficientsPerSecond: ps, bytesPerSecond: stats(p.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(p.map(seconds)), maxRssBytes: Math.max(...p.map((r) => r.maxRssBytes)) },
-          numpy: { coefficientsPerSecond: ns, bytesPerSecond: stats(n.map((r) => (8 * coefficients) / seconds(r))), seconds: stats(n.map(seconds)), maxRssBytes: Math.max(...n.map((r) => r.maxRssBytes)), ...info },
+          workload: name,
+          description: w.description,
+          mode,
+          threads,
+          pathweaveWorkers: p[0].workers,
+          kernel: p[0].kernel,
+          coefficients,
+          relativeFrobenius: check.relativeFrobenius,
+          pathweave: {
+            coefficientsPerSecond: ps,
+            bytesPerSecond: stats(p.map((r) => (8 * coefficients) / seconds(r))),
+            seconds: stats(p.map(seconds)),
+            maxRssBytes: Math.max(...p.map((r) => r.maxRssBytes)),
+          },
+          numpy: {
+            coefficientsPerSecond: ns,
+            bytesPerSecond: stats(n.map((r) => (8 * coefficients) / seconds(r))),
+            seconds: stats(n.map(seconds)),
+            maxRssBytes: Math.max(...n.map((r) => r.maxRssBytes)),
+            ...info,
+          },
           ratio,
           loadAverage1m: { before: loadBefore, after: loadavg()[0] },
         };
         emit(row);
-        log(`  ${mode.padEnd(12)} threads ${threads.padEnd(7)} (pathweave workers ${p[0].workers}) pathweave ${spread(ps)} coeff/s (${fmt(ps.median * 8 / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
+        log(
+          `  ${mode.padEnd(12)} threads ${threads.padEnd(7)} (pathweave workers ${p[0].workers}) pathweave ${spread(ps)} coeff/s (${fmt((ps.median * 8) / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
+        );
       }
     }
 
@@ -144,16 +201,26 @@ try {
       // Raw disk rate (16 MiB writes + fsync) beside pathweave's file rate to the same disk (default workers).
       const diskDir = mkdtempSync(join(DISKDIR, 'pathweave-bench-disk-'));
       try {
-        const raw = [], file = [];
+        const raw = [],
+          file = [];
         for (let i = 0; i < Math.min(PAIRS, 3); i++) {
           raw.push(pw([cfgFile, 'rawdisk', '1', join(diskDir, 'raw.bin')]).bytesPerSecond);
           const r = pw([cfgFile, 'e2e', 'default', join(diskDir, 'x.npy')]); // generate's default workers
           file.push(r.fileBytes / r.loopSeconds);
           for (const f of readdirSync(diskDir)) rmSync(join(diskDir, f), { force: true });
         }
-        const row = { workload: name, mode: 'disk', disk: DISKDIR, rawBytesPerSecond: stats(raw), pathweaveFileBytesPerSecond: stats(file), fraction: stats(file.map((f, i) => f / raw[i])) };
+        const row = {
+          workload: name,
+          mode: 'disk',
+          disk: DISKDIR,
+          rawBytesPerSecond: stats(raw),
+          pathweaveFileBytesPerSecond: stats(file),
+          fraction: stats(file.map((f, i) => f / raw[i])),
+        };
         emit(row);
-        log(`  disk ${DISKDIR}: raw write+fsync ${spread(stats(raw.map((x) => x / 2 ** 20)))} MiB/s, pathweave file ${spread(stats(file.map((x) => x / 2 ** 20)))} MiB/s (${spread(row.fraction)} of raw)`);
+        log(
+          `  disk ${DISKDIR}: raw write+fsync ${spread(stats(raw.map((x) => x / 2 ** 20)))} MiB/s, pathweave file ${spread(stats(file.map((x) => x / 2 ** 20)))} MiB/s (${spread(row.fraction)} of raw)`,
+        );
       } finally {
         rmSync(diskDir, { recursive: true, force: true });
       }
@@ -175,15 +242,25 @@ try {
       return Number(process.hrtime.bigint() - t0) / 1e9;
     };
     const loadBefore = loadavg()[0];
-    const bare = [], cli = [], first = [];
+    const bare = [],
+      cli = [],
+      first = [];
     for (let i = 0; i < PAIRS; i++) {
       bare.push(wall(['-e', '0']));
       cli.push(wall([bin, 'generate', f, '--out', join(dir, 'startup.npy'), '--quiet']));
       first.push(pw([join(dir, 'startup-cfg.json'), 'startup', '1', join(dir, 'startup2.npy')]).firstBlockSeconds);
     }
-    const row = { mode: 'startup', nodeBareSeconds: stats(bare), cliFourSubframesSeconds: stats(cli), firstBlockSeconds: stats(first), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+    const row = {
+      mode: 'startup',
+      nodeBareSeconds: stats(bare),
+      cliFourSubframesSeconds: stats(cli),
+      firstBlockSeconds: stats(first),
+      loadAverage1m: { before: loadBefore, after: loadavg()[0] },
+    };
     emit(row);
-    log(`\nstart-up (4 subframes of the dataset scene): node -e 0 ${spread(row.nodeBareSeconds)} s; pathweave generate (whole process) ${spread(row.cliFourSubframesSeconds)} s; process start to first block ${spread(row.firstBlockSeconds)} s | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`);
+    log(
+      `\nstart-up (4 subframes of the dataset scene): node -e 0 ${spread(row.nodeBareSeconds)} s; pathweave generate (whole process) ${spread(row.cliFourSubframesSeconds)} s; process start to first block ${spread(row.firstBlockSeconds)} s | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
+    );
   }
 
   if (!flag('--no-pool-scaling')) {
@@ -191,11 +268,15 @@ try {
     // shared buffers, read in place; 1 = the main thread in place), and end to end to /dev/shm.
     const cfgFile = join(dir, 'dataset.json');
     const { scenario } = parseScenarioText(JSON.stringify(WORKLOADS.dataset.scenario));
-    writeFileSync(cfgFile, JSON.stringify({ scenario: WORKLOADS.dataset.scenario, alpha: buildScenario(scenario, {}).generator.correlations.map((c) => c.alpha) }));
+    writeFileSync(
+      cfgFile,
+      JSON.stringify({ scenario: WORKLOADS.dataset.scenario, alpha: buildScenario(scenario, {}).generator.correlations.map((c) => c.alpha) }),
+    );
     const coefficients = coefficientsOf(WORKLOADS.dataset.scenario);
     log(`\npool scaling (dataset, ${PAIRS} runs each, interleaved; coeff/s, median [min-max]):`);
     const counts = [1, 2, 3];
-    const mem = counts.map(() => []), e2e = counts.map(() => []);
+    const mem = counts.map(() => []),
+      e2e = counts.map(() => []);
     const loadBefore = loadavg()[0];
     for (let i = 0; i < PAIRS; i++) {
       counts.forEach((w, j) => {
@@ -206,7 +287,14 @@ try {
       });
     }
     counts.forEach((w, j) => {
-      const row = { mode: 'pool-scaling', workers: w, memory: stats(mem[j]), e2e: stats(e2e[j]), memorySpeedup: stats(mem[j].map((x, i) => x / mem[0][i])), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+      const row = {
+        mode: 'pool-scaling',
+        workers: w,
+        memory: stats(mem[j]),
+        e2e: stats(e2e[j]),
+        memorySpeedup: stats(mem[j].map((x, i) => x / mem[0][i])),
+        loadAverage1m: { before: loadBefore, after: loadavg()[0] },
+      };
       emit(row);
       log(`  workers ${w}: memory ${spread(row.memory)} (x${spread(row.memorySpeedup)} of 1), end to end ${spread(row.e2e)}`);
     });
@@ -218,9 +306,27 @@ try {
     log('\nscaling (one thread, in memory; ns per coefficient-path = seconds / (S K Nr Nt L)):');
     const base = WORKLOADS.dataset.scenario;
     const variants = [];
-    for (const L of [4, 8, 16]) variants.push(['L', L, { ...base, timing: { ...base.timing, subframes: 100 }, paths: Array.from({ length: L }, (_, l) => ({ ...base.paths[l % 8], id: `p${l}`, delayS: base.paths[l % 8].delayS + 1e-9 * l })) }]);
+    for (const L of [4, 8, 16])
+      variants.push([
+        'L',
+        L,
+        {
+          ...base,
+          timing: { ...base.timing, subframes: 100 },
+          paths: Array.from({ length: L }, (_, l) => ({ ...base.paths[l % 8], id: `p${l}`, delayS: base.paths[l % 8].delayS + 1e-9 * l })),
+        },
+      ]);
     for (const K of [128, 256, 512]) variants.push(['K', K, { ...base, timing: { ...base.timing, subframes: 100 }, band: { ...base.band, subcarriers: K } }]);
-    for (const [r, c] of [[2, 4], [4, 4], [8, 4]]) variants.push(['NrNt', r * c * 64, { ...base, timing: { ...base.timing, subframes: 100 }, receiver: { ...base.receiver, array: { kind: 'upa', rows: r, columns: c } } }]);
+    for (const [r, c] of [
+      [2, 4],
+      [4, 4],
+      [8, 4],
+    ])
+      variants.push([
+        'NrNt',
+        r * c * 64,
+        { ...base, timing: { ...base.timing, subframes: 100 }, receiver: { ...base.receiver, array: { kind: 'upa', rows: r, columns: c } } },
+      ]);
     for (const S of [50, 100, 200, 600]) variants.push(['S', S, { ...base, timing: { ...base.timing, subframes: S } }]);
     for (const [axis, v, sc] of variants) {
       const f = join(dir, `scale-${axis}-${v}.json`);
@@ -237,7 +343,9 @@ try {
         row.endToEndPeakRssBytes = e.maxRssBytes;
       }
       emit(row);
-      log(`  ${axis.padEnd(5)} ${String(v).padStart(5)}: ${sec.toFixed(3)} s, ${nsPer.toFixed(3)} ns per coefficient-path${row.endToEndPeakRssBytes ? `, end-to-end peak RSS ${(row.endToEndPeakRssBytes / 2 ** 20).toFixed(0)} MiB` : ''}`);
+      log(
+        `  ${axis.padEnd(5)} ${String(v).padStart(5)}: ${sec.toFixed(3)} s, ${nsPer.toFixed(3)} ns per coefficient-path${row.endToEndPeakRssBytes ? `, end-to-end peak RSS ${(row.endToEndPeakRssBytes / 2 ** 20).toFixed(0)} MiB` : ''}`,
+      );
     }
   }
 } finally {

@@ -19,7 +19,11 @@ const JSON_OUT = argv.includes('--json');
 
 const room = () => ({
   scene: { walls: JSON.parse(readFileSync(new URL('../test/fixtures/twenty-wall-room.json', import.meta.url), 'utf8')).scene.walls, maxReflectionOrder: 2 },
-  transmitter: [2, 5, 2.5], receiver: [17, 7, 1.5], step: 1e-4, warm: 100, runs: 2000,
+  transmitter: [2, 5, 2.5],
+  receiver: [17, 7, 1.5],
+  step: 1e-4,
+  warm: 100,
+  runs: 2000,
 });
 const CASES = {
   room,
@@ -41,17 +45,30 @@ for (const name of only) {
   const first = traceScene(ps, tx, at(0), 28e9);
   const firstS = (performance.now() - f0) / 1000;
   for (let k = 1; k <= c.warm; k++) traceScene(ps, tx, at(k), 28e9);
-  const cpu0 = process.cpuUsage(), t0 = performance.now();
+  const cpu0 = process.cpuUsage(),
+    t0 = performance.now();
   for (let k = 0; k < c.runs; k++) traceScene(ps, tx, at(k), 28e9);
-  const wall = (performance.now() - t0) / 1000, cu = process.cpuUsage(cpu0), cpu = (cu.user + cu.system) / 1e6;
+  const wall = (performance.now() - t0) / 1000,
+    cu = process.cpuUsage(cpu0),
+    cpu = (cu.user + cu.system) / 1e6;
   const heapMiB = (process.memoryUsage().heapUsed - heap0) / 2 ** 20;
   const r = {
-    scene: name, walls: ps.wallCount, order: c.scene.maxReflectionOrder, paths: first.paths.length,
-    prepareS: +prepareS.toFixed(3), firstTraceS: +firstS.toFixed(3),
-    tracesPerSecond: +(c.runs / wall).toFixed(2), tracesPerCpuSecond: +(c.runs / cpu).toFixed(2),
-    heapMiB: +heapMiB.toFixed(1), rssMiB: +(process.resourceUsage().maxRSS / 1024).toFixed(0), load1: +loadavg()[0].toFixed(2),
+    scene: name,
+    walls: ps.wallCount,
+    order: c.scene.maxReflectionOrder,
+    paths: first.paths.length,
+    prepareS: +prepareS.toFixed(3),
+    firstTraceS: +firstS.toFixed(3),
+    tracesPerSecond: +(c.runs / wall).toFixed(2),
+    tracesPerCpuSecond: +(c.runs / cpu).toFixed(2),
+    heapMiB: +heapMiB.toFixed(1),
+    rssMiB: +(process.resourceUsage().maxRSS / 1024).toFixed(0),
+    load1: +loadavg()[0].toFixed(2),
   };
   results.push(r);
-  if (!JSON_OUT) console.log(`${name}: ${r.walls} faces, order ${r.order}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`);
+  if (!JSON_OUT)
+    console.log(
+      `${name}: ${r.walls} faces, order ${r.order}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`,
+    );
 }
 if (JSON_OUT) console.log(JSON.stringify(results));

@@ -33,7 +33,8 @@ const target = (dopplers, k) => dopplers.reduce((v, f) => v * besselJ0(2 * Math.
 
 function sampleCorrelation(g, L, k) {
   let s = 0;
-  for (let l = 0; l < L; l++) for (let n = 0; n + k < N; n++) s += g[2 * ((n + k) * L + l)] * g[2 * (n * L + l)] + g[2 * ((n + k) * L + l) + 1] * g[2 * (n * L + l) + 1];
+  for (let l = 0; l < L; l++)
+    for (let n = 0; n + k < N; n++) s += g[2 * ((n + k) * L + l)] * g[2 * (n * L + l)] + g[2 * ((n + k) * L + l) + 1] * g[2 * (n * L + l) + 1];
   return s / (L * (N - k));
 }
 
@@ -67,32 +68,68 @@ function measure(name, params, dopplers, makeProcess, modelCorrelation, ownTarge
 }
 
 const alpha = (d) => target(d, 1);
-measure('gauss-markov (AR(1))', 'alpha = R(1)', [50], (p) => new GaussMarkovGains(p.map((x) => ({ ...x, alpha: alpha([50]) })), 1), (_, K) =>
-  Array.from({ length: K + 1 }, (_, k) => alpha([50]) ** k),
+measure(
+  'gauss-markov (AR(1))',
+  'alpha = R(1)',
+  [50],
+  (p) =>
+    new GaussMarkovGains(
+      p.map((x) => ({ ...x, alpha: alpha([50]) })),
+      1,
+    ),
+  (_, K) => Array.from({ length: K + 1 }, (_, k) => alpha([50]) ** k),
 );
 for (const order of [5, 10, 20, 30]) {
-  measure('ar', `order ${order}`, [50], (p) => new AutoregressiveGains(p, 1, { order, stepS: T }), (g, K) => arModelCorrelation(g.fits[0], K));
+  measure(
+    'ar',
+    `order ${order}`,
+    [50],
+    (p) => new AutoregressiveGains(p, 1, { order, stepS: T }),
+    (g, K) => arModelCorrelation(g.fits[0], K),
+  );
 }
-measure('ar', 'order 48', [30, 20], (p) => new AutoregressiveGains(p, 1, { order: 48, stepS: T }), (g, K) => arModelCorrelation(g.fits[0], K));
+measure(
+  'ar',
+  'order 48',
+  [30, 20],
+  (p) => new AutoregressiveGains(p, 1, { order: 48, stepS: T }),
+  (g, K) => arModelCorrelation(g.fits[0], K),
+);
 for (const sinusoids of [8, 16, 32]) {
-  measure('sum-of-sinusoids', `M = ${sinusoids}`, [50], (p) => new SumOfSinusoidsGains(p, 1, { sinusoids, clock: uniformClock(T) }), (_, K) =>
-    Array.from({ length: K + 1 }, (_, k) => target([50], k)),
+  measure(
+    'sum-of-sinusoids',
+    `M = ${sinusoids}`,
+    [50],
+    (p) => new SumOfSinusoidsGains(p, 1, { sinusoids, clock: uniformClock(T) }),
+    (_, K) => Array.from({ length: K + 1 }, (_, k) => target([50], k)),
   );
 }
 for (const sinusoids of [8, 16]) {
-  measure('sum-of-sinusoids (double ring)', `M = ${sinusoids} per end`, [30, 20], (p) => new SumOfSinusoidsGains(p, 1, { sinusoids, clock: uniformClock(T) }), (_, K) =>
-    Array.from({ length: K + 1 }, (_, k) => target([30, 20], k)),
+  measure(
+    'sum-of-sinusoids (double ring)',
+    `M = ${sinusoids} per end`,
+    [30, 20],
+    (p) => new SumOfSinusoidsGains(p, 1, { sinusoids, clock: uniformClock(T) }),
+    (_, K) => Array.from({ length: K + 1 }, (_, k) => target([30, 20], k)),
   );
 }
 // Geometric with K = 0 dB: target Re E[rho(t + tau) rho*(t)] = (K cos(2 pi f_l tau) + J0) / (K + 1), f_l = 20 Hz.
 const kLin = 1;
 const geometricTarget = (k) => (kLin * Math.cos(2 * Math.PI * 20 * k * T) + target([50], k)) / (kLin + 1);
-measure('geometric', 'K = 0 dB, f_l = 20 Hz, M = 16', [50], (p) => new GeometricGains(p, 1, { clock: uniformClock(T), ricianKDb: 0, sinusoids: 16 }), (_, K) =>
-  Array.from({ length: K + 1 }, (_, k) => geometricTarget(k)),
+measure(
+  'geometric',
+  'K = 0 dB, f_l = 20 Hz, M = 16',
+  [50],
+  (p) => new GeometricGains(p, 1, { clock: uniformClock(T), ricianKDb: 0, sinusoids: 16 }),
+  (_, K) => Array.from({ length: K + 1 }, (_, k) => geometricTarget(k)),
   geometricTarget,
 );
-measure('geometric', 'no K (specular only)', [50], (p) => new GeometricGains(p, 1, { clock: uniformClock(T) }), (_, K) =>
-  Array.from({ length: K + 1 }, (_, k) => Math.cos(2 * Math.PI * 20 * k * T)),
+measure(
+  'geometric',
+  'no K (specular only)',
+  [50],
+  (p) => new GeometricGains(p, 1, { clock: uniformClock(T) }),
+  (_, K) => Array.from({ length: K + 1 }, (_, k) => Math.cos(2 * Math.PI * 20 * k * T)),
   (k) => Math.cos(2 * Math.PI * 20 * k * T),
 );
 
@@ -120,5 +157,7 @@ for (const loading of [1e-4, 1e-5, 1e-6]) {
     }
   }
   floor /= bins;
-  console.log(`| 30 | ${loading.toExponential(0)} | ${(floor / (loading * T)).toFixed(3)} | ${(10 * Math.log10(floor / T)).toFixed(1)} | ${(10 * Math.log10(peak / floor)).toFixed(1)} |`);
+  console.log(
+    `| 30 | ${loading.toExponential(0)} | ${(floor / (loading * T)).toFixed(3)} | ${(10 * Math.log10(floor / T)).toFixed(1)} | ${(10 * Math.log10(peak / floor)).toFixed(1)} |`,
+  );
 }

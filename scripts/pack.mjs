@@ -31,7 +31,11 @@ for (const pkg of ['geometry', 'core', 'io']) {
     process.exit(1);
   }
   const { name, version } = JSON.parse(readFileSync(join(dir, 'package.json'), 'utf8'));
-  execFileSync('npx', ['--yes', 'pnpm@12.4.2', 'pack', '--pack-destination', destination], { cwd: dir, stdio: ['ignore', 'ignore', 'inherit'], env: { ...process.env, npm_config_yes: 'true' } });
+  execFileSync('npx', ['--yes', 'pnpm@12.4.2', 'pack', '--pack-destination', destination], {
+    cwd: dir,
+    stdio: ['ignore', 'ignore', 'inherit'],
+    env: { ...process.env, npm_config_yes: 'true' },
+  });
   const file = join(destination, `${name.replace(/^@/, '').replace('/', '-')}-${version}.tgz`);
   if (!existsSync(file)) {
     process.stderr.write(`error: pnpm pack did not write ${file}\n`);
@@ -39,4 +43,6 @@ for (const pkg of ['geometry', 'core', 'io']) {
   }
   tarballs.push(file);
 }
-process.stdout.write(`${tarballs.join('\n')}\n\ninstall them in your project with:\n  npm install ${tarballs.join(' ')}\nthen run the command as: npx --no-install pathweave --help\n`);
+process.stdout.write(
+  `${tarballs.join('\n')}\n\ninstall them in your project with:\n  npm install ${tarballs.join(' ')}\nthen run the command as: npx --no-install pathweave --help\n`,
+);

@@ -85,28 +85,46 @@ await emit(
   const arrow = (a, b, attrs = {}) => {
     svg.line(a[0], a[1], b[0], b[1], { stroke: ink, 'stroke-width': 1.6, ...attrs });
     const ang = Math.atan2(b[1] - a[1], b[0] - a[0]);
-    svg.polygon([b[0], b[1], b[0] - 9 * Math.cos(ang - 0.35), b[1] - 9 * Math.sin(ang - 0.35), b[0] - 9 * Math.cos(ang + 0.35), b[1] - 9 * Math.sin(ang + 0.35)], { fill: attrs.stroke ?? ink });
+    svg.polygon(
+      [b[0], b[1], b[0] - 9 * Math.cos(ang - 0.35), b[1] - 9 * Math.sin(ang - 0.35), b[0] - 9 * Math.cos(ang + 0.35), b[1] - 9 * Math.sin(ang + 0.35)],
+      { fill: attrs.stroke ?? ink },
+    );
   };
   const deg = Math.PI / 180;
   const unit = (az, el) => [Math.cos(el) * Math.cos(az), Math.cos(el) * Math.sin(az), Math.sin(el)];
   svg.text(20, 28, 'Global frame and a direction u', { 'font-size': 16, 'font-weight': 'bold' });
   const O = [230, 250];
-  for (const [v, name] of [[[1.3, 0, 0], 'x'], [[0, 1.3, 0], 'y'], [[0, 0, 1.2], 'z (up)']]) {
+  for (const [v, name] of [
+    [[1.3, 0, 0], 'x'],
+    [[0, 1.3, 0], 'y'],
+    [[0, 0, 1.2], 'z (up)'],
+  ]) {
     const e = proj(O, v);
     arrow(O, e);
     svg.text(e[0] + 6, e[1] + 4, name, { 'font-weight': 'bold' });
   }
-  const phi = 50 * deg, theta = 30 * deg;
-  const u = unit(phi, theta), foot = [u[0], u[1], 0];
+  const phi = 50 * deg,
+    theta = 30 * deg;
+  const u = unit(phi, theta),
+    foot = [u[0], u[1], 0];
   arrow(O, proj(O, u), { stroke: '#6b2a70', 'stroke-width': 2.4 });
   svg.text(proj(O, u)[0] + 8, proj(O, u)[1], 'u', { 'font-weight': 'bold', fill: '#6b2a70' });
   svg.line(...proj(O, foot), ...proj(O, u), { stroke: '#888', 'stroke-dasharray': '4 3' });
   svg.line(...O, ...proj(O, foot), { stroke: '#888', 'stroke-dasharray': '4 3' });
   const arc = (from, to, r, f) => Array.from({ length: 25 }, (_, i) => proj(O, f(from + ((to - from) * i) / 24, r))).flat();
-  svg.polyline(arc(0, phi, 0.45, (a, r) => [r * Math.cos(a), r * Math.sin(a), 0]), { stroke: '#b8522e', 'stroke-width': 2 });
+  svg.polyline(
+    arc(0, phi, 0.45, (a, r) => [r * Math.cos(a), r * Math.sin(a), 0]),
+    { stroke: '#b8522e', 'stroke-width': 2 },
+  );
   svg.text(...proj(O, [0.55 * Math.cos(phi / 2), 0.55 * Math.sin(phi / 2), 0]), 'phi (azimuth)', { fill: '#b8522e', 'font-size': 12 });
-  svg.polyline(arc(0, theta, 0.7, (e, r) => unit(phi, e).map((c) => c * r)), { stroke: '#b8522e', 'stroke-width': 2 });
-  const tl = proj(O, unit(phi, theta / 2).map((c) => c * 0.78));
+  svg.polyline(
+    arc(0, theta, 0.7, (e, r) => unit(phi, e).map((c) => c * r)),
+    { stroke: '#b8522e', 'stroke-width': 2 },
+  );
+  const tl = proj(
+    O,
+    unit(phi, theta / 2).map((c) => c * 0.78),
+  );
   svg.text(tl[0] + 6, tl[1], 'theta (elevation)', { fill: '#b8522e', 'font-size': 12 });
   svg.text(20, 395, 'u = [cos(theta) cos(phi), cos(theta) sin(phi), sin(theta)]', { 'font-size': 12 });
   svg.text(20, 413, 'phi from +x towards +y, in (-180, 180] degrees', { 'font-size': 12 });
@@ -114,31 +132,72 @@ await emit(
 
   svg.text(520, 28, 'Array frame: R = Rz(yaw) Ry(pitch) Rx(roll)', { 'font-size': 16, 'font-weight': 'bold' });
   const A = [700, 210];
-  const yaw = 60 * deg, pitch = 20 * deg;
+  const yaw = 60 * deg,
+    pitch = 20 * deg;
   const R = (v) => {
     // Rz(yaw) Ry(pitch) applied to a local vector (roll 0).
-    const x1 = v[0] * Math.cos(pitch) + v[2] * Math.sin(pitch), z1 = -v[0] * Math.sin(pitch) + v[2] * Math.cos(pitch);
+    const x1 = v[0] * Math.cos(pitch) + v[2] * Math.sin(pitch),
+      z1 = -v[0] * Math.sin(pitch) + v[2] * Math.cos(pitch);
     return [x1 * Math.cos(yaw) - v[1] * Math.sin(yaw), x1 * Math.sin(yaw) + v[1] * Math.cos(yaw), z1];
   };
-  for (const [v, name] of [[[1, 0, 0], 'x'], [[0, 1, 0], 'y'], [[0, 0, 1], 'z']]) {
-    const e = proj(A, v.map((c) => c * 0.9));
+  for (const [v, name] of [
+    [[1, 0, 0], 'x'],
+    [[0, 1, 0], 'y'],
+    [[0, 0, 1], 'z'],
+  ]) {
+    const e = proj(
+      A,
+      v.map((c) => c * 0.9),
+    );
     arrow(A, e, { stroke: '#aaaaaa', 'stroke-width': 1, 'stroke-dasharray': '3 3' });
     svg.text(e[0] + 5, e[1] + 4, name, { fill: '#888', 'font-size': 12 });
   }
   const b = R([1.25, 0, 0]);
   arrow(A, proj(A, b), { stroke: '#6b2a70', 'stroke-width': 2.4 });
   svg.text(proj(A, b)[0] + 10, proj(A, b)[1] + 4, 'boresight = local +x', { fill: '#6b2a70', 'font-size': 12, 'font-weight': 'bold' });
-  const ly = R([0, 1, 0]), lz = R([0, 0, 1]);
-  arrow(A, proj(A, ly.map((c) => c * 0.8)));
-  svg.text(...proj(A, ly.map((c) => c * 0.86)), 'local +y (ULA, UPA columns)', { 'font-size': 12 });
-  arrow(A, proj(A, lz.map((c) => c * 0.8)));
-  svg.text(proj(A, lz.map((c) => c * 0.86))[0] + 6, proj(A, lz.map((c) => c * 0.86))[1], 'local +z (UPA rows)', { 'font-size': 12 });
+  const ly = R([0, 1, 0]),
+    lz = R([0, 0, 1]);
+  arrow(
+    A,
+    proj(
+      A,
+      ly.map((c) => c * 0.8),
+    ),
+  );
+  svg.text(
+    ...proj(
+      A,
+      ly.map((c) => c * 0.86),
+    ),
+    'local +y (ULA, UPA columns)',
+    { 'font-size': 12 },
+  );
+  arrow(
+    A,
+    proj(
+      A,
+      lz.map((c) => c * 0.8),
+    ),
+  );
+  svg.text(
+    proj(
+      A,
+      lz.map((c) => c * 0.86),
+    )[0] + 6,
+    proj(
+      A,
+      lz.map((c) => c * 0.86),
+    )[1],
+    'local +z (UPA rows)',
+    { 'font-size': 12 },
+  );
   // A 2 x 4 UPA in the local y-z plane: element n = row * columns + column, row 0 lowest.
-  for (let row = 0; row < 2; row++) for (let col = 0; col < 4; col++) {
-    const p = proj(A, R([0, (col - 1.5) * 0.12, (row - 0.5) * 0.12]));
-    svg.rect(p[0] - 4, p[1] - 4, 8, 8, { fill: '#ffffff', stroke: ink });
-    svg.text(p[0] - 3, p[1] + 3.5, String(row * 4 + col), { 'font-size': 7 });
-  }
+  for (let row = 0; row < 2; row++)
+    for (let col = 0; col < 4; col++) {
+      const p = proj(A, R([0, (col - 1.5) * 0.12, (row - 0.5) * 0.12]));
+      svg.rect(p[0] - 4, p[1] - 4, 8, 8, { fill: '#ffffff', stroke: ink });
+      svg.text(p[0] - 3, p[1] + 3.5, String(row * 4 + col), { 'font-size': 7 });
+    }
   svg.text(520, 377, 'example: yaw 60 deg, pitch 20 deg, roll 0:', { 'font-size': 12 });
   svg.text(520, 395, 'the boresight points 20 deg below the horizontal', { 'font-size': 12 });
   svg.text(520, 413, 'UPA element n = row x columns + column, row 0 lowest', { 'font-size': 12 });

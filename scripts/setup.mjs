@@ -27,12 +27,27 @@ run('npx', ['--yes', PNPM, 'install', '--frozen-lockfile', '--reporter=silent'])
 const kernelSource = join(root, 'packages', 'core', 'assembly', 'accumulate.ts');
 const kernelDir = join(root, 'packages', 'core', 'dist', 'kernels');
 const newest = Math.max(statSync(kernelSource).mtimeMs, statSync(fileURLToPath(import.meta.url)).mtimeMs);
-for (const [file, features] of [['accumulate.wasm', ['simd', 'threads']], ['accumulate-fma.wasm', ['simd', 'relaxed-simd', 'threads']]]) {
+for (const [file, features] of [
+  ['accumulate.wasm', ['simd', 'threads']],
+  ['accumulate-fma.wasm', ['simd', 'relaxed-simd', 'threads']],
+]) {
   const kernelOut = join(kernelDir, file);
   if (!existsSync(kernelOut) || statSync(kernelOut).mtimeMs < newest) {
     mkdirSync(kernelDir, { recursive: true });
     const memory = ['--sharedMemory', '--maximumMemory', '65536'];
-    run(join(root, 'node_modules', '.bin', 'asc'), [kernelSource, '--outFile', kernelOut, '-O3', ...features.flatMap((f) => ['--enable', f]), ...memory, '--runtime', 'stub', '--noAssert', '--use', 'abort=']);
+    run(join(root, 'node_modules', '.bin', 'asc'), [
+      kernelSource,
+      '--outFile',
+      kernelOut,
+      '-O3',
+      ...features.flatMap((f) => ['--enable', f]),
+      ...memory,
+      '--runtime',
+      'stub',
+      '--noAssert',
+      '--use',
+      'abort=',
+    ]);
   }
 }
 

@@ -10,8 +10,6 @@ import { NUMPY_REFERENCE } from './support/numpy-reference.js';
 import { hasPython, pythonJson } from './support/python.js';
 import { ROOT, runCli, tempDir } from './support/run.js';
 
-
-
 describe('frequency-domain channel against numpy (docs/conventions.md formula)', () => {
   it.runIf(hasPython('numpy'))('three static paths, oriented UPA and ULA: relative Frobenius error <= 2e-5 per subframe in complex64', () => {
     const dir = tempDir();

@@ -38,37 +38,83 @@ describe('refused input', () => {
   });
 
   it('a negative or zero frequency', () => {
-    refuse(withChange((s) => (s.carrierHz = -28e9)), 'carrierHz: must be > 0, got -28000000000');
-    refuse(withChange((s) => (s.band.spacingHz = 0)), 'band.spacingHz: must be > 0, got 0');
+    refuse(
+      withChange((s) => (s.carrierHz = -28e9)),
+      'carrierHz: must be > 0, got -28000000000',
+    );
+    refuse(
+      withChange((s) => (s.band.spacingHz = 0)),
+      'band.spacingHz: must be > 0, got 0',
+    );
   });
 
   it('NaN or a string where a number belongs', () => {
     refuse(JSON.stringify(good).replace('"carrierHz":39000000000', '"carrierHz":NaN'), 'NaN and Infinity are not JSON numbers');
-    refuse(withChange((s) => (s.paths[1].delayS = '171 ns')), 'paths[1].delayS: must be a number, got "171 ns"');
-    refuse(withChange((s) => (s.timing.subframeS = 'NaN')), 'timing.subframeS: must be a number, got "NaN"');
+    refuse(
+      withChange((s) => (s.paths[1].delayS = '171 ns')),
+      'paths[1].delayS: must be a number, got "171 ns"',
+    );
+    refuse(
+      withChange((s) => (s.timing.subframeS = 'NaN')),
+      'timing.subframeS: must be a number, got "NaN"',
+    );
   });
 
   it('an array with no elements', () => {
-    refuse(withChange((s) => (s.receiver.array.elements = 0)), 'receiver.array.elements: must be >= 1, got 0');
-    refuse(withChange((s) => (s.transmitter.array = { kind: 'custom', positions: [] })), 'transmitter.array.positions: must have at least 1 item, got []');
-    refuse(withChange((s) => delete s.receiver.array.elements), 'receiver.array.elements: is required for kind "ula"');
+    refuse(
+      withChange((s) => (s.receiver.array.elements = 0)),
+      'receiver.array.elements: must be >= 1, got 0',
+    );
+    refuse(
+      withChange((s) => (s.transmitter.array = { kind: 'custom', positions: [] })),
+      'transmitter.array.positions: must have at least 1 item, got []',
+    );
+    refuse(
+      withChange((s) => delete s.receiver.array.elements),
+      'receiver.array.elements: is required for kind "ula"',
+    );
   });
 
   it('an unknown key, with the nearest known key', () => {
     // A typo replaces the key it misspells; a key already present is never suggested.
-    refuse(withChange((s) => { s.transmitter.array.spacingWavelength = 0.5; delete s.transmitter.array.spacingWavelengths; }), 'transmitter.array.spacingWavelength: unknown key; did you mean "spacingWavelengths"?');
-    refuse(withChange((s) => { s.fadding = s.fading; delete s.fading; }), 'fadding: unknown key; did you mean "fading"?');
+    refuse(
+      withChange((s) => {
+        s.transmitter.array.spacingWavelength = 0.5;
+        delete s.transmitter.array.spacingWavelengths;
+      }),
+      'transmitter.array.spacingWavelength: unknown key; did you mean "spacingWavelengths"?',
+    );
+    refuse(
+      withChange((s) => {
+        s.fadding = s.fading;
+        delete s.fading;
+      }),
+      'fadding: unknown key; did you mean "fading"?',
+    );
   });
 
   it('a seed that is not an integer below 2^53', () => {
-    refuse(withChange((s) => (s.seed = 1.5)), 'seed: must be an integer, got 1.5');
-    refuse(withChange((s) => (s.seed = 2 ** 53)), 'seed: must be an integer below 2^53, got 9007199254740992');
-    refuse(withChange((s) => (s.seed = -1)), 'seed: must be >= 0, got -1');
+    refuse(
+      withChange((s) => (s.seed = 1.5)),
+      'seed: must be an integer, got 1.5',
+    );
+    refuse(
+      withChange((s) => (s.seed = 2 ** 53)),
+      'seed: must be an integer below 2^53, got 9007199254740992',
+    );
+    refuse(
+      withChange((s) => (s.seed = -1)),
+      'seed: must be >= 0, got -1',
+    );
     refuse(good, '--seed must be an integer in [0, 9007199254740991], got 9007199254740992', ['--seed', '9007199254740992']);
   });
 
   it('an output larger than the limit, before any work, saying the size', () => {
-    const err = refuse(withChange((s) => (s.timing.subframes = 100_000_000)), /the output would be 590\.1 GiB \(633600000000 bytes, shape \[100000000, 33, 3, 8\]\), over the limit of 64\.0 GiB; raise it with --max-bytes/, []);
+    const err = refuse(
+      withChange((s) => (s.timing.subframes = 100_000_000)),
+      /the output would be 590\.1 GiB \(633600000000 bytes, shape \[100000000, 33, 3, 8\]\), over the limit of 64\.0 GiB; raise it with --max-bytes/,
+      [],
+    );
     expect(err).not.toContain('\n    at ');
     refuse(good, 'over the limit of 1000 B', ['--max-bytes', '1000']);
   });

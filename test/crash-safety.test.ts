@@ -39,7 +39,9 @@ async function interrupt(dir: string, out: string, signal: NodeJS.Signals): Prom
   const child = spawn(process.execPath, [CLI, 'generate', scenario, '--out', out, '--max-bytes', '1GiB'], { cwd: dir, stdio: ['ignore', 'pipe', 'pipe'] });
   let stderr = '';
   child.stderr.on('data', (d: Buffer) => (stderr += d.toString()));
-  const exited = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => child.on('exit', (code, sig) => resolve({ code, signal: sig })));
+  const exited = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) =>
+    child.on('exit', (code, sig) => resolve({ code, signal: sig })),
+  );
   const base = out.split('/').pop()!;
   const deadline = Date.now() + 60_000;
   // Poll for the hidden temporary and the first progress line (a block is on disk).

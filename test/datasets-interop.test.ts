@@ -54,7 +54,10 @@ function expected(raw: Record<string, any>): Expected {
   const gainShape = [S, ...(built.multiUser ? [built.users.length] : []), maxPathCount(built)];
   const gains = new Float64Array(2 * gainShape.reduce((a, b) => a * b, 1));
   fillBlock(built, tensor, 0, S, gains);
-  return { tensorName: 'H', arrays: [{ name: 'H', dtype: 'complex64', shape: built.shape, data: tensor, units: '1' }, ...sideArrays(built, 0, S, gains, gainShape)] };
+  return {
+    tensorName: 'H',
+    arrays: [{ name: 'H', dtype: 'complex64', shape: built.shape, data: tensor, units: '1' }, ...sideArrays(built, 0, S, gains, gainShape)],
+  };
 }
 
 const sha = (a: NamedArray): string => createHash('sha256').update(bytesOf(a.data!)).digest('hex');
@@ -82,7 +85,15 @@ for k, a in arrays.items():
 print(json.dumps(out))
 `;
 
-const NUMPY_DTYPE: Record<string, string> = { complex64: 'complex64', complex128: 'complex128', float64: 'float64', float32: 'float32', uint8: 'uint8', int32: 'int32', int64: 'int64' };
+const NUMPY_DTYPE: Record<string, string> = {
+  complex64: 'complex64',
+  complex128: 'complex128',
+  float64: 'float64',
+  float32: 'float32',
+  uint8: 'uint8',
+  int32: 'int32',
+  int64: 'int64',
+};
 
 describe.each([
   ['a walking receiver (epoch axis)', walking],
@@ -130,7 +141,14 @@ describe.each([
       const start = dump.indexOf('DATA {');
       const attr = dump.indexOf('ATTRIBUTE', start);
       const data = dump.slice(start, attr < 0 ? undefined : attr);
-      return [...data.matchAll(/\(\d+(?:,\d+)*\):\s*([^\n]*)/g)].flatMap((m) => m[1]!.split(',').map((x) => x.trim()).filter((x) => x !== '' && !x.startsWith('{') && !x.startsWith('}'))).map((x) => (x === 'nan' || x === '-nan' ? NaN : Number(x)));
+      return [...data.matchAll(/\(\d+(?:,\d+)*\):\s*([^\n]*)/g)]
+        .flatMap((m) =>
+          m[1]!
+            .split(',')
+            .map((x) => x.trim())
+            .filter((x) => x !== '' && !x.startsWith('{') && !x.startsWith('}')),
+        )
+        .map((x) => (x === 'nan' || x === '-nan' ? NaN : Number(x)));
     };
     for (const name of ['paths/delayS', 'truth/delayS', 'truth/receiverPosition', 'subframeTimesS']) {
       const a = exp.arrays.find((x) => x.name === name)!;
@@ -139,7 +157,11 @@ describe.each([
     }
     // One complex value: the compound's r and i members (docs/datasets.md: r/i compound).
     const H = exp.arrays[0]!.data as Float32Array;
-    const dump = execFileSync('h5dump', ['-m', '%.9g', '-d', '/H', '-s', `0,${'0,'.repeat(exp.arrays[0]!.shape.length - 2)}0`, '-c', `1,${'1,'.repeat(exp.arrays[0]!.shape.length - 2)}1`, out], { encoding: 'utf8' });
+    const dump = execFileSync(
+      'h5dump',
+      ['-m', '%.9g', '-d', '/H', '-s', `0,${'0,'.repeat(exp.arrays[0]!.shape.length - 2)}0`, '-c', `1,${'1,'.repeat(exp.arrays[0]!.shape.length - 2)}1`, out],
+      { encoding: 'utf8' },
+    );
     expect(dump).toMatch(/H5T_IEEE_F32LE "r";\s*H5T_IEEE_F32LE "i";/);
     const ri = /\{\s*([-\d.e+]+),\s*([-\d.e+]+)\s*\}/.exec(dump.slice(dump.indexOf('DATA {')))!;
     // 9 significant digits round-trip a float32 exactly (IEEE 754: FLT_DECIMAL_DIG = 9, M).

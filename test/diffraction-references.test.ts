@@ -87,15 +87,38 @@ const db = (re: number, im: number): number => 10 * Math.log10(re * re + im * im
 function utdPlaneWave(k: number, n: number, r: number, p: number, pp: number): [number, number, number, number] {
   const D = utdWedgeCoefficients(k, { n, phiPrimeRad: pp, phiRad: p, beta0Rad: Math.PI / 2, distanceParameterM: r });
   const wave = (c: number): [number, number] => [Math.cos(k * r * c), Math.sin(k * r * c)];
-  let sRe = 0, sIm = 0, hRe = 0, hIm = 0;
+  let sRe = 0,
+    sIm = 0,
+    hRe = 0,
+    hIm = 0;
   // exactly on a boundary: the direct wave counts as shadowed and the reflection as present, as in the tracer (utd.ts)
-  if (Math.abs(p - pp) < Math.PI) { const [a, b] = wave(Math.cos(p - pp)); sRe += a; sIm += b; hRe += a; hIm += b; }
-  if (p + pp < Math.PI + 1e-9) { const [a, b] = wave(Math.cos(p + pp)); sRe -= a; sIm -= b; hRe += a; hIm += b; }
-  if (p + pp > (2 * n - 1) * Math.PI - 1e-9) { const [a, b] = wave(Math.cos(p + pp - 2 * n * Math.PI)); sRe -= a; sIm -= b; hRe += a; hIm += b; }
+  if (Math.abs(p - pp) < Math.PI) {
+    const [a, b] = wave(Math.cos(p - pp));
+    sRe += a;
+    sIm += b;
+    hRe += a;
+    hIm += b;
+  }
+  if (p + pp < Math.PI + 1e-9) {
+    const [a, b] = wave(Math.cos(p + pp));
+    sRe -= a;
+    sIm -= b;
+    hRe += a;
+    hIm += b;
+  }
+  if (p + pp > (2 * n - 1) * Math.PI - 1e-9) {
+    const [a, b] = wave(Math.cos(p + pp - 2 * n * Math.PI));
+    sRe -= a;
+    sIm -= b;
+    hRe += a;
+    hIm += b;
+  }
   // diffracted: +D exp(-j k r) / sqrt(r) for the field component along the edge (diffraction.ts)
   const e: [number, number] = [Math.cos(k * r) / Math.sqrt(r), -Math.sin(k * r) / Math.sqrt(r)];
-  sRe += D.soft[0] * e[0] - D.soft[1] * e[1]; sIm += D.soft[0] * e[1] + D.soft[1] * e[0];
-  hRe += D.hard[0] * e[0] - D.hard[1] * e[1]; hIm += D.hard[0] * e[1] + D.hard[1] * e[0];
+  sRe += D.soft[0] * e[0] - D.soft[1] * e[1];
+  sIm += D.soft[0] * e[1] + D.soft[1] * e[0];
+  hRe += D.hard[0] * e[0] - D.hard[1] * e[1];
+  hIm += D.hard[0] * e[1] + D.hard[1] * e[0];
   return [sRe, sIm, hRe, hIm];
 }
 
@@ -107,21 +130,40 @@ function angles(n: number, stepDeg: number): number[] {
 }
 
 describe.skipIf(!py)('edge diffraction against exact solutions (scipy)', () => {
-  it('the tracer\'s paths past a thin conducting screen agree with Sommerfeld\'s half-plane solution within 1 dB', () => {
+  it("the tracer's paths past a thin conducting screen agree with Sommerfeld's half-plane solution within 1 dB", () => {
     // 2-D scene: a metal screen along +x from the edge at the origin (3 km long: its far end is
     // negligible); tx 1000 km away at angle phi' (a plane wave at the receivers to 0.003 rad of
     // phase), vertical polarisation = E along the edge (soft). The field is normalised by the free-space field.
-    const fc = 28e9, lambda = SPEED_OF_LIGHT / fc, k = (2 * Math.PI) / lambda;
-    const scene: Scene = { walls: [{ vertices: [[0, 0], [3000, 0]], material: 'metal' }], diffraction: true, maxReflectionOrder: 1 };
+    const fc = 28e9,
+      lambda = SPEED_OF_LIGHT / fc,
+      k = (2 * Math.PI) / lambda;
+    const scene: Scene = {
+      walls: [
+        {
+          vertices: [
+            [0, 0],
+            [3000, 0],
+          ],
+          material: 'metal',
+        },
+      ],
+      diffraction: true,
+      maxReflectionOrder: 1,
+    };
     const points: [number, number, number][] = [];
     for (const ppDeg of [30, 60, 120]) for (const r of [0.3, 1, 3]) for (const p of angles(2, 20)) points.push([r, p, (ppDeg * Math.PI) / 180]);
     const exact = pythonJson<number[][]>(HALF_PLANE, [JSON.stringify({ k, points })]);
     let worst = 0;
     points.forEach(([r, p, pp], i) => {
-      const tx: [number, number, number] = [1e6 * Math.cos(pp), 1e6 * Math.sin(pp), 0], rx: [number, number, number] = [r * Math.cos(p), r * Math.sin(p), 0];
+      const tx: [number, number, number] = [1e6 * Math.cos(pp), 1e6 * Math.sin(pp), 0],
+        rx: [number, number, number] = [r * Math.cos(p), r * Math.sin(p), 0];
       const paths = traceScene(scene, { position: tx }, { position: rx }, fc).paths;
-      let re = 0, im = 0;
-      for (const q of paths) { re += q.amplitude[0]; im += q.amplitude[1]; }
+      let re = 0,
+        im = 0;
+      for (const q of paths) {
+        re += q.amplitude[0];
+        im += q.amplitude[1];
+      }
       const free = lambda / (4 * Math.PI * Math.hypot(rx[0] - tx[0], rx[1] - tx[1]));
       const err = Math.abs(db(re / free, im / free) - db(exact[i]![0]!, exact[i]![1]!));
       worst = Math.max(worst, err);
@@ -137,19 +179,22 @@ describe.skipIf(!py)('edge diffraction against exact solutions (scipy)', () => {
     for (const ppDeg of [20, 45, 90, 150]) for (const r of [2, 5, 20]) for (const p of angles(2, 10)) points.push([r, p, (ppDeg * Math.PI) / 180]);
     const exact = pythonJson<number[][]>(HALF_PLANE, [JSON.stringify({ k, points })]);
     points.forEach(([r, p, pp], i) => {
-      const u = utdPlaneWave(k, 2, r, p, pp), e = exact[i]!;
+      const u = utdPlaneWave(k, 2, r, p, pp),
+        e = exact[i]!;
       expect(Math.abs(db(u[0], u[1]) - db(e[0]!, e[1]!))).toBeLessThan(1);
       expect(Math.abs(db(u[2], u[3]) - db(e[2]!, e[3]!))).toBeLessThan(1);
     });
   });
 
   it('UTD coefficients with geometric optics agree with the exact right-angled wedge (Bessel series) within 1 dB, soft and hard', () => {
-    const k = 2 * Math.PI, n = 1.5;
+    const k = 2 * Math.PI,
+      n = 1.5;
     const points: [number, number, number][] = [];
     for (const ppDeg of [30, 80, 135]) for (const r of [3, 10]) for (const p of angles(n, 10)) points.push([r, p, (ppDeg * Math.PI) / 180]);
     const exact = pythonJson<number[][]>(WEDGE, [JSON.stringify({ k, n, points })]);
     points.forEach(([r, p, pp], i) => {
-      const u = utdPlaneWave(k, n, r, p, pp), e = exact[i]!;
+      const u = utdPlaneWave(k, n, r, p, pp),
+        e = exact[i]!;
       expect(Math.abs(db(u[0], u[1]) - db(e[0]!, e[1]!))).toBeLessThan(1);
       expect(Math.abs(db(u[2], u[3]) - db(e[2]!, e[3]!))).toBeLessThan(1);
     });
@@ -157,13 +202,20 @@ describe.skipIf(!py)('edge diffraction against exact solutions (scipy)', () => {
 
   it('the wedge coefficients equal an independent scipy implementation of Kouyoumjian-Pathak to 1e-9', () => {
     const cases: number[][] = [];
-    for (const n of [2, 1.75, 1.5, 1.2]) for (const [pp, p] of [[0.3, 2.0], [1.1, 4.0], [0.7, 3.0], [2.0, 0.5]] as [number, number][]) {
-      if (p <= n * Math.PI && pp <= n * Math.PI) cases.push([586.8, n, pp, p, 1.2, 3.7]);
-    }
+    for (const n of [2, 1.75, 1.5, 1.2])
+      for (const [pp, p] of [
+        [0.3, 2.0],
+        [1.1, 4.0],
+        [0.7, 3.0],
+        [2.0, 0.5],
+      ] as [number, number][]) {
+        if (p <= n * Math.PI && pp <= n * Math.PI) cases.push([586.8, n, pp, p, 1.2, 3.7]);
+      }
     const ref = pythonJson<number[][]>(KP, [JSON.stringify({ cases })]);
     cases.forEach(([k, n, pp, p, b0, L], i) => {
       const D = utdWedgeCoefficients(k!, { n: n!, phiPrimeRad: pp!, phiRad: p!, beta0Rad: b0!, distanceParameterM: L! });
-      const r = ref[i]!, m = Math.hypot(r[0]!, r[1]!) + Math.hypot(r[2]!, r[3]!);
+      const r = ref[i]!,
+        m = Math.hypot(r[0]!, r[1]!) + Math.hypot(r[2]!, r[3]!);
       expect(Math.hypot(D.soft[0] - r[0]!, D.soft[1] - r[1]!)).toBeLessThan(1e-9 * m);
       expect(Math.hypot(D.hard[0] - r[2]!, D.hard[1] - r[3]!)).toBeLessThan(1e-9 * m);
     });

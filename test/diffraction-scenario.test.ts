@@ -12,7 +12,24 @@ import { decodeNpy } from '@pathweave/io';
 import { runCli, tempDir, writeScenario } from './support/run.js';
 
 const box = (x0: number, y0: number, x1: number, y1: number): { vertices: number[][]; material: string }[] =>
-  [[[x0, y0], [x1, y0]], [[x1, y0], [x1, y1]], [[x1, y1], [x0, y1]], [[x0, y1], [x0, y0]]].map((vertices) => ({ vertices, material: 'brick' }));
+  [
+    [
+      [x0, y0],
+      [x1, y0],
+    ],
+    [
+      [x1, y0],
+      [x1, y1],
+    ],
+    [
+      [x1, y1],
+      [x0, y1],
+    ],
+    [
+      [x0, y1],
+      [x0, y0],
+    ],
+  ].map((vertices) => ({ vertices, material: 'brick' }));
 
 /** Three 54 m blocks around a crossing of two 12 m streets; tx in the east-west street, rx down the north-south one. */
 function crossing(diffraction: boolean | undefined): Record<string, any> {
@@ -22,7 +39,11 @@ function crossing(diffraction: boolean | undefined): Record<string, any> {
     band: { subcarriers: 16, spacingHz: 120e3 },
     transmitter: { position: [-40, 0], array: { kind: 'ula', elements: 4 } },
     receiver: { position: [0, -40], array: { kind: 'ula', elements: 2, orientation: { yawDeg: 90 } } },
-    scene: { walls: [...box(-60, -60, -6, -6), ...box(6, -60, 60, -6), ...box(-60, 6, -6, 60)], maxReflectionOrder: 2, ...(diffraction === undefined ? {} : { diffraction }) },
+    scene: {
+      walls: [...box(-60, -60, -6, -6), ...box(6, -60, 60, -6), ...box(-60, 6, -6, 60)],
+      maxReflectionOrder: 2,
+      ...(diffraction === undefined ? {} : { diffraction }),
+    },
     fading: { model: 'static' },
     seed: 5,
     precision: 'complex128',
@@ -38,7 +59,12 @@ describe('a receiver around a street corner', () => {
     const file = writeScenario(dir, 'on.json', crossing(true));
     const listing = runCli(['paths', file, '--json']);
     expect(listing.status, listing.stderr).toBe(0);
-    const paths = JSON.parse(listing.stdout) as { id: string; kind: string; powerDb: number; interactions: { type: string; object: string; point: number[] }[] }[];
+    const paths = JSON.parse(listing.stdout) as {
+      id: string;
+      kind: string;
+      powerDb: number;
+      interactions: { type: string; object: string; point: number[] }[];
+    }[];
     expect(paths.length).toBeGreaterThan(0);
     expect(paths.every((p) => p.kind === 'diffraction')).toBe(true);
     // strongest: the corner (-6, -6) of the first block; free space over 68.1 m would be -98.0 dB
@@ -51,13 +77,18 @@ describe('a receiver around a street corner', () => {
     const explicit = { ...crossing(true), scene: undefined, paths: paths };
     const pasted = runCli(['generate', writeScenario(dir, 'explicit.json', JSON.parse(JSON.stringify(explicit))), '--out', join(dir, 'b.npy'), '--quiet']);
     expect(pasted.status, pasted.stderr).toBe(0);
-    const a = decodeNpy(readFileSync(join(dir, 'a.npy'))).data as Float64Array, b = decodeNpy(readFileSync(join(dir, 'b.npy'))).data as Float64Array;
-    let num = 0, den = 0;
-    for (let i = 0; i < a.length; i++) { num += (a[i]! - b[i]!) ** 2; den += a[i]! ** 2; }
+    const a = decodeNpy(readFileSync(join(dir, 'a.npy'))).data as Float64Array,
+      b = decodeNpy(readFileSync(join(dir, 'b.npy'))).data as Float64Array;
+    let num = 0,
+      den = 0;
+    for (let i = 0; i < a.length; i++) {
+      num += (a[i]! - b[i]!) ** 2;
+      den += a[i]! ** 2;
+    }
     expect(Math.sqrt(num / den)).toBeLessThan(1e-9);
   });
 
-  it('walking at 1.4 m/s past the corner\'s shadow boundary, the channel follows the diffracted field without a step', () => {
+  it("walking at 1.4 m/s past the corner's shadow boundary, the channel follows the diffracted field without a step", () => {
     // rx walks south from (0, -6.2) to (0, -8.3) in 1.5 s (1.4 mm per 1 ms subframe, 0.13 wavelength),
     // geometry updated every 50 ms; the line of sight is cut by the corner (-6, -6) at y = -7.059
     // (t = 0.61 s). Between updates the direct path fades out while the diffracted path is blended
@@ -75,13 +106,21 @@ describe('a receiver around a street corner', () => {
     expect(r.status, r.stderr).toBe(0);
     const H = decodeNpy(readFileSync(join(dir, 'walk.npy'))).data as Float64Array;
     const ps = prepareScene(s.scene as Scene);
-    let worstDb = 0, worstAt = -1;
+    let worstDb = 0,
+      worstAt = -1;
     for (let i = 0; i < 1500; i++) {
       const paths = traceScene(ps, { position: [-40, 0, 0] }, { position: [0, -6.2 - 1.4e-3 * i, 0] }, 28e9).paths;
-      let re = 0, im = 0;
-      for (const p of paths) { re += p.amplitude[0]; im += p.amplitude[1]; }
+      let re = 0,
+        im = 0;
+      for (const p of paths) {
+        re += p.amplitude[0];
+        im += p.amplitude[1];
+      }
       const d = Math.abs(10 * Math.log10((H[2 * i]! ** 2 + H[2 * i + 1]! ** 2) / (re * re + im * im)));
-      if (d > worstDb) { worstDb = d; worstAt = i; }
+      if (d > worstDb) {
+        worstDb = d;
+        worstAt = i;
+      }
     }
     expect(worstDb, `worst at subframe ${worstAt}`).toBeLessThan(1);
   });

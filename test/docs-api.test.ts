@@ -37,7 +37,11 @@ describe('API reference (typedoc)', () => {
   let status = -1;
   const build = (): void => {
     if (status !== -1) return;
-    const r = spawnSync(process.execPath, [join(ROOT, 'node_modules', 'typedoc', 'bin', 'typedoc'), '--out', join(dir, 'html'), '--json', json], { cwd: ROOT, encoding: 'utf8', timeout: 240_000 });
+    const r = spawnSync(process.execPath, [join(ROOT, 'node_modules', 'typedoc', 'bin', 'typedoc'), '--out', join(dir, 'html'), '--json', json], {
+      cwd: ROOT,
+      encoding: 'utf8',
+      timeout: 240_000,
+    });
     status = r.status ?? -1;
     output = plain(`${r.stdout}\n${r.stderr}`);
   };
@@ -66,7 +70,16 @@ describe('API reference (typedoc)', () => {
         const file = r.sources?.[0]?.fileName ?? '';
         if (comments.length === 0) undocumented.push(`${file}: ${r.name}`);
         if (r.kind !== 64 && r.kind !== 128) continue; // examples are asked of functions and classes
-        const example = comments.some((c) => (c.blockTags ?? []).some((t) => t.tag === '@example' && t.content.map((x) => x.text).join('').trim().length > 0));
+        const example = comments.some((c) =>
+          (c.blockTags ?? []).some(
+            (t) =>
+              t.tag === '@example' &&
+              t.content
+                .map((x) => x.text)
+                .join('')
+                .trim().length > 0,
+          ),
+        );
         if (example) continue;
         filesWithoutExample.add(file);
         if (!(file in EXAMPLES_EXCLUDED)) withoutExample.push(`${file}: ${r.name}`);

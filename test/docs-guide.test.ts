@@ -33,28 +33,32 @@ describe('docs/guide.md', () => {
     expect(blocks(GUIDE, 'python').length).toBeGreaterThanOrEqual(4);
   });
 
-  it.skipIf(!hasPython('numpy', 'h5py'))('its commands succeed and then its python snippets run against their outputs', () => {
-    // Parts of an earlier run (another build) would be kept by a rerun whose manifests verify: start clean.
-    const outDir = join(ROOT, 'out');
-    mkdirSync(outDir, { recursive: true }); // the guide's `mkdir -p out`
-    if (existsSync(outDir)) for (const f of readdirSync(outDir)) if (f.startsWith('guide-')) rmSync(join(outDir, f), { force: true });
-    for (const args of cliCommands(GUIDE)) {
-      const r = runCli(args);
-      expect(r.status, `pathweave ${args.join(' ')}\n${r.stderr}`).toBe(0);
-    }
-    const snippets = blocks(GUIDE, 'python');
-    snippets.forEach((code, i) => {
-      // Each snippet names only files under out/ that a command above wrote.
-      for (const m of code.matchAll(/'(out\/[^']+)'/g)) expect(existsSync(join(ROOT, m[1]!)), `snippet ${i + 1} reads ${m[1]}`).toBe(true);
-      let out: string;
-      try {
-        out = python(`import os\nos.chdir(${JSON.stringify(ROOT)})\n${code}`);
-      } catch (e) {
-        throw new Error(`python snippet ${i + 1} of docs/guide.md failed:\n${code}\n${(e as { stderr?: string }).stderr ?? String(e)}`);
+  it.skipIf(!hasPython('numpy', 'h5py'))(
+    'its commands succeed and then its python snippets run against their outputs',
+    () => {
+      // Parts of an earlier run (another build) would be kept by a rerun whose manifests verify: start clean.
+      const outDir = join(ROOT, 'out');
+      mkdirSync(outDir, { recursive: true }); // the guide's `mkdir -p out`
+      if (existsSync(outDir)) for (const f of readdirSync(outDir)) if (f.startsWith('guide-')) rmSync(join(outDir, f), { force: true });
+      for (const args of cliCommands(GUIDE)) {
+        const r = runCli(args);
+        expect(r.status, `pathweave ${args.join(' ')}\n${r.stderr}`).toBe(0);
       }
-      expect(out.trim().length, `snippet ${i + 1} prints its result`).toBeGreaterThan(0);
-    });
-  }, 600_000); // some twenty runs of the CLI: minutes on a loaded machine
+      const snippets = blocks(GUIDE, 'python');
+      snippets.forEach((code, i) => {
+        // Each snippet names only files under out/ that a command above wrote.
+        for (const m of code.matchAll(/'(out\/[^']+)'/g)) expect(existsSync(join(ROOT, m[1]!)), `snippet ${i + 1} reads ${m[1]}`).toBe(true);
+        let out: string;
+        try {
+          out = python(`import os\nos.chdir(${JSON.stringify(ROOT)})\n${code}`);
+        } catch (e) {
+          throw new Error(`python snippet ${i + 1} of docs/guide.md failed:\n${code}\n${(e as { stderr?: string }).stderr ?? String(e)}`);
+        }
+        expect(out.trim().length, `snippet ${i + 1} prints its result`).toBeGreaterThan(0);
+      });
+    },
+    600_000,
+  ); // some twenty runs of the CLI: minutes on a loaded machine
 
   it('its json blocks are valid scenarios', () => {
     const json = blocks(GUIDE, 'json');
@@ -85,7 +89,8 @@ describe('links of the docs', () => {
     const firstImage = readme.search(/!\[[^\]]+\]\(docs\/images\/[^)]+\.png\)/);
     expect(firstImage).toBeGreaterThan(0);
     expect(firstImage).toBeLessThan(readme.indexOf('## A first dataset'));
-    for (const doc of ['docs/guide.md', 'docs/conventions.md', 'docs/datasets.md', 'docs/fading.md', 'docs/performance.md']) expect(readme).toContain(`](${doc})`);
+    for (const doc of ['docs/guide.md', 'docs/conventions.md', 'docs/datasets.md', 'docs/fading.md', 'docs/performance.md'])
+      expect(readme).toContain(`](${doc})`);
     expect(readme).toContain('npx typedoc');
   });
 });

@@ -18,7 +18,6 @@ import { ROOT } from './support/run.js';
 
 const DOC = readFileSync(join(ROOT, 'docs', 'library.md'), 'utf8');
 
-
 const snippets = librarySnippets(DOC);
 const dir = join(ROOT, 'out', 'docs-library');
 const printed: string[] = [];
@@ -45,29 +44,33 @@ describe('docs/library.md', () => {
     }, 300_000);
   });
 
-  it.skipIf(!hasPython('numpy'))('the singular values and the mean capacity agree with numpy on the tensor `generate` writes (C)', async () => {
-    const code = snippets[0]!.code;
-    const literal = code.slice(code.indexOf('const scenario = ') + 'const scenario = '.length, code.indexOf('\n};\n') + 2);
-    const scenario = new Function(`return (${literal});`)() as Record<string, any>;
-    const out = join(dir, 'capacity.npy');
-    await generate(scenario as never, JSON.stringify(scenario), { out, format: 'npy' });
-    const snr = dbmToWatts(23) / thermalNoisePowerW(64 * 120e3, 7);
-    const ref = pythonJson<{ s: number[]; c: number }>(
-      `import json, sys, numpy as np
+  it.skipIf(!hasPython('numpy'))(
+    'the singular values and the mean capacity agree with numpy on the tensor `generate` writes (C)',
+    async () => {
+      const code = snippets[0]!.code;
+      const literal = code.slice(code.indexOf('const scenario = ') + 'const scenario = '.length, code.indexOf('\n};\n') + 2);
+      const scenario = new Function(`return (${literal});`)() as Record<string, any>;
+      const out = join(dir, 'capacity.npy');
+      await generate(scenario as never, JSON.stringify(scenario), { out, format: 'npy' });
+      const snr = dbmToWatts(23) / thermalNoisePowerW(64 * 120e3, 7);
+      const ref = pythonJson<{ s: number[]; c: number }>(
+        `import json, sys, numpy as np
 H = np.load(sys.argv[1]).astype(np.complex128)[:, 32]          # [S, Nr, Nt] at k = 32
 snr = float(sys.argv[2]); Nt = H.shape[2]
 s = np.linalg.svd(H[0], compute_uv=False)
 c = [np.log2(np.linalg.det(np.eye(H.shape[1]) + (snr / Nt) * h @ h.conj().T).real) for h in H]
 print(json.dumps({'s': s[:3].tolist(), 'c': float(np.mean(c))}))`,
-      [out, String(snr)],
-    );
-    const lines = snippets[0]!.output.split('\n');
-    const sv = /largest singular values (\S+) (\S+) (\S+)$/.exec(lines[3]!)!.slice(1).map(Number);
-    // Printed to 5 significant digits: agreement to 1e-4 relative.
-    sv.forEach((v, j) => expect(Math.abs(v / ref.s[j]! - 1)).toBeLessThan(1e-4));
-    const capacity = Number(/: (\S+) bit\/s\/Hz$/.exec(lines[4]!)![1]);
-    expect(Math.abs(capacity - ref.c)).toBeLessThanOrEqual(0.0005 + 1e-9); // printed to 3 decimals
-  }, 300_000);
+        [out, String(snr)],
+      );
+      const lines = snippets[0]!.output.split('\n');
+      const sv = /largest singular values (\S+) (\S+) (\S+)$/.exec(lines[3]!)!.slice(1).map(Number);
+      // Printed to 5 significant digits: agreement to 1e-4 relative.
+      sv.forEach((v, j) => expect(Math.abs(v / ref.s[j]! - 1)).toBeLessThan(1e-4));
+      const capacity = Number(/: (\S+) bit\/s\/Hz$/.exec(lines[4]!)![1]);
+      expect(Math.abs(capacity - ref.c)).toBeLessThanOrEqual(0.0005 + 1e-9); // printed to 3 decimals
+    },
+    300_000,
+  );
 
   it('the test-bench SNR: noise floor equals k T B F and the measured SNR is within 4/sqrt(M) of the floor alone', () => {
     const line = snippets[2]!.output.trim();

@@ -68,7 +68,7 @@ function examplesOf(path: string): Example[] {
       const tags = ts.isJSDoc(doc) ? (doc.tags ?? []) : [doc];
       for (const tag of tags) {
         if (tag.tagName.text !== 'example' || tag.parent !== doc) continue;
-        const comment = typeof tag.comment === 'string' ? tag.comment : ts.getTextOfJSDocComment(tag.comment) ?? '';
+        const comment = typeof tag.comment === 'string' ? tag.comment : (ts.getTextOfJSDocComment(tag.comment) ?? '');
         const named = ts.isVariableStatement(node) ? node.declarationList.declarations[0] : node;
         const owner = (named as { name?: ts.Node } | undefined)?.name?.getText(sf) ?? ts.SyntaxKind[node.kind];
         const line = sf.getLineAndCharacterOfPosition(tag.getStart(sf)).line + 1;
@@ -172,7 +172,14 @@ function instrument(example: Example): { body: string; claims: Claim[] } {
     const thrown = /^\s*\/\/\s*throws\s+(\w+)(?:\s+(['"])(.*)\2)?/.exec(line.slice(at));
     if (thrown !== null && code.length > 0) {
       const index = claims.length;
-      claims.push({ line: example.line + i, text: `throws ${thrown[1]}`, expected: { throws: thrown[1], message: thrown[2] === undefined ? undefined : (new Function(`return ${thrown[2]}${thrown[3]}${thrown[2]};`)() as string) } });
+      claims.push({
+        line: example.line + i,
+        text: `throws ${thrown[1]}`,
+        expected: {
+          throws: thrown[1],
+          message: thrown[2] === undefined ? undefined : (new Function(`return ${thrown[2]}${thrown[3]}${thrown[2]};`)() as string),
+        },
+      });
       const expr = code.replace(/;$/, '');
       return `try { await (async () => (${expr}))(); __claim(${index}, { threw: undefined }); } catch (e) { __claim(${index}, { threw: e.name, message: e.message }); }`;
     }
@@ -246,7 +253,10 @@ describe('doc examples state true results', () => {
         return;
       }
       const ok = matches(got[i], literalNode(c.text), c.expected);
-      expect(ok, `line ${c.line}: stated ${c.text}, got ${JSON.stringify(got[i], (_k, v) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : v))}`).toBe(true);
+      expect(
+        ok,
+        `line ${c.line}: stated ${c.text}, got ${JSON.stringify(got[i], (_k, v) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : v))}`,
+      ).toBe(true);
     });
   });
 });

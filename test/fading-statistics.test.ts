@@ -45,11 +45,17 @@ function run(g: GainProcess, steps: number): Float64Array {
 
 /** Per-path time averages of x_(n+k) x_n^*, and of the I/Q products, [R] each. */
 function pathCorrelations(g: Float64Array, L: number, N: number, k: number): { re: Float64Array; ii: Float64Array; qq: Float64Array; iq: Float64Array } {
-  const re = new Float64Array(L), ii = new Float64Array(L), qq = new Float64Array(L), iq = new Float64Array(L);
+  const re = new Float64Array(L),
+    ii = new Float64Array(L),
+    qq = new Float64Array(L),
+    iq = new Float64Array(L);
   for (let l = 0; l < L; l++) {
-    let sii = 0, sqq = 0, siq = 0;
+    let sii = 0,
+      sqq = 0,
+      siq = 0;
     for (let n = 0; n + k < N; n++) {
-      const a = 2 * ((n + k) * L + l), b = 2 * (n * L + l);
+      const a = 2 * ((n + k) * L + l),
+        b = 2 * (n * L + l);
       sii += g[a]! * g[b]!;
       sqq += g[a + 1]! * g[b + 1]!;
       siq += g[a]! * g[b + 1]!;
@@ -92,7 +98,9 @@ describe.skipIf(!HAVE)('AR(p) follows J0 beyond lag 1 (scipy.special.j0 (C); Bad
     [[30, 20], 48],
   ] as const) {
     it(`dopplers ${dopplers.join('+')} Hz, T = 1 ms, order ${order}`, () => {
-      const T = 1e-3, R = 40, N = 20000;
+      const T = 1e-3,
+        R = 40,
+        N = 20000;
       const K = lagsToThirdZero(dopplers[0]!, T);
       expect(K).toBeLessThanOrEqual(order); // the fit reproduces lags 0..p; we test inside them
       const g = run(new AutoregressiveGains(makePaths(R, [...dopplers], `ar${dopplers.length}`), 11, { order, stepS: T }), N);
@@ -115,7 +123,9 @@ describe.skipIf(!HAVE)('AR(p) follows J0 beyond lag 1 (scipy.special.j0 (C); Bad
 describe.skipIf(!HAVE)('sum-of-sinusoids follows J0 (Zheng & Xiao 2003 (V abstract, M formulas); scipy.special.j0 (C))', () => {
   for (const dopplers of [[50], [30, 20]]) {
     it(`dopplers ${dopplers.join('+')} Hz, M = 16, I/Q each J0 / 2 and uncorrelated`, () => {
-      const T = 1e-3, R = 60, N = 8000;
+      const T = 1e-3,
+        R = 60,
+        N = 8000;
       const K = lagsToThirdZero(dopplers[0]!, T);
       const g = run(new SumOfSinusoidsGains(makePaths(R, dopplers, `sos${dopplers.length}`), 5, { sinusoids: 16, clock: uniformClock(T) }), N);
       const rho = scipyTarget(dopplers, T, K + 1);
@@ -167,7 +177,12 @@ function welch(g: Float64Array, L: number, l: number, N: number, size: number, f
 
 describe.skipIf(!HAVE)('sum-of-sinusoids Doppler spectrum: Clarke U shape in |f| <= f_D (Welch, fft.js)', () => {
   it('band powers match the windowed expectation of J0 and Clarke asin law', () => {
-    const fD = 200, fs = 1000, T = 1 / fs, R = 40, N = 16384, size = 1024;
+    const fD = 200,
+      fs = 1000,
+      T = 1 / fs,
+      R = 40,
+      N = 16384,
+      size = 1024;
     const g = run(new SumOfSinusoidsGains(makePaths(R, [fD], 'welch'), 9, { sinusoids: 16, clock: uniformClock(T) }), N);
     // Expected Welch density E[P_k] = sum_m r_w(m) rho(m) e^(-j 2 pi k m / size) / (fs sum w^2),
     // rho = scipy.special.j0, w = scipy.signal.get_window('hann') (periodic), r_w its autocorrelation.
@@ -226,7 +241,12 @@ describe.skipIf(!HAVE)('sum-of-sinusoids Doppler spectrum: Clarke U shape in |f|
 
 describe.skipIf(!HAVE)('AR(p) spectral floor set by the loading (Welch, fft.js)', () => {
   it('the out-of-band density equals sigma^2 T / |A(f)|^2 ~ epsilon T, and scales with epsilon', () => {
-    const fD = 50, fs = 1000, T = 1 / fs, R = 20, N = 16384, size = 1024;
+    const fD = 50,
+      fs = 1000,
+      T = 1 / fs,
+      R = 20,
+      N = 16384,
+      size = 1024;
     const floors: number[] = [];
     for (const loading of [1e-6, 1e-4]) {
       const process = new AutoregressiveGains(makePaths(R, [fD], `floor${loading}`), 3, { order: 30, stepS: T, loading });

@@ -65,7 +65,14 @@ describe.skipIf(mountReason !== undefined)('a full disk (1 MiB tmpfs)', () => {
       writeFileSync(out, EARLIER);
       const r = runCli(['generate', bigFile, '--out', out, '--quiet']);
       // The HDF5 sink reports the failed H5Fclose without the cause (known gap below).
-      expectCleanFailure(r, full, out, format === 'h5' ? /^error: .+$/m : `error: cannot write ${out}: no space left on the device (ENOSPC); the temporary file was removed and any earlier ${out} is untouched`);
+      expectCleanFailure(
+        r,
+        full,
+        out,
+        format === 'h5'
+          ? /^error: .+$/m
+          : `error: cannot write ${out}: no space left on the device (ENOSPC); the temporary file was removed and any earlier ${out} is untouched`,
+      );
       rmSync(out);
     });
 
@@ -73,7 +80,10 @@ describe.skipIf(mountReason !== undefined)('a full disk (1 MiB tmpfs)', () => {
       const out = join(full, `lib.${format}`);
       writeFileSync(out, EARLIER);
       const { scenario } = parseScenarioText(JSON.stringify(big));
-      const error = await generate(scenario, JSON.stringify(big), { out, format }).then(() => undefined, (e: unknown) => e);
+      const error = await generate(scenario, JSON.stringify(big), { out, format }).then(
+        () => undefined,
+        (e: unknown) => e,
+      );
       expect(error).toBeInstanceOf(Error);
       if (format !== 'h5') {
         expect(error).toBeInstanceOf(OutputFileError);
@@ -150,7 +160,10 @@ describe('a missing or vanished folder', () => {
         onProgress: () => {
           if (blocks++ === 0) rmSync(dir, { recursive: true });
         },
-      }).then(() => undefined, (e: unknown) => e);
+      }).then(
+        () => undefined,
+        (e: unknown) => e,
+      );
       expect(blocks).toBe(2);
       expect(error).toBeInstanceOf(OutputFileError);
       expect((error as OutputFileError).code).toBe('ENOENT');
@@ -188,7 +201,10 @@ describe('an output path that is a directory', () => {
           mkdirSync(out);
           writeFileSync(join(out, 'inside'), EARLIER);
         },
-      }).then(() => undefined, (e: unknown) => e);
+      }).then(
+        () => undefined,
+        (e: unknown) => e,
+      );
       expect(error).toBeInstanceOf(Error);
       if (format !== 'h5') {
         expect(error).toBeInstanceOf(OutputFileError);

@@ -26,7 +26,8 @@ const FIXTURE = join(ROOT, 'test', 'fixtures', 'three-path-static.json');
 
 /** The command line in-process: exit code and the lines it printed. */
 async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  const out: string[] = [], err: string[] = [];
+  const out: string[] = [],
+    err: string[] = [];
   const code = await main(args, { out: (s) => out.push(s), err: (s) => err.push(s) });
   return { code, out: out.join('\n'), err: err.join('\n') };
 }
@@ -62,10 +63,16 @@ describe('HDF5: nothing outside the file is followed (exit 2, naming the dataset
     const bad = h5py('external.h5', `f.create_dataset('paths/notes', shape=(31,), dtype='u1', external=[(${JSON.stringify(file('secret.txt'))}, 0, 31)])`);
     const r = await run(['inspect', bad]);
     expect(r.code).toBe(2);
-    expect(r.err).toContain(`error: ${bad}: dataset paths/notes refers to another file, ${JSON.stringify(file('secret.txt'))} (external storage, an external link or a virtual dataset): refused`);
+    expect(r.err).toContain(
+      `error: ${bad}: dataset paths/notes refers to another file, ${JSON.stringify(file('secret.txt'))} (external storage, an external link or a virtual dataset): refused`,
+    );
     // The same through merge: parts whose manifests were rewritten to match.
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('x.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
-    execFileSync(py.python, ['-c', `import h5py\nf = h5py.File(${JSON.stringify(file('x.part-1-of-2.h5'))}, 'a')\nf.create_dataset('paths/notes', shape=(31,), dtype='u1', external=[(${JSON.stringify(file('secret.txt'))}, 0, 31)])\nf.close()`]);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('x.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
+    execFileSync(py.python, [
+      '-c',
+      `import h5py\nf = h5py.File(${JSON.stringify(file('x.part-1-of-2.h5'))}, 'a')\nf.create_dataset('paths/notes', shape=(31,), dtype='u1', external=[(${JSON.stringify(file('secret.txt'))}, 0, 31)])\nf.close()`,
+    ]);
     reseal(file('x.part-1-of-2.h5'));
     const m = await run(['merge', file('x.part-0-of-2.h5'), file('x.part-1-of-2.h5'), '--out', file('x.h5'), '--quiet']);
     expect(m.code).toBe(2);
@@ -76,13 +83,21 @@ describe('HDF5: nothing outside the file is followed (exit 2, naming the dataset
     const soft = h5py('soft.h5', "f['paths/alias'] = h5py.SoftLink('/gains')");
     expect(await run(['inspect', soft])).toMatchObject({ code: 2, err: expect.stringContaining(`${soft}: paths/alias is a soft link to "/gains": refused`) });
     const ext = h5py('elink.h5', `f['paths/other'] = h5py.ExternalLink(${JSON.stringify(file('ok.h5'))}, '/H')`);
-    expect(await run(['inspect', ext])).toMatchObject({ code: 2, err: expect.stringContaining(`${ext}: paths/other is an external link to ${JSON.stringify(file('ok.h5'))}: refused`) });
+    expect(await run(['inspect', ext])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${ext}: paths/other is an external link to ${JSON.stringify(file('ok.h5'))}: refused`),
+    });
   });
   it.skipIf(py.skip)('a tensor resized to 1e9 subframes of fill values is refused from its size, before any read', async () => {
-    const big = h5py('resized.h5', "del f['H']\nf.create_dataset('H', shape=(10**9, 33, 3, 8), maxshape=(None, 33, 3, 8), chunks=(1, 33, 3, 8), dtype=[('r', '<f4'), ('i', '<f4')])");
+    const big = h5py(
+      'resized.h5',
+      "del f['H']\nf.create_dataset('H', shape=(10**9, 33, 3, 8), maxshape=(None, 33, 3, 8), chunks=(1, 33, 3, 8), dtype=[('r', '<f4'), ('i', '<f4')])",
+    );
     const r = await run(['inspect', big]);
     expect(r.code).toBe(2);
-    expect(r.err).toContain(`${big}: dataset H of shape [1000000000, 33, 3, 8] is 6336000000000 bytes, more than its ${statSync(big).size}-byte file can hold: refused`);
+    expect(r.err).toContain(
+      `${big}: dataset H of shape [1000000000, 33, 3, 8] is 6336000000000 bytes, more than its ${statSync(big).size}-byte file can hold: refused`,
+    );
   });
   it.skipIf(py.skip)('300 nested groups: refused by depth', async () => {
     const deep = h5py('deep.h5', "g = f\nfor i in range(300): g = g.create_group('g')");
@@ -137,15 +152,26 @@ describe('NPY headers and side files (exit 2 naming the file and what is wrong)'
   }
   it('an empty shape, zero rows, a real (not complex) tensor, a header that lies about the length', async () => {
     const empty = withHeader('empty.npy', "{'descr': '<c8', 'fortran_order': False, 'shape': (), }", false);
-    expect((await run(['inspect', empty])).err).toContain(`${empty}: is ${statSync(empty).size} bytes, its header [] complex64 needs 136: the file is longer than its header says`);
+    expect((await run(['inspect', empty])).err).toContain(
+      `${empty}: is ${statSync(empty).size} bytes, its header [] complex64 needs 136: the file is longer than its header says`,
+    );
     const zero = file('zero.npy');
     writeFileSync(zero, npyHeader('<c8', [0, 33, 3, 8]));
-    expect(await run(['inspect', zero])).toMatchObject({ code: 2, err: expect.stringContaining(`${zero}: its tensor tensor has shape [0, 33, 3, 8]: no data`) });
+    expect(await run(['inspect', zero])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${zero}: its tensor tensor has shape [0, 33, 3, 8]: no data`),
+    });
     const real = file('real.npy');
     writeFileSync(real, Buffer.concat([npyHeader('<f8', [3, 33, 3, 8]), Buffer.alloc(3 * 33 * 3 * 8 * 8)]));
-    expect(await run(['inspect', real])).toMatchObject({ code: 2, err: expect.stringContaining(`${real}: its tensor tensor is float64; a channel tensor is complex64 or complex128`) });
+    expect(await run(['inspect', real])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${real}: its tensor tensor is float64; a channel tensor is complex64 or complex128`),
+    });
     const long = withHeader('long.npy', "{'descr': '<c8', 'fortran_order': False, 'shape': (4, 33, 3, 8), }");
-    expect(await run(['inspect', long])).toMatchObject({ code: 2, err: expect.stringMatching(/long\.npy: is \d+ bytes, its header \[4, 33, 3, 8\] complex64 needs \d+: the file is truncated/) });
+    expect(await run(['inspect', long])).toMatchObject({
+      code: 2,
+      err: expect.stringMatching(/long\.npy: is \d+ bytes, its header \[4, 33, 3, 8\] complex64 needs \d+: the file is truncated/),
+    });
   });
   it('parseNpyHeader reads what npyHeader writes and what numpy writes (format 1.0 and 2.0)', () => {
     expect(parseNpyHeader(npyHeader('<c16', [7])).shape).toEqual([7]);
@@ -157,12 +183,18 @@ describe('NPY headers and side files (exit 2 naming the file and what is wrong)'
     copyFileSync(file('ok.npy'), file('side.npy'));
     const side = JSON.parse(readFileSync(file('ok.npy.json'), 'utf8'));
     writeFileSync(file('side.npy.json'), JSON.stringify({ ...side, seed: 'seven' }));
-    expect(await run(['inspect', file('side.npy')])).toMatchObject({ code: 2, err: expect.stringContaining(`${file('side.npy.json')}: not a pathweave side file: seed must be an integer >= 0, got "seven"`) });
+    expect(await run(['inspect', file('side.npy')])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('side.npy.json')}: not a pathweave side file: seed must be an integer >= 0, got "seven"`),
+    });
     writeFileSync(file('side.npy.json'), JSON.stringify({ ...side, tensor: { ...side.tensor, shape: [3, 33, 3, 9] } }));
     expect(await run(['inspect', file('side.npy')])).toMatchObject({ code: 2, err: expect.stringContaining('the side file says the tensor is [3, 33, 3, 9]') });
     rmSync(file('side.npy.json'));
     execFileSync('mkfifo', [file('side.npy.json')]);
-    expect(await run(['inspect', file('side.npy')])).toMatchObject({ code: 2, err: expect.stringContaining(`${file('side.npy.json')}: the side file is a FIFO; only regular files are read`) });
+    expect(await run(['inspect', file('side.npy')])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('side.npy.json')}: the side file is a FIFO; only regular files are read`),
+    });
   });
 });
 
@@ -170,7 +202,11 @@ describe('NPZ: the zip directory is checked against the file (exit 2)', () => {
   /** Offsets of the central directory entries of a zip (APPNOTE 4.3.12), by name. */
   const centralEntries = (bytes: Buffer): Map<string, number> => {
     const entries = new Map<string, number>();
-    for (let at = bytes.lastIndexOf(Buffer.from([0x50, 0x4b, 0x01, 0x02]), undefined); at >= 0; at = at > 0 ? bytes.lastIndexOf(Buffer.from([0x50, 0x4b, 0x01, 0x02]), at - 1) : -1) {
+    for (
+      let at = bytes.lastIndexOf(Buffer.from([0x50, 0x4b, 0x01, 0x02]), undefined);
+      at >= 0;
+      at = at > 0 ? bytes.lastIndexOf(Buffer.from([0x50, 0x4b, 0x01, 0x02]), at - 1) : -1
+    ) {
       entries.set(bytes.toString('utf8', at + 46, at + 46 + bytes.readUInt16LE(at + 28)), at);
     }
     return entries;
@@ -192,22 +228,40 @@ describe('NPZ: the zip directory is checked against the file (exit 2)', () => {
     huge.writeUInt32LE(0x7ffffff0, gains + 20); // compressed size
     huge.writeUInt32LE(0x7ffffff0, gains + 24); // uncompressed size
     writeFileSync(file('size.npz'), huge);
-    expect(await run(['inspect', file('size.npz')])).toMatchObject({ code: 2, err: expect.stringContaining(`${file('size.npz')}: the zip directory lies: "gains.npy" claims bytes`) });
+    expect(await run(['inspect', file('size.npz')])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('size.npz')}: the zip directory lies: "gains.npy" claims bytes`),
+    });
     const offset = Buffer.from(base);
     offset.writeUInt32LE(base.readUInt32LE(base.length - 22 + 16) + 1, base.length - 22 + 16); // end record: directory offset + 1
     writeFileSync(file('offset.npz'), offset);
-    expect(await run(['inspect', file('offset.npz')])).toMatchObject({ code: 2, err: expect.stringMatching(/offset\.npz: the zip directory lies: the directory \[\d+, \d+\) runs past its end record/) });
+    expect(await run(['inspect', file('offset.npz')])).toMatchObject({
+      code: 2,
+      err: expect.stringMatching(/offset\.npz: the zip directory lies: the directory \[\d+, \d+\) runs past its end record/),
+    });
     const renamed = Buffer.from(base);
     renamed.write('x', cd.get('seed.npy')! + 46, 'utf8'); // the directory says "xeed.npy", the local header "seed.npy"
     writeFileSync(file('renamed.npz'), renamed);
-    expect(await run(['inspect', file('renamed.npz')])).toMatchObject({ code: 2, err: expect.stringMatching(/renamed\.npz: the zip directory lies: the local header at \d+ does not name "xeed\.npy"/) });
+    expect(await run(['inspect', file('renamed.npz')])).toMatchObject({
+      code: 2,
+      err: expect.stringMatching(/renamed\.npz: the zip directory lies: the local header at \d+ does not name "xeed\.npy"/),
+    });
   });
   it.skipIf(py.skip)('duplicate entries written by Python zipfile are refused (numpy would read the last)', async () => {
-    execFileSync(py.python, ['-c', `import zipfile, warnings\nwarnings.simplefilter('ignore')\nsrc = zipfile.ZipFile(${JSON.stringify(file('ok.npz'))})\nwith zipfile.ZipFile(${JSON.stringify(file('dup.npz'))}, 'w') as z:\n    for n in src.namelist(): z.writestr(n, src.read(n))\n    z.writestr('gains.npy', src.read('gains.npy'))`]);
-    expect(await run(['inspect', file('dup.npz')])).toMatchObject({ code: 2, err: expect.stringContaining(`${file('dup.npz')}: zip entry "gains.npy" appears twice`) });
+    execFileSync(py.python, [
+      '-c',
+      `import zipfile, warnings\nwarnings.simplefilter('ignore')\nsrc = zipfile.ZipFile(${JSON.stringify(file('ok.npz'))})\nwith zipfile.ZipFile(${JSON.stringify(file('dup.npz'))}, 'w') as z:\n    for n in src.namelist(): z.writestr(n, src.read(n))\n    z.writestr('gains.npy', src.read('gains.npy'))`,
+    ]);
+    expect(await run(['inspect', file('dup.npz')])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('dup.npz')}: zip entry "gains.npy" appears twice`),
+    });
   });
   it.skipIf(py.skip)('deflated entries (numpy savez_compressed) are read in one inflation per pass', async () => {
-    execFileSync(py.python, ['-c', `import numpy as np\nd = dict(np.load(${JSON.stringify(file('ok.npz'))}))\nnp.savez_compressed(${JSON.stringify(file('deflated.npz'))}, **d)`]);
+    execFileSync(py.python, [
+      '-c',
+      `import numpy as np\nd = dict(np.load(${JSON.stringify(file('ok.npz'))}))\nnp.savez_compressed(${JSON.stringify(file('deflated.npz'))}, **d)`,
+    ]);
     const reader = await openDatasetReader(file('deflated.npz'));
     const plain = await openDatasetReader(file('ok.npz'));
     const opened = (reader as unknown as { inflatedBytes: number }).inflatedBytes;
@@ -232,32 +286,51 @@ describe('NPZ: the zip directory is checked against the file (exit 2)', () => {
 });
 
 describe('outputs: --out is checked before any work (exit 2, nothing written)', () => {
-  const generateTo = (out: string, ...extra: string[]): Promise<{ code: number; out: string; err: string }> => run(['generate', FIXTURE, '--out', out, '--quiet', ...extra]);
+  const generateTo = (out: string, ...extra: string[]): Promise<{ code: number; out: string; err: string }> =>
+    run(['generate', FIXTURE, '--out', out, '--quiet', ...extra]);
   it('empty, "-", a folder, a missing folder, an unknown extension, an extension against --format', async () => {
     expect((await generateTo('')).err).toContain('error: --out "": the name is empty');
     expect((await generateTo('-')).err).toContain('error: --out -: "-" (standard output) is not supported');
     expect((await generateTo(`${dir}/`)).err).toContain(`names a folder; name a file in it, e.g. ${join(dir, 'run.h5')}`);
-    expect(await generateTo(join(dir, 'nowhere', 'run.h5'))).toMatchObject({ code: 2, err: expect.stringContaining(`the folder ${join(dir, 'nowhere')} does not exist; create it first (mkdir -p ${join(dir, 'nowhere')})`) });
-    expect(await generateTo(file('run.mat'))).toMatchObject({ code: 2, err: expect.stringContaining('unknown extension .mat; pathweave writes .npy, .npz and .h5 (or .hdf5)') });
-    expect(await generateTo(file('run.h5'), '--format', 'npy')).toMatchObject({ code: 2, err: expect.stringContaining('the extension .h5 says h5, but the format asked for is npy') });
+    expect(await generateTo(join(dir, 'nowhere', 'run.h5'))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`the folder ${join(dir, 'nowhere')} does not exist; create it first (mkdir -p ${join(dir, 'nowhere')})`),
+    });
+    expect(await generateTo(file('run.mat'))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining('unknown extension .mat; pathweave writes .npy, .npz and .h5 (or .hdf5)'),
+    });
+    expect(await generateTo(file('run.h5'), '--format', 'npy')).toMatchObject({
+      code: 2,
+      err: expect.stringContaining('the extension .h5 says h5, but the format asked for is npy'),
+    });
     expect(existsSync(file('run.mat')) || existsSync(file('run.h5'))).toBe(false);
   });
   it('a symlink, a FIFO and a device are refused, never replaced', async () => {
     symlinkSync(file('ok.npz'), file('link.npz'));
     expect(await generateTo(file('link.npz'))).toMatchObject({ code: 2, err: expect.stringContaining(`${file('link.npz')} is a symbolic link`) });
     execFileSync('mkfifo', [file('fifo.h5')]);
-    expect(await generateTo(file('fifo.h5'))).toMatchObject({ code: 2, err: expect.stringContaining(`${file('fifo.h5')} is a FIFO; pathweave writes regular files only and will not replace it`) });
+    expect(await generateTo(file('fifo.h5'))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('fifo.h5')} is a FIFO; pathweave writes regular files only and will not replace it`),
+    });
     expect(statSync(file('fifo.h5')).isFIFO()).toBe(true);
     expect(await generateTo('/dev/null', '--format', 'npy')).toMatchObject({ code: 2, err: expect.stringContaining('/dev/null is a device') });
     // A side file that is a symlink (a .npy's side file is replaced too).
     symlinkSync('/etc/hostname', file('sided.npy.json'));
-    expect(await generateTo(file('sided.npy'))).toMatchObject({ code: 2, err: expect.stringContaining(`${file('sided.npy.json')} is a symbolic link (written beside the output as ${file('sided.npy.json')})`) });
+    expect(await generateTo(file('sided.npy'))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('sided.npy.json')} is a symbolic link (written beside the output as ${file('sided.npy.json')})`),
+    });
   });
   it('a read-only existing file is refused unless --overwrite', async () => {
     copyFileSync(file('ok.h5'), file('ro.h5'));
     chmodSync(file('ro.h5'), 0o444);
     const before = sha(file('ro.h5'));
-    expect(await generateTo(file('ro.h5'))).toMatchObject({ code: 2, err: expect.stringContaining(`${file('ro.h5')} exists and is read-only; give --overwrite to replace it anyway`) });
+    expect(await generateTo(file('ro.h5'))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('ro.h5')} exists and is read-only; give --overwrite to replace it anyway`),
+    });
     expect(sha(file('ro.h5'))).toBe(before);
     expect((await generateTo(file('ro.h5'), '--overwrite')).code).toBe(0);
   });
@@ -268,10 +341,14 @@ describe('outputs: --out is checked before any work (exit 2, nothing written)', 
     expect(r.code, r.err).toBe(0);
     expect(readdirSync(dir).filter((f) => f.endsWith('.part'))).toEqual([]);
     const npy = `${'n'.repeat(247)}.npy`; // its side file would be 256 bytes
-    expect(await generateTo(file(npy))).toMatchObject({ code: 2, err: expect.stringContaining(`the file name "${npy}.json" is 256 bytes, more than the 255 a file name may have`) });
+    expect(await generateTo(file(npy))).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`the file name "${npy}.json" is 256 bytes, more than the 255 a file name may have`),
+    });
   });
   it('merge refuses an output that is one of its inputs', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('m.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('m.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
     const before = sha(file('m.part-0-of-2.npz'));
     const r = await run(['merge', file('m.part-0-of-2.npz'), file('m.part-1-of-2.npz'), '--out', file('m.part-0-of-2.npz')]);
     expect(r).toMatchObject({ code: 2, err: expect.stringContaining(`--out ${file('m.part-0-of-2.npz')}: is the input ${file('m.part-0-of-2.npz')}`) });
@@ -281,10 +358,14 @@ describe('outputs: --out is checked before any work (exit 2, nothing written)', 
 
 describe('parts: the manifest covers every array and attribute', () => {
   it.skipIf(py.skip)('a part whose scenario attribute says 99 GHz (size kept) is refused by merge and regenerated by a rerun', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('s.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('s.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
     const part = file('s.part-1-of-2.h5');
     const size = statSync(part).size;
-    execFileSync(py.python, ['-c', `import h5py\nf = h5py.File(${JSON.stringify(part)}, 'a')\nf.attrs['scenario'] = f.attrs['scenario'].replace('28000000000', '99000000000')\nf.close()`]);
+    execFileSync(py.python, [
+      '-c',
+      `import h5py\nf = h5py.File(${JSON.stringify(part)}, 'a')\nf.attrs['scenario'] = f.attrs['scenario'].replace('28000000000', '99000000000')\nf.close()`,
+    ]);
     const r = await run(['merge', file('s.part-0-of-2.h5'), part, '--out', file('s.h5'), '--quiet']);
     expect(r.code).toBe(2);
     expect(r.err).toMatch(statSync(part).size === size ? /file sha256 [0-9a-f]{64} differs from its manifest's/ : /is \d+ bytes, its manifest says \d+/);
@@ -294,20 +375,27 @@ describe('parts: the manifest covers every array and attribute', () => {
     expect(again.err).toContain(`regenerating ${part}: `);
   });
   it.skipIf(py.skip)('a scenario attribute that does not match the tensor (resealed manifest): refused by merge and by plot', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('a.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('a.part-{index}-of-{count}.h5'), '--quiet'])).code).toBe(0);
     const part = file('a.part-1-of-2.h5');
-    execFileSync(py.python, ['-c', `import h5py, json\nf = h5py.File(${JSON.stringify(part)}, 'a')\ns = json.loads(f.attrs['scenario'])\ns['band']['subcarriers'] = 32\nf.attrs['scenario'] = json.dumps(s)\nf.close()`]);
+    execFileSync(py.python, [
+      '-c',
+      `import h5py, json\nf = h5py.File(${JSON.stringify(part)}, 'a')\ns = json.loads(f.attrs['scenario'])\ns['band']['subcarriers'] = 32\nf.attrs['scenario'] = json.dumps(s)\nf.close()`,
+    ]);
     reseal(part);
     const r = await run(['merge', file('a.part-0-of-2.h5'), part, '--out', file('a.h5'), '--quiet']);
     expect(r.code).toBe(2);
-    expect(r.err).toContain(`${part}: its scenario attribute describes H complex64 [2, 32, 3, 8], but the file holds complex64 [2, 33, 3, 8]: the scenario or the tensor was changed`);
+    expect(r.err).toContain(
+      `${part}: its scenario attribute describes H complex64 [2, 32, 3, 8], but the file holds complex64 [2, 33, 3, 8]: the scenario or the tensor was changed`,
+    );
     expect(existsSync(file('a.h5'))).toBe(false);
     const p = await run(['plot', part, '--kind', 'delay-profile', '--out', file('a.svg')]);
     expect(p.code).toBe(2);
     expect(p.err).toContain('its scenario attribute describes H complex64 [2, 32, 3, 8]');
   });
   it('parts of different pathweave versions: refused, or merged with a warning under --allow-versions', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('v.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('v.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
     reseal(file('v.part-1-of-2.npz'), (m) => (m.pathweaveVersion = '0.0.9'));
     const parts = [file('v.part-0-of-2.npz'), file('v.part-1-of-2.npz')];
     const r = await run(['merge', ...parts, '--out', file('v.npz'), '--quiet']);
@@ -318,14 +406,18 @@ describe('parts: the manifest covers every array and attribute', () => {
     expect(ok.err).toContain('warning: the parts were written by different pathweave versions (');
   });
   it('a signal during set-up (while the parts are checked) ends merge before anything is written', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('g.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('g.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
     const controller = new AbortController();
     controller.abort(new Error('interrupted by SIGTERM'));
-    await expect(merge([file('g.part-0-of-2.npz'), file('g.part-1-of-2.npz')], file('g.npz'), { signal: controller.signal })).rejects.toThrow('interrupted by SIGTERM');
+    await expect(merge([file('g.part-0-of-2.npz'), file('g.part-1-of-2.npz')], file('g.npz'), { signal: controller.signal })).rejects.toThrow(
+      'interrupted by SIGTERM',
+    );
     expect(readdirSync(dir).filter((f) => f.startsWith('g.npz') || f.startsWith('.g.npz'))).toEqual([]);
   });
   it('a manifest whose format disagrees with the file', async () => {
-    for (const i of [0, 1]) expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('f.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('f.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
     reseal(file('f.part-0-of-2.npz'), (m) => (m.format = 'h5'));
     reseal(file('f.part-1-of-2.npz'), (m) => (m.format = 'h5'));
     const r = await run(['merge', file('f.part-0-of-2.npz'), file('f.part-1-of-2.npz'), '--out', file('f.h5'), '--quiet']);
@@ -342,7 +434,9 @@ describe('the .npy side file: committed first, never deleted on an error path', 
     rmSync(out);
     await expect(
       generate(scenario, text, {
-        out, format: 'npy', seed: 2,
+        out,
+        format: 'npy',
+        seed: 2,
         onProgress: () => {
           if (!existsSync(out)) mkdirSync(join(out, 'inside'), { recursive: true });
         },

@@ -67,9 +67,48 @@ function setAt(doc: Json, at: Segment[], value: Json | undefined): Json | undefi
 }
 
 const HOSTILE_CONSTANTS: Json[] = [
-  1e308, -1e308, 5e-324, -5e-324, 1e-300, 0, -1, 2 ** 53, 2 ** 53 + 2, 2 ** 31, 2 ** 32 + 1, 1.5, 1e21, 4096, 65536, 65537, 1e9,
-  'NaN', 'Infinity', '-Infinity', '1e3', '', ' ', '\u0000', null, true, false, [], {}, [[]], [1, 2, 3, 4], [1e308, 1e308, 1e308],
-  'ula', 'upa', 'custom', 'ar', 'gauss-markov', 'sum-of-sinusoids', 'geometric', 'static', 'concrete', '__proto__',
+  1e308,
+  -1e308,
+  5e-324,
+  -5e-324,
+  1e-300,
+  0,
+  -1,
+  2 ** 53,
+  2 ** 53 + 2,
+  2 ** 31,
+  2 ** 32 + 1,
+  1.5,
+  1e21,
+  4096,
+  65536,
+  65537,
+  1e9,
+  'NaN',
+  'Infinity',
+  '-Infinity',
+  '1e3',
+  '',
+  ' ',
+  '\u0000',
+  null,
+  true,
+  false,
+  [],
+  {},
+  [[]],
+  [1, 2, 3, 4],
+  [1e308, 1e308, 1e308],
+  'ula',
+  'upa',
+  'custom',
+  'ar',
+  'gauss-markov',
+  'sum-of-sinusoids',
+  'geometric',
+  'static',
+  'concrete',
+  '__proto__',
 ];
 const deepArray = (depth: number): Json => {
   let v: Json = 1;
@@ -85,7 +124,10 @@ const hostileValue: fc.Arbitrary<Json> = fc.oneof(
   { weight: 1, arbitrary: fc.integer({ min: MAX_JSON_DEPTH - 8, max: MAX_JSON_DEPTH + 40 }).map(deepArray) },
   { weight: 2, arbitrary: fc.jsonValue({ maxDepth: 3 }) as fc.Arbitrary<Json> },
 );
-const hostileKey = fc.oneof(fc.string({ unit: 'grapheme', maxLength: 30 }), fc.constantFrom('__proto__', 'constructor', 'prototype', 'carrierhz', 'Seed', 'fading ', 'x'.repeat(5000)));
+const hostileKey = fc.oneof(
+  fc.string({ unit: 'grapheme', maxLength: 30 }),
+  fc.constantFrom('__proto__', 'constructor', 'prototype', 'carrierhz', 'Seed', 'fading ', 'x'.repeat(5000)),
+);
 
 type Edit = (doc: Json) => Json | undefined;
 const objectEdit: fc.Arbitrary<Edit> = fc.oneof(
@@ -110,7 +152,11 @@ const objectEdit: fc.Arbitrary<Edit> = fc.oneof(
 );
 type TextEdit = (text: string) => string;
 const textEdit: fc.Arbitrary<TextEdit> = fc.oneof(
-  fc.nat().map((k): TextEdit => (t) => t.slice(0, k % (t.length + 1))), // truncated
+  fc.nat().map(
+    (k): TextEdit =>
+      (t) =>
+        t.slice(0, k % (t.length + 1)),
+  ), // truncated
   fc.tuple(fc.nat(), fc.string({ unit: 'binary', minLength: 1, maxLength: 4 })).map(([k, s]): TextEdit => (t) => {
     const at = k % (t.length + 1);
     return t.slice(0, at) + s + t.slice(at);
@@ -135,12 +181,17 @@ const textEdit: fc.Arbitrary<TextEdit> = fc.oneof(
 
 /** A scenario document: a valid base with 0-3 structural edits and maybe one textual edit, or noise. */
 const hostileDocument: fc.Arbitrary<string> = fc.oneof(
-  { weight: 8, arbitrary: fc.tuple(fc.nat(BASES.length - 1), fc.array(objectEdit, { minLength: 0, maxLength: 3 }), fc.option(textEdit, { freq: 3 })).map(([b, edits, text]) => {
-    let doc: Json | undefined = structuredClone(BASES[b]!);
-    for (const e of edits) doc = doc === undefined ? undefined : e(doc);
-    const t = doc === undefined ? '' : JSON.stringify(doc, null, 1);
-    return text === null ? t : text(t);
-  }) },
+  {
+    weight: 8,
+    arbitrary: fc
+      .tuple(fc.nat(BASES.length - 1), fc.array(objectEdit, { minLength: 0, maxLength: 3 }), fc.option(textEdit, { freq: 3 }))
+      .map(([b, edits, text]) => {
+        let doc: Json | undefined = structuredClone(BASES[b]!);
+        for (const e of edits) doc = doc === undefined ? undefined : e(doc);
+        const t = doc === undefined ? '' : JSON.stringify(doc, null, 1);
+        return text === null ? t : text(t);
+      }),
+  },
   { weight: 1, arbitrary: fc.jsonValue({ maxDepth: 4 }).map((v) => JSON.stringify(v)) },
   { weight: 1, arbitrary: fc.string({ unit: 'binary', maxLength: 200 }) },
 );
@@ -225,7 +276,9 @@ describe('the JSON parser against ECMAScript JSON.parse (ECMA-262 JSON.parse, RF
 
   it('refuses nesting beyond the limit without exhausting the stack', () => {
     for (const depth of [MAX_JSON_DEPTH + 1, 10_000, 1_000_000]) {
-      expect(() => parseJson('['.repeat(depth) + ']'.repeat(depth))).toThrow(`nesting deeper than ${MAX_JSON_DEPTH} levels at line 1, column ${MAX_JSON_DEPTH + 1}`);
+      expect(() => parseJson('['.repeat(depth) + ']'.repeat(depth))).toThrow(
+        `nesting deeper than ${MAX_JSON_DEPTH} levels at line 1, column ${MAX_JSON_DEPTH + 1}`,
+      );
     }
     expect(parseJson('['.repeat(MAX_JSON_DEPTH) + ']'.repeat(MAX_JSON_DEPTH))).toBeInstanceOf(Array);
   });
@@ -258,7 +311,10 @@ describe('validate on hostile documents', () => {
 
   it(`through the built binary for a sample of ${CLI_SAMPLE} documents: exit 0 or 2, no stack trace, no hang`, async () => {
     const dir = tempDir('pathweave-hostile-cli-');
-    const texts = fc.sample(hostileDocument.filter((t) => knownGap(t) === undefined), { seed: SEED + 1, numRuns: CLI_SAMPLE });
+    const texts = fc.sample(
+      hostileDocument.filter((t) => knownGap(t) === undefined),
+      { seed: SEED + 1, numRuns: CLI_SAMPLE },
+    );
     const runOne = (text: string, i: number): Promise<Outcome & { text: string }> => {
       const file = join(dir, `cli-${i}.json`);
       writeFileSync(file, text);
@@ -296,7 +352,10 @@ describe('sizes beyond the machine are refused up front with the estimate', () =
     const dir = tempDir();
     const file = writeScenario(dir, 'huge.json', huge);
     const out = join(dir, 'huge.npy');
-    for (const args of [['validate', file], ['generate', file, '--out', out]]) {
+    for (const args of [
+      ['validate', file],
+      ['generate', file, '--out', out],
+    ]) {
       const r = runCli(args);
       expect(r.status).toBe(2);
       expect(r.stderr).toContain(`the output would be 1.5 TiB (${3 * perSubframe} bytes, shape [3, 4096, 4096, 4096]), over the limit of 64.0 GiB`);
@@ -311,7 +370,9 @@ describe('sizes beyond the machine are refused up front with the estimate', () =
     const r = runCli(['generate', file, '--out', join(dir, 'huge.npy'), '--max-bytes', '2TiB'], { env: { NODE_OPTIONS: '--max-old-space-size=200' } });
     expect(r.status).toBe(2);
     // Two subframe buffers of 512 GiB each at least: the estimate is over a TiB.
-    expect(r.stderr).toMatch(/error: the run would need about \d+\.\d TiB of memory \(one subframe is 512\.0 GiB\), more than the \d+\.\d GiB this machine can spare/);
+    expect(r.stderr).toMatch(
+      /error: the run would need about \d+\.\d TiB of memory \(one subframe is 512\.0 GiB\), more than the \d+\.\d GiB this machine can spare/,
+    );
     expect(readdirSync(dir)).toEqual(['huge.json']);
   });
 });
@@ -335,12 +396,16 @@ describe('extreme values found by the property test, refused up front', () => {
   }, 20_000);
   it('generate with 1e9 subframes of one value: the S x L side arrays are refused up front (exit 2), not "Invalid typed array length" (exit 1)', () => {
     const dir = tempDir();
-    const file = writeScenario(dir, 's.json', variant(staticPaths, (s) => {
-      s.timing.subframes = 1e9;
-      s.band.subcarriers = 1;
-      s.transmitter.array = { kind: 'ula', elements: 1 };
-      s.receiver.array = { kind: 'ula', elements: 1 };
-    }));
+    const file = writeScenario(
+      dir,
+      's.json',
+      variant(staticPaths, (s) => {
+        s.timing.subframes = 1e9;
+        s.band.subcarriers = 1;
+        s.transmitter.array = { kind: 'ula', elements: 1 };
+        s.receiver.array = { kind: 'ula', elements: 1 };
+      }),
+    );
     const r = runCli(['generate', file, '--out', join(dir, 'o.npy')]);
     expect(r.status).toBe(2);
   });

@@ -68,7 +68,8 @@ describe('the tarballs', () => {
       expect(files).toContain('README.md');
       if (pkg === 'io') expect(files).toContain('bin/pathweave.js');
       // The WebAssembly kernel (built by scripts/setup.mjs) ships beside the JavaScript.
-      if (pkg === 'core' && existsSync(join(ROOT, 'packages', 'core', 'dist', 'kernels', 'accumulate.wasm'))) expect(files).toContain('dist/kernels/accumulate.wasm');
+      if (pkg === 'core' && existsSync(join(ROOT, 'packages', 'core', 'dist', 'kernels', 'accumulate.wasm')))
+        expect(files).toContain('dist/kernels/accumulate.wasm');
     });
 
     it(`${pkg}: complete metadata, an exports map pointing at shipped files, no workspace links left`, () => {
@@ -108,12 +109,16 @@ describe('a fresh project outside the workspace', () => {
     mkdirSync(app);
     writeFileSync(
       join(app, 'package.json'),
-      JSON.stringify({
-        name: 'stranger-app',
-        private: true,
-        type: 'module',
-        dependencies: Object.fromEntries(PACKAGES.map((p) => [`@pathweave/${p}`, `file:${tarballs[p]}`])),
-      }, null, 2),
+      JSON.stringify(
+        {
+          name: 'stranger-app',
+          private: true,
+          type: 'module',
+          dependencies: Object.fromEntries(PACKAGES.map((p) => [`@pathweave/${p}`, `file:${tarballs[p]}`])),
+        },
+        null,
+        2,
+      ),
     );
     writeFileSync(join(app, 'scenario.json'), JSON.stringify(scenario, null, 2));
     // The one install: plain npm, the three tarballs, registry packages from npm's cache when there.
@@ -123,8 +128,12 @@ describe('a fresh project outside the workspace', () => {
   it('installs exactly our three packages and the registry dependencies, nothing of the workspace', () => {
     const scoped = readdirSync(join(app, 'node_modules', '@pathweave')).sort();
     expect(scoped).toEqual(['core', 'geometry', 'io']);
-    const lock = JSON.parse(readFileSync(join(app, 'package-lock.json'), 'utf8')) as { packages: Record<string, { resolved?: string; version?: string; link?: boolean }> };
-    const installed = Object.keys(lock.packages).filter((k) => k !== '').map((k) => k.replace(/^.*node_modules\//, ''));
+    const lock = JSON.parse(readFileSync(join(app, 'package-lock.json'), 'utf8')) as {
+      packages: Record<string, { resolved?: string; version?: string; link?: boolean }>;
+    };
+    const installed = Object.keys(lock.packages)
+      .filter((k) => k !== '')
+      .map((k) => k.replace(/^.*node_modules\//, ''));
     for (const name of REGISTRY_DEPENDENCIES) expect(installed).toContain(name);
     for (const [key, entry] of Object.entries(lock.packages)) {
       expect(entry.link, key).not.toBe(true); // copied from the tarballs, not linked into the workspace
@@ -183,7 +192,7 @@ describe('a fresh project outside the workspace', () => {
     expect(bad.stderr).toContain('carrierHz: must be > 0, got -1');
   });
 
-  it("runs the first example of docs/library.md and prints what the guide shows", () => {
+  it('runs the first example of docs/library.md and prints what the guide shows', () => {
     const [example] = librarySnippets(readFileSync(join(ROOT, 'docs', 'library.md'), 'utf8'));
     writeFileSync(join(app, 'library-guide.mjs'), example!.code);
     expect(run(process.execPath, ['library-guide.mjs'], app).stdout).toBe(example!.output);
@@ -212,7 +221,10 @@ generate(scenario, text, { out: 'x.csv', format: 'csv' });
     );
     writeFileSync(
       join(app, 'tsconfig.json'),
-      JSON.stringify({ compilerOptions: { strict: true, target: 'ES2022', module: 'NodeNext', moduleResolution: 'NodeNext', noEmit: true, skipLibCheck: true, types: [] }, files: ['check.ts'] }),
+      JSON.stringify({
+        compilerOptions: { strict: true, target: 'ES2022', module: 'NodeNext', moduleResolution: 'NodeNext', noEmit: true, skipLibCheck: true, types: [] },
+        files: ['check.ts'],
+      }),
     );
     // The workspace's TypeScript, so the install above stays the only one.
     const r = spawnSync(process.execPath, [join(ROOT, 'node_modules', 'typescript', 'bin', 'tsc'), '-p', app], { cwd: app, encoding: 'utf8' });

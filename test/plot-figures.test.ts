@@ -59,7 +59,8 @@ function xmlProblems(text: string): string[] {
 function renderCount(svg: string): { width: number; height: number; inked: number; dark: number } {
   const image = new Resvg(svg, { fitTo: { mode: 'original' }, font: { loadSystemFonts: true, defaultFontFamily: 'DejaVu Sans' } }).render();
   const px = image.pixels;
-  let inked = 0, dark = 0;
+  let inked = 0,
+    dark = 0;
   for (let i = 0; i < px.length; i += 4) {
     const lum = 0.2126 * px[i]! + 0.7152 * px[i + 1]! + 0.0722 * px[i + 2]!;
     if (lum < 245) inked++;
@@ -102,7 +103,11 @@ describe('figures of the demo scenarios', () => {
       expect(lines.length).toBe(views * listed.filter((p) => Number.isFinite(p.powerDb)).length);
       const topView = svg.slice(svg.indexOf('class="view view-top"'), svg.indexOf('class="view view-side"'));
       const topLines = [...topView.matchAll(/<polyline class="path" data-id="([^"]*)"/g)].map((m) => m[1]!.replace(/&gt;/g, '>'));
-      expect(topLines.sort()).toEqual(pathsAt(source).map((p) => p.id).sort());
+      expect(topLines.sort()).toEqual(
+        pathsAt(source)
+          .map((p) => p.id)
+          .sort(),
+      );
       // Walls, blockers and the two terminals with their boresight arrows are drawn.
       const scene = JSON.parse(readFileSync(join(ROOT, 'examples', `${name}.json`), 'utf8')) as { scene: { walls: unknown[]; blockers?: unknown[] } };
       expect(svg.match(/class="wall"/g)?.length).toBe(views * scene.scene.walls.length);
@@ -125,14 +130,18 @@ describe('outside parsers and renderers', () => {
       writeFileSync(f, await plotSource(source, kind));
       files.push(f);
     }
-    const roots = pythonJson<string[]>('import sys, json, xml.etree.ElementTree as ET\nprint(json.dumps([ET.parse(f).getroot().tag for f in sys.argv[1:]]))', files);
+    const roots = pythonJson<string[]>(
+      'import sys, json, xml.etree.ElementTree as ET\nprint(json.dumps([ET.parse(f).getroot().tag for f in sys.argv[1:]]))',
+      files,
+    );
     expect(roots).toEqual(files.map(() => '{http://www.w3.org/2000/svg}svg'));
   });
 
   it('the committed PNGs of docs/images are the renderings of their SVGs (same size, inked)', () => {
     const names = ['street-corner-28ghz-scene', 'factory-floor-60ghz-scene', 'highway-39ghz-scene', 'correlation-models', 'frames-and-angles'];
     for (const n of names) {
-      const svg = join(ROOT, 'docs', 'images', `${n}.svg`), png = join(ROOT, 'docs', 'images', `${n}.png`);
+      const svg = join(ROOT, 'docs', 'images', `${n}.svg`),
+        png = join(ROOT, 'docs', 'images', `${n}.png`);
       expect(existsSync(svg) && existsSync(png), n).toBe(true);
       const bytes = readFileSync(png);
       expect(bytes.subarray(1, 4).toString('latin1')).toBe('PNG'); // PNG signature, ISO/IEC 15948 (V)
@@ -163,16 +172,24 @@ describe('colour scale', () => {
 
 describe('gain correlation', () => {
   it.skipIf(!hasPython('numpy'))('gainCorrelation agrees with numpy on random complex gains', () => {
-    const S = 500, L = 3, lags = 40;
+    const S = 500,
+      L = 3,
+      lags = 40;
     let seed = 7;
-    const rnd = (): number => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31) - 0.5;
+    const rnd = (): number => (seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31 - 0.5;
     const g = Float64Array.from({ length: 2 * S * L }, rnd);
     const ours = gainCorrelation(g, S, L, lags);
     // numpy: mean over s of g[s+k] conj(g[s]) over mean |g|^2, real part, averaged over paths (C)
     const ref = pythonJson<number[]>(
       'import sys, json, numpy as np\n' +
-        'a = np.array(json.loads(sys.stdin.read())).reshape(-1, 2); g = (a[:, 0] + 1j * a[:, 1]).reshape(' + S + ', ' + L + ')\n' +
-        'S, L = g.shape; K = ' + lags + '\n' +
+        'a = np.array(json.loads(sys.stdin.read())).reshape(-1, 2); g = (a[:, 0] + 1j * a[:, 1]).reshape(' +
+        S +
+        ', ' +
+        L +
+        ')\n' +
+        'S, L = g.shape; K = ' +
+        lags +
+        '\n' +
         'r = [np.mean([np.real(np.mean(g[k:, l] * np.conj(g[:S - k, l]))) / np.mean(np.abs(g[:, l]) ** 2) for l in range(L)]) for k in range(K)]\n' +
         'print(json.dumps(r))',
       [],
@@ -201,16 +218,19 @@ describe('gain correlation', () => {
     expect(ak!.values[10]).toBeCloseTo(alpha ** 10, 6); // alpha is given to 8 digits above
     if (hasPython('scipy')) {
       // scipy.special.j0 at 2 pi fD k T, fD = f_c v / c (C)
-      const ref = pythonJson<number[]>('import json, math\nfrom scipy.special import j0\nfd = 28e9 * 3 / 299792458\nprint(json.dumps([float(j0(2 * math.pi * fd * k * 0.125e-3)) for k in range(30)]))');
+      const ref = pythonJson<number[]>(
+        'import json, math\nfrom scipy.special import j0\nfd = 28e9 * 3 / 299792458\nprint(json.dumps([float(j0(2 * math.pi * fd * k * 0.125e-3)) for k in range(30)]))',
+      );
       for (let k = 0; k < 30; k++) expect(j0!.values[k], `J0 at lag ${k}`).toBeCloseTo(ref[k]!, 9);
     }
     // Bartlett's variance of an AR(1) sample autocorrelation (Box & Jenkins, Time Series Analysis, (M)):
     // var r_k ~ [(1 + a^2)(1 - a^(2k)) / (1 - a^2) - 2 k a^(2k)] / N, here N = S per path and 8 paths averaged:
     // 4 standard deviations bound a false failure below 1e-4.
-    const N = 4000, paths = 8;
+    const N = 4000,
+      paths = 8;
     for (const k of [1, 5, 10, 20, 29]) {
       const a2 = alpha * alpha;
-      const variance = ((1 + a2) * (1 - a2 ** k) / (1 - a2) - 2 * k * a2 ** k) / N / paths;
+      const variance = (((1 + a2) * (1 - a2 ** k)) / (1 - a2) - 2 * k * a2 ** k) / N / paths;
       expect(Math.abs(estimate!.values[k]! - alpha ** k), `lag ${k}`).toBeLessThan(4 * Math.sqrt(variance));
     }
   });

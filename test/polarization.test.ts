@@ -15,7 +15,8 @@ function parsed(doc: unknown): Scenario {
   return r.scenario;
 }
 
-const demo = (): Record<string, any> => JSON.parse(readFileSync(join(ROOT, 'examples', 'dual-polarized-street-corner-28ghz.json'), 'utf8')) as Record<string, any>;
+const demo = (): Record<string, any> =>
+  JSON.parse(readFileSync(join(ROOT, 'examples', 'dual-polarized-street-corner-28ghz.json'), 'utf8')) as Record<string, any>;
 
 describe('dual-polarised arrays', () => {
   it('are reciprocal: swapping transmitter and receiver gives H^T for every subcarrier', () => {
@@ -35,11 +36,13 @@ describe('dual-polarised arrays', () => {
     const b = backward.generator.fill(backward.generator.allocate(1), 0, 1);
     const [, K, Nr, Nt] = forward.shape as [number, number, number, number];
     expect(backward.shape).toEqual([1, K, Nt, Nr]);
-    let err = 0, norm = 0;
+    let err = 0,
+      norm = 0;
     for (let k = 0; k < K; k++) {
       for (let m = 0; m < Nr; m++) {
         for (let n = 0; n < Nt; n++) {
-          const i = 2 * ((k * Nr + m) * Nt + n), j = 2 * ((k * Nt + n) * Nr + m);
+          const i = 2 * ((k * Nr + m) * Nt + n),
+            j = 2 * ((k * Nt + n) * Nr + m);
           err = Math.max(err, Math.hypot(a[i]! - b[j]!, a[i + 1]! - b[j + 1]!));
           norm = Math.max(norm, Math.hypot(a[i]!, a[i + 1]!));
         }
@@ -59,7 +62,8 @@ describe('dual-polarised arrays', () => {
     expect(out.every(Number.isFinite)).toBe(true);
     // Receive ports 0 and 2 are vertical, 1 and 3 horizontal (element-major); with a slant
     // +-45 transmitter both polarisations receive power within a few dB of each other.
-    let v = 0, h = 0;
+    let v = 0,
+      h = 0;
     for (let i = 0; i < out.length; i += 2) {
       const m = Math.floor(i / 2 / 32) % 4;
       if (m % 2 === 0) v += out[i]! ** 2 + out[i + 1]! ** 2;

@@ -32,7 +32,12 @@ describe('reproducibility', () => {
     const s = scenario();
     const full = tensor(s, 0, 600);
     const per = full.length / 600;
-    for (const [a, b] of [[250, 530], [RANDOM_BLOCK_STEPS - 1, RANDOM_BLOCK_STEPS + 1], [599, 600], [0, 1]] as [number, number][]) {
+    for (const [a, b] of [
+      [250, 530],
+      [RANDOM_BLOCK_STEPS - 1, RANDOM_BLOCK_STEPS + 1],
+      [599, 600],
+      [0, 1],
+    ] as [number, number][]) {
       const part = tensor(s, a, b - a);
       expect(Buffer.compare(Buffer.from(part.buffer), Buffer.from(full.buffer, a * per * 4, (b - a) * per * 4))).toBe(0);
     }
@@ -41,19 +46,22 @@ describe('reproducibility', () => {
   it('the same scenario and seed give the same bytes; another seed gives others', () => {
     const a = tensor(scenario(), 0, 50);
     const b = tensor(scenario(), 0, 50);
-    const c = tensor(scenario((s) => (s.seed = 7)), 0, 50);
+    const c = tensor(
+      scenario((s) => (s.seed = 7)),
+      0,
+      50,
+    );
     expect(Buffer.compare(Buffer.from(a.buffer), Buffer.from(b.buffer))).toBe(0);
     expect(Buffer.compare(Buffer.from(a.buffer), Buffer.from(c.buffer))).not.toBe(0);
   });
 
   it("a path's gains do not change when another path is added before it", () => {
     const one = buildScenario(scenario()).generator;
-    const more = buildScenario(
-      scenario((s) => s.paths.unshift({ id: 'extra', aodDeg: [5, -3], aoaDeg: [170, 2], delayS: 9e-8, powerDb: -120 })),
-    ).generator;
+    const more = buildScenario(scenario((s) => s.paths.unshift({ id: 'extra', aodDeg: [5, -3], aoaDeg: [170, 2], delayS: 9e-8, powerDb: -120 }))).generator;
     const g1 = one.gains(0, 300);
     const g2 = more.gains(0, 300);
-    const L1 = one.pathCount, L2 = more.pathCount;
+    const L1 = one.pathCount,
+      L2 = more.pathCount;
     for (let s = 0; s < 300; s++) {
       for (let l = 0; l < L1; l++) {
         expect(g2[2 * (s * L2 + l + 1)]).toBe(g1[2 * (s * L1 + l)]);

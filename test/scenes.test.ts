@@ -64,7 +64,10 @@ print(json.dumps({'los': f['truth/powerDb'][:, ids.index('los')].tolist(), 'ids'
     const los = paths.find((p) => p.id === 'los')!;
     const s = example('highway-39ghz.json');
     const lambda = 299792458 / s.carrierHz;
-    const u = [Math.cos((los.aoaDeg[1] * Math.PI) / 180) * Math.cos((los.aoaDeg[0] * Math.PI) / 180), Math.cos((los.aoaDeg[1] * Math.PI) / 180) * Math.sin((los.aoaDeg[0] * Math.PI) / 180)];
+    const u = [
+      Math.cos((los.aoaDeg[1] * Math.PI) / 180) * Math.cos((los.aoaDeg[0] * Math.PI) / 180),
+      Math.cos((los.aoaDeg[1] * Math.PI) / 180) * Math.sin((los.aoaDeg[0] * Math.PI) / 180),
+    ];
     const v = s.receiver.velocity as number[];
     expect(los.dopplerHz).toBeCloseTo((v[0]! * u[0]! + v[1]! * u[1]!) / lambda, 6);
     expect(los.dopplerHz).toBeGreaterThan(0); // approaching the gantry shortens the path: positive shift
@@ -89,7 +92,8 @@ describe('paths --json pasted back as explicit static paths reproduces H', () =>
     expect(r.status, r.stderr).toBe(0);
     const a = decodeNpy(readFileSync(join(dir, 'a.npy'))).data as Float64Array;
     const b = decodeNpy(readFileSync(join(dir, 'b.npy'))).data as Float64Array;
-    let num = 0, den = 0;
+    let num = 0,
+      den = 0;
     for (let i = 0; i < a.length; i++) {
       num += (a[i]! - b[i]!) ** 2;
       den += a[i]! ** 2;
@@ -110,17 +114,39 @@ describe('bad scene input', () => {
   };
   it('non-coplanar or degenerate walls', () => {
     refuse((s) => (s.scene.walls[0].vertices[2] = [40, 15, 18]), 'scene.walls[0].vertices');
-    refuse((s) => (s.scene.walls[1].vertices = [[0, 0, 0], [1, 1, 1], [2, 2, 2]]), 'scene.walls[1].vertices');
+    refuse(
+      (s) =>
+        (s.scene.walls[1].vertices = [
+          [0, 0, 0],
+          [1, 1, 1],
+          [2, 2, 2],
+        ]),
+      'scene.walls[1].vertices',
+    );
   });
   it('mixed 2-D and 3-D coordinates', () => {
-    refuse((s) => (s.scene.walls[2].vertices = [[40, -6], [40, 14]]), 'scene.walls');
+    refuse(
+      (s) =>
+        (s.scene.walls[2].vertices = [
+          [40, -6],
+          [40, 14],
+        ]),
+      'scene.walls',
+    );
   });
   it('a terminal inside a blocker, and transmitter and receiver at the same point', () => {
     refuse((s) => (s.scene.blockers = [{ shape: 'box', min: [21, 8, 0], max: [23, 10, 2] }]), 'receiver.position');
     refuse((s) => (s.receiver.position = [...s.transmitter.position]), 'receiver.position');
   });
   it('a trajectory whose times do not increase', () => {
-    refuse((s) => (s.receiver.trajectory = [{ t: 0, position: [1, 1, 1.5] }, { t: 0, position: [2, 1, 1.5] }]), 'receiver.trajectory[1].t: times must increase, got 0 after 0');
+    refuse(
+      (s) =>
+        (s.receiver.trajectory = [
+          { t: 0, position: [1, 1, 1.5] },
+          { t: 0, position: [2, 1, 1.5] },
+        ]),
+      'receiver.trajectory[1].t: times must increase, got 0 after 0',
+    );
   });
   it('geometry that yields no path at all is reported, not written as a zero channel', () => {
     const s = structuredClone(base);
@@ -152,8 +178,10 @@ describe('reciprocity of traced channels, polarisation included', () => {
     const B = decodeNpy(readFileSync(join(dir, 'b.npy')));
     const [, K, Nr, Nt] = A.shape as [number, number, number, number];
     expect(B.shape).toEqual([1, K, Nt, Nr]);
-    const a = A.data as Float64Array, b = B.data as Float64Array;
-    let num = 0, den = 0;
+    const a = A.data as Float64Array,
+      b = B.data as Float64Array;
+    let num = 0,
+      den = 0;
     for (let k = 0; k < K; k++) {
       for (let m = 0; m < Nr; m++) {
         for (let n = 0; n < Nt; n++) {

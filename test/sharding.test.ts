@@ -44,20 +44,32 @@ describe('--shard ranges (docs/conventions.md: floor(I S / N) to floor((I+1) S /
   });
 
   it('auto: Slurm index (ID - MIN) / STEP, for arrays 0-7, 1-8 and 3-17:2', () => {
-    for (const [min, step, count] of [[0, 1, 8], [1, 1, 8], [3, 2, 8]] as const)
+    for (const [min, step, count] of [
+      [0, 1, 8],
+      [1, 1, 8],
+      [3, 2, 8],
+    ] as const)
       for (let I = 0; I < count; I++) {
-        const env = { SLURM_ARRAY_TASK_ID: String(min + I * step), SLURM_ARRAY_TASK_MIN: String(min), SLURM_ARRAY_TASK_STEP: String(step), SLURM_ARRAY_TASK_COUNT: String(count) };
+        const env = {
+          SLURM_ARRAY_TASK_ID: String(min + I * step),
+          SLURM_ARRAY_TASK_MIN: String(min),
+          SLURM_ARRAY_TASK_STEP: String(step),
+          SLURM_ARRAY_TASK_COUNT: String(count),
+        };
         const shard = parseShard('auto', env);
         expect(shard).toEqual({ index: I, count, source: 'Slurm job array' });
         expect(shardRange(shard.index, shard.count, 1000)).toEqual(formulaRange(I, count, 1000));
       }
     // auto/N overrides the count Slurm gives.
     expect(parseShard('auto/4', { SLURM_ARRAY_TASK_ID: '3', SLURM_ARRAY_TASK_COUNT: '9' })).toMatchObject({ index: 3, count: 4 });
-    expect(() => parseShard('auto', { SLURM_ARRAY_TASK_ID: '4', SLURM_ARRAY_TASK_MIN: '3', SLURM_ARRAY_TASK_STEP: '2', SLURM_ARRAY_TASK_COUNT: '8' })).toThrow('SLURM_ARRAY_TASK_ID 4 is not MIN 3 plus a multiple of STEP 2');
+    expect(() => parseShard('auto', { SLURM_ARRAY_TASK_ID: '4', SLURM_ARRAY_TASK_MIN: '3', SLURM_ARRAY_TASK_STEP: '2', SLURM_ARRAY_TASK_COUNT: '8' })).toThrow(
+      'SLURM_ARRAY_TASK_ID 4 is not MIN 3 plus a multiple of STEP 2',
+    );
   });
 
   it('auto/N: Kubernetes JOB_COMPLETION_INDEX from 0 to N-1; auto alone is refused', () => {
-    for (let I = 0; I < 5; I++) expect(parseShard('auto/5', { JOB_COMPLETION_INDEX: String(I) })).toEqual({ index: I, count: 5, source: 'Kubernetes Indexed Job' });
+    for (let I = 0; I < 5; I++)
+      expect(parseShard('auto/5', { JOB_COMPLETION_INDEX: String(I) })).toEqual({ index: I, count: 5, source: 'Kubernetes Indexed Job' });
     expect(() => parseShard('auto', { JOB_COMPLETION_INDEX: '1' })).toThrow('use --shard auto/N');
     expect(() => parseShard('auto/5', { JOB_COMPLETION_INDEX: '5' })).toThrow('JOB_COMPLETION_INDEX 5 is outside 0..4');
     expect(() => parseShard('auto', {})).toThrow('no scheduler variables found');
@@ -74,7 +86,9 @@ describe('--shard ranges (docs/conventions.md: floor(I S / N) to floor((I+1) S /
     const m1 = JSON.parse(readFileSync(join(dir, 'run.part-2-of-5.npz.manifest.json'), 'utf8'));
     expect(m1.part).toEqual({ index: 2, count: 5 });
     expect(m1.range).toEqual(formulaRange(2, 5, 41));
-    const k8s = runCli(['generate', file, '--out', join(dir, 'run.part-{index}-of-{count}.npz'), '--shard', 'auto/5'], { env: { ...clean, JOB_COMPLETION_INDEX: '4' } });
+    const k8s = runCli(['generate', file, '--out', join(dir, 'run.part-{index}-of-{count}.npz'), '--shard', 'auto/5'], {
+      env: { ...clean, JOB_COMPLETION_INDEX: '4' },
+    });
     expect(k8s.status, k8s.stderr).toBe(0);
     expect(k8s.stderr).toContain('from the Kubernetes Indexed Job');
     const m2 = JSON.parse(readFileSync(join(dir, 'run.part-4-of-5.npz.manifest.json'), 'utf8'));
@@ -147,7 +161,20 @@ describe('merge', () => {
     expect(r.stdout).toContain(`from 3 parts`);
     const same = pythonJson<Record<string, boolean | string>>(COMPARE, [join(dir, `full.${ext}`), join(dir, `merged.${ext}`)]);
     // Every array and attribute equal, tensorSha256 and subframeRange included.
-    for (const name of ['H', 'gains', 'subframeTimesS', 'frequenciesHz', 'paths/delayS', 'paths/epochTimesS', 'truth/delayS', 'truth/receiverPosition', 'truth/lineOfSight', 'tensorSha256', 'subframeRange', 'seed']) {
+    for (const name of [
+      'H',
+      'gains',
+      'subframeTimesS',
+      'frequenciesHz',
+      'paths/delayS',
+      'paths/epochTimesS',
+      'truth/delayS',
+      'truth/receiverPosition',
+      'truth/lineOfSight',
+      'tensorSha256',
+      'subframeRange',
+      'seed',
+    ]) {
       expect(same[name], name).toBe(true);
     }
     expect(Object.entries(same).filter(([, v]) => v !== true)).toEqual([]);
@@ -190,7 +217,9 @@ describe('merge', () => {
     const m = runCli(['merge', join(dir, 'run.part-0-of-2.npy'), part1, '--out', merged]);
     expect(m.status).toBe(2);
     // The sha256 of the whole file (manifest version 2) finds the change before any byte is copied.
-    expect(m.stderr).toMatch(/error: merge: .*run\.part-1-of-2\.npy: file sha256 [0-9a-f]{64} differs from its manifest's [0-9a-f]{64}: an array or attribute of the part was changed after it was written/);
+    expect(m.stderr).toMatch(
+      /error: merge: .*run\.part-1-of-2\.npy: file sha256 [0-9a-f]{64} differs from its manifest's [0-9a-f]{64}: an array or attribute of the part was changed after it was written/,
+    );
     expect(existsSync(merged)).toBe(false);
     expect(readdirSync(dir).filter((f) => f.endsWith('.part'))).toEqual([]); // no temporary left
 
@@ -214,10 +243,19 @@ describe('merge', () => {
     const cases: [string[], RegExp][] = [
       [[p('a.part-0-of-3.npz'), p('a.part-2-of-3.npz')], /subframes 13:27 are in no part \(a gap before .*a\.part-2-of-3\.npz\)/],
       [[p('a.part-0-of-3.npz'), p('a.part-1-of-3.npz')], /subframes 27:41 are in no part \(missing at the end\)/],
-      [[p('a.part-0-of-3.npz'), p('b.part-0-of-2.npz'), p('b.part-1-of-2.npz')], /b\.part-0-of-2\.npz \(subframes 0:20\) overlaps the part before it, which ends at 13/],
-      [[p('a.part-0-of-3.npz'), p('seed.part-1-of-3.npz'), p('a.part-2-of-3.npz')], /seed\.part-1-of-3\.npz is of seed 5, .*a\.part-0-of-3\.npz of seed 20261201/],
+      [
+        [p('a.part-0-of-3.npz'), p('b.part-0-of-2.npz'), p('b.part-1-of-2.npz')],
+        /b\.part-0-of-2\.npz \(subframes 0:20\) overlaps the part before it, which ends at 13/,
+      ],
+      [
+        [p('a.part-0-of-3.npz'), p('seed.part-1-of-3.npz'), p('a.part-2-of-3.npz')],
+        /seed\.part-1-of-3\.npz is of seed 5, .*a\.part-0-of-3\.npz of seed 20261201/,
+      ],
       [[p('a.part-0-of-3.npz'), p('other.part-1-of-3.npz'), p('a.part-2-of-3.npz')], /other\.part-1-of-3\.npz is of another scenario/],
-      [[p('a.part-0-of-3.npz'), p('plain.npz'), p('a.part-2-of-3.npz')], /plain\.npz\.manifest\.json: cannot read the manifest \(ENOENT\); merge takes the part files that generate --shard wrote/],
+      [
+        [p('a.part-0-of-3.npz'), p('plain.npz'), p('a.part-2-of-3.npz')],
+        /plain\.npz\.manifest\.json: cannot read the manifest \(ENOENT\); merge takes the part files that generate --shard wrote/,
+      ],
       [[p('a.part-0-of-3.npz'), p('a.part-0-of-3.npz')], /a\.part-0-of-3\.npz is given twice/],
     ];
     for (const [parts, message] of cases) {

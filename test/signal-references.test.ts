@@ -25,7 +25,9 @@ def flat(z): z = np.asarray(z).ravel(); return np.stack([z.real, z.imag], -1).ra
 
 describe.skipIf(!py)('signal path against numpy / scipy', () => {
   it('OfdmModem.modulate = sqrt(K) ifft(ifftshift(X)) with the tail as prefix; demodulate = fftshift(fft(y)) / sqrt(K) (numpy.fft, C)', () => {
-    const K = 128, cp = 9, symbols = 2;
+    const K = 128,
+      cp = 9,
+      symbols = 2;
     const modem = new OfdmModem({ subcarriers: K, cyclicPrefix: cp });
     const X = complexNoise(symbols * K, 1);
     const x = modem.modulate(X, 1, symbols);
@@ -50,7 +52,9 @@ print(json.dumps({'x': flat(x), 'Y': flat(Y)}))`,
   });
 
   it('tapsToSubcarriers with count = K equals fftshift(fft(h, axis=0)) (docs/conventions.md "DFT of h equals H"; numpy.fft, C)', () => {
-    const K = 32, Nr = 2, Nt = 3;
+    const K = 32,
+      Nr = 2,
+      Nt = 3;
     const h = complexNoise(K * Nr * Nt, 3);
     const H = tapsToSubcarriers(h, K, Nr, Nt, K);
     const ref = pythonJson<number[]>(

@@ -19,7 +19,17 @@ describe('H equals the DFT of h (fft.js reference)', () => {
     { id: 'b', delayS: 11 / fs, power: 3e-10, phaseRad: -2.0, departure: unitFromDeg(40, -2), arrival: unitFromDeg(150, 1) },
     { id: 'c', delayS: 26 / fs, power: 5e-11, phaseRad: 2.9, departure: unitFromDeg(-25, -8), arrival: unitFromDeg(100, 6) },
   ];
-  const base = { carrierHz: 28e9, subframeS: 1e-3, subframes: 2, transmitter: { array: tx, position: [0, 0, 0] as [number, number, number], velocity: [0, 0, 0] as [number, number, number] }, receiver: { array: rx, position: [10, 0, 0] as [number, number, number], velocity: [1, 0, 0] as [number, number, number] }, paths, fading: { model: 'gauss-markov' as const }, seed: 9, precision: 'complex128' as const };
+  const base = {
+    carrierHz: 28e9,
+    subframeS: 1e-3,
+    subframes: 2,
+    transmitter: { array: tx, position: [0, 0, 0] as [number, number, number], velocity: [0, 0, 0] as [number, number, number] },
+    receiver: { array: rx, position: [10, 0, 0] as [number, number, number], velocity: [1, 0, 0] as [number, number, number] },
+    paths,
+    fading: { model: 'gauss-markov' as const },
+    seed: 9,
+    precision: 'complex128' as const,
+  };
 
   it('for every element pair and subframe, to 1e-12 relative', () => {
     const Hgen = new ChannelGenerator({ ...base, grid: { domain: 'frequency', subcarriers: K, spacingHz: df } } as ChannelSpec);
@@ -30,7 +40,8 @@ describe('H equals the DFT of h (fft.js reference)', () => {
     const fft = new FFT(K);
     const input = fft.createComplexArray() as number[];
     const spectrum = fft.createComplexArray() as number[];
-    let worst = 0, scale = 0;
+    let worst = 0,
+      scale = 0;
     for (let s = 0; s < 2; s++) {
       for (let m = 0; m < M; m++) {
         for (let n = 0; n < K; n++) {

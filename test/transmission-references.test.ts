@@ -36,7 +36,11 @@ print(json.dumps(out))
 describe.skipIf(!py)('ITU-R P.2040 slab transmission against numpy', () => {
   it('slab coefficients of concrete, glass and plasterboard walls at 28 and 60 GHz agree to 1e-10', () => {
     const cases: number[][] = [];
-    for (const [name, d] of [['concrete', 0.15], ['glass', 0.006], ['plasterboard', 0.0125]] as const) {
+    for (const [name, d] of [
+      ['concrete', 0.15],
+      ['glass', 0.006],
+      ['plasterboard', 0.0125],
+    ] as const) {
       for (const f of [28e9, 60e9]) {
         const eta = p2040Permittivity(name, f).eta;
         for (const deg of [0, 30, 60, 80]) cases.push([eta[0], eta[1], d, SPEED_OF_LIGHT / f, (deg * Math.PI) / 180]);
@@ -50,11 +54,29 @@ describe.skipIf(!py)('ITU-R P.2040 slab transmission against numpy', () => {
     });
   });
 
-  it('the tracer\'s path through a 6 mm glass pane carries the numpy slab coefficient (TE, 2-D)', () => {
-    const f = 28e9, lam = SPEED_OF_LIGHT / f;
-    const eta = p2040Permittivity('glass', f).eta, t = Math.atan2(3, 10);
+  it("the tracer's path through a 6 mm glass pane carries the numpy slab coefficient (TE, 2-D)", () => {
+    const f = 28e9,
+      lam = SPEED_OF_LIGHT / f;
+    const eta = p2040Permittivity('glass', f).eta,
+      t = Math.atan2(3, 10);
     const [row] = pythonJson<number[][]>(SLAB, [JSON.stringify({ cases: [[eta[0], eta[1], 0.006, lam, t]] })]);
-    const [p] = traceScene({ walls: [{ vertices: [[5, -20], [5, 20]], material: 'glass', thicknessM: 0.006 }] }, { position: [0, 0, 0] }, { position: [10, 3, 0] }, f).paths;
+    const [p] = traceScene(
+      {
+        walls: [
+          {
+            vertices: [
+              [5, -20],
+              [5, 20],
+            ],
+            material: 'glass',
+            thicknessM: 0.006,
+          },
+        ],
+      },
+      { position: [0, 0, 0] },
+      { position: [10, 3, 0] },
+      f,
+    ).paths;
     const T = p!.interactions[0]!.coefficients!.te;
     expect(Math.abs(T[0] - row![2]!) + Math.abs(T[1] - row![3]!)).toBeLessThan(1e-12);
   });

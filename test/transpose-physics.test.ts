@@ -23,7 +23,16 @@ function losSpec(txPos: Vec3, txArray: AntennaArray, rxPos: Vec3, rxArray: Anten
     subframes: 1,
     transmitter: { array: txArray, position: txPos, velocity: [0, 0, 0] },
     receiver: { array: rxArray, position: rxPos, velocity: [0, 0, 0] },
-    paths: [{ id: 'los', delayS: d / 299792458, power: (lambda / (4 * Math.PI * d)) ** 2, phaseRad: -k0 * d, departure: unitFromDeg(az, el), arrival: unitFromDeg(baz, bel) }],
+    paths: [
+      {
+        id: 'los',
+        delayS: d / 299792458,
+        power: (lambda / (4 * Math.PI * d)) ** 2,
+        phaseRad: -k0 * d,
+        departure: unitFromDeg(az, el),
+        arrival: unitFromDeg(baz, bel),
+      },
+    ],
     fading: { model: 'static' },
     grid: { domain: 'frequency', subcarriers: 1, spacingHz: 1e6 },
     seed: 0,
@@ -50,7 +59,8 @@ function exactChannel(txPos: Vec3, tx: AntennaArray, rxPos: Vec3, rx: AntennaArr
 }
 
 function relativeError(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  let num = 0, den = 0;
+  let num = 0,
+    den = 0;
   for (let i = 0; i < a.length; i++) {
     num += (a[i]! - b[i]!) ** 2;
     den += b[i]! ** 2;

@@ -19,7 +19,10 @@ function parsed(doc: unknown): Scenario {
 
 /** |h1^H h2| / (|h1| |h2|) over every subcarrier and antenna pair. */
 function correlation(x: ArrayLike<number>, y: ArrayLike<number>): number {
-  let re = 0, im = 0, nx = 0, ny = 0;
+  let re = 0,
+    im = 0,
+    nx = 0,
+    ny = 0;
   for (let i = 0; i < x.length; i += 2) {
     re += x[i]! * y[i]! + x[i + 1]! * y[i + 1]!;
     im += x[i]! * y[i + 1]! - x[i + 1]! * y[i]!;
@@ -44,7 +47,11 @@ describe('several users', () => {
     for (let s = 0; s < 6; s++) {
       // user "window" is index 3 of 5 in the full run
       const slice = out.subarray(s * 5 * per + 3 * per, s * 5 * per + 4 * per);
-      expect(Buffer.from(slice.buffer, slice.byteOffset, slice.byteLength).equals(Buffer.from(mine.buffer, mine.byteOffset, mine.byteLength).subarray(s * per * 4, (s + 1) * per * 4))).toBe(true);
+      expect(
+        Buffer.from(slice.buffer, slice.byteOffset, slice.byteLength).equals(
+          Buffer.from(mine.buffer, mine.byteOffset, mine.byteLength).subarray(s * per * 4, (s + 1) * per * 4),
+        ),
+      ).toBe(true);
     }
   });
 
@@ -83,7 +90,7 @@ describe('several users', () => {
     built.users.forEach((u, i) => expect(truth[i * L]).toBeCloseTo(u.paths.find((p) => p.kind === 'los')!.delayS, 15));
   });
 
-  it('lists one user\'s paths with pathweave paths --user (id or index)', () => {
+  it("lists one user's paths with pathweave paths --user (id or index)", () => {
     const file = join(ROOT, 'examples', 'street-corner-users-28ghz.json');
     const byId = runCli(['paths', file, '--user', 'across', '--json']);
     const byIndex = runCli(['paths', file, '--user', '4', '--json']);

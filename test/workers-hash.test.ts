@@ -97,7 +97,9 @@ print(json.dumps({'sha': hashlib.sha256(np.ascontiguousarray(a).tobytes()).hexdi
     const text = JSON.stringify(scenario);
     const { scenario: parsed } = parseScenarioText(text);
     const abort = new AbortController();
-    await expect(generate(parsed, text, { out, format: 'npy', workers: 1, checksum, signal: abort.signal, onProgress: () => abort.abort(new Error('stop here')) })).rejects.toThrow('stop here');
+    await expect(
+      generate(parsed, text, { out, format: 'npy', workers: 1, checksum, signal: abort.signal, onProgress: () => abort.abort(new Error('stop here')) }),
+    ).rejects.toThrow('stop here');
     expect(existsSync(out)).toBe(false);
     expect(readdirSync(dir)).toEqual([]);
   });

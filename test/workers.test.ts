@@ -45,17 +45,47 @@ const tracedScenario = {
     lineOfSight: true,
     maxReflectionOrder: 2,
     walls: [
-      { vertices: [[0, 0], [12, 0]], material: 'concrete' },
-      { vertices: [[12, 0], [12, 8]], material: 'glass' },
-      { vertices: [[12, 8], [0, 8]], material: 'wood' },
-      { vertices: [[0, 8], [0, 0]], material: 'brick' },
+      {
+        vertices: [
+          [0, 0],
+          [12, 0],
+        ],
+        material: 'concrete',
+      },
+      {
+        vertices: [
+          [12, 0],
+          [12, 8],
+        ],
+        material: 'glass',
+      },
+      {
+        vertices: [
+          [12, 8],
+          [0, 8],
+        ],
+        material: 'wood',
+      },
+      {
+        vertices: [
+          [0, 8],
+          [0, 0],
+        ],
+        material: 'brick',
+      },
     ],
   },
   fading: { model: 'geometric' },
   seed: 5,
 };
 
-async function run(scenario: object, out: string, workers: number, range?: [number, number], checksum = true): Promise<{ file: Buffer; sha256: string | undefined }> {
+async function run(
+  scenario: object,
+  out: string,
+  workers: number,
+  range?: [number, number],
+  checksum = true,
+): Promise<{ file: Buffer; sha256: string | undefined }> {
   const text = JSON.stringify(scenario);
   const { scenario: parsed } = parseScenarioText(text);
   const report = await generate(parsed, text, { out, format: out.endsWith('.npz') ? 'npz' : 'npy', workers, checksum, ...(range ? { range } : {}) });
@@ -100,7 +130,11 @@ describe('generate with worker threads', () => {
     // The recorded checksum is hashlib's sha256 of the bytes numpy reads (node:crypto here: the
     // same FIPS 180-4 function, tested against hashlib in test/workers-hash.test.ts).
     const headerOf = (b: Buffer): number => 10 + b.readUInt16LE(8);
-    expect(hashed.sha256).toBe(createHash('sha256').update(hashed.file.subarray(headerOf(hashed.file))).digest('hex'));
+    expect(hashed.sha256).toBe(
+      createHash('sha256')
+        .update(hashed.file.subarray(headerOf(hashed.file)))
+        .digest('hex'),
+    );
     const side = (f: string): { tensor: { sha256?: string } } => JSON.parse(readFileSync(join(dir, `${f}.json`), 'utf8'));
     expect(side('h.npy').tensor.sha256).toBe(hashed.sha256);
     expect('sha256' in side('p.npy').tensor).toBe(false);
@@ -120,7 +154,9 @@ describe('generate with worker threads', () => {
   it('refuses a worker count that is not a positive integer', async () => {
     const text = JSON.stringify(explicitScenario);
     const { scenario } = parseScenarioText(text);
-    await expect(generate(scenario, text, { out: join(tempDir(), 'x.npy'), format: 'npy', workers: 0 })).rejects.toThrow('generate(): options.workers must be an integer >= 1, got 0');
+    await expect(generate(scenario, text, { out: join(tempDir(), 'x.npy'), format: 'npy', workers: 0 })).rejects.toThrow(
+      'generate(): options.workers must be an integer >= 1, got 0',
+    );
   });
 });
 
@@ -128,7 +164,11 @@ describe('every kernel with worker threads', () => {
   // The kernel is chosen when the process starts, so each is run through the built command
   // line (build first); PATHWEAVE_KERNEL unset gives the fused kernel where it can run.
   const fused = loadWasmKernel(FMA_KERNEL_PATH).kernel !== undefined;
-  const kernels: Array<[env: string | undefined, name: string]> = [['js', PLAIN_KERNEL_NAME], ['simd', WASM_KERNEL_NAME], [undefined, fused ? FMA_KERNEL_NAME : WASM_KERNEL_NAME]];
+  const kernels: Array<[env: string | undefined, name: string]> = [
+    ['js', PLAIN_KERNEL_NAME],
+    ['simd', WASM_KERNEL_NAME],
+    [undefined, fused ? FMA_KERNEL_NAME : WASM_KERNEL_NAME],
+  ];
   it.each(kernels)('PATHWEAVE_KERNEL=%s: 1 and 2 workers write the same bytes, and the kernel %s is recorded', (env, name) => {
     const dir = tempDir();
     const file = writeScenario(dir, 's.json', explicitScenario);
@@ -144,7 +184,8 @@ describe('every kernel with worker threads', () => {
   });
 
   it('gives block buffers in shared memory, which pool workers and the hash thread read in place', () => {
-    const a = sharedBlockArray(10, Float32Array), b = sharedBlockArray(3, Float64Array);
+    const a = sharedBlockArray(10, Float32Array),
+      b = sharedBlockArray(3, Float64Array);
     expect([a.buffer instanceof SharedArrayBuffer, b.buffer instanceof SharedArrayBuffer, a.length, b.length]).toEqual([true, true, 10, 3]);
     expect(a.every((x) => x === 0) && b.every((x) => x === 0)).toBe(true);
   });

@@ -56,7 +56,8 @@ describe('two runs aimed at the same output path at once', () => {
       // References: each seed alone.
       const refs = [1, 2].map((seed) => join(dir, `ref-${seed}.${format}`));
       // --checksum: the recorded tensorSha256 identifies each run's tensor (a plain run records none).
-      for (const [i, ref] of refs.entries()) expect((await start(['generate', file, '--out', ref, '--seed', String(i + 1), '--checksum', '--quiet'])).status).toBe(0);
+      for (const [i, ref] of refs.entries())
+        expect((await start(['generate', file, '--out', ref, '--seed', String(i + 1), '--checksum', '--quiet'])).status).toBe(0);
       const refIds = await Promise.all(refs.map(tensorIdentity));
       expect(refIds[0]).not.toBe(refIds[1]); // the seeds do differ
       const refSizes = refs.map((r) => statSync(r).size);
@@ -100,7 +101,9 @@ describe('shards of one job on one machine', () => {
     const full = join(dir, 'full.npy');
     expect((await start(['generate', file, '--out', full, '--quiet'])).status).toBe(0);
     // The same command line for both, as a job array runs it: each shard names its own part.
-    const results = await Promise.all([0, 1].map((i) => start(['generate', file, '--out', join(dir, 'job.part-{index}-of-{count}.npy'), '--shard', `${i}/2`, '--quiet'])));
+    const results = await Promise.all(
+      [0, 1].map((i) => start(['generate', file, '--out', join(dir, 'job.part-{index}-of-{count}.npy'), '--shard', `${i}/2`, '--quiet'])),
+    );
     const parts = [0, 1].map((i) => join(dir, `job.part-${i}-of-2.npy`));
     for (const r of results) expect(r.status, r.stderr).toBe(0);
     const data = (p: string): Buffer => {

@@ -14,8 +14,17 @@ export function tempDir(prefix = 'pathweave-test-'): string {
 }
 
 /** Run the built `pathweave` binary. */
-export function runCli(args: string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv; input?: string } = {}): { status: number; stdout: string; stderr: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { cwd: opts.cwd ?? ROOT, env: { ...process.env, ...opts.env }, encoding: 'utf8', input: opts.input ?? '', timeout: 120_000 });
+export function runCli(
+  args: string[],
+  opts: { cwd?: string; env?: NodeJS.ProcessEnv; input?: string } = {},
+): { status: number; stdout: string; stderr: string } {
+  const r = spawnSync(process.execPath, [CLI, ...args], {
+    cwd: opts.cwd ?? ROOT,
+    env: { ...process.env, ...opts.env },
+    encoding: 'utf8',
+    input: opts.input ?? '',
+    timeout: 120_000,
+  });
   return { status: r.status ?? -1, stdout: r.stdout, stderr: r.stderr };
 }
 

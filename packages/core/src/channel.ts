@@ -30,7 +30,16 @@ import {
   type Wavefront,
 } from '@pathweave/geometry';
 import { pathCorrelation, type PathCorrelation } from './doppler.js';
-import { createGainProcess, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingPath, type FadingSpec, type GainProcessPath, type StepClock } from './fading/index.js';
+import {
+  createGainProcess,
+  gainBandwidthHz,
+  underSamplingWarning,
+  uniformClock,
+  type FadingPath,
+  type FadingSpec,
+  type GainProcessPath,
+  type StepClock,
+} from './fading/index.js';
 import type { GainProcess } from './gains.js';
 import { subcarrierOffsetsHz } from './grid.js';
 import { accumulatePaths } from './kernels/index.js';
@@ -39,7 +48,6 @@ import { identityTransfers, portCoupling, portFieldComponents, xprTransfer } fro
 import { pulseFunction, type PulseShape } from './pulse.js';
 import { RandomStream } from './random.js';
 import { arrayAt, ExplicitTimeline, PathSetFrame, type ExplicitPathSpec, type PathTimeline } from './timeline.js';
-
 
 /**
  * A terminal: its array, where it is and how it moves.
@@ -151,7 +159,6 @@ export function alignmentShiftS(delaysS: readonly number[], sampleRateHz: number
  */
 export type TensorArray = Float32Array | Float64Array;
 
-
 /**
  * Builds per-subframe channel tensors. The constructor validates the spec and precomputes what
  * does not change (element products r_rx r_tx^T, the delay kernel) when the geometry is
@@ -208,7 +215,17 @@ export class ChannelGenerator {
   private preparedAt = -1;
   /** Polarised-port assembly (module comment), undefined otherwise. */
   private readonly ports:
-    | { rx: readonly Vec3[]; tx: readonly Vec3[]; transfers: Float64Array; fixed: Uint8Array; rxFields: Float64Array; txFields: Float64Array; coupling: Float64Array; elements: Float64Array; scratch: Float64Array }
+    | {
+        rx: readonly Vec3[];
+        tx: readonly Vec3[];
+        transfers: Float64Array;
+        fixed: Uint8Array;
+        rxFields: Float64Array;
+        txFields: Float64Array;
+        coupling: Float64Array;
+        elements: Float64Array;
+        scratch: Float64Array;
+      }
     | undefined;
 
   constructor(readonly spec: ChannelSpec) {
@@ -246,7 +263,8 @@ export class ChannelGenerator {
       checkPositive('grid.spacingHz', grid.spacingHz);
       this.bins = grid.subcarriers;
       this.frequencies = subcarrierOffsetsHz(grid.subcarriers, grid.spacingHz);
-      if (grid.beamSquint === true && polarised) throw new RangeError('ChannelGenerator(): beam squint with polarised ports (ports or xprDb) is not supported; turn one of them off');
+      if (grid.beamSquint === true && polarised)
+        throw new RangeError('ChannelGenerator(): beam squint with polarised ports (ports or xprDb) is not supported; turn one of them off');
       this.squint = grid.beamSquint === true ? { rx: new Float64Array(2 * this.bins * L * Nr), tx: new Float64Array(2 * this.bins * L * Nt) } : undefined;
     } else {
       checkCount('grid.count', grid.count, 1);
@@ -395,7 +413,8 @@ export class ChannelGenerator {
     const g = this.unitGains;
     const scale = this.amplitudeScale;
     for (let l = 0; l < L; l++) {
-      let ar = a[2 * l]! * scale, ai = a[2 * l + 1]! * scale;
+      let ar = a[2 * l]! * scale,
+        ai = a[2 * l + 1]! * scale;
       if (!this.deterministic) {
         ar = Math.hypot(ar, ai);
         ai = 0;
@@ -434,16 +453,34 @@ export class ChannelGenerator {
     }
     const rxArray = arrayAt(spec.receiver.array, spec.receiver.motion, t);
     const txArray = arrayAt(spec.transmitter.array, spec.transmitter.motion, t);
-    const Nr = rxArray.size, Nt = txArray.size;
-    const dep: Vec3 = [0, 0, 0], arr: Vec3 = [0, 0, 0];
+    const Nr = rxArray.size,
+      Nt = txArray.size;
+    const dep: Vec3 = [0, 0, 0],
+      arr: Vec3 = [0, 0, 0];
     if (this.squint !== undefined) {
       for (let k = 0; k < this.bins; k++) {
         const k0 = wavenumber(spec.carrierHz + this.frequencies![k]!);
         for (let l = 0; l < L; l++) {
           readVec(frame.arrival, l, arr);
           readVec(frame.departure, l, dep);
-          waveResponse(this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr), rxArray, spec.receiver.wavefront, arr, frame.lengthM[l]!, k0, spec.carrierHz);
-          waveResponse(this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt), txArray, spec.transmitter.wavefront, dep, frame.lengthM[l]!, k0, spec.carrierHz);
+          waveResponse(
+            this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr),
+            rxArray,
+            spec.receiver.wavefront,
+            arr,
+            frame.lengthM[l]!,
+            k0,
+            spec.carrierHz,
+          );
+          waveResponse(
+            this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt),
+            txArray,
+            spec.transmitter.wavefront,
+            dep,
+            frame.lengthM[l]!,
+            k0,
+            spec.carrierHz,
+          );
         }
       }
       return;
@@ -495,11 +532,15 @@ export class ChannelGenerator {
     const frame = this.frame;
     const L = this.pathCount;
     if (this.varying) this.refreshTransfers(timeS);
-    const NrE = rxArray.size, NtE = txArray.size;
-    const Pr = ports.rx.length, Pt = ports.tx.length;
+    const NrE = rxArray.size,
+      NtE = txArray.size;
+    const Pr = ports.rx.length,
+      Pt = ports.tx.length;
     const Nt = NtE * Pt;
-    const dep: Vec3 = [0, 0, 0], arr: Vec3 = [0, 0, 0];
-    const e = ports.elements, c = ports.coupling;
+    const dep: Vec3 = [0, 0, 0],
+      arr: Vec3 = [0, 0, 0];
+    const e = ports.elements,
+      c = ports.coupling;
     for (let l = 0; l < L; l++) {
       readVec(frame.arrival, l, arr);
       readVec(frame.departure, l, dep);
@@ -510,10 +551,12 @@ export class ChannelGenerator {
       const base = 2 * l * this.elementPairs;
       for (let m = 0; m < NrE; m++) {
         for (let n = 0; n < NtE; n++) {
-          const er = e[2 * (m * NtE + n)]!, ei = e[2 * (m * NtE + n) + 1]!;
+          const er = e[2 * (m * NtE + n)]!,
+            ei = e[2 * (m * NtE + n) + 1]!;
           for (let a = 0; a < Pr; a++) {
             for (let b = 0; b < Pt; b++) {
-              const cr = c[2 * (a * Pt + b)]!, ci = c[2 * (a * Pt + b) + 1]!;
+              const cr = c[2 * (a * Pt + b)]!,
+                ci = c[2 * (a * Pt + b) + 1]!;
               const i = base + 2 * ((m * Pr + a) * Nt + n * Pt + b);
               this.products[i] = er * cr - ei * ci;
               this.products[i + 1] = er * ci + ei * cr;
@@ -531,8 +574,10 @@ export class ChannelGenerator {
     const rho = this.rho;
     for (let k = 0; k < this.bins; k++) {
       for (let l = 0; l < L; l++) {
-        const gr = rho[2 * l]!, gi = rho[2 * l + 1]!;
-        const cr = kernel[2 * (k * L + l)]!, ci = kernel[2 * (k * L + l) + 1]!;
+        const gr = rho[2 * l]!,
+          gi = rho[2 * l + 1]!;
+        const cr = kernel[2 * (k * L + l)]!,
+          ci = kernel[2 * (k * L + l) + 1]!;
         weights[2 * (k * L + l)] = gr * cr - gi * ci;
         weights[2 * (k * L + l) + 1] = gr * ci + gi * cr;
       }
@@ -552,14 +597,18 @@ export class ChannelGenerator {
     for (let k = 0; k < this.bins; k++) {
       acc.fill(0);
       for (let l = 0; l < L; l++) {
-        const wr = weights[2 * (k * L + l)]!, wi = weights[2 * (k * L + l) + 1]!;
+        const wr = weights[2 * (k * L + l)]!,
+          wi = weights[2 * (k * L + l) + 1]!;
         const rb = 2 * (k * L + l) * Nr;
         const tb = 2 * (k * L + l) * Nt;
         for (let i = 0; i < Nr; i++) {
-          const rr = squint.rx[rb + 2 * i]!, ri = squint.rx[rb + 2 * i + 1]!;
-          const xr = wr * rr - wi * ri, xi = wr * ri + wi * rr;
+          const rr = squint.rx[rb + 2 * i]!,
+            ri = squint.rx[rb + 2 * i + 1]!;
+          const xr = wr * rr - wi * ri,
+            xi = wr * ri + wi * rr;
           for (let j = 0; j < Nt; j++) {
-            const tr = squint.tx[tb + 2 * j]!, ti = squint.tx[tb + 2 * j + 1]!;
+            const tr = squint.tx[tb + 2 * j]!,
+              ti = squint.tx[tb + 2 * j + 1]!;
             const m = i * Nt + j;
             acc[2 * m] = acc[2 * m]! + xr * tr - xi * ti;
             acc[2 * m + 1] = acc[2 * m + 1]! + xr * ti + xi * tr;
@@ -589,9 +638,11 @@ function readVec(src: Float64Array, l: number, out: Vec3): Vec3 {
 
 function outerProduct(out: Float64Array, offset: number, r: Float64Array, t: Float64Array, Nr: number, Nt: number): void {
   for (let i = 0; i < Nr; i++) {
-    const rr = r[2 * i]!, ri = r[2 * i + 1]!;
+    const rr = r[2 * i]!,
+      ri = r[2 * i + 1]!;
     for (let j = 0; j < Nt; j++) {
-      const tr = t[2 * j]!, ti = t[2 * j + 1]!;
+      const tr = t[2 * j]!,
+        ti = t[2 * j + 1]!;
       const m = offset + 2 * (i * Nt + j);
       out[m] = rr * tr - ri * ti;
       out[m + 1] = rr * ti + ri * tr;

@@ -85,7 +85,15 @@ export function clusterPreset(name: ClusterPreset): ClusterSpread {
   };
   const row = table[name];
   if (row === undefined) throw new TypeError(`clusterPreset(): name must be one of ${Object.keys(table).join(', ')}, got ${JSON.stringify(name)}`);
-  return { subPaths: 20, method: 'offsets-38901', azimuthSpreadDepartureDeg: row[0], elevationSpreadDepartureDeg: 0, azimuthSpreadArrivalDeg: row[1], elevationSpreadArrivalDeg: row[2], delaySpreadS: row[3] };
+  return {
+    subPaths: 20,
+    method: 'offsets-38901',
+    azimuthSpreadDepartureDeg: row[0],
+    elevationSpreadDepartureDeg: 0,
+    azimuthSpreadArrivalDeg: row[1],
+    elevationSpreadArrivalDeg: row[2],
+    delaySpreadS: row[3],
+  };
 }
 
 /**
@@ -94,7 +102,9 @@ export function clusterPreset(name: ClusterPreset): ClusterSpread {
  * @example circularAngularSpread([0.1, -0.1], [1, 1]) // 0.1 (to 1e-4)
  */
 export function circularAngularSpread(anglesRad: ArrayLike<number>, powers?: ArrayLike<number>): number {
-  let re = 0, im = 0, total = 0;
+  let re = 0,
+    im = 0,
+    total = 0;
   for (let m = 0; m < anglesRad.length; m++) {
     const p = powers === undefined ? 1 : powers[m]!;
     re += p * Math.cos(anglesRad[m]!);
@@ -107,9 +117,17 @@ export function circularAngularSpread(anglesRad: ArrayLike<number>, powers?: Arr
 
 function checkSpread(fn: string, s: ClusterSpread): void {
   if (!Number.isInteger(s.subPaths) || s.subPaths < 1) throw new RangeError(`${fn}: subPaths must be an integer >= 1, got ${s.subPaths}`);
-  if (s.method === 'offsets-38901' && s.subPaths !== 20) throw new RangeError(`${fn}: method "offsets-38901" has 20 sub-paths (Table 7.5-3), got subPaths ${s.subPaths}`);
-  if (s.method !== 'gaussian' && s.method !== 'laplacian' && s.method !== 'offsets-38901') throw new TypeError(`${fn}: method must be "gaussian", "laplacian" or "offsets-38901", got ${JSON.stringify(s.method)}`);
-  for (const key of ['azimuthSpreadDepartureDeg', 'elevationSpreadDepartureDeg', 'azimuthSpreadArrivalDeg', 'elevationSpreadArrivalDeg', 'delaySpreadS'] as const) {
+  if (s.method === 'offsets-38901' && s.subPaths !== 20)
+    throw new RangeError(`${fn}: method "offsets-38901" has 20 sub-paths (Table 7.5-3), got subPaths ${s.subPaths}`);
+  if (s.method !== 'gaussian' && s.method !== 'laplacian' && s.method !== 'offsets-38901')
+    throw new TypeError(`${fn}: method must be "gaussian", "laplacian" or "offsets-38901", got ${JSON.stringify(s.method)}`);
+  for (const key of [
+    'azimuthSpreadDepartureDeg',
+    'elevationSpreadDepartureDeg',
+    'azimuthSpreadArrivalDeg',
+    'elevationSpreadArrivalDeg',
+    'delaySpreadS',
+  ] as const) {
     if (!(s[key] >= 0) || !Number.isFinite(s[key])) throw new RangeError(`${fn}: ${key} must be a finite number >= 0, got ${s[key]}`);
   }
 }
@@ -187,7 +205,8 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
     seed: number,
     streamKey?: string,
   ) {
-    if (spreads.length !== inner.ids.length) throw new RangeError(`ClusteredTimeline(): spreads needs one entry per path (${inner.ids.length}), got ${spreads.length}`);
+    if (spreads.length !== inner.ids.length)
+      throw new RangeError(`ClusteredTimeline(): spreads needs one entry per path (${inner.ids.length}), got ${spreads.length}`);
     const parents: number[] = [];
     const offsets: number[] = [];
     const phases: number[] = [];
@@ -243,8 +262,10 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
       frame.departure.set(u, 3 * i);
       this.turned(f.arrival, l, off[o + 2]!, off[o + 3]!, u);
       frame.arrival.set(u, 3 * i);
-      const ar = f.amplitude[2 * l]! * this.scale[i]!, ai = f.amplitude[2 * l + 1]! * this.scale[i]!;
-      const c = this.phaseCos[i]!, s = this.phaseSin[i]!;
+      const ar = f.amplitude[2 * l]! * this.scale[i]!,
+        ai = f.amplitude[2 * l + 1]! * this.scale[i]!;
+      const c = this.phaseCos[i]!,
+        s = this.phaseSin[i]!;
       frame.amplitude[2 * i] = ar * c - ai * s;
       frame.amplitude[2 * i + 1] = ar * s + ai * c;
     }
@@ -256,7 +277,10 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
     if (this.inner.polarimetricAt !== undefined) this.inner.polarimetricAt(timeS, t);
     else {
       t.fill(0);
-      for (let l = 0; l < this.inner.ids.length; l++) { t[8 * l] = 1; t[8 * l + 6] = 1; }
+      for (let l = 0; l < this.inner.ids.length; l++) {
+        t[8 * l] = 1;
+        t[8 * l + 6] = 1;
+      }
     }
     for (let i = 0; i < this.ids.length; i++) out.set(t.subarray(8 * this.parent[i]!, 8 * this.parent[i]! + 8), 8 * i);
   }
@@ -264,10 +288,14 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
   /** The direction at src[3 l ..] turned by the azimuth and elevation offsets (degrees). */
   private turned(src: Float64Array, l: number, dAzDeg: number, dElDeg: number, out: Vec3): void {
     if (dAzDeg === 0 && dElDeg === 0) {
-      out[0] = src[3 * l]!; out[1] = src[3 * l + 1]!; out[2] = src[3 * l + 2]!;
+      out[0] = src[3 * l]!;
+      out[1] = src[3 * l + 1]!;
+      out[2] = src[3 * l + 2]!;
       return;
     }
-    out[0] = src[3 * l]!; out[1] = src[3 * l + 1]!; out[2] = src[3 * l + 2]!;
+    out[0] = src[3 * l]!;
+    out[1] = src[3 * l + 1]!;
+    out[2] = src[3 * l + 2]!;
     const [az, el] = degFromVector(out);
     unitFromDeg(az + dAzDeg, el + dElDeg, out);
   }

@@ -89,7 +89,10 @@ export class GaussMarkovGains implements GainProcess {
   private readonly draw = new Float64Array(2);
   private position = 0;
 
-  constructor(private readonly paths: readonly GainPath[], seed: number) {
+  constructor(
+    private readonly paths: readonly GainPath[],
+    seed: number,
+  ) {
     this.pathCount = paths.length;
     for (const p of paths) {
       if (!(p.alpha >= -1 && p.alpha <= 1)) throw new RangeError(`GaussMarkovGains(): path ${p.id}: alpha must lie in [-1, 1], got ${p.alpha}`);

@@ -51,7 +51,8 @@ export class Motion {
     if (trajectory !== undefined) {
       if (trajectory.length < 2) throw new RangeError(`Motion(): a trajectory needs at least 2 waypoints, got ${trajectory.length}`);
       for (let i = 1; i < trajectory.length; i++) {
-        if (!(trajectory[i]!.t > trajectory[i - 1]!.t)) throw new RangeError(`Motion(): waypoint times must increase, got ${trajectory[i - 1]!.t} then ${trajectory[i]!.t}`);
+        if (!(trajectory[i]!.t > trajectory[i - 1]!.t))
+          throw new RangeError(`Motion(): waypoint times must increase, got ${trajectory[i - 1]!.t} then ${trajectory[i]!.t}`);
       }
       this.waypoints = trajectory.map((w) => ({ t: w.t, position: [...w.position] as Vec3, orientation: w.orientation }));
       this.moves = trajectory.some((w) => w.position.some((x, i) => x !== trajectory[0]!.position[i]));
@@ -79,7 +80,8 @@ export class Motion {
       return out;
     }
     const { i, f } = this.segment(t);
-    const a = this.waypoints[i]!.position, b = this.waypoints[i + 1]!.position;
+    const a = this.waypoints[i]!.position,
+      b = this.waypoints[i + 1]!.position;
     for (let k = 0; k < 3; k++) out[k] = a[k]! + f * (b[k]! - a[k]!);
     return out;
   }
@@ -87,12 +89,16 @@ export class Motion {
   /** Velocity at time t, m/s (zero outside the trajectory's time span). */
   velocityAt(t: number, out: Vec3 = [0, 0, 0]): Vec3 {
     if (this.waypoints === undefined) {
-      out[0] = this.velocity[0]; out[1] = this.velocity[1]; out[2] = this.velocity[2];
+      out[0] = this.velocity[0];
+      out[1] = this.velocity[1];
+      out[2] = this.velocity[2];
       return out;
     }
     const w = this.waypoints;
     if (t < w[0]!.t || t >= w[w.length - 1]!.t) {
-      out[0] = 0; out[1] = 0; out[2] = 0;
+      out[0] = 0;
+      out[1] = 0;
+      out[2] = 0;
       return out;
     }
     const { i } = this.segment(t);
@@ -106,7 +112,8 @@ export class Motion {
     if (this.waypoints === undefined) return Math.hypot(...this.velocity);
     let v = 0;
     for (let i = 1; i < this.waypoints.length; i++) {
-      const a = this.waypoints[i - 1]!, b = this.waypoints[i]!;
+      const a = this.waypoints[i - 1]!,
+        b = this.waypoints[i]!;
       v = Math.max(v, Math.hypot(b.position[0] - a.position[0], b.position[1] - a.position[1], b.position[2] - a.position[2]) / (b.t - a.t));
     }
     return v;
@@ -119,7 +126,7 @@ export class Motion {
     const a = this.waypoints[i]!.orientation ?? this.orientation;
     const b = this.waypoints[i + 1]!.orientation ?? this.orientation;
     const lerp = (x = 0, y = 0): number => {
-      let d = (((y - x) % 360) + 540) % 360 - 180; // shorter way round
+      let d = ((((y - x) % 360) + 540) % 360) - 180; // shorter way round
       if (d === -180) d = 180;
       return x + f * d;
     };

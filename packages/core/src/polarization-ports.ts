@@ -96,14 +96,30 @@ export function portFieldComponents(out: Float64Array, portsLocal: readonly Read
  * [Pr, 2], txFields [Pt, 2]; writes [Pr, Pt] complex into `out`.
  * @example portCoupling(new Float64Array(2), Float64Array.of(1, 0), identityTransfers(1), 0, Float64Array.of(1, 0), 1, 1) // Float64Array [1, 0]: theta to theta through T = I
  */
-export function portCoupling(out: Float64Array, rxFields: Float64Array, transfers: Float64Array, l: number, txFields: Float64Array, Pr: number, Pt: number): Float64Array {
+export function portCoupling(
+  out: Float64Array,
+  rxFields: Float64Array,
+  transfers: Float64Array,
+  l: number,
+  txFields: Float64Array,
+  Pr: number,
+  Pt: number,
+): Float64Array {
   const o = 8 * l;
-  const ttr = transfers[o]!, tti = transfers[o + 1]!, tpr = transfers[o + 2]!, tpi = transfers[o + 3]!;
-  const ptr = transfers[o + 4]!, pti = transfers[o + 5]!, ppr = transfers[o + 6]!, ppi = transfers[o + 7]!;
+  const ttr = transfers[o]!,
+    tti = transfers[o + 1]!,
+    tpr = transfers[o + 2]!,
+    tpi = transfers[o + 3]!;
+  const ptr = transfers[o + 4]!,
+    pti = transfers[o + 5]!,
+    ppr = transfers[o + 6]!,
+    ppi = transfers[o + 7]!;
   for (let a = 0; a < Pr; a++) {
-    const rt = rxFields[2 * a]!, rp = rxFields[2 * a + 1]!;
+    const rt = rxFields[2 * a]!,
+      rp = rxFields[2 * a + 1]!;
     for (let b = 0; b < Pt; b++) {
-      const st = txFields[2 * b]!, sp = txFields[2 * b + 1]!;
+      const st = txFields[2 * b]!,
+        sp = txFields[2 * b + 1]!;
       const i = 2 * (a * Pt + b);
       out[i] = rt * (ttr * st + tpr * sp) + rp * (ptr * st + ppr * sp);
       out[i + 1] = rt * (tti * st + tpi * sp) + rp * (pti * st + ppi * sp);
@@ -137,7 +153,8 @@ export class PolarimetricTracedTimeline extends TracedTimeline implements Polari
       if (p === undefined) return;
       const [fr, fi] = p.polarizationFactor;
       const d = fr * fr + fi * fi;
-      const xr = a[2 * l]!, xi = a[2 * l + 1]!;
+      const xr = a[2 * l]!,
+        xi = a[2 * l + 1]!;
       a[2 * l] = (xr * fr + xi * fi) / d;
       a[2 * l + 1] = (xi * fr - xr * fi) / d;
     });
@@ -150,10 +167,14 @@ export class PolarimetricTracedTimeline extends TracedTimeline implements Polari
       if (p === undefined) return;
       const T = p.polarimetric;
       const o = 8 * l;
-      out[o] = T[0][0][0]; out[o + 1] = T[0][0][1];
-      out[o + 2] = T[0][1][0]; out[o + 3] = T[0][1][1];
-      out[o + 4] = T[1][0][0]; out[o + 5] = T[1][0][1];
-      out[o + 6] = T[1][1][0]; out[o + 7] = T[1][1][1];
+      out[o] = T[0][0][0];
+      out[o + 1] = T[0][0][1];
+      out[o + 2] = T[0][1][0];
+      out[o + 3] = T[0][1][1];
+      out[o + 4] = T[1][0][0];
+      out[o + 5] = T[1][0][1];
+      out[o + 6] = T[1][1][0];
+      out[o + 7] = T[1][1][1];
     });
   }
 

@@ -208,14 +208,25 @@ export class TracedTimeline implements PathTimeline {
     const count = moving ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
     this.epochTimesS = Array.from({ length: count }, (_, e) => e * updateS);
     if (traced !== undefined && (traced.paths.length !== count || traced.epochTimesS.some((t, e) => t !== this.epochTimesS[e]))) {
-      throw new RangeError(`TracedTimeline(): traced holds ${traced.paths.length} epochs at [${traced.epochTimesS.join(', ')}] s, this timeline has ${count} at [${this.epochTimesS.join(', ')}] s`);
+      throw new RangeError(
+        `TracedTimeline(): traced holds ${traced.paths.length} epochs at [${traced.epochTimesS.join(', ')}] s, this timeline has ${count} at [${this.epochTimesS.join(', ')}] s`,
+      );
     }
     this.epochs = [];
     this.ids = [];
     this.kinds = [];
     if (traced !== undefined) this.warnings.push(...traced.warnings);
     for (const [e, t] of this.epochTimesS.entries()) {
-      const r = traced !== undefined ? { paths: traced.paths[e]!, warnings: [] } : traceScene(this.prepared, this.terminal(tx, t, this.scratchTx, this.scratchVt), this.terminal(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
+      const r =
+        traced !== undefined
+          ? { paths: traced.paths[e]!, warnings: [] }
+          : traceScene(
+              this.prepared,
+              this.terminal(tx, t, this.scratchTx, this.scratchVt),
+              this.terminal(rx, t, this.scratchRx, this.scratchVr),
+              carrierHz,
+              options,
+            );
       for (const w of r.warnings) {
         const text = `${w.path}: ${w.message}`;
         if (!this.warnings.includes(text)) this.warnings.push(text);
@@ -234,7 +245,12 @@ export class TracedTimeline implements PathTimeline {
     this.constant = !moving;
   }
 
-  private terminal(t: MovingTerminal, timeS: number, position: Vec3, velocity: Vec3): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
+  private terminal(
+    t: MovingTerminal,
+    timeS: number,
+    position: Vec3,
+    velocity: Vec3,
+  ): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
     t.motion.positionAt(timeS, position);
     t.motion.velocityAt(timeS, velocity);
     const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
@@ -260,7 +276,7 @@ export class TracedTimeline implements PathTimeline {
     const weights: number[] = [];
     const seen = new Set<string>();
     for (const [id, p] of now) {
-      const w = (1 - f) + (next?.has(id) === true || next === undefined ? f : 0);
+      const w = 1 - f + (next?.has(id) === true || next === undefined ? f : 0);
       present.push(p);
       weights.push(w);
       seen.add(id);
@@ -273,10 +289,16 @@ export class TracedTimeline implements PathTimeline {
       }
     }
     if (present.length === 0) return;
-    const refreshed =
-      this.constant
-        ? present
-        : retracePaths(this.prepared, present, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
+    const refreshed = this.constant
+      ? present
+      : retracePaths(
+          this.prepared,
+          present,
+          this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt),
+          this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr),
+          this.carrierHz,
+          this.options,
+        );
     refreshed.forEach((p, i) => {
       const l = this.index.get(p.id)!;
       let w = weights[i]!;
@@ -293,7 +315,14 @@ export class TracedTimeline implements PathTimeline {
       // updates is blended from both (each held on its update's sides, geometry utd.ts), as the
       // direct and reflected paths fade between the updates: their sum stays continuous.
       if (p.kind === 'diffraction' && before !== undefined && after !== undefined && f > 0 && !sameSides(before, after)) {
-        const q = retracePaths(this.prepared, [after], this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options)[0]!;
+        const q = retracePaths(
+          this.prepared,
+          [after],
+          this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt),
+          this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr),
+          this.carrierHz,
+          this.options,
+        )[0]!;
         re = (1 - f) * re + f * q.amplitude[0];
         im = (1 - f) * im + f * q.amplitude[1];
       }
@@ -326,7 +355,14 @@ export class TracedTimeline implements PathTimeline {
     const { e } = this.locate(timeS);
     const list = [...this.epochs[e]!.values()];
     if (timeS === this.epochTimesS[e]) return list;
-    return retracePaths(this.prepared, list, this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt), this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr), this.carrierHz, this.options);
+    return retracePaths(
+      this.prepared,
+      list,
+      this.terminal(this.tx, timeS, this.scratchTx, this.scratchVt),
+      this.terminal(this.rx, timeS, this.scratchRx, this.scratchVr),
+      this.carrierHz,
+      this.options,
+    );
   }
 }
 

@@ -31,7 +31,11 @@ describe('besselJ0', () => {
   it.runIf(hasPython('numpy', 'scipy'))('agrees with scipy.special.j0 over 0..100 to 1e-12 absolute', () => {
     const xs = Array.from({ length: 4001 }, (_, i) => i * 0.025);
     // scipy.special.j0 as the reference implementation (C)
-    const reference = pythonJson<number[]>('import json,sys; from scipy.special import j0; xs=json.load(sys.stdin); print(json.dumps([float(j0(x)) for x in xs]))', [], JSON.stringify(xs));
+    const reference = pythonJson<number[]>(
+      'import json,sys; from scipy.special import j0; xs=json.load(sys.stdin); print(json.dumps([float(j0(x)) for x in xs]))',
+      [],
+      JSON.stringify(xs),
+    );
     let worst = 0;
     xs.forEach((x, i) => (worst = Math.max(worst, Math.abs(besselJ0(x) - reference[i]!))));
     expect(worst).toBeLessThan(1e-12);

@@ -17,7 +17,14 @@ import {
 import { degFromVector, unitFromDeg } from '@pathweave/geometry';
 
 const DEG = Math.PI / 180;
-const path = (id: string, azDep: number, power: number): ExplicitPathSpec => ({ id, delayS: 1e-7, power, phaseRad: 0.3, departure: unitFromDeg(azDep, 0), arrival: unitFromDeg(azDep + 180, 0) });
+const path = (id: string, azDep: number, power: number): ExplicitPathSpec => ({
+  id,
+  delayS: 1e-7,
+  power,
+  phaseRad: 0.3,
+  departure: unitFromDeg(azDep, 0),
+  arrival: unitFromDeg(azDep + 180, 0),
+});
 const spread = (over: Partial<ClusterSpread>): ClusterSpread => ({
   subPaths: 20,
   method: 'gaussian',
@@ -112,7 +119,11 @@ describe('ClusteredTimeline', () => {
 
   it('refuses a negative spread and the wrong ray count', () => {
     const inner = new ExplicitTimeline([path('c', 0, 1)]);
-    expect(() => new ClusteredTimeline(inner, [spread({ delaySpreadS: -1e-9 })], 1)).toThrow('ClusteredTimeline(): delaySpreadS must be a finite number >= 0, got -1e-9');
-    expect(() => new ClusteredTimeline(inner, [spread({ method: 'offsets-38901', subPaths: 10 })], 1)).toThrow('ClusteredTimeline(): method "offsets-38901" has 20 sub-paths (Table 7.5-3), got subPaths 10');
+    expect(() => new ClusteredTimeline(inner, [spread({ delaySpreadS: -1e-9 })], 1)).toThrow(
+      'ClusteredTimeline(): delaySpreadS must be a finite number >= 0, got -1e-9',
+    );
+    expect(() => new ClusteredTimeline(inner, [spread({ method: 'offsets-38901', subPaths: 10 })], 1)).toThrow(
+      'ClusteredTimeline(): method "offsets-38901" has 20 sub-paths (Table 7.5-3), got subPaths 10',
+    );
   });
 });

@@ -22,8 +22,24 @@ const d = wavelength(fc) / 2;
 
 const scene: Scene = {
   walls: [
-    { vertices: [[-20, 8, 0], [60, 8, 0], [60, 8, 15], [-20, 8, 15]], material: 'brick' },
-    { vertices: [[-20, -10, 0], [60, -10, 0], [60, 8, 0], [-20, 8, 0]], material: 'concrete' },
+    {
+      vertices: [
+        [-20, 8, 0],
+        [60, 8, 0],
+        [60, 8, 15],
+        [-20, 8, 15],
+      ],
+      material: 'brick',
+    },
+    {
+      vertices: [
+        [-20, -10, 0],
+        [60, -10, 0],
+        [60, 8, 0],
+        [-20, 8, 0],
+      ],
+      material: 'concrete',
+    },
   ],
   maxReflectionOrder: 2,
 } as unknown as Scene;
@@ -31,13 +47,32 @@ const scene: Scene = {
 function tracedSpec(Timeline: typeof TracedTimeline, ports: boolean, speed: number): ChannelSpec {
   const txMotion = new Motion([0, 0, 6], [0, 0, 0], undefined, { yawDeg: 10, pitchDeg: 5 });
   const rxMotion = new Motion([25, 3, 1.5], [-speed, 0.2 * speed, 0], undefined, { yawDeg: -160 });
-  const timeline = new Timeline(scene, { motion: txMotion, orientation: { yawDeg: 10, pitchDeg: 5 } }, { motion: rxMotion, orientation: { yawDeg: -160 } }, fc, 0.004, 0.002);
+  const timeline = new Timeline(
+    scene,
+    { motion: txMotion, orientation: { yawDeg: 10, pitchDeg: 5 } },
+    { motion: rxMotion, orientation: { yawDeg: -160 } },
+    fc,
+    0.004,
+    0.002,
+  );
   return {
     carrierHz: fc,
     subframeS: 1e-3,
     subframes: 5,
-    transmitter: { array: AntennaArray.upa(2, 4, d, { yawDeg: 10, pitchDeg: 5 }), position: [0, 0, 6], velocity: [0, 0, 0], motion: txMotion, ...(ports ? { ports: [[0, 0, 1]] } : {}) },
-    receiver: { array: AntennaArray.ula(4, d, { yawDeg: -160 }), position: [25, 3, 1.5], velocity: [-speed, 0.2 * speed, 0], motion: rxMotion, ...(ports ? { ports: [[0, 0, 1]] } : {}) },
+    transmitter: {
+      array: AntennaArray.upa(2, 4, d, { yawDeg: 10, pitchDeg: 5 }),
+      position: [0, 0, 6],
+      velocity: [0, 0, 0],
+      motion: txMotion,
+      ...(ports ? { ports: [[0, 0, 1]] } : {}),
+    },
+    receiver: {
+      array: AntennaArray.ula(4, d, { yawDeg: -160 }),
+      position: [25, 3, 1.5],
+      velocity: [-speed, 0.2 * speed, 0],
+      motion: rxMotion,
+      ...(ports ? { ports: [[0, 0, 1]] } : {}),
+    },
     timeline,
     fading: { model: 'static' },
     grid: { domain: 'frequency', subcarriers: 16, spacingHz: 240e3 },
@@ -59,7 +94,8 @@ describe('polarised ports', () => {
     expect(ported.shape).toEqual(plain.shape);
     const a = plain.fill(plain.allocate(5), 0, 5);
     const b = ported.fill(ported.allocate(5), 0, 5);
-    let err = 0, norm = 0;
+    let err = 0,
+      norm = 0;
     for (let i = 0; i < a.length; i++) {
       err = Math.max(err, Math.abs(a[i]! - b[i]!));
       norm = Math.max(norm, Math.abs(a[i]!));
@@ -112,9 +148,17 @@ describe('polarised ports', () => {
     // sqrt(2/R); with R = 800 that is 5 %, and the 4-sigma tolerance is 20 % (0.8 dB).
     const xprDb = 8;
     const R = 800;
-    const paths: ExplicitPathSpec[] = Array.from({ length: 40 }, (_, l) => ({ id: `p${l}`, delayS: l * 1e-8, power: 1 / 40, phaseRad: 0, departure: unitFromDeg(-60 + 3 * l, 0), arrival: unitFromDeg(120 - 3 * l, 0) }));
+    const paths: ExplicitPathSpec[] = Array.from({ length: 40 }, (_, l) => ({
+      id: `p${l}`,
+      delayS: l * 1e-8,
+      power: 1 / 40,
+      phaseRad: 0,
+      departure: unitFromDeg(-60 + 3 * l, 0),
+      arrival: unitFromDeg(120 - 3 * l, 0),
+    }));
     const timeline = new ExplicitTimeline(paths);
-    let co = 0, cross = 0;
+    let co = 0,
+      cross = 0;
     for (let r = 0; r < R; r++) {
       const g = new ChannelGenerator({
         carrierHz: fc,

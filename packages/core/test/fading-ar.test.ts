@@ -94,7 +94,12 @@ describe('AutoregressiveGains: reproducibility (docs/conventions.md, Reproducibi
   it('subframes [a, b) alone equal the slice of the full run bit for bit, across random blocks', () => {
     const total = 2 * RANDOM_BLOCK_STEPS + 100;
     const full = run(new AutoregressiveGains(paths, 42, opts), 0, total);
-    for (const [a, b] of [[0, 5], [7, 30], [RANDOM_BLOCK_STEPS - 3, RANDOM_BLOCK_STEPS + 260], [total - 1, total]] as const) {
+    for (const [a, b] of [
+      [0, 5],
+      [7, 30],
+      [RANDOM_BLOCK_STEPS - 3, RANDOM_BLOCK_STEPS + 260],
+      [total - 1, total],
+    ] as const) {
       const part = run(new AutoregressiveGains(paths, 42, opts), a, b - a);
       expect(Array.from(part)).toEqual(Array.from(full.subarray(2 * a * 3, 2 * b * 3)));
     }
@@ -127,7 +132,13 @@ describe('AutoregressiveGains: reproducibility (docs/conventions.md, Reproducibi
     const r = process.fits[0]!.correlation;
     // Re(x_a x_b*) of a circular Gaussian pair with correlation rho has variance (1 + rho^2) / 2
     // (Isserlis); the mean of n paths is within 5 sqrt((1 + rho^2) / (2n)).
-    for (const [a, b] of [[1, 0], [9, 0], [10, 9], [11, 1], [10, 0]] as const) {
+    for (const [a, b] of [
+      [1, 0],
+      [9, 0],
+      [10, 9],
+      [11, 1],
+      [10, 0],
+    ] as const) {
       let sum = 0;
       for (let l = 0; l < n; l++) sum += g[2 * (a * n + l)]! * g[2 * (b * n + l)]! + g[2 * (a * n + l) + 1]! * g[2 * (b * n + l) + 1]!;
       const rho = r[a - b]!;

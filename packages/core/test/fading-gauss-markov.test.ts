@@ -14,15 +14,20 @@ describe('GaussMarkovGains beyond lag 1: alpha^k, not J0 (check-values.md, Clark
     expect(alpha ** 20).toBeCloseTo(0.784632, 6);
     expect(besselJ0(10 * x)).toBeCloseTo(0.110854, 6);
     expect(besselJ0(20 * x)).toBeCloseTo(-0.342615, 6);
-    const R = 20, N = 40000;
+    const R = 20,
+      N = 40000;
     const paths: GainPath[] = Array.from({ length: R }, (_, i) => ({ id: `gm${i}`, power: 1, phaseRad: 0, alpha }));
     const out = new Float64Array(2 * R * N);
     new GaussMarkovGains(paths, 17).fill(out, 0, N);
-    for (const [k, ar, j0] of [[10, 0.885795, 0.110854], [20, 0.784632, -0.342615]] as const) {
+    for (const [k, ar, j0] of [
+      [10, 0.885795, 0.110854],
+      [20, 0.784632, -0.342615],
+    ] as const) {
       let sum = 0;
       for (let l = 0; l < R; l++) {
         for (let n = 0; n + k < N; n++) {
-          const a = 2 * ((n + k) * R + l), b = 2 * (n * R + l);
+          const a = 2 * ((n + k) * R + l),
+            b = 2 * (n * R + l);
           sum += out[a]! * out[b]! + out[a + 1]! * out[b + 1]!;
         }
       }

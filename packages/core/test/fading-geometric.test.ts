@@ -42,14 +42,17 @@ describe('GeometricGains (docs/conventions.md, geometric Doppler)', () => {
   });
 
   it('Rician mean power E|rho|^2 = gamma over 6000 paths', () => {
-    const n = 6000, gamma = 3, K = 10 ** (6 / 10);
+    const n = 6000,
+      gamma = 3,
+      K = 10 ** (6 / 10);
     const paths = Array.from({ length: n }, (_, i): FadingPath => ({ id: `p${i}`, power: gamma, phaseRad: 0, dopplersHz: [40], dopplerHz: 10 }));
     const out = new Float64Array(2 * n);
     new GeometricGains(paths, 4, { clock: uniformClock(1e-3), ricianKDb: 6 }).fillAtTimes(out, [0.25]);
     let sum = 0;
     for (let l = 0; l < n; l++) sum += out[2 * l]! ** 2 + out[2 * l + 1]! ** 2;
     // Var|rho|^2 = 2 s^2 d + d^2 for specular power s^2 and diffuse power d (circular Gaussian diffuse part)
-    const s2 = (gamma * K) / (K + 1), d = gamma / (K + 1);
+    const s2 = (gamma * K) / (K + 1),
+      d = gamma / (K + 1);
     expect(Math.abs(sum / n - gamma)).toBeLessThan(5 * Math.sqrt((2 * s2 * d + d * d) / n));
   });
 

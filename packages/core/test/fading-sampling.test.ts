@@ -1,7 +1,17 @@
 import { describe, expect, it } from 'vitest';
 import {
-  AR_DEFAULT_ORDER, AutoregressiveGains, GaussMarkovGains, GeometricGains, SOS_DEFAULT_SINUSOIDS, SumOfSinusoidsGains,
-  createGainProcess, gainBandwidthHz, underSamplingWarning, uniformClock, type FadingSpec, type GainProcess,
+  AR_DEFAULT_ORDER,
+  AutoregressiveGains,
+  GaussMarkovGains,
+  GeometricGains,
+  SOS_DEFAULT_SINUSOIDS,
+  SumOfSinusoidsGains,
+  createGainProcess,
+  gainBandwidthHz,
+  underSamplingWarning,
+  uniformClock,
+  type FadingSpec,
+  type GainProcess,
 } from '../src/index.js';
 
 describe('under-sampling warning (Nyquist: f_max T <= 0.5)', () => {
@@ -22,7 +32,10 @@ describe('under-sampling warning (Nyquist: f_max T <= 0.5)', () => {
 });
 
 describe('createGainProcess: the one factory of gain processes', () => {
-  const paths = [{ id: 'a', power: 1, phaseRad: 0, alpha: 0.9, dopplersHz: [10] }, { id: 'b', power: 1, phaseRad: 0, alpha: 0.5, dopplersHz: [40, 20], dopplerHz: 15 }];
+  const paths = [
+    { id: 'a', power: 1, phaseRad: 0, alpha: 0.9, dopplersHz: [10] },
+    { id: 'b', power: 1, phaseRad: 0, alpha: 0.5, dopplersHz: [40, 20], dopplerHz: 15 },
+  ];
   const clock = uniformClock(1e-3);
   const run = (g: GainProcess, n: number): Float64Array => {
     const out = new Float64Array(2 * n * g.pathCount);
@@ -45,10 +58,18 @@ describe('createGainProcess: the one factory of gain processes', () => {
   it('passes the options and the documented defaults to the models (the same numbers as the models built directly)', () => {
     const n = 40;
     expect(run(createGainProcess({ model: 'gauss-markov' }, paths, 5, clock).process, n)).toEqual(run(new GaussMarkovGains(paths, 5), n));
-    expect(run(createGainProcess({ model: 'ar' }, paths, 5, clock).process, n)).toEqual(run(new AutoregressiveGains(paths, 5, { order: AR_DEFAULT_ORDER, stepS: 1e-3 }), n));
-    expect(run(createGainProcess({ model: 'ar', order: 6 }, paths, 5, clock).process, n)).toEqual(run(new AutoregressiveGains(paths, 5, { order: 6, stepS: 1e-3 }), n));
-    expect(run(createGainProcess({ model: 'sum-of-sinusoids' }, paths, 5, clock).process, n)).toEqual(run(new SumOfSinusoidsGains(paths, 5, { sinusoids: SOS_DEFAULT_SINUSOIDS, clock }), n));
-    expect(run(createGainProcess({ model: 'sum-of-sinusoids', sinusoids: 9 }, paths, 5, clock).process, n)).toEqual(run(new SumOfSinusoidsGains(paths, 5, { sinusoids: 9, clock }), n));
+    expect(run(createGainProcess({ model: 'ar' }, paths, 5, clock).process, n)).toEqual(
+      run(new AutoregressiveGains(paths, 5, { order: AR_DEFAULT_ORDER, stepS: 1e-3 }), n),
+    );
+    expect(run(createGainProcess({ model: 'ar', order: 6 }, paths, 5, clock).process, n)).toEqual(
+      run(new AutoregressiveGains(paths, 5, { order: 6, stepS: 1e-3 }), n),
+    );
+    expect(run(createGainProcess({ model: 'sum-of-sinusoids' }, paths, 5, clock).process, n)).toEqual(
+      run(new SumOfSinusoidsGains(paths, 5, { sinusoids: SOS_DEFAULT_SINUSOIDS, clock }), n),
+    );
+    expect(run(createGainProcess({ model: 'sum-of-sinusoids', sinusoids: 9 }, paths, 5, clock).process, n)).toEqual(
+      run(new SumOfSinusoidsGains(paths, 5, { sinusoids: 9, clock }), n),
+    );
     expect(run(createGainProcess({ model: 'geometric', ricianKDb: 3, sinusoids: 9 }, paths, 5, clock).process, n)).toEqual(
       run(new GeometricGains(paths, 5, { clock, ricianKDb: 3, sinusoids: 9 }), n),
     );

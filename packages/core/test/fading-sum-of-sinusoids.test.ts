@@ -11,7 +11,10 @@ describe('SumOfSinusoidsGains: continuous time and reproducibility', () => {
     const a = new Float64Array(2 * 3 * 40);
     uniform.fill(a, 10, 40);
     const b = new Float64Array(2 * 3 * 40);
-    uniform.fillAtTimes(b, Array.from({ length: 40 }, (_, s) => (10 + s) * 0.5e-3));
+    uniform.fillAtTimes(
+      b,
+      Array.from({ length: 40 }, (_, s) => (10 + s) * 0.5e-3),
+    );
     expect(Array.from(a)).toEqual(Array.from(b));
 
     const n = nrNumerology(1);
@@ -64,7 +67,11 @@ describe('SumOfSinusoidsGains: continuous time and reproducibility', () => {
 
   it('double ring: unit power and zero pseudo-correlation across realisations', () => {
     const R = 8000;
-    const g = new SumOfSinusoidsGains(Array.from({ length: R }, (_, i) => path(`dr${i}`, [70, 40])), 2, { sinusoids: 8, clock: uniformClock(1e-3) });
+    const g = new SumOfSinusoidsGains(
+      Array.from({ length: R }, (_, i) => path(`dr${i}`, [70, 40])),
+      2,
+      { sinusoids: 8, clock: uniformClock(1e-3) },
+    );
     const out = new Float64Array(2 * R);
     g.fillAtTimes(out, [0.123]);
     let power = 0;

@@ -9,7 +9,18 @@
  * per term (and, fused, one rounding less per multiply-add), a few ulps: 1e-13.
  */
 import { describe, expect, it, vi } from 'vitest';
-import { accumulatePaths, accumulatePathsPlain, allocateKernelArray, FMA_KERNEL_NAME, FMA_KERNEL_PATH, KERNEL_NAME, loadWasmKernel, PLAIN_KERNEL_NAME, WASM_KERNEL_NAME, WASM_KERNEL_PATH } from '../src/kernels/index.js';
+import {
+  accumulatePaths,
+  accumulatePathsPlain,
+  allocateKernelArray,
+  FMA_KERNEL_NAME,
+  FMA_KERNEL_PATH,
+  KERNEL_NAME,
+  loadWasmKernel,
+  PLAIN_KERNEL_NAME,
+  WASM_KERNEL_NAME,
+  WASM_KERNEL_PATH,
+} from '../src/kernels/index.js';
 import { hasPython, pythonJson } from '../../../test/support/python.js';
 
 const loaded = loadWasmKernel();
@@ -32,7 +43,8 @@ function values(n: number, seed: number): Float64Array {
 }
 
 function relativeFrobenius(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  let num = 0, den = 0;
+  let num = 0,
+    den = 0;
   for (let i = 0; i < a.length; i++) {
     num += (a[i]! - b[i]!) ** 2;
     den += b[i]! ** 2;
@@ -65,8 +77,10 @@ describe('kernel choice', () => {
     // (1 + e)^2 = 1 + 2e + e^2 rounds to 1 + 2e (e^2 = 2^-24 is half an ulp of 1, a tie, to
     // even), then -1 + (1 + 2e) = 2e.
     const e = 2 ** -12;
-    const w = Float64Array.of(-1, 1 + e), p = Float64Array.of(1 + e, 1);
-    const fused = new Float32Array(2), twice = new Float32Array(2);
+    const w = Float64Array.of(-1, 1 + e),
+      p = Float64Array.of(1 + e, 1);
+    const fused = new Float32Array(2),
+      twice = new Float32Array(2);
     fmaLoaded.kernel!(fused, 0, w, p, 1, 1, 1);
     loaded.kernel!(twice, 0, w, p, 1, 1, 1);
     expect([fused[1], twice[1]]).toEqual([2 * e + e * e, 2 * e]);
@@ -78,170 +92,216 @@ describe('kernel choice', () => {
 });
 
 for (const { name, kernel: wasm, allocate } of BUILDS) {
-describe.runIf(wasm !== undefined)(`${name} kernel against the plain kernel`, () => {
-  it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (docs/conventions.md)', (bins, L, M) => {
-    const w = values(2 * bins * L, 1 + bins + 100 * L), p = values(2 * L * M, 7 + M);
-    const plain = new Float32Array(2 * bins * M), fast = new Float32Array(2 * bins * M).fill(99);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    wasm!(fast, 0, w, p, bins, L, M);
-    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+  describe.runIf(wasm !== undefined)(`${name} kernel against the plain kernel`, () => {
+    it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative (docs/conventions.md)', (bins, L, M) => {
+      const w = values(2 * bins * L, 1 + bins + 100 * L),
+        p = values(2 * L * M, 7 + M);
+      const plain = new Float32Array(2 * bins * M),
+        fast = new Float32Array(2 * bins * M).fill(99);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      wasm!(fast, 0, w, p, bins, L, M);
+      expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+    });
+
+    it.each(SIZES)('complex128: bins %i, L %i, M %i within 1e-13 relative', (bins, L, M) => {
+      const w = values(2 * bins * L, 3 + bins + 100 * L),
+        p = values(2 * L * M, 11 + M);
+      const plain = new Float64Array(2 * bins * M),
+        fast = new Float64Array(2 * bins * M).fill(99);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      wasm!(fast, 0, w, p, bins, L, M);
+      expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-13);
+    });
+
+    it('writes only [outOffset, outOffset + 2 bins M) and overwrites what was there', () => {
+      const bins = 3,
+        L = 2,
+        M = 5,
+        off = 6;
+      const w = values(2 * bins * L, 5),
+        p = values(2 * L * M, 6);
+      const plain = new Float32Array(off + 2 * bins * M + 4).fill(-7),
+        fast = new Float32Array(off + 2 * bins * M + 4).fill(-7);
+      accumulatePathsPlain(plain, off, w, p, bins, L, M, new Float64Array(2 * M));
+      wasm!(fast, off, w, p, bins, L, M);
+      expect(Array.from(fast.subarray(0, off))).toEqual(Array(off).fill(-7));
+      expect(Array.from(fast.subarray(off + 2 * bins * M))).toEqual([-7, -7, -7, -7]);
+      expect(relativeFrobenius(fast.subarray(off, off + 2 * bins * M), plain.subarray(off, off + 2 * bins * M))).toBeLessThan(1e-6);
+    });
+
+    it('sees products changed in place between calls (moving geometry: nothing stale is cached)', () => {
+      const bins = 4,
+        L = 3,
+        M = 9;
+      const w = values(2 * bins * L, 8),
+        p = values(2 * L * M, 9);
+      const fast = new Float32Array(2 * bins * M),
+        plain = new Float32Array(2 * bins * M);
+      wasm!(fast, 0, w, p, bins, L, M);
+      p.set(values(p.length, 10));
+      wasm!(fast, 0, w, p, bins, L, M);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+    });
+
+    it('gives each bin the same bits whichever bins a call covers (large outputs are split into chunks)', () => {
+      const bins = 70,
+        L = 8,
+        M = 1024; // 70 bins of 8 KiB: several 128 KiB chunks
+      const w = values(2 * bins * L, 12),
+        p = values(2 * L * M, 13);
+      const whole = new Float32Array(2 * bins * M);
+      wasm!(whole, 0, w, p, bins, L, M);
+      const part = new Float32Array(2 * 5 * M);
+      wasm!(part, 0, w.subarray(2 * 61 * L, 2 * 66 * L), p, 5, L, M);
+      expect(part).toEqual(whole.subarray(2 * 61 * M, 2 * 66 * M));
+    });
+
+    it('treats L = 0 as an empty sum', () => {
+      const out = new Float32Array(8).fill(3);
+      wasm!(out, 0, new Float64Array(0), new Float64Array(0), 2, 0, 2);
+      expect(Array.from(out)).toEqual(Array(8).fill(0));
+    });
   });
 
-  it.each(SIZES)('complex128: bins %i, L %i, M %i within 1e-13 relative', (bins, L, M) => {
-    const w = values(2 * bins * L, 3 + bins + 100 * L), p = values(2 * L * M, 11 + M);
-    const plain = new Float64Array(2 * bins * M), fast = new Float64Array(2 * bins * M).fill(99);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    wasm!(fast, 0, w, p, bins, L, M);
-    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-13);
-  });
+  describe.runIf(wasm !== undefined)(`${name} kernel writing in place into its own memory (allocate)`, () => {
+    // The same sweep as above, the output at an offset inside an allocated array: against the
+    // plain kernel, and bit for bit against the copying path (the same arithmetic per lane).
+    it.each(SIZES)('complex64: bins %i, L %i, M %i: plain within 1e-6, copying path bit for bit', (bins, L, M) => {
+      const w = values(2 * bins * L, 31 + bins + 100 * L),
+        p = values(2 * L * M, 37 + M);
+      const off = 6; // not a multiple of 4 floats: unaligned vector stores
+      const plain = new Float32Array(2 * bins * M),
+        copied = new Float32Array(2 * bins * M);
+      const inPlace = allocate!(off + 2 * bins * M + 2, Float32Array).fill(99);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      wasm!(copied, 0, w, p, bins, L, M);
+      wasm!(inPlace, off, w, p, bins, L, M);
+      const mine = inPlace.subarray(off, off + 2 * bins * M);
+      expect(relativeFrobenius(mine, plain)).toBeLessThan(1e-6);
+      expect(bits(mine)).toEqual(bits(copied));
+      expect(Array.from(inPlace.subarray(0, off))).toEqual(Array(off).fill(99));
+      expect(Array.from(inPlace.subarray(off + 2 * bins * M))).toEqual([99, 99]);
+    });
 
-  it('writes only [outOffset, outOffset + 2 bins M) and overwrites what was there', () => {
-    const bins = 3, L = 2, M = 5, off = 6;
-    const w = values(2 * bins * L, 5), p = values(2 * L * M, 6);
-    const plain = new Float32Array(off + 2 * bins * M + 4).fill(-7), fast = new Float32Array(off + 2 * bins * M + 4).fill(-7);
-    accumulatePathsPlain(plain, off, w, p, bins, L, M, new Float64Array(2 * M));
-    wasm!(fast, off, w, p, bins, L, M);
-    expect(Array.from(fast.subarray(0, off))).toEqual(Array(off).fill(-7));
-    expect(Array.from(fast.subarray(off + 2 * bins * M))).toEqual([-7, -7, -7, -7]);
-    expect(relativeFrobenius(fast.subarray(off, off + 2 * bins * M), plain.subarray(off, off + 2 * bins * M))).toBeLessThan(1e-6);
-  });
+    it.each(SIZES)('complex128: bins %i, L %i, M %i: plain within 1e-13, copying path bit for bit', (bins, L, M) => {
+      const w = values(2 * bins * L, 41 + bins + 100 * L),
+        p = values(2 * L * M, 43 + M);
+      const plain = new Float64Array(2 * bins * M),
+        copied = new Float64Array(2 * bins * M);
+      const inPlace = allocate!(2 + 2 * bins * M, Float64Array);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      wasm!(copied, 0, w, p, bins, L, M);
+      wasm!(inPlace, 2, w, p, bins, L, M);
+      expect(relativeFrobenius(inPlace.subarray(2), plain)).toBeLessThan(1e-13);
+      expect(bits(inPlace.subarray(2))).toEqual(bits(copied));
+    });
 
-  it('sees products changed in place between calls (moving geometry: nothing stale is cached)', () => {
-    const bins = 4, L = 3, M = 9;
-    const w = values(2 * bins * L, 8), p = values(2 * L * M, 9);
-    const fast = new Float32Array(2 * bins * M), plain = new Float32Array(2 * bins * M);
-    wasm!(fast, 0, w, p, bins, L, M);
-    p.set(values(p.length, 10));
-    wasm!(fast, 0, w, p, bins, L, M);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
-  });
+    it('gives each bin the same bits whichever bins a call covers (bins paired differently, odd last bin)', () => {
+      const bins = 70,
+        L = 8,
+        M = 1030; // M not a multiple of 4: tail columns too
+      const w = values(2 * bins * L, 52),
+        p = values(2 * L * M, 53);
+      const whole = allocate!(2 * bins * M, Float32Array);
+      wasm!(whole, 0, w, p, bins, L, M);
+      for (const [k0, n] of [
+        [61, 5],
+        [0, 1],
+        [69, 1],
+        [3, 64],
+      ] as const) {
+        const part = allocate!(2 * n * M, Float32Array);
+        wasm!(part, 0, w.subarray(2 * k0 * L, 2 * (k0 + n) * L), p, n, L, M);
+        expect(bits(part), `bins ${k0}..${k0 + n - 1}`).toEqual(bits(whole.subarray(2 * k0 * M, 2 * (k0 + n) * M)));
+      }
+    });
 
-  it('gives each bin the same bits whichever bins a call covers (large outputs are split into chunks)', () => {
-    const bins = 70, L = 8, M = 1024; // 70 bins of 8 KiB: several 128 KiB chunks
-    const w = values(2 * bins * L, 12), p = values(2 * L * M, 13);
-    const whole = new Float32Array(2 * bins * M);
-    wasm!(whole, 0, w, p, bins, L, M);
-    const part = new Float32Array(2 * 5 * M);
-    wasm!(part, 0, w.subarray(2 * 61 * L, 2 * 66 * L), p, 5, L, M);
-    expect(part).toEqual(whole.subarray(2 * 61 * M, 2 * 66 * M));
-  });
+    it('sees products changed in place between calls (nothing stale is cached)', () => {
+      const bins = 4,
+        L = 3,
+        M = 9;
+      const w = values(2 * bins * L, 58),
+        p = values(2 * L * M, 59);
+      const fast = allocate!(2 * bins * M, Float32Array),
+        plain = new Float32Array(2 * bins * M);
+      wasm!(fast, 0, w, p, bins, L, M);
+      p.set(values(p.length, 60));
+      wasm!(fast, 0, w, p, bins, L, M);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+    });
 
-  it('treats L = 0 as an empty sum', () => {
-    const out = new Float32Array(8).fill(3);
-    wasm!(out, 0, new Float64Array(0), new Float64Array(0), 2, 0, 2);
-    expect(Array.from(out)).toEqual(Array(8).fill(0));
-  });
-});
+    it('rounds products and weights to float32 as a Float32Array store does, and turns Q by +90 degrees', () => {
+      // With w = 1 the sum is 0 + (1 P + 0 Q) = P exactly; with w = j it is Q = (-im, re); with
+      // P = 1 it is the weight itself: the kernel's float32 inputs, bit for bit.
+      const M = 7,
+        p = values(2 * M, 61).map((x) => x * 1e3 + 1 / 3);
+      const out = allocate!(2 * M, Float32Array);
+      wasm!(out, 0, Float64Array.of(1, 0), p, 1, 1, M);
+      expect(bits(out)).toEqual(bits(Float32Array.from(p)));
+      wasm!(out, 0, Float64Array.of(0, 1), p, 1, 1, M);
+      const turned = new Float32Array(2 * M);
+      for (let m = 0; m < M; m++) {
+        turned[2 * m] = -Math.fround(p[2 * m + 1]!);
+        turned[2 * m + 1] = Math.fround(p[2 * m]!);
+      }
+      expect(bits(out)).toEqual(bits(turned));
+      const w = values(2 * 3, 62).map((x) => x / 7); // 6 weights: a SIMD group of 4 and a tail of 2
+      const out3 = allocate!(2 * 3, Float32Array);
+      wasm!(out3, 0, w, Float64Array.of(1, 0), 3, 1, 1);
+      expect(bits(out3)).toEqual(bits(Float32Array.from(w)));
+    });
 
-describe.runIf(wasm !== undefined)(`${name} kernel writing in place into its own memory (allocate)`, () => {
-  // The same sweep as above, the output at an offset inside an allocated array: against the
-  // plain kernel, and bit for bit against the copying path (the same arithmetic per lane).
-  it.each(SIZES)('complex64: bins %i, L %i, M %i: plain within 1e-6, copying path bit for bit', (bins, L, M) => {
-    const w = values(2 * bins * L, 31 + bins + 100 * L), p = values(2 * L * M, 37 + M);
-    const off = 6; // not a multiple of 4 floats: unaligned vector stores
-    const plain = new Float32Array(2 * bins * M), copied = new Float32Array(2 * bins * M);
-    const inPlace = allocate!(off + 2 * bins * M + 2, Float32Array).fill(99);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    wasm!(copied, 0, w, p, bins, L, M);
-    wasm!(inPlace, off, w, p, bins, L, M);
-    const mine = inPlace.subarray(off, off + 2 * bins * M);
-    expect(relativeFrobenius(mine, plain)).toBeLessThan(1e-6);
-    expect(bits(mine)).toEqual(bits(copied));
-    expect(Array.from(inPlace.subarray(0, off))).toEqual(Array(off).fill(99));
-    expect(Array.from(inPlace.subarray(off + 2 * bins * M))).toEqual([99, 99]);
-  });
+    it('falls back to the copying path when a call needs more workspace than an allocated array reserves', () => {
+      const bins = 3,
+        L = 33,
+        M = 20000; // products alone 10 MiB as float64, over the 4 MiB reserved
+      const w = values(2 * bins * L, 63),
+        p = values(2 * L * M, 64);
+      const fast = allocate!(2 * bins * M, Float32Array),
+        copied = new Float32Array(2 * bins * M),
+        plain = new Float32Array(2 * bins * M);
+      wasm!(fast, 0, w, p, bins, L, M);
+      wasm!(copied, 0, w, p, bins, L, M);
+      accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
+      expect(fast.length).toBe(2 * bins * M); // the view was not detached by a memory grow
+      expect(bits(fast)).toEqual(bits(copied));
+      expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
+    });
 
-  it.each(SIZES)('complex128: bins %i, L %i, M %i: plain within 1e-13, copying path bit for bit', (bins, L, M) => {
-    const w = values(2 * bins * L, 41 + bins + 100 * L), p = values(2 * L * M, 43 + M);
-    const plain = new Float64Array(2 * bins * M), copied = new Float64Array(2 * bins * M);
-    const inPlace = allocate!(2 + 2 * bins * M, Float64Array);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    wasm!(copied, 0, w, p, bins, L, M);
-    wasm!(inPlace, 2, w, p, bins, L, M);
-    expect(relativeFrobenius(inPlace.subarray(2), plain)).toBeLessThan(1e-13);
-    expect(bits(inPlace.subarray(2))).toEqual(bits(copied));
+    it('hands out zeroed arrays of the asked type and length that do not overlap', () => {
+      const a = allocate!(1000, Float32Array),
+        b = allocate!(1000, Float32Array),
+        c = allocate!(3, Float64Array);
+      expect([a.length, b.length, c.length, a instanceof Float32Array, c instanceof Float64Array]).toEqual([1000, 1000, 3, true, true]);
+      expect(a.every((x) => x === 0) && b.every((x) => x === 0) && c.every((x) => x === 0)).toBe(true);
+      a.fill(5);
+      expect(b.every((x) => x === 0)).toBe(true);
+      expect(() => allocate!(-1, Float32Array)).toThrow(RangeError);
+    });
   });
-
-  it('gives each bin the same bits whichever bins a call covers (bins paired differently, odd last bin)', () => {
-    const bins = 70, L = 8, M = 1030; // M not a multiple of 4: tail columns too
-    const w = values(2 * bins * L, 52), p = values(2 * L * M, 53);
-    const whole = allocate!(2 * bins * M, Float32Array);
-    wasm!(whole, 0, w, p, bins, L, M);
-    for (const [k0, n] of [[61, 5], [0, 1], [69, 1], [3, 64]] as const) {
-      const part = allocate!(2 * n * M, Float32Array);
-      wasm!(part, 0, w.subarray(2 * k0 * L, 2 * (k0 + n) * L), p, n, L, M);
-      expect(bits(part), `bins ${k0}..${k0 + n - 1}`).toEqual(bits(whole.subarray(2 * k0 * M, 2 * (k0 + n) * M)));
-    }
-  });
-
-  it('sees products changed in place between calls (nothing stale is cached)', () => {
-    const bins = 4, L = 3, M = 9;
-    const w = values(2 * bins * L, 58), p = values(2 * L * M, 59);
-    const fast = allocate!(2 * bins * M, Float32Array), plain = new Float32Array(2 * bins * M);
-    wasm!(fast, 0, w, p, bins, L, M);
-    p.set(values(p.length, 60));
-    wasm!(fast, 0, w, p, bins, L, M);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
-  });
-
-  it('rounds products and weights to float32 as a Float32Array store does, and turns Q by +90 degrees', () => {
-    // With w = 1 the sum is 0 + (1 P + 0 Q) = P exactly; with w = j it is Q = (-im, re); with
-    // P = 1 it is the weight itself: the kernel's float32 inputs, bit for bit.
-    const M = 7, p = values(2 * M, 61).map((x) => x * 1e3 + 1 / 3);
-    const out = allocate!(2 * M, Float32Array);
-    wasm!(out, 0, Float64Array.of(1, 0), p, 1, 1, M);
-    expect(bits(out)).toEqual(bits(Float32Array.from(p)));
-    wasm!(out, 0, Float64Array.of(0, 1), p, 1, 1, M);
-    const turned = new Float32Array(2 * M);
-    for (let m = 0; m < M; m++) {
-      turned[2 * m] = -Math.fround(p[2 * m + 1]!);
-      turned[2 * m + 1] = Math.fround(p[2 * m]!);
-    }
-    expect(bits(out)).toEqual(bits(turned));
-    const w = values(2 * 3, 62).map((x) => x / 7); // 6 weights: a SIMD group of 4 and a tail of 2
-    const out3 = allocate!(2 * 3, Float32Array);
-    wasm!(out3, 0, w, Float64Array.of(1, 0), 3, 1, 1);
-    expect(bits(out3)).toEqual(bits(Float32Array.from(w)));
-  });
-
-  it('falls back to the copying path when a call needs more workspace than an allocated array reserves', () => {
-    const bins = 3, L = 33, M = 20000; // products alone 10 MiB as float64, over the 4 MiB reserved
-    const w = values(2 * bins * L, 63), p = values(2 * L * M, 64);
-    const fast = allocate!(2 * bins * M, Float32Array), copied = new Float32Array(2 * bins * M), plain = new Float32Array(2 * bins * M);
-    wasm!(fast, 0, w, p, bins, L, M);
-    wasm!(copied, 0, w, p, bins, L, M);
-    accumulatePathsPlain(plain, 0, w, p, bins, L, M, new Float64Array(2 * M));
-    expect(fast.length).toBe(2 * bins * M); // the view was not detached by a memory grow
-    expect(bits(fast)).toEqual(bits(copied));
-    expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
-  });
-
-  it('hands out zeroed arrays of the asked type and length that do not overlap', () => {
-    const a = allocate!(1000, Float32Array), b = allocate!(1000, Float32Array), c = allocate!(3, Float64Array);
-    expect([a.length, b.length, c.length, a instanceof Float32Array, c instanceof Float64Array]).toEqual([1000, 1000, 3, true, true]);
-    expect(a.every((x) => x === 0) && b.every((x) => x === 0) && c.every((x) => x === 0)).toBe(true);
-    a.fill(5);
-    expect(b.every((x) => x === 0)).toBe(true);
-    expect(() => allocate!(-1, Float32Array)).toThrow(RangeError);
-  });
-});
 }
 
 describe.runIf(loaded.kernel !== undefined && fmaLoaded.kernel !== undefined)('fused kernel against the SIMD kernel', () => {
   it.each(SIZES)('complex64: bins %i, L %i, M %i within 1e-6 relative of each other, in place as copied', (bins, L, M) => {
-    const w = values(2 * bins * L, 81 + bins + 100 * L), p = values(2 * L * M, 83 + M);
-    const a = loaded.allocate!(2 * bins * M, Float32Array), b = fmaLoaded.allocate!(2 * bins * M, Float32Array);
+    const w = values(2 * bins * L, 81 + bins + 100 * L),
+      p = values(2 * L * M, 83 + M);
+    const a = loaded.allocate!(2 * bins * M, Float32Array),
+      b = fmaLoaded.allocate!(2 * bins * M, Float32Array);
     loaded.kernel!(a, 0, w, p, bins, L, M);
     fmaLoaded.kernel!(b, 0, w, p, bins, L, M);
     expect(relativeFrobenius(b, a)).toBeLessThan(1e-6);
   });
 
   it('differs from it in the last bits (a kernel of its own name)', () => {
-    const bins = 8, L = 8, M = 64;
-    const w = values(2 * bins * L, 91), p = values(2 * L * M, 92);
-    const a = new Float32Array(2 * bins * M), b = new Float32Array(2 * bins * M);
+    const bins = 8,
+      L = 8,
+      M = 64;
+    const w = values(2 * bins * L, 91),
+      p = values(2 * L * M, 92);
+    const a = new Float32Array(2 * bins * M),
+      b = new Float32Array(2 * bins * M);
     loaded.kernel!(a, 0, w, p, bins, L, M);
     fmaLoaded.kernel!(b, 0, w, p, bins, L, M);
     expect(bits(b)).not.toEqual(bits(a));
@@ -250,9 +310,13 @@ describe.runIf(loaded.kernel !== undefined && fmaLoaded.kernel !== undefined)('f
 
 describe('allocateKernelArray', () => {
   it('gives arrays the kernel in use fills like any other', () => {
-    const bins = 5, L = 3, M = 11;
-    const w = values(2 * bins * L, 71), p = values(2 * L * M, 72);
-    const out = allocateKernelArray(2 * bins * M, Float32Array), ref = new Float32Array(2 * bins * M);
+    const bins = 5,
+      L = 3,
+      M = 11;
+    const w = values(2 * bins * L, 71),
+      p = values(2 * L * M, 72);
+    const out = allocateKernelArray(2 * bins * M, Float32Array),
+      ref = new Float32Array(2 * bins * M);
     accumulatePaths(out, 0, w, p, bins, L, M, new Float64Array(2 * M));
     accumulatePathsPlain(ref, 0, w, p, bins, L, M, new Float64Array(2 * M));
     expect(relativeFrobenius(out, ref)).toBeLessThan(1e-6);
@@ -278,8 +342,11 @@ describe('allocateKernelArray', () => {
 
 describe.runIf(hasPython('numpy'))('kernel in use against numpy', () => {
   it('equals numpy.matmul of the complex matrices W [bins, L] @ P [L, M] (numpy (C))', () => {
-    const bins = 5, L = 3, M = 7;
-    const w = values(2 * bins * L, 21), p = values(2 * L * M, 22);
+    const bins = 5,
+      L = 3,
+      M = 7;
+    const w = values(2 * bins * L, 21),
+      p = values(2 * L * M, 22);
     const out = new Float32Array(2 * bins * M);
     accumulatePaths(out, 0, w, p, bins, L, M, new Float64Array(2 * M));
     const ref = pythonJson<number[]>(

@@ -109,9 +109,7 @@ describe('NR numerology (3GPP TS 38.211 section 4; check-values.md)', () => {
     expect(() => nrNumerology(5)).toThrow(new RangeError('nrNumerology(): mu must be an integer in 0..4, got 5'));
     expect(() => nrNumerology(-1)).toThrow(RangeError);
     expect(() => nrNumerology(1.5)).toThrow(RangeError);
-    expect(() => nrNumerology(1, 'extended')).toThrow(
-      new RangeError('nrNumerology(): the extended cyclic prefix exists only for mu = 2 (60 kHz), got mu = 1'),
-    );
+    expect(() => nrNumerology(1, 'extended')).toThrow(new RangeError('nrNumerology(): the extended cyclic prefix exists only for mu = 2 (60 kHz), got mu = 1'));
     expect(() => nrSymbolSamples(nrNumerology(0), 64)).toThrow(
       new RangeError('nrSymbolSamples(): fftSize 64 gives a cyclic prefix of 4.5 samples at mu = 0; use a larger power of two'),
     );

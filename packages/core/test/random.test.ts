@@ -23,7 +23,10 @@ describe('RandomStream', () => {
   it('draws uniforms with mean 1/2 and variance 1/12 and complex normals of unit power', () => {
     const s = new RandomStream(1, 'stats');
     const n = 200_000;
-    let sum = 0, sum2 = 0, power = 0, re = 0;
+    let sum = 0,
+      sum2 = 0,
+      power = 0,
+      re = 0;
     const z = new Float64Array(2);
     for (let i = 0; i < n; i++) {
       const u = s.nextUniform();
@@ -73,7 +76,9 @@ describe('BlockedStreams', () => {
 describe('known-answer vectors (recorded from this implementation; pin cross-machine bit identity)', () => {
   const vectors = [
     {
-      seed: 42, key: 'los', hash: [2567169250, 2144343911],
+      seed: 42,
+      key: 'los',
+      hash: [2567169250, 2144343911],
       uint32: [2658730158, 4261648980, 3052788342, 3502129760],
       uniform: [0.5456917095945579, 0.6828170155385567],
       normal: [0.6918846743401581, 1.9426573069780968],
@@ -81,7 +86,9 @@ describe('known-answer vectors (recorded from this implementation; pin cross-mac
       block3lane1: [1825196532, 2206356133],
     },
     {
-      seed: 42, key: 'R:walls[0]', hash: [1015833352, 3369204689],
+      seed: 42,
+      key: 'R:walls[0]',
+      hash: [1015833352, 3369204689],
       uint32: [3589425490, 2296816195, 2137758541, 4078644686],
       uniform: [0.7375505128113751, 0.4894874784132817],
       normal: [1.0451574610202556, 0.6854848895841799],
@@ -89,7 +96,9 @@ describe('known-answer vectors (recorded from this implementation; pin cross-mac
       block3lane1: [2287285884, 705636988],
     },
     {
-      seed: 2 ** 40 + 5, key: 'los', hash: [2567169250, 2144343911],
+      seed: 2 ** 40 + 5,
+      key: 'los',
+      hash: [2567169250, 2144343911],
       uint32: [521534512, 1658082923, 3894500553, 3053895109],
       uniform: [0.8693609289459248, 0.13527143126531255],
       normal: [1.476472498641032, 0.9724448055762692],
@@ -97,7 +106,9 @@ describe('known-answer vectors (recorded from this implementation; pin cross-mac
       block3lane1: [521949348, 4101744396],
     },
     {
-      seed: 2 ** 40 + 5, key: 'R:walls[0]', hash: [1015833352, 3369204689],
+      seed: 2 ** 40 + 5,
+      key: 'R:walls[0]',
+      hash: [1015833352, 3369204689],
       uint32: [2497342991, 1863582441, 4164790137, 1894199782],
       uniform: [0.9818671433812398, 0.8013984119740865],
       normal: [-1.2308898427803927, -0.365675854899616],

@@ -23,10 +23,13 @@ function gramError(cb: Codebook): number {
   let worst = 0;
   for (let a = 0; a < cb.beams; a++) {
     for (let b = 0; b < cb.beams; b++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let n = 0; n < cb.elements; n++) {
-        const ar = cb.weights[2 * (n * cb.beams + a)]!, ai = -cb.weights[2 * (n * cb.beams + a) + 1]!;
-        const br = cb.weights[2 * (n * cb.beams + b)]!, bi = cb.weights[2 * (n * cb.beams + b) + 1]!;
+        const ar = cb.weights[2 * (n * cb.beams + a)]!,
+          ai = -cb.weights[2 * (n * cb.beams + a) + 1]!;
+        const br = cb.weights[2 * (n * cb.beams + b)]!,
+          bi = cb.weights[2 * (n * cb.beams + b) + 1]!;
         re += ar * br - ai * bi;
         im += ar * bi + ai * br;
       }
@@ -50,11 +53,14 @@ describe('DFT codebooks', () => {
   });
 
   it('oversampled neighbours overlap by the array factor |sin(N psi/2) / (N sin(psi/2))| (check-values.md ULA, V)', () => {
-    const N = 8, O = 4;
+    const N = 8,
+      O = 4;
     const cb = ulaCodebook(N, { oversampling: O });
     expect(cb.beams).toBe(32);
-    const a = codebookColumn(cb, 10), b = codebookColumn(cb, 11);
-    let re = 0, im = 0;
+    const a = codebookColumn(cb, 10),
+      b = codebookColumn(cb, 11);
+    let re = 0,
+      im = 0;
     for (let n = 0; n < N; n++) {
       re += a[2 * n]! * b[2 * n]! + a[2 * n + 1]! * b[2 * n + 1]!;
       im += a[2 * n]! * b[2 * n + 1]! - a[2 * n + 1]! * b[2 * n]!;
@@ -67,13 +73,15 @@ describe('DFT codebooks', () => {
   it('transmit columns are conj(r_tx) / sqrt(N), receive columns r_rx / sqrt(N), of the array response (docs/conventions.md)', () => {
     const k0 = wavenumber(FC);
     const ula = AntennaArray.ula(8, HALF);
-    const tx = ulaCodebook(8), rx = ulaCodebook(8, { side: 'receive' });
+    const tx = ulaCodebook(8),
+      rx = ulaCodebook(8, { side: 'receive' });
     const r = new Float64Array(16);
     for (const b of [0, 3, 5, 7]) {
       const u = fromCosines(tx.directionCosines[2 * b]!, 0);
       expect(tx.directionCosines[2 * b]).toBeCloseTo((2 * b) / 8 - 1, 15);
       ula.response(r, u, k0);
-      const t = codebookColumn(tx, b), c = codebookColumn(rx, b);
+      const t = codebookColumn(tx, b),
+        c = codebookColumn(rx, b);
       for (let n = 0; n < 8; n++) {
         expect(Math.abs(t[2 * n]! - r[2 * n]! / Math.sqrt(8))).toBeLessThan(1e-12);
         expect(Math.abs(t[2 * n + 1]! + r[2 * n + 1]! / Math.sqrt(8))).toBeLessThan(1e-12);
@@ -117,7 +125,8 @@ function spec(paths: ChannelSpec['paths'], fading: ChannelSpec['fading'], subfra
 describe('beam space and beam search', () => {
   // Receiver yawed by 180 degrees: its local +x looks along global -x, local +y is global -y.
   const toRx = (uy: number): Vec3 => [-Math.sqrt(1 - uy * uy), -uy, 0];
-  const W = ulaCodebook(4, { side: 'receive' }), F = ulaCodebook(8);
+  const W = ulaCodebook(4, { side: 'receive' }),
+    F = ulaCodebook(8);
 
   it('a path on a DFT beam pair gives array gain Nr Nt on that pair and zero elsewhere (DFT orthogonality)', () => {
     const power = 1e-9;
@@ -133,7 +142,8 @@ describe('beam space and beam search', () => {
         for (let bf = 0; bf < 8; bf++) {
           const i = 2 * ((k * 4 + bw) * 8 + bf);
           const mag2 = B[i]! ** 2 + B[i + 1]! ** 2;
-          if (bw === rxBeam && bf === txBeam) expect(Math.abs(mag2 / (power * 32) - 1)).toBeLessThan(1e-12); // |rho|^2 Nr Nt
+          if (bw === rxBeam && bf === txBeam)
+            expect(Math.abs(mag2 / (power * 32) - 1)).toBeLessThan(1e-12); // |rho|^2 Nr Nt
           else expect(mag2 / power).toBeLessThan(1e-24);
         }
       }
@@ -145,7 +155,7 @@ describe('beam space and beam search', () => {
     expect([best.receiveBeam, best.transmitBeam]).toEqual([rxBeam, txBeam]);
     expect(best.meanGain / (32 * power)).toBeCloseTo(1, 12);
     // SNR = P_t |rho|^2 Nr Nt / (k T B F), written out.
-    expect(best.snrDb).toBeCloseTo(10 * Math.log10((10 ** (-0.7) * 32 * power) / thermalNoisePowerW(16 * 120e3, 8)), 10);
+    expect(best.snrDb).toBeCloseTo(10 * Math.log10((10 ** -0.7 * 32 * power) / thermalNoisePowerW(16 * 120e3, 8)), 10);
   });
 
   it('tracks the best pair over subframes: equals the brute-force argmax of W^H H F, from a generator or a tensor', () => {
@@ -183,7 +193,9 @@ describe('beam space and beam search', () => {
     const part = trackBeamPairs(gen, W, F, { transmitPowerDbm: 20, bandwidthHz: 2e6 }, 10, 5);
     expect(Array.from(part.transmitBeam)).toEqual(Array.from(fromGen.transmitBeam.subarray(10, 15)));
     expect(part.snrDb!.length).toBe(5);
-    expect(() => trackBeamPairs(gen, ulaCodebook(3, { side: 'receive' }), F)).toThrow('trackBeamPairs(): the receive codebook must have Nr = 4 elements, got 3');
+    expect(() => trackBeamPairs(gen, ulaCodebook(3, { side: 'receive' }), F)).toThrow(
+      'trackBeamPairs(): the receive codebook must have Nr = 4 elements, got 3',
+    );
     expect(() => new BeamSearch(W, F, 16).search(new Float64Array(10))).toThrow(
       'BeamSearch.search(): H must hold 1024 numbers from offset 0 ([16, 4, 8] complex interleaved), got 10',
     );

@@ -15,17 +15,27 @@ function complexNoise(values: number, seed: number, Ctor: Float32ArrayConstructo
  * y[r, n] = sum_t sum_d h_n[d, r, t] x[t, n - d], x = 0 before sample 0,
  * h_n the tap set whose start is the last one <= n.
  */
-function referenceFilter(x: Float64Array | Float32Array, Nt: number, Nr: number, D: number, N: number, sets: { from: number; h: Float64Array }[]): Float64Array {
+function referenceFilter(
+  x: Float64Array | Float32Array,
+  Nt: number,
+  Nr: number,
+  D: number,
+  N: number,
+  sets: { from: number; h: Float64Array }[],
+): Float64Array {
   const y = new Float64Array(2 * Nr * N);
   for (let n = 0; n < N; n++) {
     const h = [...sets].reverse().find((s) => s.from <= n)!.h;
     for (let r = 0; r < Nr; r++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let t = 0; t < Nt; t++) {
         for (let d = 0; d < D; d++) {
           if (n - d < 0) continue;
-          const xr = x[2 * (t * N + n - d)]!, xi = x[2 * (t * N + n - d) + 1]!;
-          const hr = h[2 * ((d * Nr + r) * Nt + t)]!, hi = h[2 * ((d * Nr + r) * Nt + t) + 1]!;
+          const xr = x[2 * (t * N + n - d)]!,
+            xi = x[2 * (t * N + n - d) + 1]!;
+          const hr = h[2 * ((d * Nr + r) * Nt + t)]!,
+            hi = h[2 * ((d * Nr + r) * Nt + t) + 1]!;
           re += hr * xr - hi * xi;
           im += hr * xi + hi * xr;
         }
@@ -48,7 +58,10 @@ function sameBits(a: Float32Array | Float64Array, b: Float32Array | Float64Array
   return a.constructor === b.constructor && Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(Buffer.from(b.buffer, b.byteOffset, b.byteLength));
 }
 
-const Nt = 3, Nr = 2, D = 7, N = 1000;
+const Nt = 3,
+  Nr = 2,
+  D = 7,
+  N = 1000;
 const sets = [0, 250, 500, 777].map((from, i) => ({ from, h: complexNoise(D * Nr * Nt, 100 + i) as Float64Array }));
 
 describe('ChannelFilter', () => {
@@ -116,10 +129,15 @@ describe('ChannelFilter', () => {
     for (let s = 0; s < 4; s++) filter.setTaps(taps, s * samplesPerSubframe, s * perSubframe);
     const y = filter.process(x, total);
     const ref = referenceFilter(
-      x, 2, 2, 16, total,
+      x,
+      2,
+      2,
+      16,
+      total,
       [0, 1, 2, 3].map((s) => ({ from: s * samplesPerSubframe, h: (taps as Float64Array).slice(s * perSubframe, (s + 1) * perSubframe) })),
     );
-    let worst = 0, scale = 0;
+    let worst = 0,
+      scale = 0;
     for (let i = 0; i < y.length; i++) {
       worst = Math.max(worst, Math.abs(y[i]! - ref[i]!));
       scale = Math.max(scale, Math.abs(ref[i]!));
@@ -150,7 +168,9 @@ describe('ChannelFilter', () => {
     expect(() => f.setTaps(new Float64Array(48), 5)).toThrow(
       'ChannelFilter.setTaps(): fromSample must be >= 10 (samples already processed or a later set queued), got 5',
     );
-    expect(() => f.process([1, 2] as unknown as Float64Array, 1)).toThrow('ChannelFilter.process(): x must be a Float32Array or Float64Array (complex interleaved), got Array');
+    expect(() => f.process([1, 2] as unknown as Float64Array, 1)).toThrow(
+      'ChannelFilter.process(): x must be a Float32Array or Float64Array (complex interleaved), got Array',
+    );
     const x = new Float64Array(2 * 4 * 5);
     expect(() => f.process(x, 5, x)).toThrow('ChannelFilter.process(): out must hold 20 numbers ([2, 5] complex interleaved), got 40');
     expect(() => new ChannelFilter({ transmitters: 0, receivers: 1, taps: 1 })).toThrow('ChannelFilter(): transmitters must be an integer >= 1, got 0');

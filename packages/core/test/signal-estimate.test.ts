@@ -9,13 +9,16 @@ function complexNoise(values: number, seed: number): Float64Array {
 }
 
 describe('LS channel estimation', () => {
-  const Nr = 2, Nt = 4, P = 8;
+  const Nr = 2,
+    Nt = 4,
+    P = 8;
 
   it('orthogonal pilots: X X^H = P p I', () => {
     const X = orthogonalPilots(Nt, P, 2);
     for (let a = 0; a < Nt; a++) {
       for (let b = 0; b < Nt; b++) {
-        let re = 0, im = 0;
+        let re = 0,
+          im = 0;
         for (let p = 0; p < P; p++) {
           re += X[2 * (a * P + p)]! * X[2 * (b * P + p)]! + X[2 * (a * P + p) + 1]! * X[2 * (b * P + p) + 1]!;
           im += X[2 * (a * P + p) + 1]! * X[2 * (b * P + p)]! - X[2 * (a * P + p)]! * X[2 * (b * P + p) + 1]!;
@@ -64,7 +67,9 @@ describe('LS channel estimation', () => {
   it('refuses bad input', () => {
     expect(() => orthogonalPilots(4, 3)).toThrow('orthogonalPilots(): length must be >= transmitters (4) for orthogonal rows, got 3');
     const rank1 = new Float64Array(2 * 2 * 4).fill(1);
-    expect(() => lsChannelEstimate(new Float64Array(2 * 1 * 4), rank1, 1, 2, 4)).toThrow(/^lsChannelEstimate\(\): X X\^H is singular \(pilots without full row rank\), got pivot/);
+    expect(() => lsChannelEstimate(new Float64Array(2 * 1 * 4), rank1, 1, 2, 4)).toThrow(
+      /^lsChannelEstimate\(\): X X\^H is singular \(pilots without full row rank\), got pivot/,
+    );
     expect(() => lsChannelEstimate(new Float64Array(6), orthogonalPilots(2, 4), 1, 2, 4)).toThrow(
       'lsChannelEstimate(): Y must hold 8 numbers ([1, 4] complex interleaved), got 6',
     );

@@ -10,7 +10,8 @@ function complexNoise(values: number, seed: number): Float64Array {
 
 describe('applyFrequencyOffset', () => {
   it('rotates by 2 pi df n / fs at the absolute sample index, also far from zero', () => {
-    const fs = 1e6, df = fs / 8; // an eighth of a turn per sample
+    const fs = 1e6,
+      df = fs / 8; // an eighth of a turn per sample
     const first = 10_000_003;
     const x = new Float64Array(2 * 16).fill(0);
     for (let n = 0; n < 16; n++) x[2 * n] = 1;
@@ -23,7 +24,9 @@ describe('applyFrequencyOffset', () => {
   });
 
   it('gives the same bits in blocks as in one call, in place or not', () => {
-    const N = 500, fs = 30.72e6, df = 1234.5;
+    const N = 500,
+      fs = 30.72e6,
+      df = 1234.5;
     const x = complexNoise(2 * N, 1);
     const one = applyFrequencyOffset(x, 2, N, df, fs, 77);
     const parts = new Float64Array(x.length);
@@ -39,7 +42,8 @@ describe('applyFrequencyOffset', () => {
   });
 
   it('an offset of one subcarrier spacing moves OFDM subcarrier k to k + 1 (DFT shift theorem)', () => {
-    const K = 64, cp = 0;
+    const K = 64,
+      cp = 0;
     const modem = new OfdmModem({ subcarriers: K, cyclicPrefix: cp });
     const X = complexNoise(K, 2);
     const x = modem.modulate(X, 1, 1);
@@ -61,10 +65,12 @@ describe('applyFrequencyOffset', () => {
 });
 
 describe('PhaseNoise (Wiener process)', () => {
-  const fs = 1e6, beta = 1000;
+  const fs = 1e6,
+    beta = 1000;
 
   it('phase variance grows as 2 pi beta t (Wiener model of a free-running oscillator, M)', () => {
-    const R = 5000, N = 201;
+    const R = 5000,
+      N = 201;
     const sum2 = new Float64Array(N);
     const phases = new Float64Array(N);
     for (let i = 0; i < R; i++) {
@@ -84,7 +90,8 @@ describe('PhaseNoise (Wiener process)', () => {
     const N = 1_000_000;
     const phases = new PhaseNoise({ seed: 9, linewidthHz: beta, sampleRateHz: fs }).phases(new Float64Array(N), N);
     const v = (2 * Math.PI * beta) / fs;
-    let s2 = 0, s11 = 0;
+    let s2 = 0,
+      s11 = 0;
     for (let n = 1; n < N; n++) {
       const e = phases[n]! - phases[n - 1]!;
       s2 += e * e;

@@ -29,11 +29,13 @@ function complexNoise(values: number, seed: number): Float64Array {
 const still = (position: Vec3, array: AntennaArray) => ({ position, velocity: [0, 0, 0] as Vec3, array });
 
 describe('steeringVector', () => {
-  const f = 28e9, lambda = wavelength(f);
+  const f = 28e9,
+    lambda = wavelength(f);
   const upa = AntennaArray.upa(2, 4, lambda / 2, { yawDeg: 30, pitchDeg: 10 });
 
   it('receive: r_n(u) = exp(+j k0 dot(u, p_n)) / sqrt(N) (docs/conventions.md), transmit: its conjugate', () => {
-    const az = 47, el = -12;
+    const az = 47,
+      el = -12;
     const u = unitFromDeg(az, el);
     const k0 = (2 * Math.PI * f) / SPEED_OF_LIGHT;
     const a = steeringVector(upa, { azimuthDeg: az, elevationDeg: el }, f);
@@ -51,18 +53,20 @@ describe('steeringVector', () => {
   });
 
   it('a rank-one channel rho a_r a_t^H has the single singular value |rho| sqrt(Nr Nt) (matched beams, textbook)', () => {
-    const rx = AntennaArray.ula(4, lambda / 2), tx = upa;
+    const rx = AntennaArray.ula(4, lambda / 2),
+      tx = upa;
     const ar = steeringVector(rx, { azimuthDeg: 170, elevationDeg: 5 }, f, { normalize: false });
     const at = steeringVector(tx, { azimuthDeg: -20, elevationDeg: -8 }, f, { side: 'transmit', normalize: false });
     const H = new Float64Array(2 * 4 * 8);
     const rho = [0.3, -0.4]; // |rho| = 0.5
-    for (let r = 0; r < 4; r++) for (let c = 0; c < 8; c++) {
-      // rho * ar[r] * conj(at[c])
-      const pr = ar[2 * r]! * at[2 * c]! + ar[2 * r + 1]! * at[2 * c + 1]!;
-      const pi = ar[2 * r + 1]! * at[2 * c]! - ar[2 * r]! * at[2 * c + 1]!;
-      H[2 * (r * 8 + c)] = rho[0]! * pr - rho[1]! * pi;
-      H[2 * (r * 8 + c) + 1] = rho[0]! * pi + rho[1]! * pr;
-    }
+    for (let r = 0; r < 4; r++)
+      for (let c = 0; c < 8; c++) {
+        // rho * ar[r] * conj(at[c])
+        const pr = ar[2 * r]! * at[2 * c]! + ar[2 * r + 1]! * at[2 * c + 1]!;
+        const pi = ar[2 * r + 1]! * at[2 * c]! - ar[2 * r]! * at[2 * c + 1]!;
+        H[2 * (r * 8 + c)] = rho[0]! * pr - rho[1]! * pi;
+        H[2 * (r * 8 + c) + 1] = rho[0]! * pi + rho[1]! * pr;
+      }
     const s = complexSingularValues(H, 0, 4, 8);
     expect(s[0]).toBeCloseTo(0.5 * Math.sqrt(32), 12);
     for (const x of s.slice(1)) expect(x).toBeLessThan(1e-12);
@@ -70,13 +74,21 @@ describe('steeringVector', () => {
 
   it('refuses a direction that is not a unit vector, naming the argument', () => {
     expect(() => steeringVector(upa, [1, 1, 0], f)).toThrow('steeringVector(): direction must be a unit vector [x, y, z], got length 1.414');
-    expect(() => steeringVector(upa, { azimuthDeg: 0, elevationDeg: 120 }, f)).toThrow('steeringVector(): direction must be { azimuthDeg, elevationDeg } with finite degrees and |elevationDeg| <= 90, got {"azimuthDeg":0,"elevationDeg":120}');
+    expect(() => steeringVector(upa, { azimuthDeg: 0, elevationDeg: 120 }, f)).toThrow(
+      'steeringVector(): direction must be { azimuthDeg, elevationDeg } with finite degrees and |elevationDeg| <= 90, got {"azimuthDeg":0,"elevationDeg":120}',
+    );
   });
 });
 
 describe('complexSingularValues and equalPowerCapacity against numpy', () => {
   it.skipIf(!hasPython('numpy'))('agree with numpy.linalg.svd and the log-det capacity over a sweep of shapes (C)', () => {
-    const shapes: [number, number][] = [[1, 1], [2, 3], [4, 4], [4, 32], [8, 2]];
+    const shapes: [number, number][] = [
+      [1, 1],
+      [2, 3],
+      [4, 4],
+      [4, 32],
+      [8, 2],
+    ];
     const cases = shapes.map(([Nr, Nt], i) => ({ Nr, Nt, data: Array.from(complexNoise(Nr * Nt, 40 + i)) }));
     const ref = pythonJson<{ s: number[]; c: number }[]>(
       `import json, sys, numpy as np
@@ -101,13 +113,19 @@ print(json.dumps(out))`,
 
 describe('subcarrierMatrix', () => {
   const spec: ChannelSpec = {
-    carrierHz: 28e9, subframeS: 1e-3, subframes: 2, seed: 3, fading: { model: 'gauss-markov', speedMps: 3 },
-    transmitter: still([0, 0, 5], AntennaArray.ula(3, 0.005)), receiver: still([20, 0, 1.5], AntennaArray.ula(2, 0.005)),
+    carrierHz: 28e9,
+    subframeS: 1e-3,
+    subframes: 2,
+    seed: 3,
+    fading: { model: 'gauss-markov', speedMps: 3 },
+    transmitter: still([0, 0, 5], AntennaArray.ula(3, 0.005)),
+    receiver: still([20, 0, 1.5], AntennaArray.ula(2, 0.005)),
     paths: [
       { id: 'los', delayS: 70e-9, power: 1e-8, phaseRad: 0, departure: unitFromDeg(0, -10), arrival: unitFromDeg(180, 10) },
       { id: 'r1', delayS: 95e-9, power: 2e-9, phaseRad: 1, departure: unitFromDeg(25, -7), arrival: unitFromDeg(140, 7) },
     ],
-    grid: { domain: 'frequency', subcarriers: 8, spacingHz: 120e3 }, symbols: { perSubframe: 4 },
+    grid: { domain: 'frequency', subcarriers: 8, spacingHz: 120e3 },
+    symbols: { perSubframe: 4 },
   };
   it('is the [Nr, Nt] block at (symbol, k) of the subframe, a view without a copy', () => {
     const gen = new ChannelGenerator(spec); // [2, 4, 8, 2, 3]
@@ -118,20 +136,31 @@ describe('subcarrierMatrix', () => {
     const start = 2 * ((2 * 8 + 5) * 6);
     expect(Array.from(view)).toEqual(Array.from(sub.subarray(start, start + 12)));
     expect(() => subcarrierMatrix(gen, sub, 8)).toThrow('subcarrierMatrix(): k must be < 8 (the subcarriers of the generator), got 8');
-    expect(() => subcarrierMatrix(gen, sub, 0, { symbol: 4 })).toThrow('subcarrierMatrix(): symbol must be < 4 (the steps per subframe of the generator), got 4');
-    expect(() => subcarrierMatrix(gen, gen.allocate(2), 0)).toThrow('subcarrierMatrix(): subframe must hold one subframe of the generator (384 numbers, [4, 8, 2, 3] complex interleaved), got 768');
+    expect(() => subcarrierMatrix(gen, sub, 0, { symbol: 4 })).toThrow(
+      'subcarrierMatrix(): symbol must be < 4 (the steps per subframe of the generator), got 4',
+    );
+    expect(() => subcarrierMatrix(gen, gen.allocate(2), 0)).toThrow(
+      'subcarrierMatrix(): subframe must hold one subframe of the generator (384 numbers, [4, 8, 2, 3] complex interleaved), got 768',
+    );
   });
 });
 
 describe('ChannelStreamFilter: one call per block, taps switched at each step', () => {
   const base: ChannelSpec = {
-    carrierHz: 28e9, subframeS: 1e-6, subframes: 5, seed: 8, fading: { model: 'gauss-markov', speedMps: 30000 }, // fast fading so each step differs
-    transmitter: still([0, 0, 5], AntennaArray.ula(2, 0.005)), receiver: still([30, 0, 1.5], AntennaArray.ula(2, 0.005)),
+    carrierHz: 28e9,
+    subframeS: 1e-6,
+    subframes: 5,
+    seed: 8,
+    fading: { model: 'gauss-markov', speedMps: 30000 }, // fast fading so each step differs
+    transmitter: still([0, 0, 5], AntennaArray.ula(2, 0.005)),
+    receiver: still([30, 0, 1.5], AntennaArray.ula(2, 0.005)),
     paths: [
       { id: 'los', delayS: 100e-9, power: 1, phaseRad: 0, departure: unitFromDeg(0, -6), arrival: unitFromDeg(180, 6) },
       { id: 'r1', delayS: 112e-9, power: 0.3, phaseRad: 1, departure: unitFromDeg(20, -5), arrival: unitFromDeg(150, 4) },
     ],
-    grid: { domain: 'taps', sampleRateHz: 50e6, count: 8 }, delayShiftS: 95e-9, precision: 'complex128',
+    grid: { domain: 'taps', sampleRateHz: 50e6, count: 8 },
+    delayShiftS: 95e-9,
+    precision: 'complex128',
   };
 
   for (const symbols of [undefined, 5]) {
@@ -139,9 +168,11 @@ describe('ChannelStreamFilter: one call per block, taps switched at each step', 
       const spec = { ...base, ...(symbols !== undefined ? { symbols: { perSubframe: symbols } } : {}) };
       const gen = new ChannelGenerator(spec);
       const all = gen.fill(gen.allocate(5), 0, 5) as Float64Array;
-      const steps = 5 * gen.stepsPerSubframe, per = 50 / gen.stepsPerSubframe; // 1 us at 50 MS/s = 50 samples per subframe
+      const steps = 5 * gen.stepsPerSubframe,
+        per = 50 / gen.stepsPerSubframe; // 1 us at 50 MS/s = 50 samples per subframe
       const stepValues = 2 * gen.valuesPerStep;
-      const N = 250, x = complexNoise(2 * N, 11);
+      const N = 250,
+        x = complexNoise(2 * N, 11);
       // Reference: the plain ChannelFilter with every step queued by hand (ChannelFilter is tested against a loop FIR).
       const manual = new ChannelFilter({ transmitters: 2, receivers: 2, taps: 8 });
       for (let j = 0; j < steps; j++) manual.setTaps(all, j * per, j * stepValues);
@@ -177,6 +208,8 @@ describe('ChannelStreamFilter: one call per block, taps switched at each step', 
     expect(() => f.process(complexNoise(2, 1), 1)).toThrow(
       "ChannelStreamFilter.process(): the block ends at sample 101, past the generator's last subframe (4), which ends at sample 100; generate more subframes",
     );
-    expect(() => new ChannelStreamFilter(gen, { firstSubframe: 5 })).toThrow("ChannelStreamFilter(): firstSubframe must be < 5 (the generator's subframes), got 5");
+    expect(() => new ChannelStreamFilter(gen, { firstSubframe: 5 })).toThrow(
+      "ChannelStreamFilter(): firstSubframe must be < 5 (the generator's subframes), got 5",
+    );
   });
 });

@@ -27,7 +27,9 @@ function tone(streams: number, samples: number, amplitude: number): Float64Array
 }
 
 describe('NoiseSource at a stated SNR', () => {
-  const Nr = 4, N = 25_000, M = Nr * N;
+  const Nr = 4,
+    N = 25_000,
+    M = Nr * N;
   // |w|^2 of CN(0, s2) is exponential: std = mean, so the mean over M samples has relative std
   // 1/sqrt(M) = 0.32 %; 4 standard deviations give the tolerance (a 6e-5 two-sided risk).
   const relTol = 4 / Math.sqrt(M);
@@ -38,9 +40,13 @@ describe('NoiseSource at a stated SNR', () => {
       const y = clean.slice();
       const level = new NoiseSource({ seed: 11, streams: Nr }).addAtSnr(y, N, snrDb, { perCall: true });
       expect(level.signalPower).toBeCloseTo(0.49, 12); // |0.7 e^{j..}|^2
-      let noise = 0, re2 = 0, pseudoRe = 0, pseudoIm = 0;
+      let noise = 0,
+        re2 = 0,
+        pseudoRe = 0,
+        pseudoIm = 0;
       for (let i = 0; i < y.length; i += 2) {
-        const wr = y[i]! - clean[i]!, wi = y[i + 1]! - clean[i + 1]!;
+        const wr = y[i]! - clean[i]!,
+          wi = y[i + 1]! - clean[i + 1]!;
         noise += wr * wr + wi * wi;
         re2 += wr * wr;
         pseudoRe += wr * wr - wi * wi; // E[w^2] = 0 for circular noise
@@ -51,7 +57,7 @@ describe('NoiseSource at a stated SNR', () => {
       const asked = 10 ** (snrDb / 10);
       expect(Math.abs(measuredSnr / asked - 1)).toBeLessThan(relTol);
       // Half the power in each quadrature: re^2 has relative std sqrt(2)/sqrt(M).
-      expect(Math.abs(re2 / M / (noisePower / 2) - 1)).toBeLessThan(4 * Math.SQRT2 / Math.sqrt(M));
+      expect(Math.abs(re2 / M / (noisePower / 2) - 1)).toBeLessThan((4 * Math.SQRT2) / Math.sqrt(M));
       // Circularity: |mean w^2| / s2 has std 1/sqrt(M).
       expect(Math.hypot(pseudoRe, pseudoIm) / M / noisePower).toBeLessThan(4 / Math.sqrt(M));
     });
@@ -68,9 +74,11 @@ describe('NoiseSource at a stated SNR', () => {
     // Two blocks, the second 20 dB weaker (a fade). With a fixed reference the noise variance is
     // the same in both (sigma^2 = P_ref / SNR); per-call measurement (automatic gain control)
     // lowers it by the same 20 dB, so the SNR of the faded block would stay at 10 dB.
-    const strong = tone(2, 100, 1), weak = tone(2, 100, 0.1);
+    const strong = tone(2, 100, 1),
+      weak = tone(2, 100, 0.1);
     const fixed = new NoiseSource({ seed: 5, streams: 2, referencePower: 1 });
-    const a = fixed.addAtSnr(strong, 100, 10), b = fixed.addAtSnr(weak, 100, 10);
+    const a = fixed.addAtSnr(strong, 100, 10),
+      b = fixed.addAtSnr(weak, 100, 10);
     expect(a).toEqual({ signalPower: 1, noiseVariance: 0.1 });
     expect(b).toEqual({ signalPower: 1, noiseVariance: 0.1 });
     const agc = new NoiseSource({ seed: 5, streams: 2 });
@@ -125,13 +133,15 @@ describe('NoiseSource at a stated SNR', () => {
     );
     expect(() => src.add(new Float64Array(0), 0, 1)).toThrow('NoiseSource.add(): samples must be an integer >= 1, got 0');
     expect(() => src.addAtSnr(new Float64Array(40), 10, 10)).toThrow(
-      "NoiseSource.addAtSnr(): no reference power for the SNR: create the source with referencePower (the received signal power per antenna, fixed for the run), " +
+      'NoiseSource.addAtSnr(): no reference power for the SNR: create the source with referencePower (the received signal power per antenna, fixed for the run), ' +
         "pass referencePower here, or pass { perCall: true } to scale the noise to each call's own signal power (this behaves like automatic gain control)",
     );
     expect(() => src.add(new Float64Array(40), 10)).toThrow(
       'NoiseSource.add(): no noise power: give variance, or create the source with noisePowerW (a stated floor) or budget (thermal k T B F)',
     );
-    expect(() => new NoiseSource({ seed: 1, streams: 1, noisePowerW: 1, budget: { transmitPowerDbm: 0, bandwidthHz: 1 } })).toThrow('NoiseSource(): give noisePowerW or budget, not both');
+    expect(() => new NoiseSource({ seed: 1, streams: 1, noisePowerW: 1, budget: { transmitPowerDbm: 0, bandwidthHz: 1 } })).toThrow(
+      'NoiseSource(): give noisePowerW or budget, not both',
+    );
     expect(() => src.addAtSnr(new Float64Array(40), 10, 10, { perCall: true })).toThrow(
       'NoiseSource.addAtSnr(): the signal has zero power, so an SNR cannot set the noise; give referencePower, got signal power 0',
     );
@@ -150,7 +160,10 @@ describe('link budget', () => {
     // Scaling: bandwidth adds 10 log10(B), noise figure adds F, temperature scales linearly.
     expect(wattsToDbm(thermalNoisePowerW(100e6, 7))).toBeCloseTo(-173.97518719 + 80 + 7, 6);
     expect(thermalNoisePowerW(1, 0, 580) / thermalNoisePowerW(1)).toBeCloseTo(2, 14);
-    expect(budgetNoisePowerW({ transmitPowerDbm: 0, bandwidthHz: 1e6, noiseFigureDb: 3, temperatureK: 300 })).toBeCloseTo(1.380649e-23 * 300 * 1e6 * 10 ** 0.3, 30);
+    expect(budgetNoisePowerW({ transmitPowerDbm: 0, bandwidthHz: 1e6, noiseFigureDb: 3, temperatureK: 300 })).toBeCloseTo(
+      1.380649e-23 * 300 * 1e6 * 10 ** 0.3,
+      30,
+    );
     expect(dbmToWatts(30)).toBe(1);
     expect(wattsToDbm(1e-3)).toBe(0);
   });

@@ -118,7 +118,9 @@ export class AntennaArray {
     if (out.length < 2 * this.size) throw new RangeError(`AntennaArray.response(): out needs ${2 * this.size} values, got ${out.length}`);
     const g = this.elementAmplitude(u);
     const p = this.globalOffsets;
-    const ux = u[0], uy = u[1], uz = u[2];
+    const ux = u[0],
+      uy = u[1],
+      uz = u[2];
     for (let n = 0; n < this.size; n++) {
       const phase = k0 * (ux * p[3 * n]! + uy * p[3 * n + 1]! + uz * p[3 * n + 2]!);
       out[2 * n] = g * Math.cos(phase);
@@ -161,8 +163,16 @@ export type DualPolarization = 'slant45' | 'vh';
  * @example dualPolarizedPortVectors('vh') // [[0, 0, 1], [0, 1, 0]]
  */
 export function dualPolarizedPortVectors(scheme: DualPolarization): Vec3[] {
-  if (scheme === 'vh') return [[0, 0, 1], [0, 1, 0]];
-  if (scheme === 'slant45') return [[0, Math.SQRT1_2, Math.SQRT1_2], [0, -Math.SQRT1_2, Math.SQRT1_2]];
+  if (scheme === 'vh')
+    return [
+      [0, 0, 1],
+      [0, 1, 0],
+    ];
+  if (scheme === 'slant45')
+    return [
+      [0, Math.SQRT1_2, Math.SQRT1_2],
+      [0, -Math.SQRT1_2, Math.SQRT1_2],
+    ];
   throw new TypeError(`dualPolarizedPortVectors(): scheme must be "slant45" or "vh", got ${JSON.stringify(scheme)}`);
 }
 

@@ -17,7 +17,8 @@ export type AnglesDeg = [number, number];
  * @example unitFromDeg(90, 0) // [6.1e-17, 1, 0]
  */
 export function unitFromDeg(azimuthDeg: number, elevationDeg: number, out: Vec3 = [0, 0, 0]): Vec3 {
-  const p = azimuthDeg * DEG, t = elevationDeg * DEG;
+  const p = azimuthDeg * DEG,
+    t = elevationDeg * DEG;
   const ct = Math.cos(t);
   out[0] = ct * Math.cos(p);
   out[1] = ct * Math.sin(p);

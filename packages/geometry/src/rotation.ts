@@ -38,12 +38,25 @@ export function identity(): Mat3 {
  * // [0.866..., 0, -0.5]: boresight tilted 30 degrees down
  */
 export function rotationFromOrientation(o: Orientation = {}): Mat3 {
-  const a = (o.yawDeg ?? 0) * DEG, b = (o.pitchDeg ?? 0) * DEG, g = (o.rollDeg ?? 0) * DEG;
-  const ca = Math.cos(a), sa = Math.sin(a), cb = Math.cos(b), sb = Math.sin(b), cg = Math.cos(g), sg = Math.sin(g);
+  const a = (o.yawDeg ?? 0) * DEG,
+    b = (o.pitchDeg ?? 0) * DEG,
+    g = (o.rollDeg ?? 0) * DEG;
+  const ca = Math.cos(a),
+    sa = Math.sin(a),
+    cb = Math.cos(b),
+    sb = Math.sin(b),
+    cg = Math.cos(g),
+    sg = Math.sin(g);
   return Float64Array.of(
-    ca * cb, ca * sb * sg - sa * cg, ca * sb * cg + sa * sg,
-    sa * cb, sa * sb * sg + ca * cg, sa * sb * cg - ca * sg,
-    -sb, cb * sg, cb * cg,
+    ca * cb,
+    ca * sb * sg - sa * cg,
+    ca * sb * cg + sa * sg,
+    sa * cb,
+    sa * sb * sg + ca * cg,
+    sa * sb * cg - ca * sg,
+    -sb,
+    cb * sg,
+    cb * cg,
   );
 }
 
@@ -52,7 +65,9 @@ export function rotationFromOrientation(o: Orientation = {}): Mat3 {
  * @example applyRotation([0, 0, 0], rotationFromOrientation({ yawDeg: 90 }), [1, 0, 0]) // [6.1e-17, 1, 0]: local +x points along global +y
  */
 export function applyRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
-  const x = v[0], y = v[1], z = v[2];
+  const x = v[0],
+    y = v[1],
+    z = v[2];
   out[0] = r[0]! * x + r[1]! * y + r[2]! * z;
   out[1] = r[3]! * x + r[4]! * y + r[5]! * z;
   out[2] = r[6]! * x + r[7]! * y + r[8]! * z;
@@ -64,7 +79,9 @@ export function applyRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
  * @example applyInverseRotation([0, 0, 0], rotationFromOrientation({ yawDeg: 90 }), [0, 1, 0]) // [1, 6.1e-17, 0]: global +y is the local boresight
  */
 export function applyInverseRotation(out: Vec3, r: Mat3, v: Readonly<Vec3>): Vec3 {
-  const x = v[0], y = v[1], z = v[2];
+  const x = v[0],
+    y = v[1],
+    z = v[2];
   out[0] = r[0]! * x + r[3]! * y + r[6]! * z;
   out[1] = r[1]! * x + r[4]! * y + r[7]! * z;
   out[2] = r[2]! * x + r[5]! * y + r[8]! * z;

@@ -22,8 +22,12 @@ export function vec3(x = 0, y = 0, z = 0): Vec3 {
  * @example add([0, 0, 0], [1, 2, 3], [10, 20, 30]) // [11, 22, 33]
  */
 export function add(out: Vec3, a: Readonly<Vec3>, b: Readonly<Vec3>): Vec3 {
-  const x = a[0] + b[0], y = a[1] + b[1], z = a[2] + b[2];
-  out[0] = x; out[1] = y; out[2] = z;
+  const x = a[0] + b[0],
+    y = a[1] + b[1],
+    z = a[2] + b[2];
+  out[0] = x;
+  out[1] = y;
+  out[2] = z;
   return out;
 }
 
@@ -32,8 +36,12 @@ export function add(out: Vec3, a: Readonly<Vec3>, b: Readonly<Vec3>): Vec3 {
  * @example sub([0, 0, 0], [22, 9, 1.5], [0, 0, 6]) // [22, 9, -4.5]
  */
 export function sub(out: Vec3, a: Readonly<Vec3>, b: Readonly<Vec3>): Vec3 {
-  const x = a[0] - b[0], y = a[1] - b[1], z = a[2] - b[2];
-  out[0] = x; out[1] = y; out[2] = z;
+  const x = a[0] - b[0],
+    y = a[1] - b[1],
+    z = a[2] - b[2];
+  out[0] = x;
+  out[1] = y;
+  out[2] = z;
   return out;
 }
 
@@ -42,7 +50,9 @@ export function sub(out: Vec3, a: Readonly<Vec3>, b: Readonly<Vec3>): Vec3 {
  * @example scale([0, 0, 0], [1, -2, 0.5], 2) // [2, -4, 1]
  */
 export function scale(out: Vec3, a: Readonly<Vec3>, s: number): Vec3 {
-  out[0] = a[0] * s; out[1] = a[1] * s; out[2] = a[2] * s;
+  out[0] = a[0] * s;
+  out[1] = a[1] * s;
+  out[2] = a[2] * s;
   return out;
 }
 
@@ -59,7 +69,9 @@ export function cross(out: Vec3, a: Readonly<Vec3>, b: Readonly<Vec3>): Vec3 {
   const x = a[1] * b[2] - a[2] * b[1];
   const y = a[2] * b[0] - a[0] * b[2];
   const z = a[0] * b[1] - a[1] * b[0];
-  out[0] = x; out[1] = y; out[2] = z;
+  out[0] = x;
+  out[1] = y;
+  out[2] = z;
   return out;
 }
 

@@ -47,8 +47,17 @@ export function usesSphericalWavefront(array: AntennaArray, wavefront: Wavefront
  * const out = new Float64Array(4);
  * waveResponse(out, AntennaArray.ula(2, 0.5), 'spherical', [1, 0, 0], 1, 4 * Math.PI, 1e9) // Float64Array [0.9261, -0.3772, 0.9261, -0.3772]: phase -4 pi (sqrt(1 + 0.25^2) - 1) = -0.3867 rad at both elements (plane: [1, 0, 1, 0])
  */
-export function waveResponse(out: Float64Array, array: AntennaArray, wavefront: Wavefront | undefined, u: Readonly<Vec3>, lengthM: number, k0: number, carrierHz: number): Float64Array {
-  if (usesSphericalWavefront(array, wavefront, lengthM, carrierHz) && lengthM > 0) return array.sphericalResponse(out, [u[0] * lengthM, u[1] * lengthM, u[2] * lengthM], k0);
+export function waveResponse(
+  out: Float64Array,
+  array: AntennaArray,
+  wavefront: Wavefront | undefined,
+  u: Readonly<Vec3>,
+  lengthM: number,
+  k0: number,
+  carrierHz: number,
+): Float64Array {
+  if (usesSphericalWavefront(array, wavefront, lengthM, carrierHz) && lengthM > 0)
+    return array.sphericalResponse(out, [u[0] * lengthM, u[1] * lengthM, u[2] * lengthM], k0);
   return array.response(out, u, k0);
 }
 
@@ -63,11 +72,22 @@ export function waveResponse(out: Float64Array, array: AntennaArray, wavefront: 
  * nearFieldLineOfSightProducts(out, 0, rx, tx, [1, 0, 0], 1, 4 * Math.PI);
  * out // Float64Array [0.9261, -0.3772, 0.9261, -0.3772]: each receive element sqrt(1 + 0.25^2) m from the transmitter, phase -4 pi (1.0308 - 1)
  */
-export function nearFieldLineOfSightProducts(out: Float64Array, offset: number, rx: AntennaArray, tx: AntennaArray, arrival: Readonly<Vec3>, lengthM: number, k0: number): Float64Array {
+export function nearFieldLineOfSightProducts(
+  out: Float64Array,
+  offset: number,
+  rx: AntennaArray,
+  tx: AntennaArray,
+  arrival: Readonly<Vec3>,
+  lengthM: number,
+  k0: number,
+): Float64Array {
   // The transmitter's reference point seen from the receiver's: lengthM along the arrival direction.
-  const tx0x = arrival[0] * lengthM, tx0y = arrival[1] * lengthM, tx0z = arrival[2] * lengthM;
+  const tx0x = arrival[0] * lengthM,
+    tx0y = arrival[1] * lengthM,
+    tx0z = arrival[2] * lengthM;
   const g = rx.elementAmplitude(arrival) * tx.elementAmplitude([-arrival[0], -arrival[1], -arrival[2]]);
-  const q = rx.globalOffsets, p = tx.globalOffsets;
+  const q = rx.globalOffsets,
+    p = tx.globalOffsets;
   for (let m = 0; m < rx.size; m++) {
     for (let n = 0; n < tx.size; n++) {
       const d = Math.hypot(tx0x + p[3 * n]! - q[3 * m]!, tx0y + p[3 * n + 1]! - q[3 * m + 1]!, tx0z + p[3 * n + 2]! - q[3 * m + 2]!);

@@ -55,7 +55,7 @@ describe('AntennaArray', () => {
   it('computes r_n = g exp(+j k0 dot(u, p_n)) in the global frame (docs/conventions.md)', () => {
     const a = AntennaArray.upa(2, 2, 0.01, { yawDeg: 30, pitchDeg: 10 });
     const u = unitFromDeg(50, 20);
-    const k0 = 2 * Math.PI * 28e9 / 299792458;
+    const k0 = (2 * Math.PI * 28e9) / 299792458;
     const r = a.response(new Float64Array(8), u, k0);
     for (let n = 0; n < 4; n++) {
       const p = a.globalOffsets.subarray(3 * n, 3 * n + 3);
@@ -68,7 +68,7 @@ describe('AntennaArray', () => {
 
   it('spherical response tends to the plane-wave one far away and differs near by the exact distances', () => {
     const a = AntennaArray.ula(16, 0.005, { yawDeg: 10 });
-    const k0 = 2 * Math.PI / 0.01;
+    const k0 = (2 * Math.PI) / 0.01;
     const u = unitFromDeg(25, 5);
     const plane = a.response(new Float64Array(32), u, k0);
     const far = a.sphericalResponse(new Float64Array(32), [u[0] * 1e5, u[1] * 1e5, u[2] * 1e5], k0);
@@ -88,14 +88,19 @@ describe('AntennaArray', () => {
   });
 
   it('has half-power beamwidths of a half-wavelength broadside ULA as in check-values.md (C, 1e-3 deg)', () => {
-    const expected: [number, number][] = [[8, 12.8025], [16, 6.3587], [64, 1.5864]];
+    const expected: [number, number][] = [
+      [8, 12.8025],
+      [16, 6.3587],
+      [64, 1.5864],
+    ];
     for (const [N, hpbw] of expected) {
       const a = AntennaArray.ula(N, 0.5);
       const k0 = 2 * Math.PI;
       const r0 = a.response(new Float64Array(2 * N), [1, 0, 0], k0); // broadside beam weights conj(r0)
       const gain = (deg: number): number => {
         const r = a.response(new Float64Array(2 * N), unitFromDeg(deg, 0), k0);
-        let re = 0, im = 0;
+        let re = 0,
+          im = 0;
         for (let n = 0; n < N; n++) {
           re += r0[2 * n]! * r[2 * n]! + r0[2 * n + 1]! * r[2 * n + 1]!;
           im += r0[2 * n]! * r[2 * n + 1]! - r0[2 * n + 1]! * r[2 * n]!;
@@ -105,7 +110,7 @@ describe('AntennaArray', () => {
       let lo: number, hi: number;
       // search the main lobe only: start the bracket below the first null asin(2/N)
       lo = 0;
-      hi = Math.asin(2 / N) * 180 / Math.PI;
+      hi = (Math.asin(2 / N) * 180) / Math.PI;
       for (let i = 0; i < 80; i++) {
         const mid = (lo + hi) / 2;
         if (gain(mid) > 0.5) lo = mid;

@@ -7,12 +7,24 @@ import { readObj } from '../src/scene/import/obj.js';
 import { prepareScene, type Wall } from '../src/scene/scene.js';
 import { traceScene } from '../src/scene/tracer.js';
 
-const feature = (coordinates: unknown, properties: Record<string, unknown> = { height: 12 }, type = 'Polygon') => ({ type: 'Feature', properties, geometry: { type, coordinates } });
-const square = [[[13.4, 52.5], [13.4003, 52.5], [13.4003, 52.5002], [13.4, 52.5002], [13.4, 52.5]]];
+const feature = (coordinates: unknown, properties: Record<string, unknown> = { height: 12 }, type = 'Polygon') => ({
+  type: 'Feature',
+  properties,
+  geometry: { type, coordinates },
+});
+const square = [
+  [
+    [13.4, 52.5],
+    [13.4003, 52.5],
+    [13.4003, 52.5002],
+    [13.4, 52.5002],
+    [13.4, 52.5],
+  ],
+];
 const origin = { latitudeDeg: 52.5, longitudeDeg: 13.4 };
 
 describe('WGS-84 geodetic -> ECEF -> ENU', () => {
-  it('meets the ellipsoid\'s defining values (V: NIMA TR8350.2, WGS 84, table 3.1: a = 6378137 m, b = 6356752.3142 m)', () => {
+  it("meets the ellipsoid's defining values (V: NIMA TR8350.2, WGS 84, table 3.1: a = 6378137 m, b = 6356752.3142 m)", () => {
     expect(geodeticToEcef({ latitudeDeg: 0, longitudeDeg: 0 })).toEqual([WGS84_A, 0, 0]);
     expect(geodeticToEcef({ latitudeDeg: 0, longitudeDeg: 90 })[1]).toBeCloseTo(WGS84_A, 6);
     expect(geodeticToEcef({ latitudeDeg: 90, longitudeDeg: 0 })[2]).toBeCloseTo(6356752.3142, 4);
@@ -20,7 +32,12 @@ describe('WGS-84 geodetic -> ECEF -> ENU', () => {
   });
 
   it('agrees with an independent numpy computation of the same published formulas (C: numpy, to 1 mm)', () => {
-    const pts = [[52.5, 13.4, 0, 52.5012, 13.4031, 35], [-33.86, 151.21, 20, -33.87, 151.2, 5], [0.5, -78.3, 2800, 0.49, -78.31, 2750], [78.2, 15.6, 0, 78.21, 15.7, 10]];
+    const pts = [
+      [52.5, 13.4, 0, 52.5012, 13.4031, 35],
+      [-33.86, 151.21, 20, -33.87, 151.2, 5],
+      [0.5, -78.3, 2800, 0.49, -78.31, 2750],
+      [78.2, 15.6, 0, 78.21, 15.7, 10],
+    ];
     const py = `
 import json, sys, numpy as np
 a = 6378137.0; f = 1 / 298.257223563; e2 = f * (2 - f)
@@ -43,19 +60,30 @@ print(json.dumps(out))`;
     expect(new EnuFrame({ latitudeDeg: 45, longitudeDeg: 7 }).fromGeodetic(45, 7.001, 0)[0]).toBeCloseTo(78.847, 3);
   });
 
-  it('refuses an origin outside the ellipsoid\'s coordinates', () => {
+  it("refuses an origin outside the ellipsoid's coordinates", () => {
     expect(() => new EnuFrame({ latitudeDeg: 91, longitudeDeg: 0 })).toThrow('EnuFrame(): origin.latitudeDeg must be within [-90, 90], got 91');
-    expect(() => new EnuFrame({ latitudeDeg: Number.NaN, longitudeDeg: 0 })).toThrow('EnuFrame(): origin.latitudeDeg must be a finite number of degrees, got NaN');
+    expect(() => new EnuFrame({ latitudeDeg: Number.NaN, longitudeDeg: 0 })).toThrow(
+      'EnuFrame(): origin.latitudeDeg must be a finite number of degrees, got NaN',
+    );
   });
 });
 
 describe('GeoJSON footprints', () => {
   it('extrude a footprint into one facade per edge and a flat roof, in ENU metres about the origin', () => {
-    const walls = wallsFromGeoJson({ type: 'FeatureCollection', features: [feature(square, { height: 12, kind: 'glazed' })] }, { origin, materialProperty: 'kind', materials: { glazed: 'glass' } });
+    const walls = wallsFromGeoJson(
+      { type: 'FeatureCollection', features: [feature(square, { height: 12, kind: 'glazed' })] },
+      { origin, materialProperty: 'kind', materials: { glazed: 'glass' } },
+    );
     expect(walls).toHaveLength(5);
     const enu = new EnuFrame(origin);
-    const [x1, y1] = enu.fromGeodetic(52.5, 13.4003), [x2, y2] = enu.fromGeodetic(52.5002, 13.4003);
-    expect(walls[1]!.vertices).toEqual([[x1, y1, 0], [x2, y2, 0], [x2, y2, 12], [x1, y1, 12]]);
+    const [x1, y1] = enu.fromGeodetic(52.5, 13.4003),
+      [x2, y2] = enu.fromGeodetic(52.5002, 13.4003);
+    expect(walls[1]!.vertices).toEqual([
+      [x1, y1, 0],
+      [x2, y2, 0],
+      [x2, y2, 12],
+      [x1, y1, 12],
+    ]);
     expect(walls[4]!.vertices.every((v) => v[2] === 12)).toBe(true);
     expect(walls.every((w) => w.material === 'glass')).toBe(true);
     // 0.0003 degree of longitude at 52.5 N is about 20.36 m (M: a cos(lat) dlon, spherical estimate to 0.3 %)
@@ -66,8 +94,16 @@ describe('GeoJSON footprints', () => {
   it('mix with hand-typed walls, and reflect like the same walls typed by hand (bit-identical paths)', () => {
     const imported = wallsFromGeoJson(feature(square), { origin, roofs: false });
     const typed: Wall[] = imported.map((w) => ({ vertices: w.vertices.map((v) => [v[0]!, v[1]!, v[2]!]) }));
-    const ground: Wall = { vertices: [[-50, -50, 0], [80, -50, 0], [80, 80, 0], [-50, 80, 0]] };
-    const tx = { position: [-10, 5, 5] as [number, number, number] }, rx = { position: [-10, 15, 1.5] as [number, number, number] }; // both before the west facade
+    const ground: Wall = {
+      vertices: [
+        [-50, -50, 0],
+        [80, -50, 0],
+        [80, 80, 0],
+        [-50, 80, 0],
+      ],
+    };
+    const tx = { position: [-10, 5, 5] as [number, number, number] },
+      rx = { position: [-10, 15, 1.5] as [number, number, number] }; // both before the west facade
     const a = traceScene({ walls: [...imported, ground], maxReflectionOrder: 2 }, tx, rx, 28e9).paths;
     const b = traceScene({ walls: [...typed, ground], maxReflectionOrder: 2 }, tx, rx, 28e9).paths;
     expect(a.length).toBeGreaterThan(2);
@@ -76,54 +112,151 @@ describe('GeoJSON footprints', () => {
 
   it('refuse broken input naming the file and the element', () => {
     const f = 'block.geojson';
-    const open = [[[13.4, 52.5], [13.4003, 52.5], [13.4003, 52.5002], [13.4, 52.5002]]];
-    expect(() => wallsFromGeoJson(feature(open), { origin }, f)).toThrow(new ImportError(f, 'geometry.coordinates[0]', 'the ring is not closed: first position [13.4,52.5] differs from the last [13.4,52.5002] (RFC 7946 section 3.1.6)'));
-    const nan = [[[13.4, 52.5], [13.4003, null], [13.4003, 52.5002], [13.4, 52.5]]];
+    const open = [
+      [
+        [13.4, 52.5],
+        [13.4003, 52.5],
+        [13.4003, 52.5002],
+        [13.4, 52.5002],
+      ],
+    ];
+    expect(() => wallsFromGeoJson(feature(open), { origin }, f)).toThrow(
+      new ImportError(
+        f,
+        'geometry.coordinates[0]',
+        'the ring is not closed: first position [13.4,52.5] differs from the last [13.4,52.5002] (RFC 7946 section 3.1.6)',
+      ),
+    );
+    const nan = [
+      [
+        [13.4, 52.5],
+        [13.4003, null],
+        [13.4003, 52.5002],
+        [13.4, 52.5],
+      ],
+    ];
     expect(() => wallsFromGeoJson({ type: 'FeatureCollection', features: [feature(square), feature(nan)] }, { origin }, f)).toThrow(
-      'block.geojson: features[1].geometry.coordinates[0][1]: must be a position [longitude, latitude] or [longitude, latitude, altitude] of finite numbers, got [13.4003,null]');
+      'block.geojson: features[1].geometry.coordinates[0][1]: must be a position [longitude, latitude] or [longitude, latitude, altitude] of finite numbers, got [13.4003,null]',
+    );
     expect(() => wallsFromGeoJson(feature([...square, square[0]]), { origin }, f)).toThrow('block.geojson: geometry.coordinates[1]: is a hole (inner ring)');
-    expect(() => wallsFromGeoJson(feature(square, {}), { origin }, f)).toThrow('block.geojson: properties.height: is missing: every footprint needs a height in metres (or give defaultHeightM)');
-    expect(() => wallsFromGeoJson(feature(square, { height: -3 }), { origin }, f)).toThrow('block.geojson: properties.height: must be a finite number of metres > 0, got -3');
-    const line = [[[13.4, 52.5], [13.4003, 52.5], [13.4, 52.5], [13.4, 52.5]]]; // there and back: no area
+    expect(() => wallsFromGeoJson(feature(square, {}), { origin }, f)).toThrow(
+      'block.geojson: properties.height: is missing: every footprint needs a height in metres (or give defaultHeightM)',
+    );
+    expect(() => wallsFromGeoJson(feature(square, { height: -3 }), { origin }, f)).toThrow(
+      'block.geojson: properties.height: must be a finite number of metres > 0, got -3',
+    );
+    const line = [
+      [
+        [13.4, 52.5],
+        [13.4003, 52.5],
+        [13.4, 52.5],
+        [13.4, 52.5],
+      ],
+    ]; // there and back: no area
     expect(() => wallsFromGeoJson(feature(line), { origin }, f)).toThrow('block.geojson: geometry.coordinates[0]: the ring encloses no area');
     expect(() => wallsFromGeoJson('v 0 0 0\nf 1 2 3', { origin }, 'hall.obj')).toThrow(/^hall\.obj: is not JSON .*a GeoJSON file \(RFC 7946\) was expected$/s);
-    expect(() => wallsFromGeoJson({ type: 'Topology' }, { origin }, f)).toThrow('block.geojson: type: must be "FeatureCollection" or "Feature" (GeoJSON, RFC 7946), got "Topology"');
-    expect(() => wallsFromGeoJson(feature([13.4, 52.5], { height: 3 }, 'Point'), { origin }, f)).toThrow('block.geojson: geometry.type: must be "Polygon" or "MultiPolygon" (a building footprint), got "Point"');
-    expect(() => wallsFromGeoJson(feature(square, { height: 3, m: 'cheese' }), { origin, materialProperty: 'm' }, f)).toThrow('block.geojson: properties.m: "cheese" is neither a key of the materials mapping nor one of concrete, glass, wood, plasterboard, brick, metal');
+    expect(() => wallsFromGeoJson({ type: 'Topology' }, { origin }, f)).toThrow(
+      'block.geojson: type: must be "FeatureCollection" or "Feature" (GeoJSON, RFC 7946), got "Topology"',
+    );
+    expect(() => wallsFromGeoJson(feature([13.4, 52.5], { height: 3 }, 'Point'), { origin }, f)).toThrow(
+      'block.geojson: geometry.type: must be "Polygon" or "MultiPolygon" (a building footprint), got "Point"',
+    );
+    expect(() => wallsFromGeoJson(feature(square, { height: 3, m: 'cheese' }), { origin, materialProperty: 'm' }, f)).toThrow(
+      'block.geojson: properties.m: "cheese" is neither a key of the materials mapping nor one of concrete, glass, wood, plasterboard, brick, metal',
+    );
   });
 });
 
 describe('OBJ meshes', () => {
-  const box = ['# a 4 x 3 m wall pair', 'o hall', 'v 0 0 0', 'v 4 0 0', 'v 4 0 3', 'v 0 0 3', 'v 0 6 0', 'v 4 6 0', 'v 4 6 3', 'v 0 6 3', 'usemtl glazing', 'f 1 2 3 4', 'usemtl plaster', 'f 5/1/1 6/2/1 7/3/1', 'f -4 -2 -1'].join('\n');
+  const box = [
+    '# a 4 x 3 m wall pair',
+    'o hall',
+    'v 0 0 0',
+    'v 4 0 0',
+    'v 4 0 3',
+    'v 0 0 3',
+    'v 0 6 0',
+    'v 4 6 0',
+    'v 4 6 3',
+    'v 0 6 3',
+    'usemtl glazing',
+    'f 1 2 3 4',
+    'usemtl plaster',
+    'f 5/1/1 6/2/1 7/3/1',
+    'f -4 -2 -1',
+  ].join('\n');
   it('become one wall per triangle, materials by group, unit and up axis applied', () => {
     const mesh = readObj(box, 'hall.obj');
     expect(mesh.indices).toEqual([0, 1, 2, 0, 2, 3, 4, 5, 6, 4, 6, 7]);
-    expect(mesh.groups).toEqual([{ name: 'glazing', firstTriangle: 0, triangles: 2 }, { name: 'plaster', firstTriangle: 2, triangles: 2 }]);
+    expect(mesh.groups).toEqual([
+      { name: 'glazing', firstTriangle: 0, triangles: 2 },
+      { name: 'plaster', firstTriangle: 2, triangles: 2 },
+    ]);
     const walls = wallsFromMesh(mesh, { materials: { glazing: 'glass', plaster: 'plasterboard' } }, 'hall.obj');
     expect(walls.map((w) => w.material)).toEqual(['glass', 'glass', 'plasterboard', 'plasterboard']);
     const yUp = wallsFromMesh(mesh, { unit: 'cm', upAxis: 'y' });
-    expect(yUp[0]!.vertices).toEqual([[0, 0, 0], [0.04, 0, 0], [0.04, -0.03, 0]]); // file z = 0, 3 m -> scene y = 0, -0.03 m
+    expect(yUp[0]!.vertices).toEqual([
+      [0, 0, 0],
+      [0.04, 0, 0],
+      [0.04, -0.03, 0],
+    ]); // file z = 0, 3 m -> scene y = 0, -0.03 m
   });
 
   it('reflect exactly like the same triangles typed by hand (bit-identical paths)', () => {
     const walls = wallsFromMesh(readObj(box));
     const typed: Wall[] = [
-      { vertices: [[0, 0, 0], [4, 0, 0], [4, 0, 3]] }, { vertices: [[0, 0, 0], [4, 0, 3], [0, 0, 3]] },
-      { vertices: [[0, 6, 0], [4, 6, 0], [4, 6, 3]] }, { vertices: [[0, 6, 0], [4, 6, 3], [0, 6, 3]] },
+      {
+        vertices: [
+          [0, 0, 0],
+          [4, 0, 0],
+          [4, 0, 3],
+        ],
+      },
+      {
+        vertices: [
+          [0, 0, 0],
+          [4, 0, 3],
+          [0, 0, 3],
+        ],
+      },
+      {
+        vertices: [
+          [0, 6, 0],
+          [4, 6, 0],
+          [4, 6, 3],
+        ],
+      },
+      {
+        vertices: [
+          [0, 6, 0],
+          [4, 6, 3],
+          [0, 6, 3],
+        ],
+      },
     ];
-    const tx = { position: [1, 2, 1.5] as [number, number, number] }, rx = { position: [3, 4, 1.2] as [number, number, number] };
-    const a = traceScene({ walls, maxReflectionOrder: 3 }, tx, rx, 28e9).paths, b = traceScene({ walls: typed, maxReflectionOrder: 3 }, tx, rx, 28e9).paths;
+    const tx = { position: [1, 2, 1.5] as [number, number, number] },
+      rx = { position: [3, 4, 1.2] as [number, number, number] };
+    const a = traceScene({ walls, maxReflectionOrder: 3 }, tx, rx, 28e9).paths,
+      b = traceScene({ walls: typed, maxReflectionOrder: 3 }, tx, rx, 28e9).paths;
     expect(a.filter((p) => p.kind === 'reflection').length).toBeGreaterThan(3);
     expect(a).toEqual(b);
   });
 
   it('refuse NaN vertices, bad face indices, degenerate triangles and files of another format', () => {
-    expect(() => readObj('v 0 nan 0\nv 1 0 0\nv 0 1 0\nf 1 2 3', 'a.obj')).toThrow('a.obj: line 1: vertex 1 has a coordinate that is not a finite number: "nan"');
+    expect(() => readObj('v 0 nan 0\nv 1 0 0\nv 0 1 0\nf 1 2 3', 'a.obj')).toThrow(
+      'a.obj: line 1: vertex 1 has a coordinate that is not a finite number: "nan"',
+    );
     expect(() => readObj('v 0 0 0\nv 1 0 0\nf 1 2 3', 'a.obj')).toThrow('a.obj: line 3: face vertex "3" refers to no vertex read so far (1..2 or -1..-2)');
-    expect(() => wallsFromMesh(readObj('v 0 0 0\nv 1 0 0\nv 2 0 0\nf 1 2 3'), {}, 'a.obj')).toThrow('a.obj: triangle 0: is degenerate (vertices 0, 1, 2 collinear or coinciding, area 0.00 m^2): remove it from the mesh');
-    expect(() => readObj('ply\nformat ascii 1.0\nelement vertex 3\nend_header\n0 0 0\n', 'a.ply')).toThrow('a.ply: line 5: is not an OBJ statement ("0 0 0"): is this an OBJ file?');
+    expect(() => wallsFromMesh(readObj('v 0 0 0\nv 1 0 0\nv 2 0 0\nf 1 2 3'), {}, 'a.obj')).toThrow(
+      'a.obj: triangle 0: is degenerate (vertices 0, 1, 2 collinear or coinciding, area 0.00 m^2): remove it from the mesh',
+    );
+    expect(() => readObj('ply\nformat ascii 1.0\nelement vertex 3\nend_header\n0 0 0\n', 'a.ply')).toThrow(
+      'a.ply: line 5: is not an OBJ statement ("0 0 0"): is this an OBJ file?',
+    );
     expect(() => readObj('{"type": "FeatureCollection"}', 'b.geojson')).toThrow('b.geojson: line 1: is not an OBJ statement');
     expect(() => readObj('# nothing\nmtllib x.mtl\n', 'c.obj')).toThrow('c.obj: has no vertex ("v") or no face ("f") statement: not a Wavefront OBJ mesh');
-    expect(() => wallsFromMesh({ positions: [0, 0, 0, 1, Infinity, 0, 0, 1, 0] }, {}, 'd.ply')).toThrow('d.ply: vertex 1: has a coordinate that is not a finite number (Infinity)');
+    expect(() => wallsFromMesh({ positions: [0, 0, 0, 1, Infinity, 0, 0, 1, 0] }, {}, 'd.ply')).toThrow(
+      'd.ply: vertex 1: has a coordinate that is not a finite number (Infinity)',
+    );
   });
 });

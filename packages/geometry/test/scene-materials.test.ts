@@ -1,8 +1,22 @@
 import { describe, expect, it } from 'vitest';
 import {
-  brewsterAngle, cabs, fresnel, fresnelCos, knifeEdgeLossDb, fresnelParameter, p2040Permittivity, P2040_MATERIALS,
-  reflectField, resolveSurface, surfaceCoefficients, gasAmplitudeFactor, polarizationVectorLocal, terminalFieldVector,
-  directionBasis, rotationFromOrientation, identity,
+  brewsterAngle,
+  cabs,
+  fresnel,
+  fresnelCos,
+  knifeEdgeLossDb,
+  fresnelParameter,
+  p2040Permittivity,
+  P2040_MATERIALS,
+  reflectField,
+  resolveSurface,
+  surfaceCoefficients,
+  gasAmplitudeFactor,
+  polarizationVectorLocal,
+  terminalFieldVector,
+  directionBasis,
+  rotationFromOrientation,
+  identity,
 } from '../src/index.js';
 
 const DEG = Math.PI / 180;
@@ -167,11 +181,17 @@ describe('gas absorption and polarisation vectors', () => {
   });
 
   it('builds an orthonormal (theta, phi) basis transverse to u', () => {
-    for (const u of [[1, 0, 0], [0.3, -0.5, 0.81], [0, 0, 1], [-0.6, 0, -0.8]] as [number, number, number][]) {
+    for (const u of [
+      [1, 0, 0],
+      [0.3, -0.5, 0.81],
+      [0, 0, 1],
+      [-0.6, 0, -0.8],
+    ] as [number, number, number][]) {
       const n = Math.hypot(...u);
       const v = u.map((x) => x / n) as [number, number, number];
       const b = directionBasis(new Float64Array(6), v);
-      const t = [b[0]!, b[1]!, b[2]!], p = [b[3]!, b[4]!, b[5]!];
+      const t = [b[0]!, b[1]!, b[2]!],
+        p = [b[3]!, b[4]!, b[5]!];
       const dot = (a: number[], c: number[]): number => a[0]! * c[0]! + a[1]! * c[1]! + a[2]! * c[2]!;
       expect(dot(t, t)).toBeCloseTo(1, 14);
       expect(dot(p, p)).toBeCloseTo(1, 14);

@@ -12,7 +12,9 @@ import { streetGrid } from '../../../bench/scenes.mjs';
 // beam, occlusion and hierarchy pruning. The pruned tracer must return exactly the same
 // sequences and bit-identical reflection points.
 function exhaustive(ps: PreparedScene, tx: Vec3, rx: Vec3, maxOrder: number): string[] {
-  const W = ps.wallCount, pl = ps.planes, out: string[] = [];
+  const W = ps.wallCount,
+    pl = ps.planes,
+    out: string[] = [];
   const val = (w: number, p: Vec3): number => pl[4 * w]! * p[0] + pl[4 * w + 1]! * p[1] + pl[4 * w + 2]! * p[2] - pl[4 * w + 3]!;
   const blocked = (a: Vec3, b: Vec3, s1: number, s2: number): boolean => {
     for (let w = 0; w < W; w++) if (w !== s1 && w !== s2 && ps.segmentCrossesWall(w, a[0], a[1], a[2], b[0], b[1], b[2])) return true;
@@ -21,15 +23,25 @@ function exhaustive(ps: PreparedScene, tx: Vec3, rx: Vec3, maxOrder: number): st
   const visit = (seq: number[], images: Vec3[]): void => {
     const K = seq.length;
     const pts: Vec3[] = new Array<Vec3>(K);
-    let q: Vec3 = rx, ok = true;
+    let q: Vec3 = rx,
+      ok = true;
     for (let k = K; k >= 1 && ok; k--) {
-      const w = seq[k - 1]!, I = images[k]!;
-      const fq = val(w, q), fi = val(w, I);
-      if (!((fq > 0 && fi < 0) || (fq < 0 && fi > 0))) { ok = false; break; }
+      const w = seq[k - 1]!,
+        I = images[k]!;
+      const fq = val(w, q),
+        fi = val(w, I);
+      if (!((fq > 0 && fi < 0) || (fq < 0 && fi > 0))) {
+        ok = false;
+        break;
+      }
       const s = fq / (fq - fi);
       const p: Vec3 = [q[0] + s * (I[0] - q[0]), q[1] + s * (I[1] - q[1]), q[2] + s * (I[2] - q[2])];
-      if (!ps.insideWall(w, p[0], p[1], p[2], 1e-9)) { ok = false; break; }
-      pts[k - 1] = p; q = p;
+      if (!ps.insideWall(w, p[0], p[1], p[2], 1e-9)) {
+        ok = false;
+        break;
+      }
+      pts[k - 1] = p;
+      q = p;
     }
     if (ok) {
       const chain = [tx, ...pts, rx];
@@ -58,7 +70,10 @@ function pruned(ps: PreparedScene, tx: Vec3, rx: Vec3, order: number): string[] 
 
 function rng(seed: number): () => number {
   let s = seed >>> 0;
-  return () => { s = (Math.imul(s, 1664525) + 1013904223) >>> 0; return s / 2 ** 32; };
+  return () => {
+    s = (Math.imul(s, 1664525) + 1013904223) >>> 0;
+    return s / 2 ** 32;
+  };
 }
 
 describe('pruned image method equals the exhaustive one', () => {
@@ -67,7 +82,8 @@ describe('pruned image method equals the exhaustive one', () => {
     const ps = prepareScene(g.scene);
     let total = 0;
     for (let q = 0; q < 3; q++) {
-      const tx: Vec3 = [48 + 7 * q, 36, 6], rx: Vec3 = [36, 61 - 9 * q, 1.5];
+      const tx: Vec3 = [48 + 7 * q, 36, 6],
+        rx: Vec3 = [36, 61 - 9 * q, 1.5];
       const want = exhaustive(ps, tx, rx, 3);
       expect(pruned(ps, tx, rx, 3)).toEqual(want);
       total += want.length;
@@ -79,17 +95,54 @@ describe('pruned image method equals the exhaustive one', () => {
     const r = rng(17);
     let total = 0;
     for (let q = 0; q < 4; q++) {
-      const w2: Wall[] = [], w3: Wall[] = [];
+      const w2: Wall[] = [],
+        w3: Wall[] = [];
       for (let i = 0; i < 40; i++) {
-        const x = 40 * r() - 20, y = 40 * r() - 20, t = Math.PI * r(), L = 2 + 10 * r(), z = 3 * r(), h = 1 + 5 * r();
-        const x2 = x + L * Math.cos(t), y2 = y + L * Math.sin(t);
-        w2.push({ vertices: [[x, y], [x2, y2]] });
-        w3.push({ vertices: i % 2 ? [[x, y, z], [x2, y2, z], [x2, y2, z + h], [x, y, z + h]] : [[x, y, z], [x2, y2, z], [x2, y2, z + h]] });
+        const x = 40 * r() - 20,
+          y = 40 * r() - 20,
+          t = Math.PI * r(),
+          L = 2 + 10 * r(),
+          z = 3 * r(),
+          h = 1 + 5 * r();
+        const x2 = x + L * Math.cos(t),
+          y2 = y + L * Math.sin(t);
+        w2.push({
+          vertices: [
+            [x, y],
+            [x2, y2],
+          ],
+        });
+        w3.push({
+          vertices:
+            i % 2
+              ? [
+                  [x, y, z],
+                  [x2, y2, z],
+                  [x2, y2, z + h],
+                  [x, y, z + h],
+                ]
+              : [
+                  [x, y, z],
+                  [x2, y2, z],
+                  [x2, y2, z + h],
+                ],
+        });
       }
-      w3.push({ vertices: [[-30, -30, 0], [30, -30, 0], [30, 30, 0], [-30, 30, 0]] });
-      for (const [walls, z] of [[w2, 0], [w3, 1.5]] as const) {
+      w3.push({
+        vertices: [
+          [-30, -30, 0],
+          [30, -30, 0],
+          [30, 30, 0],
+          [-30, 30, 0],
+        ],
+      });
+      for (const [walls, z] of [
+        [w2, 0],
+        [w3, 1.5],
+      ] as const) {
         const ps = prepareScene({ walls });
-        const tx: Vec3 = [10 * r(), 10 * r(), z], rx: Vec3 = [10 * r() - 10, 10 * r(), z === 0 ? 0 : 1 + r()];
+        const tx: Vec3 = [10 * r(), 10 * r(), z],
+          rx: Vec3 = [10 * r() - 10, 10 * r(), z === 0 ? 0 : 1 + r()];
         const want = exhaustive(ps, tx, rx, 3);
         expect(pruned(ps, tx, rx, 3)).toEqual(want);
         total += want.length;
@@ -103,16 +156,39 @@ describe('pruned image method equals the exhaustive one', () => {
     const ps = prepareScene({ walls: room.scene.walls, maxReflectionOrder: 2 });
     const want = exhaustive(ps, [2, 5, 2.5], [17, 7, 1.5], 2);
     expect(pruned(ps, [2, 5, 2.5], [17, 7, 1.5], 2)).toEqual(want);
-    const ids = traceScene(ps, { position: [2, 5, 2.5] }, { position: [17, 7, 1.5] }, 28e9).paths.filter((p) => p.kind === 'reflection').map((p) => p.interactions.map((i) => i.object.index));
+    const ids = traceScene(ps, { position: [2, 5, 2.5] }, { position: [17, 7, 1.5] }, 28e9)
+      .paths.filter((p) => p.kind === 'reflection')
+      .map((p) => p.interactions.map((i) => i.object.index));
     expect(ids.map((s) => JSON.stringify(s)).sort()).toEqual(want.map((s) => JSON.stringify(JSON.parse(s)[0])).sort());
   });
 });
 
 describe('Occlusion', () => {
   const screen: Wall[] = [
-    { vertices: [[0, -1, -1], [0, 1, -1], [0, 1, 1], [0, -1, 1]] },
-    { vertices: [[5, -9, -9], [5, 9, -9], [5, 9, 9], [5, -9, 9]] },
-    { vertices: [[10, -1, -1], [10, 1, -1], [10, 1, 1], [10, -1, 1]] },
+    {
+      vertices: [
+        [0, -1, -1],
+        [0, 1, -1],
+        [0, 1, 1],
+        [0, -1, 1],
+      ],
+    },
+    {
+      vertices: [
+        [5, -9, -9],
+        [5, 9, -9],
+        [5, 9, 9],
+        [5, -9, 9],
+      ],
+    },
+    {
+      vertices: [
+        [10, -1, -1],
+        [10, 1, -1],
+        [10, 1, 1],
+        [10, -1, 1],
+      ],
+    },
   ];
   it('a large screen hides a small wall from a point and from another wall behind it, not from the front', () => {
     const occ = new Occlusion(prepareScene({ walls: screen }));
@@ -125,7 +201,15 @@ describe('Occlusion', () => {
   it('a point whose rays pass beside the screen, or a screen not convex, hides nothing', () => {
     const occ = new Occlusion(prepareScene({ walls: screen }));
     expect(occ.wallHiddenFromPoint(0, 10, 40, 0)).toBe(false); // from far aside the rays pass the screen's edge
-    const notch: Wall = { vertices: [[5, -9, -9], [5, 9, -9], [5, 9, 9], [5, 0, 0.5], [5, -9, 9]] }; // a concave outline
+    const notch: Wall = {
+      vertices: [
+        [5, -9, -9],
+        [5, 9, -9],
+        [5, 9, 9],
+        [5, 0, 0.5],
+        [5, -9, 9],
+      ],
+    }; // a concave outline
     const occ2 = new Occlusion(prepareScene({ walls: [screen[0]!, notch, screen[2]!] }));
     expect(occ2.wallHiddenFromPoint(0, 10, 0, 0)).toBe(false);
   });

@@ -73,7 +73,8 @@ describe('near-field line of sight (element-pair distances)', () => {
     const d0 = 0.3;
     const out = nearFieldLineOfSightProducts(new Float64Array(2 * rx.size * tx.size), 0, rx, tx, arrival, d0, k0);
     const g = rx.elementAmplitude(arrival) * tx.elementAmplitude([0.8, -0.6, 0]);
-    const q = rx.globalOffsets, p = tx.globalOffsets;
+    const q = rx.globalOffsets,
+      p = tx.globalOffsets;
     for (let m = 0; m < rx.size; m++) {
       for (let n = 0; n < tx.size; n++) {
         const d = Math.hypot(arrival[0] * d0 + p[3 * n]! - q[3 * m]!, arrival[1] * d0 + p[3 * n + 1]! - q[3 * m + 1]!, p[3 * n + 2]! - q[3 * m + 2]!);

@@ -81,7 +81,10 @@ print(json.dumps(out))
 `;
 
 interface Read {
-  datasets: Record<string, { dtype: string; shape: number[]; values: unknown[]; units: string; unitsType: string; chunks: number[] | null; compression: string | null }>;
+  datasets: Record<
+    string,
+    { dtype: string; shape: number[]; values: unknown[]; units: string; unitsType: string; chunks: number[] | null; compression: string | null }
+  >;
   attrs: Record<string, { type: string; value: string }>;
 }
 
@@ -100,7 +103,19 @@ describe.runIf(hasPython('h5py', 'numpy'))('HDF5 read by h5py on HDF5 1.10 (refe
     expect(bytes).toBe(readFileSync(path).length);
     const got = pythonJson<Read>(READ_ALL, [path]);
     expect(Object.keys(got.datasets).sort()).toEqual(
-      ['H', 'frequenciesHz', 'gains', 'paths/aodDeg', 'paths/delayS', 'paths/kind', 'paths/order', 'paths/visible', 'subframeTimesS', 'truth/empty', 'truth/id'].sort(),
+      [
+        'H',
+        'frequenciesHz',
+        'gains',
+        'paths/aodDeg',
+        'paths/delayS',
+        'paths/kind',
+        'paths/order',
+        'paths/visible',
+        'subframeTimesS',
+        'truth/empty',
+        'truth/id',
+      ].sort(),
     );
     // The r/i compound is read by h5py as complex (h5py docs, "complex numbers", M).
     const H = got.datasets.H;
@@ -159,7 +174,13 @@ describe.runIf(hasPython('h5py', 'numpy'))('HDF5 read by h5py on HDF5 1.10 (refe
       `import json,sys,h5py; d=h5py.File(sys.argv[1])['H']; a=d[()]; print(json.dumps({'chunks': d.chunks, 'values': [[float(x.real), float(x.imag)] for x in a.ravel()]}))`,
       [path],
     );
-    expect(got).toEqual({ chunks: [2, 1], values: [[1, 0], [0, 1]] });
+    expect(got).toEqual({
+      chunks: [2, 1],
+      values: [
+        [1, 0],
+        [0, 1],
+      ],
+    });
   });
 
   it('pieces of whole rows (maxWriteBytes smaller than a block) give the same data', async () => {

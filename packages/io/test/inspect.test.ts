@@ -18,11 +18,21 @@ describe('complexSingularValues (real embedding [[Re, -Im], [Im, Re]])', () => {
   it.runIf(hasPython('numpy'))('equals numpy.linalg.svd of the complex matrix over a sweep of shapes (C, 1e-12 relative)', () => {
     const rng = new RandomStream(7, 'inspect-test');
     const cases: { Nr: number; Nt: number; data: number[] }[] = [];
-    for (const [Nr, Nt] of [[1, 1], [1, 4], [4, 1], [2, 2], [3, 5], [4, 32], [8, 16], [16, 8]] as const) {
+    for (const [Nr, Nt] of [
+      [1, 1],
+      [1, 4],
+      [4, 1],
+      [2, 2],
+      [3, 5],
+      [4, 32],
+      [8, 16],
+      [16, 8],
+    ] as const) {
       cases.push({ Nr, Nt, data: Array.from({ length: 2 * Nr * Nt }, () => rng.nextNormal()) });
     }
     // A rank-1 matrix (outer product): one non-zero singular value.
-    const u = [1, 0.5, -2, 0.25], v = [0.3, -1, 2, 1, -0.5, 0.7];
+    const u = [1, 0.5, -2, 0.25],
+      v = [0.3, -1, 2, 1, -0.5, 0.7];
     cases.push({ Nr: 2, Nt: 3, data: Array.from({ length: 12 }, (_, i) => (i % 2 === 0 ? u[Math.floor(i / 6) * 2]! * v[(Math.floor(i / 2) % 3) * 2]! : 0)) });
     const ref = pythonJson<number[][]>(
       `import sys, json, numpy as np
@@ -58,7 +68,11 @@ describe('sampling and spread', () => {
 
   it.runIf(hasPython('numpy'))('spreadOf: median as numpy.median (C)', () => {
     const sets = [[3, 1, 2], [4, 1, 3, 2], [5], [1e-3, 7, -2, 9, 9, 0.5]];
-    const ref = pythonJson<number[]>(`import json, sys, numpy as np\nprint(json.dumps([float(np.median(s)) for s in json.loads(sys.stdin.read())]))`, [], JSON.stringify(sets));
+    const ref = pythonJson<number[]>(
+      `import json, sys, numpy as np\nprint(json.dumps([float(np.median(s)) for s in json.loads(sys.stdin.read())]))`,
+      [],
+      JSON.stringify(sets),
+    );
     sets.forEach((s, i) => expect(spreadOf(s)).toEqual({ min: Math.min(...s), median: ref[i], max: Math.max(...s) }));
   });
 });
@@ -70,16 +84,23 @@ describe('inspectFile on generated files', () => {
   const text = JSON.stringify(raw);
   const scenario = parseScenarioText(text).scenario;
 
-  it.runIf(hasPython('numpy')).each(['npy', 'npz', 'h5'] as const)('.%s: mean power and conditioning equal numpy on the sampled matrices (C)', async (format) => {
-    const dir = tempDir();
-    const out = join(dir, `run.${format}`);
-    await generate(scenario, text, { out, format, workers: 1 });
-    const { data, text: summary } = await inspectFile(out, { subframeSamples: 5, binSamples: 3 });
-    const c = data.conditioning as { subframes: number[]; bins: number[]; conditionNumber: { min: number; median: number; max: number }; rank: { min: number; max: number } };
-    expect(c.subframes).toEqual([0, 7, 15, 22, 29]);
-    expect(c.bins).toEqual([0, 8, 15]);
-    const ref = pythonJson<{ mean: number; cond: number[]; rank: number[] }>(
-      `import sys, json, numpy as np
+  it.runIf(hasPython('numpy')).each(['npy', 'npz', 'h5'] as const)(
+    '.%s: mean power and conditioning equal numpy on the sampled matrices (C)',
+    async (format) => {
+      const dir = tempDir();
+      const out = join(dir, `run.${format}`);
+      await generate(scenario, text, { out, format, workers: 1 });
+      const { data, text: summary } = await inspectFile(out, { subframeSamples: 5, binSamples: 3 });
+      const c = data.conditioning as {
+        subframes: number[];
+        bins: number[];
+        conditionNumber: { min: number; median: number; max: number };
+        rank: { min: number; max: number };
+      };
+      expect(c.subframes).toEqual([0, 7, 15, 22, 29]);
+      expect(c.bins).toEqual([0, 8, 15]);
+      const ref = pythonJson<{ mean: number; cond: number[]; rank: number[] }>(
+        `import sys, json, numpy as np
 p, fmt = sys.argv[1], sys.argv[2]
 H = np.load(p) if fmt == 'npy' else (np.load(p)['H'] if fmt == 'npz' else None)
 if H is None:
@@ -91,18 +112,19 @@ mats = [M[s, b].astype(np.complex128) for s in subs for b in bins]
 print(json.dumps({'mean': float(np.mean(np.abs(H.astype(np.complex128)) ** 2)),
   'cond': [float(np.linalg.cond(m)) for m in mats],
   'rank': [int(np.linalg.matrix_rank(m, tol=np.linalg.svd(m, compute_uv=False).max() * max(m.shape) * np.finfo(np.float32).eps)) for m in mats]}))`,
-      [out, format, JSON.stringify(c.subframes), JSON.stringify(c.bins)],
-    );
-    expect(Math.abs((data.meanPower as number) - ref.mean)).toBeLessThanOrEqual(1e-12 * ref.mean);
-    const cond = spreadOf(ref.cond);
-    for (const k of ['min', 'median', 'max'] as const) expect(Math.abs(c.conditionNumber[k] - cond[k])).toBeLessThanOrEqual(1e-9 * cond[k]);
-    expect(c.rank).toEqual(spreadOf(ref.rank));
-    // The text names the arrays, the scenario and the paths.
-    expect(summary).toContain('street-corner-28ghz: 28.000 GHz, 30 subframes of 1 ms');
-    expect(summary).toMatch(/H\s+complex64\s+\[30, 16, 4, 32\]/);
-    expect(summary).toMatch(/los\s+los\s+80\.696\s+-89\.07/);
-    expect(summary).toContain('whose singular values are those of H, each twice');
-  });
+        [out, format, JSON.stringify(c.subframes), JSON.stringify(c.bins)],
+      );
+      expect(Math.abs((data.meanPower as number) - ref.mean)).toBeLessThanOrEqual(1e-12 * ref.mean);
+      const cond = spreadOf(ref.cond);
+      for (const k of ['min', 'median', 'max'] as const) expect(Math.abs(c.conditionNumber[k] - cond[k])).toBeLessThanOrEqual(1e-9 * cond[k]);
+      expect(c.rank).toEqual(spreadOf(ref.rank));
+      // The text names the arrays, the scenario and the paths.
+      expect(summary).toContain('street-corner-28ghz: 28.000 GHz, 30 subframes of 1 ms');
+      expect(summary).toMatch(/H\s+complex64\s+\[30, 16, 4, 32\]/);
+      expect(summary).toMatch(/los\s+los\s+80\.696\s+-89\.07/);
+      expect(summary).toContain('whose singular values are those of H, each twice');
+    },
+  );
 
   it('refuses a file that is not one pathweave writes', async () => {
     const dir = tempDir();

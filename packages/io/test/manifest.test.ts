@@ -6,7 +6,18 @@
 import { writeFileSync, truncateSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { canonicalJson, fileSha256, manifestOf, manifestPathOf, partPath, readManifest, scenarioSha256, tensorSha256OfFile, verifyPart, writeManifest } from '../src/dataset/manifest.js';
+import {
+  canonicalJson,
+  fileSha256,
+  manifestOf,
+  manifestPathOf,
+  partPath,
+  readManifest,
+  scenarioSha256,
+  tensorSha256OfFile,
+  verifyPart,
+  writeManifest,
+} from '../src/dataset/manifest.js';
 import { NpySink } from '../src/formats/npy.js';
 import { openHdf5Sink } from '../src/formats/hdf5.js';
 import { hasPython, python } from '../../../test/support/python.js';
@@ -40,30 +51,59 @@ async function writeTensorFile(dir: string, format: 'npy' | 'h5'): Promise<{ pat
 }
 
 describe('checksums and verification', () => {
-  it.runIf(hasPython('numpy', 'h5py')).each(['npy', 'h5'] as const)('tensorSha256OfFile (.%s) equals hashlib.sha256 of numpy/h5py tobytes (C)', async (format) => {
-    const { path } = await writeTensorFile(tempDir(), format);
-    const ref = python(
-      `import sys, hashlib, numpy as np
+  it.runIf(hasPython('numpy', 'h5py')).each(['npy', 'h5'] as const)(
+    'tensorSha256OfFile (.%s) equals hashlib.sha256 of numpy/h5py tobytes (C)',
+    async (format) => {
+      const { path } = await writeTensorFile(tempDir(), format);
+      const ref = python(
+        `import sys, hashlib, numpy as np
 p = sys.argv[1]
 a = np.load(p) if p.endswith('.npy') else __import__('h5py').File(p, 'r')['H'][()]
 print(hashlib.sha256(np.ascontiguousarray(a).tobytes()).hexdigest())`,
-      [path],
-    ).trim();
-    expect(await tensorSha256OfFile(path)).toEqual({ sha256: ref, bytes: 5 * 3 * 2 * 2 * 8 });
-  });
+        [path],
+      ).trim();
+      expect(await tensorSha256OfFile(path)).toEqual({ sha256: ref, bytes: 5 * 3 * 2 * 2 * 8 });
+    },
+  );
 
   it('verifyPart: ok, then each reason', async () => {
     const dir = tempDir();
     const { path } = await writeTensorFile(dir, 'npy');
     const { sha256 } = await tensorSha256OfFile(path);
-    const m = manifestOf({ index: 0, count: 1, range: [0, 5], subframesTotal: 5, partFile: path, fileBytes: statSync(path).size, fileSha256: await fileSha256(path), format: 'npy', tensorName: 'H', dtype: 'complex64', shape: [5, 3, 2, 2], sha256, scenarioText: '{"a":1}', seed: 1, pathweaveVersion: '0', kernel: 'js' });
+    const m = manifestOf({
+      index: 0,
+      count: 1,
+      range: [0, 5],
+      subframesTotal: 5,
+      partFile: path,
+      fileBytes: statSync(path).size,
+      fileSha256: await fileSha256(path),
+      format: 'npy',
+      tensorName: 'H',
+      dtype: 'complex64',
+      shape: [5, 3, 2, 2],
+      sha256,
+      scenarioText: '{"a":1}',
+      seed: 1,
+      pathweaveVersion: '0',
+      kernel: 'js',
+    });
     await writeManifest(path, m);
     expect(await readManifest(manifestPathOf(path))).toEqual(m);
     expect(await verifyPart(path, m)).toEqual({ ok: true });
-    expect(await verifyPart(path, { ...m, tensor: { ...m.tensor, sha256: '0'.repeat(64) } })).toEqual({ ok: false, reason: `${path}: tensor sha256 ${sha256} differs from the manifest's ${'0'.repeat(64)}` });
+    expect(await verifyPart(path, { ...m, tensor: { ...m.tensor, sha256: '0'.repeat(64) } })).toEqual({
+      ok: false,
+      reason: `${path}: tensor sha256 ${sha256} differs from the manifest's ${'0'.repeat(64)}`,
+    });
     // The whole file's sha256 (manifest version 2) covers what the tensor's does not.
-    expect(await verifyPart(path, { ...m, fileSha256: '1'.repeat(64) })).toEqual({ ok: false, reason: `${path}: file sha256 ${m.fileSha256} differs from the manifest's ${'1'.repeat(64)} (an array or attribute was changed after it was written)` });
-    expect(await verifyPart(path, { ...m, fileBytes: m.fileBytes + 1 })).toEqual({ ok: false, reason: `${path} is ${m.fileBytes} bytes, the manifest says ${m.fileBytes + 1}` });
+    expect(await verifyPart(path, { ...m, fileSha256: '1'.repeat(64) })).toEqual({
+      ok: false,
+      reason: `${path}: file sha256 ${m.fileSha256} differs from the manifest's ${'1'.repeat(64)} (an array or attribute was changed after it was written)`,
+    });
+    expect(await verifyPart(path, { ...m, fileBytes: m.fileBytes + 1 })).toEqual({
+      ok: false,
+      reason: `${path} is ${m.fileBytes} bytes, the manifest says ${m.fileBytes + 1}`,
+    });
     expect(await verifyPart(join(dir, 'other.npy'), m)).toEqual({ ok: false, reason: 'the manifest names t.npy, not other.npy' });
     truncateSync(path, m.fileBytes - 8);
     expect((await verifyPart(path, { ...m, fileBytes: m.fileBytes - 8 })).ok).toBe(false);

@@ -48,7 +48,14 @@ describe('NPY header (NPY format specification, numpy.lib.format)', () => {
       for (const v2 of [false, true]) {
         const file = join(dir, `a${i}-${v2 ? 2 : 1}.npy`);
         writeFileSync(file, encodeNpy(s, { forceVersion2: v2 }));
-        files.push({ file, dtype: { complex64: 'complex64', complex128: 'complex128', float32: 'float32', float64: 'float64', int32: 'int32', uint8: 'uint8', int64: 'int64' }[s.dtype], shape: s.shape, values: Array.from(s.data as Float64Array) });
+        files.push({
+          file,
+          dtype: { complex64: 'complex64', complex128: 'complex128', float32: 'float32', float64: 'float64', int32: 'int32', uint8: 'uint8', int64: 'int64' }[
+            s.dtype
+          ],
+          shape: s.shape,
+          values: Array.from(s.data as Float64Array),
+        });
       }
     });
     // numpy as the reference reader (numpy.load); complex values are compared as re/im pairs.

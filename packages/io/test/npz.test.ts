@@ -86,7 +86,20 @@ describe.runIf(hasPython('numpy'))('NPZ read by numpy.load (numpy as reference r
     expect(bytes).toBe(readFileSync(path).length);
     const got = pythonJson<Record<string, Loaded>>(LOAD_ALL, [path]);
     expect(Object.keys(got).sort()).toEqual(
-      ['H', 'carrierHz', 'frequenciesHz', 'gains', 'paths/delayS', 'paths/id', 'paths/kind', 'paths/order', 'paths/visible', 'scenario', 'seed', 'subframeTimesS'].sort(),
+      [
+        'H',
+        'carrierHz',
+        'frequenciesHz',
+        'gains',
+        'paths/delayS',
+        'paths/id',
+        'paths/kind',
+        'paths/order',
+        'paths/visible',
+        'scenario',
+        'seed',
+        'subframeTimesS',
+      ].sort(),
     );
     const h = tensorValues();
     const pairs: number[][] = [];

@@ -9,8 +9,20 @@ import { pathsJson, pathsTable, sideFilePaths } from '../src/scenario/paths.js';
 
 // One wall (y = 5) and one scatterer; the reflection point of Tx (0, 0) -> Rx (10, 0) is (5, 5).
 const traced = traceScene(
-  { walls: [{ vertices: [[0, 5], [20, 5]] }], scatterers: [{ position: [5, -3], rcsM2: 1 }] },
-  { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9,
+  {
+    walls: [
+      {
+        vertices: [
+          [0, 5],
+          [20, 5],
+        ],
+      },
+    ],
+    scatterers: [{ position: [5, -3], rcsM2: 1 }],
+  },
+  { position: [0, 0, 0] },
+  { position: [10, 0, 0] },
+  28e9,
 ).paths;
 const summaries = traced.map(summarizeTraced);
 const byId = (id: string): PathSummary => summaries.find((p) => p.id === id)!;
@@ -26,7 +38,10 @@ describe('path listings', () => {
     const json = pathsJson(summaries);
     expect(json.find((p) => p.id === 'R:walls[0]')!.interactions).toEqual([{ type: 'reflection', object: 'walls[0]', point: [5, 5, 0] }]);
     expect(json.find((p) => p.id === 'S:scatterers[0]')!.interactions).toEqual([{ type: 'scatter', object: 'scatterers[0]', point: [5, -3, 0] }]);
-    const rows = pathsTable(summaries).split('\n').slice(2).map((r) => r.split(/\s{2,}/)[2]);
+    const rows = pathsTable(summaries)
+      .split('\n')
+      .slice(2)
+      .map((r) => r.split(/\s{2,}/)[2]);
     expect(rows.sort()).toEqual(['R:walls[0]', 'S:scatterers[0]', 'direct']);
     const side = sideFilePaths(summaries);
     side.forEach((p, i) => expect(Object.keys(p)).toEqual(Object.keys(summaries[i]!)));

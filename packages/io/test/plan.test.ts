@@ -37,8 +37,20 @@ const traced = (): Scenario =>
       scene: {
         maxReflectionOrder: 1,
         walls: [
-          { vertices: [[0, 0], [12, 0]], material: 'concrete' },
-          { vertices: [[12, 0], [12, 8]], material: 'glass' },
+          {
+            vertices: [
+              [0, 0],
+              [12, 0],
+            ],
+            material: 'concrete',
+          },
+          {
+            vertices: [
+              [12, 0],
+              [12, 8],
+            ],
+            material: 'glass',
+          },
         ],
       },
       fading: { model: 'geometric' },
@@ -57,7 +69,14 @@ describe('planScenario: every default applied once', () => {
     expect(plan.bytesPerValue).toBe(8);
     expect(plan.seed).toBe(11);
     expect(planScenario(explicit(), { seed: 4 }).seed).toBe(4);
-    expect(plan.transmitter.array).toMatchObject({ elements: 4, portsPerElement: 2, ports: 8, spacingWavelengths: 0.5, wavefront: 'plane', orientation: { yawDeg: 0, pitchDeg: 0, rollDeg: 0 } });
+    expect(plan.transmitter.array).toMatchObject({
+      elements: 4,
+      portsPerElement: 2,
+      ports: 8,
+      spacingWavelengths: 0.5,
+      wavefront: 'plane',
+      orientation: { yawDeg: 0, pitchDeg: 0, rollDeg: 0 },
+    });
     expect(plan.users[0]!.array.ports).toBe(2);
     expect(plan.grid).toEqual({ domain: 'frequency', subcarriers: 16, spacingHz: 120e3, beamSquint: false });
     expect(plan.timing).toMatchObject({ symbolAxis: false, stepsPerSubframe: 1, symbolTimesS: [0], geometryUpdateS: 1e-3 });
@@ -69,7 +88,11 @@ describe('planScenario: every default applied once', () => {
   it('takes the subcarrier spacing and symbols from the numerology (3GPP TS 38.211 Table 4.2-1 and 4.3.2-1, M)', () => {
     const base = explicit();
     const nr = (mu: number, cyclicPrefix?: 'extended') =>
-      planScenario({ ...base, band: { subcarriers: 16 }, timing: { subframeS: 1e-3, subframes: 2, numerology: mu, ...(cyclicPrefix ? { cyclicPrefix } : {}) } });
+      planScenario({
+        ...base,
+        band: { subcarriers: 16 },
+        timing: { subframeS: 1e-3, subframes: 2, numerology: mu, ...(cyclicPrefix ? { cyclicPrefix } : {}) },
+      });
     // Delta f = 15 kHz 2^mu; 14 symbols per slot (12 with the extended prefix), 2^mu slots per 1 ms subframe.
     expect([0, 1, 2, 3, 4].map((mu) => (nr(mu).grid as { spacingHz: number }).spacingHz)).toEqual([15e3, 30e3, 60e3, 120e3, 240e3]);
     expect([0, 1, 2, 3, 4].map((mu) => nr(mu).timing.stepsPerSubframe)).toEqual([14, 28, 56, 112, 224]);
@@ -105,7 +128,8 @@ describe('building from traced epochs', () => {
     const epochs = first.users.map((u) => u.tracedEpochs);
     expect(epochs[0]!.epochTimesS).toHaveLength(6); // updates at 0, 4, ..., 20 ms cover the last step at 20 ms
     const again = buildPlan(structuredClone(plan), { traced: structuredClone(epochs) });
-    const a = tensorOf(first), b = tensorOf(again);
+    const a = tensorOf(first),
+      b = tensorOf(again);
     expect(Buffer.from(b.buffer, b.byteOffset, b.byteLength).equals(Buffer.from(a.buffer, a.byteOffset, a.byteLength))).toBe(true);
     // Epochs holding only the line of sight give a one-path channel: nothing was traced again.
     const losOnly = epochs.map((e) => ({ ...e!, paths: e!.paths.map((list) => list.filter((p) => p.kind === 'los')) }));
@@ -117,7 +141,9 @@ describe('building from traced epochs', () => {
     const plan = planScenario(traced());
     const epochs = buildPlan(plan).users.map((u) => u.tracedEpochs!);
     const short = [{ ...epochs[0]!, epochTimesS: epochs[0]!.epochTimesS.slice(0, 2), paths: epochs[0]!.paths.slice(0, 2) }];
-    expect(() => buildPlan(plan, { traced: short })).toThrow('TracedTimeline(): traced holds 2 epochs at [0, 0.004] s, this timeline has 6 at [0, 0.004, 0.008, 0.012, 0.016, 0.02] s');
+    expect(() => buildPlan(plan, { traced: short })).toThrow(
+      'TracedTimeline(): traced holds 2 epochs at [0, 0.004] s, this timeline has 6 at [0, 0.004, 0.008, 0.012, 0.016, 0.02] s',
+    );
   });
 });
 
@@ -144,8 +170,23 @@ describe('dataset layout table', () => {
       // The moving traced scene has an epoch axis in its path table; the explicit one has none.
       expect(arrays.some((a) => a.name === 'paths/epochTimesS')).toBe(scenario.scene !== undefined);
     }
-    expect(DATASET_ARRAYS.filter((a) => a.perSubframe).map((a) => a.name)).toEqual(['H', 'h', 'gains', 'subframeTimesS', ...DATASET_ARRAYS.filter((a) => a.name.startsWith('truth/')).map((a) => a.name)]);
-    expect(DATASET_ATTRIBUTES.map((a) => a.name)).toEqual(['scenario', 'pathweaveVersion', 'seed', 'subframeRange', 'subframesTotal', 'tensorSha256', 'kernel', 'formatVersion']);
+    expect(DATASET_ARRAYS.filter((a) => a.perSubframe).map((a) => a.name)).toEqual([
+      'H',
+      'h',
+      'gains',
+      'subframeTimesS',
+      ...DATASET_ARRAYS.filter((a) => a.name.startsWith('truth/')).map((a) => a.name),
+    ]);
+    expect(DATASET_ATTRIBUTES.map((a) => a.name)).toEqual([
+      'scenario',
+      'pathweaveVersion',
+      'seed',
+      'subframeRange',
+      'subframesTotal',
+      'tensorSha256',
+      'kernel',
+      'formatVersion',
+    ]);
   });
 });
 
@@ -153,7 +194,9 @@ describe('checkRequest: the one place of the up-front refusals', () => {
   it('refuses an output over the limit, naming the size and the option', () => {
     const plan = planScenario(explicit());
     expect(() => checkRequest(plan, [0, 6], 4096)).toThrow(
-      new RequestError('the output would be 12.0 KiB (12288 bytes, shape [6, 16, 2, 8]), over the limit of 4.0 KiB; raise it with --max-bytes 12288 or ask for fewer subframes'),
+      new RequestError(
+        'the output would be 12.0 KiB (12288 bytes, shape [6, 16, 2, 8]), over the limit of 4.0 KiB; raise it with --max-bytes 12288 or ask for fewer subframes',
+      ),
     );
     expect(() => checkRequest(plan, [2, 9], 2 ** 30)).toThrow('--subframes 2:9 must be a non-empty range within 0:6');
     expect(() => checkRequest(plan, [0, 6], 2 ** 30, { sideArrays: 'per-file' })).not.toThrow();
@@ -164,8 +207,12 @@ describe('checkRequest: the one place of the up-front refusals', () => {
     const plan = planScenario(big);
     const side = sideArrayBytes(plan, 2 ** 40, 2);
     expect(side).toBeGreaterThan(totalmem() / 4);
-    expect(() => checkRequest(plan, [0, 2 ** 40], Infinity, { sideArrays: 'whole-run' })).toThrow(/would need at least .* of memory; generate the run in shards \(--shard\)$/);
-    expect(() => checkRequest(plan, [0, 2 ** 40], Infinity, { sideArrays: 'per-file' })).toThrow(/of memory for 1099511627776 subframes; generate fewer subframes per file \(--subframes or --shard\)$/);
+    expect(() => checkRequest(plan, [0, 2 ** 40], Infinity, { sideArrays: 'whole-run' })).toThrow(
+      /would need at least .* of memory; generate the run in shards \(--shard\)$/,
+    );
+    expect(() => checkRequest(plan, [0, 2 ** 40], Infinity, { sideArrays: 'per-file' })).toThrow(
+      /of memory for 1099511627776 subframes; generate fewer subframes per file \(--subframes or --shard\)$/,
+    );
     expect(() => checkRequest(plan, [0, 2 ** 40], Infinity)).not.toThrow();
   });
 });

@@ -4,10 +4,14 @@ import { safeParseScenario, type Scenario } from '../src/index.js';
 import { checkPlausibility, MIN_CARRIER_HZ } from '../src/scenario/plausibility.js';
 
 const base: Scenario = {
-  carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 2 }, band: { subcarriers: 8, spacingHz: 120e3 },
+  carrierHz: 28e9,
+  timing: { subframeS: 1e-3, subframes: 2 },
+  band: { subcarriers: 8, spacingHz: 120e3 },
   transmitter: { position: [0, 0, 10], array: { kind: 'ula', elements: 4 } },
   receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2 } },
-  paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }], fading: { model: 'static' }, seed: 1,
+  paths: [{ aodDeg: [0, -10], aoaDeg: [180, 10], delayS: 1.7e-7, powerDb: -90 }],
+  fading: { model: 'static' },
+  seed: 1,
 };
 
 describe('checkPlausibility', () => {
@@ -15,14 +19,26 @@ describe('checkPlausibility', () => {
     expect(checkPlausibility({ ...base, carrierHz: MIN_CARRIER_HZ })).toEqual({ problems: [], warnings: [] });
     expect(checkPlausibility({ ...base, band: { subcarriers: 8, spacingHz: 100 } }).problems).toEqual([]);
     expect(checkPlausibility({ ...base, band: undefined, taps: { sampleRateHz: 1e3, count: 4 } }).problems).toEqual([]);
-    expect(checkPlausibility({ ...base, receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2, spacingWavelengths: 0.05 } } }).problems).toEqual([]);
+    expect(
+      checkPlausibility({ ...base, receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2, spacingWavelengths: 0.05 } } }).problems,
+    ).toEqual([]);
   });
 
   it('refuses just below them, through safeParseScenario (the validation hook)', () => {
     const r = safeParseScenario({ ...base, carrierHz: 999_999 });
     expect(r.ok).toBe(false);
-    if (!r.ok) expect(r.problems).toEqual([{ path: 'carrierHz', message: 'must be in hertz (>= 1e6, 1 MHz), got 999999: it looks like kHz or MHz: write 999999e6 for 999999 MHz' }]);
-    const receivers = safeParseScenario({ ...base, receiver: undefined, receivers: [{ position: [1, 0, 0], array: { kind: 'ula', elements: 2 } }, { position: [2, 0, 0], array: { kind: 'ula', elements: 2, spacingWavelengths: 0.0499 } }] });
+    if (!r.ok)
+      expect(r.problems).toEqual([
+        { path: 'carrierHz', message: 'must be in hertz (>= 1e6, 1 MHz), got 999999: it looks like kHz or MHz: write 999999e6 for 999999 MHz' },
+      ]);
+    const receivers = safeParseScenario({
+      ...base,
+      receiver: undefined,
+      receivers: [
+        { position: [1, 0, 0], array: { kind: 'ula', elements: 2 } },
+        { position: [2, 0, 0], array: { kind: 'ula', elements: 2, spacingWavelengths: 0.0499 } },
+      ],
+    });
     expect(receivers.ok).toBe(false);
     if (!receivers.ok) expect(receivers.problems.map((p) => p.path)).toEqual(['receivers[1].array.spacingWavelengths']);
   });

@@ -22,9 +22,25 @@ describe('docs/scenario.schema.json', () => {
   });
 
   it('gives every key a description, every number a unit and optional keys their defaults', () => {
-    type Node = { type?: string; properties?: Record<string, Node>; items?: Node; prefixItems?: Node[]; anyOf?: Node[]; oneOf?: Node[]; description?: string; unit?: string; default?: unknown };
+    type Node = {
+      type?: string;
+      properties?: Record<string, Node>;
+      items?: Node;
+      prefixItems?: Node[];
+      anyOf?: Node[];
+      oneOf?: Node[];
+      description?: string;
+      unit?: string;
+      default?: unknown;
+    };
     const seen: string[] = [];
-    const numeric = (n: Node): boolean => n.type === 'number' || n.type === 'integer' || (n.items !== undefined && numeric(n.items)) || (n.prefixItems ?? []).some(numeric) || (n.anyOf ?? []).some(numeric) || (n.oneOf ?? []).some(numeric);
+    const numeric = (n: Node): boolean =>
+      n.type === 'number' ||
+      n.type === 'integer' ||
+      (n.items !== undefined && numeric(n.items)) ||
+      (n.prefixItems ?? []).some(numeric) ||
+      (n.anyOf ?? []).some(numeric) ||
+      (n.oneOf ?? []).some(numeric);
     const walk = (n: Node, path: string): void => {
       for (const [key, child] of Object.entries(n.properties ?? {})) {
         const at = path === '' ? key : `${path}.${key}`;
@@ -46,7 +62,8 @@ describe('docs/scenario.schema.json', () => {
 
   it('shows the array kinds and fading models as variants (oneOf, each with its tag as a const and its own required keys)', () => {
     type Variant = { properties: Record<string, { const?: string; not?: object }>; required?: string[] };
-    const props = (scenarioJsonSchema() as { properties: Record<string, { properties?: Record<string, { oneOf?: Variant[] }>; oneOf?: Variant[] }> }).properties;
+    const props = (scenarioJsonSchema() as { properties: Record<string, { properties?: Record<string, { oneOf?: Variant[] }>; oneOf?: Variant[] }> })
+      .properties;
     const kinds = props.transmitter!.properties!.array!.oneOf!;
     expect(kinds.map((v) => [v.properties.kind!.const, v.required])).toEqual([
       ['ula', ['kind', 'elements']],
@@ -70,14 +87,23 @@ describe('docs/scenario.schema.json', () => {
     expect(MAX_REFLECTION_ORDER).toBe(3);
     // The schema, the scene validation and the tracer refuse the same orders.
     const scenario = (order: number) => ({
-      carrierHz: 28e9, timing: { subframeS: 1e-3, subframes: 1 }, band: { subcarriers: 1, spacingHz: 1e5 }, seed: 1, fading: { model: 'static' },
-      transmitter: { position: [0, 0], array: { kind: 'ula', elements: 1 } }, receiver: { position: [5, 0], array: { kind: 'ula', elements: 1 } },
+      carrierHz: 28e9,
+      timing: { subframeS: 1e-3, subframes: 1 },
+      band: { subcarriers: 1, spacingHz: 1e5 },
+      seed: 1,
+      fading: { model: 'static' },
+      transmitter: { position: [0, 0], array: { kind: 'ula', elements: 1 } },
+      receiver: { position: [5, 0], array: { kind: 'ula', elements: 1 } },
       scene: { maxReflectionOrder: order },
     });
     expect(scenarioSchema.safeParse(scenario(3)).success).toBe(true);
     expect(scenarioSchema.safeParse(scenario(4)).success).toBe(false);
-    expect(() => traceScene({ maxReflectionOrder: 4 }, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9)).toThrow('scene.maxReflectionOrder: must be an integer from 0 to 3, got 4');
-    expect(() => traceScene({}, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9, { maxReflectionOrder: 4 })).toThrow('traceScene(): maxReflectionOrder must be an integer from 0 to 3, got 4');
+    expect(() => traceScene({ maxReflectionOrder: 4 }, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9)).toThrow(
+      'scene.maxReflectionOrder: must be an integer from 0 to 3, got 4',
+    );
+    expect(() => traceScene({}, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9, { maxReflectionOrder: 4 })).toThrow(
+      'traceScene(): maxReflectionOrder must be an integer from 0 to 3, got 4',
+    );
     expect(traceScene({}, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9, { maxReflectionOrder: 3 }).paths.map((p) => p.id)).toEqual(['los']);
   });
 });
@@ -91,9 +117,14 @@ describe('version', () => {
 
 describe('the variants of the scenario schema state their own keys', () => {
   const scenario = (array: object, fading: object, carrierHz = 28e9) => ({
-    carrierHz, timing: { subframeS: 1e-3, subframes: 2 }, band: { subcarriers: 4, spacingHz: 120e3 },
-    transmitter: { position: [0, 0, 10], array }, receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 1 } },
-    paths: [{ aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 1e-7, powerDb: -90 }], fading, seed: 1,
+    carrierHz,
+    timing: { subframeS: 1e-3, subframes: 2 },
+    band: { subcarriers: 4, spacingHz: 120e3 },
+    transmitter: { position: [0, 0, 10], array },
+    receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 1 } },
+    paths: [{ aodDeg: [0, 0], aoaDeg: [180, 0], delayS: 1e-7, powerDb: -90 }],
+    fading,
+    seed: 1,
   });
   it('a upa without rows and columns and a model with options of other models: every problem at once, beside an unrelated one', () => {
     const r = safeParseScenario(scenario({ kind: 'upa', elements: 4 }, { model: 'static', speedMps: 3, order: 2, sinusoids: 16, ricianKDb: 3 }, -1));
@@ -114,7 +145,9 @@ describe('the variants of the scenario schema state their own keys', () => {
       'transmitter.array.kind: must be one of "ula", "upa", "custom", got "dish"',
       'fading.sinusoids: must be >= 8 (Zheng & Xiao need that many for their statistics), got 5',
     ]);
-    const zero = safeParseScenario(scenario({ kind: 'custom', positions: [[0, 0, 0]], spacingWavelengths: 0.5 }, { model: 'geometric', sinusoids: 0, ricianKDb: 6 }));
+    const zero = safeParseScenario(
+      scenario({ kind: 'custom', positions: [[0, 0, 0]], spacingWavelengths: 0.5 }, { model: 'geometric', sinusoids: 0, ricianKDb: 6 }),
+    );
     expect(zero.ok ? [] : zero.problems.map(formatProblem)).toEqual([
       'transmitter.array.spacingWavelengths: does not apply to kind "custom", got 0.5',
       'fading.sinusoids: must be >= 1, got 0',
@@ -124,7 +157,10 @@ describe('the variants of the scenario schema state their own keys', () => {
 
   it('clusters by method: "offsets-38901", given or implied by a preset, has 20 sub-paths; taps by pulse: a roll-off only with the raised cosine', () => {
     const withClusters = (clusters: object) => ({ ...scenario({ kind: 'ula', elements: 2 }, { model: 'static' }), clusters });
-    const problems = (clusters: object) => { const r = safeParseScenario(withClusters(clusters)); return r.ok ? [] : r.problems.map(formatProblem); };
+    const problems = (clusters: object) => {
+      const r = safeParseScenario(withClusters(clusters));
+      return r.ok ? [] : r.problems.map(formatProblem);
+    };
     const twenty = 'method "offsets-38901" has 20 sub-paths (3GPP TR 38.901 Table 7.5-3), got 10';
     expect(problems({ method: 'offsets-38901', subPaths: 10 })).toEqual([`clusters.subPaths: ${twenty}`]);
     expect(problems({ preset: 'umi-nlos', subPaths: 10 })).toEqual([`clusters.subPaths: ${twenty}`]);
@@ -133,7 +169,10 @@ describe('the variants of the scenario schema state their own keys', () => {
     expect(problems({ preset: 'umi-nlos', subPaths: 20 })).toEqual([]);
     expect(problems({ method: 'circle' })).toEqual(['clusters.method: must be one of "gaussian", "laplacian", "offsets-38901", got "circle"']);
     expect(problems({ presett: 'umi-los' })).toEqual(['clusters.presett: unknown key; did you mean "preset"?']);
-    const taps = (t: object) => { const r = safeParseScenario({ ...withClusters({}), band: undefined, taps: { sampleRateHz: 1e9, count: 8, ...t } }); return r.ok ? [] : r.problems.map(formatProblem); };
+    const taps = (t: object) => {
+      const r = safeParseScenario({ ...withClusters({}), band: undefined, taps: { sampleRateHz: 1e9, count: 8, ...t } });
+      return r.ok ? [] : r.problems.map(formatProblem);
+    };
     expect(taps({ rollOff: 0.2 })).toEqual(['taps.rollOff: applies only with pulse "raised-cosine"']);
     expect(taps({ pulse: 'raised-cosine', rollOff: 0.2 })).toEqual([]);
   });

@@ -199,7 +199,11 @@ export class AutoregressiveGains implements GainProcess {
   private readonly draw = new Float64Array(2);
   private position = 0; // steps computed so far
 
-  constructor(paths: readonly FadingPath[], private readonly seed: number, options: AutoregressiveOptions) {
+  constructor(
+    paths: readonly FadingPath[],
+    private readonly seed: number,
+    options: AutoregressiveOptions,
+  ) {
     checkFadingPaths('AutoregressiveGains()', paths);
     const { order, stepS } = options;
     if (!Number.isInteger(order) || order < 1) throw new RangeError(`AutoregressiveGains(): order must be an integer >= 1, got ${order}`);
@@ -216,7 +220,8 @@ export class AutoregressiveGains implements GainProcess {
         try {
           fit = fitAutoregressive(clarkeTargetCorrelation(p.dopplersHz, stepS, order), loading);
         } catch (e) {
-          if (e instanceof ArFitError) throw new ArFitError(e.problem, `AutoregressiveGains(): path ${p.id} (Doppler spreads ${key} Hz, step ${stepS} s): ${e.message}`);
+          if (e instanceof ArFitError)
+            throw new ArFitError(e.problem, `AutoregressiveGains(): path ${p.id} (Doppler spreads ${key} Hz, step ${stepS} s): ${e.message}`);
           throw e;
         }
         cache.set(key, fit);

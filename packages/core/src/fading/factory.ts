@@ -63,7 +63,11 @@ const TRAITS: Record<FadingSpec['model'], { deterministic: boolean; timeVarying:
 export function createGainProcess(fading: FadingSpec, paths: readonly GainProcessPath[], seed: number, clock: StepClock): FadingGains {
   const traits = (TRAITS as Partial<Record<string, { deterministic: boolean; timeVarying: boolean }>>)[fading.model];
   if (traits === undefined) {
-    throw new RangeError(`createGainProcess(): fading.model must be one of ${Object.keys(TRAITS).map((m) => `"${m}"`).join(', ')}, got ${JSON.stringify(fading.model)}`);
+    throw new RangeError(
+      `createGainProcess(): fading.model must be one of ${Object.keys(TRAITS)
+        .map((m) => `"${m}"`)
+        .join(', ')}, got ${JSON.stringify(fading.model)}`,
+    );
   }
   return { process: processOf(fading, paths, seed, clock), ...traits };
 }

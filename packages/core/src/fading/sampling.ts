@@ -25,7 +25,8 @@ export function gainBandwidthHz(dopplersHz: readonly number[], dopplerHz = 0): n
  * @example underSamplingWarning(100, 1e-3) // undefined
  */
 export function underSamplingWarning(bandwidthHz: number, stepS: number, what = 'the time step'): string | undefined {
-  if (!(bandwidthHz >= 0) || !Number.isFinite(bandwidthHz)) throw new RangeError(`underSamplingWarning(): bandwidthHz must be finite and >= 0, got ${bandwidthHz}`);
+  if (!(bandwidthHz >= 0) || !Number.isFinite(bandwidthHz))
+    throw new RangeError(`underSamplingWarning(): bandwidthHz must be finite and >= 0, got ${bandwidthHz}`);
   if (!(stepS > 0) || !Number.isFinite(stepS)) throw new RangeError(`underSamplingWarning(): stepS must be a finite number > 0, got ${stepS}`);
   const product = bandwidthHz * stepS;
   if (product <= 0.5) return undefined;

@@ -90,7 +90,8 @@ export class SumOfSinusoidsGains implements GainProcess, ContinuousGainProcess {
     if (!Number.isInteger(M) || M < SOS_MIN_SINUSOIDS) {
       throw new RangeError(`SumOfSinusoidsGains(): sinusoids must be an integer >= ${SOS_MIN_SINUSOIDS}, got ${M}`);
     }
-    if (options.clock === undefined || typeof options.clock.timeS !== 'function') throw new TypeError('SumOfSinusoidsGains(): options.clock must be a StepClock');
+    if (options.clock === undefined || typeof options.clock.timeS !== 'function')
+      throw new TypeError('SumOfSinusoidsGains(): options.clock must be a StepClock');
     this.sinusoids = M;
     this.clock = options.clock;
     const L = paths.length;
@@ -166,12 +167,15 @@ export class SumOfSinusoidsGains implements GainProcess, ContinuousGainProcess {
         let sr = 0; // sum_m g_m C_nm
         let si = 0;
         for (let m = 0; m < M; m++) {
-          const cr = c[base + 2 * (n * M + m)]!, ci = c[base + 2 * (n * M + m) + 1]!;
-          const gr = er[2 * m]!, gi = er[2 * m + 1]!;
+          const cr = c[base + 2 * (n * M + m)]!,
+            ci = c[base + 2 * (n * M + m) + 1]!;
+          const gr = er[2 * m]!,
+            gi = er[2 * m + 1]!;
           sr += gr * cr - gi * ci;
           si += gr * ci + gi * cr;
         }
-        const tr = et[2 * n]!, ti = et[2 * n + 1]!;
+        const tr = et[2 * n]!,
+          ti = et[2 * n + 1]!;
         re += tr * sr - ti * si;
         im += tr * si + ti * sr;
       }

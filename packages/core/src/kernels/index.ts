@@ -57,18 +57,26 @@ function load(path?: string): { kernel?: WasmKernelFunction; allocate?: WasmKern
 
 function choose(): { name: string; kernel: AccumulateKernel; allocate: WasmKernelAllocate; reason: string } {
   const forced = typeof process === 'object' ? process.env.PATHWEAVE_KERNEL : undefined;
-  if (forced === 'js' || forced === PLAIN_KERNEL_NAME) return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: `PATHWEAVE_KERNEL=${forced}` };
+  if (forced === 'js' || forced === PLAIN_KERNEL_NAME)
+    return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: `PATHWEAVE_KERNEL=${forced}` };
   const unfused = forced === 'simd' || forced === WASM_KERNEL_NAME;
   const reasons: string[] = [];
   if (!unfused) {
     const fma = load(FMA_KERNEL_PATH);
     const k = fma.kernel;
-    if (k !== undefined) return { name: FMA_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => k(out, offset, w, p, bins, L, M), allocate: fma.allocate!, reason: 'WebAssembly relaxed SIMD validates and fuses multiply-add' };
+    if (k !== undefined)
+      return {
+        name: FMA_KERNEL_NAME,
+        kernel: (out, offset, w, p, bins, L, M) => k(out, offset, w, p, bins, L, M),
+        allocate: fma.allocate!,
+        reason: 'WebAssembly relaxed SIMD validates and fuses multiply-add',
+      };
     reasons.push(fma.reason ?? 'unknown');
   }
   const simd = load();
   const wasm = simd.kernel;
-  if (wasm === undefined) return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: [...reasons, simd.reason ?? 'unknown'].join('; ') };
+  if (wasm === undefined)
+    return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: [...reasons, simd.reason ?? 'unknown'].join('; ') };
   const why = unfused ? `PATHWEAVE_KERNEL=${forced}` : `WebAssembly SIMD validates (fused kernel not used: ${reasons.join('; ')})`;
   return { name: WASM_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => wasm(out, offset, w, p, bins, L, M), allocate: simd.allocate!, reason: why };
 }
@@ -108,6 +116,7 @@ export const accumulatePaths: AccumulateKernel = chosen.kernel;
  * out // Float32Array [0, 2, 2, 0]  (j * 2, then 1 * 2)
  */
 export function allocateKernelArray<T extends typeof Float32Array | typeof Float64Array>(length: number, type: T): InstanceType<T> {
-  if (type !== Float32Array && type !== Float64Array) throw new TypeError(`allocateKernelArray(): type must be Float32Array or Float64Array, got ${String(type)}`);
+  if (type !== Float32Array && type !== Float64Array)
+    throw new TypeError(`allocateKernelArray(): type must be Float32Array or Float64Array, got ${String(type)}`);
   return chosen.allocate(length, type);
 }

@@ -205,8 +205,10 @@ const pinned = new WeakMap<ArrayBuffer, WasmKernel>();
  * rounding (1 + e)^2 first drops e^2 (a tie, to even); e = 2^-12 (float32), 2^-27 (float64).
  */
 function fusesBoth(kernel: WasmKernelFunction): boolean {
-  const f32 = new Float32Array(2), f64 = new Float64Array(2);
-  const e32 = 2 ** -12, e64 = 2 ** -27;
+  const f32 = new Float32Array(2),
+    f64 = new Float64Array(2);
+  const e32 = 2 ** -12,
+    e64 = 2 ** -27;
   kernel(f32, 0, Float64Array.of(-1, 1 + e32), Float64Array.of(1 + e32, 1), 1, 1, 1);
   kernel(f64, 0, Float64Array.of(-1, 1 + e64), Float64Array.of(1 + e64, 1), 1, 1, 1);
   return f32[1] === 2 * e32 + e32 * e32 && f64[1] === 2 * e64 + e64 * e64;
@@ -220,7 +222,12 @@ function fusesBoth(kernel: WasmKernelFunction): boolean {
  * (the relaxed instruction may also round twice, which would be neither kernel's arithmetic).
  * @example loadWasmKernel().kernel !== undefined // true after setup on Node 20
  */
-export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: WasmKernelFunction; allocate?: WasmKernelAllocate; fused?: boolean; reason?: string } {
+export function loadWasmKernel(path: string = WASM_KERNEL_PATH): {
+  kernel?: WasmKernelFunction;
+  allocate?: WasmKernelAllocate;
+  fused?: boolean;
+  reason?: string;
+} {
   const WebAssembly = wasmApi;
   if (WebAssembly === undefined) return { reason: 'no WebAssembly in this runtime' };
   if (!existsSync(path)) return { reason: `${path} is missing (run node scripts/setup.mjs)` };
@@ -263,7 +270,15 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): { kernel?: Wasm
  * The SIMD kernel's call signature (the plain kernel's, without a scratch array).
  * @example const k: WasmKernelFunction = loadWasmKernel().kernel!; k(out, 0, w, p, bins, L, M) // out[k, m] = sum_l w[k, l] p[l, m]
  */
-export type WasmKernelFunction = (out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, paths: number, elementPairs: number) => void;
+export type WasmKernelFunction = (
+  out: KernelOut,
+  outOffset: number,
+  weights: Float64Array,
+  products: Float64Array,
+  bins: number,
+  paths: number,
+  elementPairs: number,
+) => void;
 
 /**
  * Allocates a zeroed output array in a kernel instance's own WebAssembly memory (written without a copy).

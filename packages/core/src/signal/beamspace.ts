@@ -70,7 +70,7 @@ export function ulaCodebook(elements: number, options: CodebookOptions = {}): Co
   const weights = new Float64Array(2 * elements * beams);
   const directionCosines = new Float64Array(2 * beams);
   writeLinear(weights, elements, beams, side);
-  for (let b = 0; b < beams; b++) directionCosines[2 * b] = (2 * b / beams - 1) / (2 * spacing);
+  for (let b = 0; b < beams; b++) directionCosines[2 * b] = ((2 * b) / beams - 1) / (2 * spacing);
   return { elements, beams, side, weights, directionCosines };
 }
 
@@ -94,21 +94,25 @@ export function upaCodebook(rows: number, columns: number, options: UpaCodebookO
   const [oRows, oColumns] = typeof o === 'number' ? [o, o] : o;
   const r = checkOptions(fn, rows, { ...options, oversampling: oRows });
   const c = checkOptions(fn, columns, { ...options, oversampling: oColumns });
-  const Br = r.oversampling * rows, Bc = c.oversampling * columns;
+  const Br = r.oversampling * rows,
+    Bc = c.oversampling * columns;
   const rowWeights = new Float64Array(2 * rows * Br);
   const columnWeights = new Float64Array(2 * columns * Bc);
   writeLinear(rowWeights, rows, Br, r.side);
   writeLinear(columnWeights, columns, Bc, c.side);
-  const elements = rows * columns, beams = Br * Bc;
+  const elements = rows * columns,
+    beams = Br * Bc;
   const weights = new Float64Array(2 * elements * beams);
   const directionCosines = new Float64Array(2 * beams);
   for (let er = 0; er < rows; er++) {
     for (let ec = 0; ec < columns; ec++) {
       const n = er * columns + ec;
       for (let br = 0; br < Br; br++) {
-        const ar = rowWeights[2 * (er * Br + br)]!, ai = rowWeights[2 * (er * Br + br) + 1]!;
+        const ar = rowWeights[2 * (er * Br + br)]!,
+          ai = rowWeights[2 * (er * Br + br) + 1]!;
         for (let bc = 0; bc < Bc; bc++) {
-          const cr = columnWeights[2 * (ec * Bc + bc)]!, ci = columnWeights[2 * (ec * Bc + bc) + 1]!;
+          const cr = columnWeights[2 * (ec * Bc + bc)]!,
+            ci = columnWeights[2 * (ec * Bc + bc) + 1]!;
           const i = 2 * (n * beams + br * Bc + bc);
           weights[i] = ar * cr - ai * ci;
           weights[i + 1] = ar * ci + ai * cr;
@@ -119,8 +123,8 @@ export function upaCodebook(rows: number, columns: number, options: UpaCodebookO
   for (let br = 0; br < Br; br++) {
     for (let bc = 0; bc < Bc; bc++) {
       const b = br * Bc + bc;
-      directionCosines[2 * b] = (2 * bc / Bc - 1) / (2 * c.spacing);
-      directionCosines[2 * b + 1] = (2 * br / Br - 1) / (2 * r.spacing);
+      directionCosines[2 * b] = ((2 * bc) / Bc - 1) / (2 * c.spacing);
+      directionCosines[2 * b + 1] = ((2 * br) / Br - 1) / (2 * r.spacing);
     }
   }
   return { elements, beams, side: r.side, weights, directionCosines };
@@ -132,7 +136,8 @@ export function upaCodebook(rows: number, columns: number, options: UpaCodebookO
  */
 export function codebookColumn(codebook: Codebook, beam: number, out = new Float64Array(2 * codebook.elements)): Float64Array {
   const fn = 'codebookColumn()';
-  if (!Number.isInteger(beam) || beam < 0 || beam >= codebook.beams) throw new RangeError(`${fn}: beam must be an integer in [0, ${codebook.beams}), got ${beam}`);
+  if (!Number.isInteger(beam) || beam < 0 || beam >= codebook.beams)
+    throw new RangeError(`${fn}: beam must be an integer in [0, ${codebook.beams}), got ${beam}`);
   checkLength(fn, 'out', out, 2 * codebook.elements, `[${codebook.elements}] complex`);
   for (let n = 0; n < codebook.elements; n++) {
     out[2 * n] = codebook.weights[2 * (n * codebook.beams + beam)]!;
@@ -151,7 +156,11 @@ export function codebookColumn(codebook: Codebook, beam: number, out = new Float
 export function beamspaceChannel(H: ComplexArray, subcarriers: number, W: Codebook, F: Codebook, out?: Float64Array): Float64Array {
   const fn = 'beamspaceChannel()';
   checkInteger(fn, 'subcarriers', subcarriers, 1);
-  const Nr = W.elements, Nt = F.elements, Bw = W.beams, Bf = F.beams, K = subcarriers;
+  const Nr = W.elements,
+    Nt = F.elements,
+    Bw = W.beams,
+    Bf = F.beams,
+    K = subcarriers;
   checkLength(fn, 'H', H, 2 * K * Nr * Nt, `[${K}, ${Nr}, ${Nt}] complex interleaved (Nr from W, Nt from F)`);
   const result = out ?? new Float64Array(2 * K * Bw * Bf);
   checkLength(fn, 'out', result, 2 * K * Bw * Bf, `[${K}, ${Bw}, ${Bf}] complex interleaved`);
@@ -161,10 +170,13 @@ export function beamspaceChannel(H: ComplexArray, subcarriers: number, W: Codebo
     const dst = 2 * k * Bw * Bf;
     for (let bw = 0; bw < Bw; bw++) {
       for (let bf = 0; bf < Bf; bf++) {
-        let re = 0, im = 0;
+        let re = 0,
+          im = 0;
         for (let r = 0; r < Nr; r++) {
-          const wr = W.weights[2 * (r * Bw + bw)]!, wi = -W.weights[2 * (r * Bw + bw) + 1]!; // conj(w)
-          const gr = HF[2 * (r * Bf + bf)]!, gi = HF[2 * (r * Bf + bf) + 1]!;
+          const wr = W.weights[2 * (r * Bw + bw)]!,
+            wi = -W.weights[2 * (r * Bw + bw) + 1]!; // conj(w)
+          const gr = HF[2 * (r * Bf + bf)]!,
+            gi = HF[2 * (r * Bf + bf) + 1]!;
           re += wr * gr - wi * gi;
           im += wr * gi + wi * gr;
         }
@@ -181,25 +193,41 @@ export function beamspaceChannel(H: ComplexArray, subcarriers: number, W: Codebo
  * weight vectors, for example codebook columns. out [K] complex.
  * @example effectiveChannel(Float64Array.of(2, 0), 1, Float64Array.of(0, 1), Float64Array.of(1, 0)) // [0, -2]
  */
-export function effectiveChannel(H: ComplexArray, subcarriers: number, w: Float64Array, f: Float64Array, out = new Float64Array(2 * subcarriers)): Float64Array {
+export function effectiveChannel(
+  H: ComplexArray,
+  subcarriers: number,
+  w: Float64Array,
+  f: Float64Array,
+  out = new Float64Array(2 * subcarriers),
+): Float64Array {
   const fn = 'effectiveChannel()';
   checkInteger(fn, 'subcarriers', subcarriers, 1);
-  if (!(w instanceof Float64Array) || w.length < 2 || w.length % 2 !== 0) throw new RangeError(`${fn}: w must be a Float64Array of Nr complex weights, got ${w instanceof Float64Array ? w.length : String(w)} values`);
-  if (!(f instanceof Float64Array) || f.length < 2 || f.length % 2 !== 0) throw new RangeError(`${fn}: f must be a Float64Array of Nt complex weights, got ${f instanceof Float64Array ? f.length : String(f)} values`);
-  const Nr = w.length / 2, Nt = f.length / 2, K = subcarriers;
+  if (!(w instanceof Float64Array) || w.length < 2 || w.length % 2 !== 0)
+    throw new RangeError(`${fn}: w must be a Float64Array of Nr complex weights, got ${w instanceof Float64Array ? w.length : String(w)} values`);
+  if (!(f instanceof Float64Array) || f.length < 2 || f.length % 2 !== 0)
+    throw new RangeError(`${fn}: f must be a Float64Array of Nt complex weights, got ${f instanceof Float64Array ? f.length : String(f)} values`);
+  const Nr = w.length / 2,
+    Nt = f.length / 2,
+    K = subcarriers;
   checkLength(fn, 'H', H, 2 * K * Nr * Nt, `[${K}, ${Nr}, ${Nt}] complex interleaved`);
   checkLength(fn, 'out', out, 2 * K, `[${K}] complex`);
   for (let k = 0; k < K; k++) {
-    let re = 0, im = 0;
+    let re = 0,
+      im = 0;
     for (let r = 0; r < Nr; r++) {
-      let gr = 0, gi = 0;
+      let gr = 0,
+        gi = 0;
       for (let t = 0; t < Nt; t++) {
         const i = 2 * ((k * Nr + r) * Nt + t);
-        const hr = H[i]!, hi = H[i + 1]!, fr = f[2 * t]!, fi = f[2 * t + 1]!;
+        const hr = H[i]!,
+          hi = H[i + 1]!,
+          fr = f[2 * t]!,
+          fi = f[2 * t + 1]!;
         gr += hr * fr - hi * fi;
         gi += hr * fi + hi * fr;
       }
-      const wr = w[2 * r]!, wi = -w[2 * r + 1]!;
+      const wr = w[2 * r]!,
+        wi = -w[2 * r + 1]!;
       re += wr * gr - wi * gi;
       im += wr * gi + wi * gr;
     }
@@ -244,7 +272,12 @@ export class BeamSearch {
   private readonly transmitW: number | undefined;
   private readonly noiseW: number | undefined;
 
-  constructor(readonly receiveCodebook: Codebook, readonly transmitCodebook: Codebook, subcarriers: number, budget?: LinkBudget) {
+  constructor(
+    readonly receiveCodebook: Codebook,
+    readonly transmitCodebook: Codebook,
+    subcarriers: number,
+    budget?: LinkBudget,
+  ) {
     checkInteger('BeamSearch()', 'subcarriers', subcarriers, 1);
     this.subcarriers = subcarriers;
     this.hf = new Float64Array(2 * receiveCodebook.elements * transmitCodebook.beams);
@@ -263,22 +296,33 @@ export class BeamSearch {
   /** Search one subframe H [K, Nr, Nt] starting at `offset` in `H` (so a slice needs no copy). */
   search(H: ComplexArray, offset = 0): BeamPair {
     const fn = 'BeamSearch.search()';
-    const W = this.receiveCodebook, F = this.transmitCodebook;
-    const Nr = W.elements, Nt = F.elements, Bw = W.beams, Bf = F.beams, K = this.subcarriers;
+    const W = this.receiveCodebook,
+      F = this.transmitCodebook;
+    const Nr = W.elements,
+      Nt = F.elements,
+      Bw = W.beams,
+      Bf = F.beams,
+      K = this.subcarriers;
     checkInteger(fn, 'offset', offset, 0);
     if (!(H instanceof Float32Array || H instanceof Float64Array) || offset + 2 * K * Nr * Nt > H.length) {
-      throw new RangeError(`${fn}: H must hold ${2 * K * Nr * Nt} numbers from offset ${offset} ([${K}, ${Nr}, ${Nt}] complex interleaved), got ${H instanceof Float32Array || H instanceof Float64Array ? H.length - offset : String(H)}`);
+      throw new RangeError(
+        `${fn}: H must hold ${2 * K * Nr * Nt} numbers from offset ${offset} ([${K}, ${Nr}, ${Nt}] complex interleaved), got ${H instanceof Float32Array || H instanceof Float64Array ? H.length - offset : String(H)}`,
+      );
     }
-    const table = this.table, HF = this.hf;
+    const table = this.table,
+      HF = this.hf;
     table.fill(0);
     for (let k = 0; k < K; k++) {
       multiplyHF(HF, H, offset + 2 * k * Nr * Nt, F, Nr);
       for (let bw = 0; bw < Bw; bw++) {
         for (let bf = 0; bf < Bf; bf++) {
-          let re = 0, im = 0;
+          let re = 0,
+            im = 0;
           for (let r = 0; r < Nr; r++) {
-            const wr = W.weights[2 * (r * Bw + bw)]!, wi = -W.weights[2 * (r * Bw + bw) + 1]!;
-            const gr = HF[2 * (r * Bf + bf)]!, gi = HF[2 * (r * Bf + bf) + 1]!;
+            const wr = W.weights[2 * (r * Bw + bw)]!,
+              wi = -W.weights[2 * (r * Bw + bw) + 1]!;
+            const gr = HF[2 * (r * Bf + bf)]!,
+              gi = HF[2 * (r * Bf + bf) + 1]!;
             re += wr * gr - wi * gi;
             im += wr * gi + wi * gr;
           }
@@ -343,7 +387,8 @@ export function trackBeamPairs(
   let S: number, K: number, Nr: number, Nt: number;
   let read: (s: number) => { data: ComplexArray; offset: number };
   if ('fill' in source) {
-    if (source.spec.grid.domain !== 'frequency') throw new RangeError(`${fn}: the generator must have a frequency-domain grid, got '${source.spec.grid.domain}'`);
+    if (source.spec.grid.domain !== 'frequency')
+      throw new RangeError(`${fn}: the generator must have a frequency-domain grid, got '${source.spec.grid.domain}'`);
     if (source.shape.length !== 4) throw new RangeError(`${fn}: the generator must have no symbol axis, got shape [${source.shape.join(', ')}]`);
     [S, K, Nr, Nt] = source.shape as [number, number, number, number];
     const one = source.allocate(1);
@@ -378,13 +423,18 @@ export function trackBeamPairs(
 
 /** HF[r, bf] = sum_t H[r, t] F[t, bf] for one subcarrier starting at `offset`. */
 function multiplyHF(HF: Float64Array, H: ComplexArray, offset: number, F: Codebook, Nr: number): void {
-  const Nt = F.elements, Bf = F.beams, Fw = F.weights;
+  const Nt = F.elements,
+    Bf = F.beams,
+    Fw = F.weights;
   for (let r = 0; r < Nr; r++) {
     for (let bf = 0; bf < Bf; bf++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let t = 0; t < Nt; t++) {
-        const hr = H[offset + 2 * (r * Nt + t)]!, hi = H[offset + 2 * (r * Nt + t) + 1]!;
-        const fr = Fw[2 * (t * Bf + bf)]!, fi = Fw[2 * (t * Bf + bf) + 1]!;
+        const hr = H[offset + 2 * (r * Nt + t)]!,
+          hi = H[offset + 2 * (r * Nt + t) + 1]!;
+        const fr = Fw[2 * (t * Bf + bf)]!,
+          fi = Fw[2 * (t * Bf + bf) + 1]!;
         re += hr * fr - hi * fi;
         im += hr * fi + hi * fr;
       }

@@ -57,7 +57,8 @@ export class ChannelFilter {
 
   constructor(options: ChannelFilterOptions) {
     const fn = 'ChannelFilter()';
-    if (options === null || typeof options !== 'object') throw new TypeError(`${fn}: options must be an object { transmitters, receivers, taps }, got ${options}`);
+    if (options === null || typeof options !== 'object')
+      throw new TypeError(`${fn}: options must be an object { transmitters, receivers, taps }, got ${options}`);
     checkInteger(fn, 'transmitters', options.transmitters, 1);
     checkInteger(fn, 'receivers', options.receivers, 1);
     checkInteger(fn, 'taps', options.taps, 1);
@@ -102,7 +103,9 @@ export class ChannelFilter {
     checkComplexArray(fn, 'h', h);
     checkInteger(fn, 'offset', offset, 0);
     if (offset + this.tapValues > h.length) {
-      throw new RangeError(`${fn}: h must hold ${this.tapValues} numbers from offset ${offset} ([${this.taps}, ${this.receivers}, ${this.transmitters}] complex interleaved), got ${h.length - offset}`);
+      throw new RangeError(
+        `${fn}: h must hold ${this.tapValues} numbers from offset ${offset} ([${this.taps}, ${this.receivers}, ${this.transmitters}] complex interleaved), got ${h.length - offset}`,
+      );
     }
     checkInteger(fn, 'fromSample', fromSample, 0);
     const last = this.pending.length > 0 ? this.pending[this.pending.length - 1]!.fromSample : this.processed;
@@ -138,7 +141,10 @@ export class ChannelFilter {
   process(x: ComplexArray, samples: number, out?: ComplexArray): ComplexArray {
     const fn = 'ChannelFilter.process()';
     checkSignal(fn, 'x', x, this.transmitters, samples);
-    const Nr = this.receivers, Nt = this.transmitters, D = this.taps, N = samples;
+    const Nr = this.receivers,
+      Nt = this.transmitters,
+      D = this.taps,
+      N = samples;
     const y = out ?? allocateLike(x, 2 * Nr * N);
     checkLength(fn, 'out', y, 2 * Nr * N, `[${Nr}, ${N}] complex interleaved`);
     if (y === x) throw new RangeError(`${fn}: out must not be the input array x`);
@@ -155,7 +161,8 @@ export class ChannelFilter {
       const end = next === undefined ? N : Math.min(N, next.fromSample - this.processed);
       for (; n < end; n++) {
         for (let r = 0; r < Nr; r++) {
-          let accRe = 0, accIm = 0;
+          let accRe = 0,
+            accIm = 0;
           for (let t = 0; t < Nt; t++) {
             for (let d = 0; d < D; d++) {
               const m = n - d;
@@ -169,7 +176,8 @@ export class ChannelFilter {
                 xi = hist[i + 1]!;
               }
               const k = 2 * ((d * Nr + r) * Nt + t);
-              const hr = h[k]!, hi = h[k + 1]!;
+              const hr = h[k]!,
+                hi = h[k + 1]!;
               accRe += hr * xr - hi * xi;
               accIm += hr * xi + hi * xr;
             }
@@ -258,7 +266,8 @@ export class ChannelStreamFilter {
     this.sampleRateHz = grid.sampleRateHz;
     const first = options.firstSubframe ?? 0;
     checkInteger(fn, 'firstSubframe', first, 0);
-    if (first >= generator.spec.subframes) throw new RangeError(`${fn}: firstSubframe must be < ${generator.spec.subframes} (the generator's subframes), got ${first}`);
+    if (first >= generator.spec.subframes)
+      throw new RangeError(`${fn}: firstSubframe must be < ${generator.spec.subframes} (the generator's subframes), got ${first}`);
     const per = generator.stepsPerSubframe;
     this.firstStep = first * per;
     this.lastStep = generator.spec.subframes * per;
@@ -297,7 +306,9 @@ export class ChannelStreamFilter {
       // Past the last step's nominal length the channel is not defined.
       const lastEnd = Math.round((this.generator.spec.subframes * this.generator.spec.subframeS - this.t0) * this.sampleRateHz);
       if (end > lastEnd) {
-        throw new RangeError(`${fn}: the block ends at sample ${end}, past the generator's last subframe (${this.generator.spec.subframes - 1}), which ends at sample ${lastEnd}; generate more subframes`);
+        throw new RangeError(
+          `${fn}: the block ends at sample ${end}, past the generator's last subframe (${this.generator.spec.subframes - 1}), which ends at sample ${lastEnd}; generate more subframes`,
+        );
       }
     }
     return this.filter.process(x, samples, out);

@@ -41,7 +41,14 @@ export function orthogonalPilots(transmitters: number, length: number, power = 1
  * Noiseless narrowband reception Y = H X: H [Nr, Nt], X [Nt, P], out [Nr, P].
  * @example narrowbandReceive(Float64Array.of(0, 1), Float64Array.of(2, 0), 1, 1, 1) // [0, 2]
  */
-export function narrowbandReceive(H: ComplexArray, X: ComplexArray, receivers: number, transmitters: number, samples: number, out?: Float64Array): Float64Array {
+export function narrowbandReceive(
+  H: ComplexArray,
+  X: ComplexArray,
+  receivers: number,
+  transmitters: number,
+  samples: number,
+  out?: Float64Array,
+): Float64Array {
   const fn = 'narrowbandReceive()';
   checkInteger(fn, 'receivers', receivers, 1);
   checkInteger(fn, 'transmitters', transmitters, 1);
@@ -52,10 +59,13 @@ export function narrowbandReceive(H: ComplexArray, X: ComplexArray, receivers: n
   checkLength(fn, 'out', Y, 2 * receivers * samples, `[${receivers}, ${samples}] complex interleaved`);
   for (let r = 0; r < receivers; r++) {
     for (let p = 0; p < samples; p++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let t = 0; t < transmitters; t++) {
-        const hr = H[2 * (r * transmitters + t)]!, hi = H[2 * (r * transmitters + t) + 1]!;
-        const xr = X[2 * (t * samples + p)]!, xi = X[2 * (t * samples + p) + 1]!;
+        const hr = H[2 * (r * transmitters + t)]!,
+          hi = H[2 * (r * transmitters + t) + 1]!;
+        const xr = X[2 * (t * samples + p)]!,
+          xi = X[2 * (t * samples + p) + 1]!;
         re += hr * xr - hi * xi;
         im += hr * xi + hi * xr;
       }
@@ -71,12 +81,21 @@ export function narrowbandReceive(H: ComplexArray, X: ComplexArray, receivers: n
  * Throws when X X^H is singular (pilots without full row rank).
  * @example lsChannelEstimate(Float64Array.of(0, 2), Float64Array.of(2, 0), 1, 1, 1) // [0, 1]
  */
-export function lsChannelEstimate(Y: ComplexArray, X: ComplexArray, receivers: number, transmitters: number, pilotLength: number, out?: ComplexArray): ComplexArray {
+export function lsChannelEstimate(
+  Y: ComplexArray,
+  X: ComplexArray,
+  receivers: number,
+  transmitters: number,
+  pilotLength: number,
+  out?: ComplexArray,
+): ComplexArray {
   const fn = 'lsChannelEstimate()';
   checkInteger(fn, 'receivers', receivers, 1);
   checkInteger(fn, 'transmitters', transmitters, 1);
   checkInteger(fn, 'pilotLength', pilotLength, 1);
-  const Nr = receivers, Nt = transmitters, P = pilotLength;
+  const Nr = receivers,
+    Nt = transmitters,
+    P = pilotLength;
   checkLength(fn, 'Y', Y, 2 * Nr * P, `[${Nr}, ${P}] complex interleaved`);
   checkLength(fn, 'X', X, 2 * Nt * P, `[${Nt}, ${P}] complex interleaved`);
   if (P < Nt) throw new RangeError(`${fn}: pilotLength must be >= transmitters (${Nt}) for an LS estimate, got ${P}`);
@@ -86,10 +105,13 @@ export function lsChannelEstimate(Y: ComplexArray, X: ComplexArray, receivers: n
   const G = new Float64Array(2 * Nt * Nt);
   for (let a = 0; a < Nt; a++) {
     for (let b = 0; b < Nt; b++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let p = 0; p < P; p++) {
-        const ar = X[2 * (a * P + p)]!, ai = X[2 * (a * P + p) + 1]!;
-        const br = X[2 * (b * P + p)]!, bi = -X[2 * (b * P + p) + 1]!;
+        const ar = X[2 * (a * P + p)]!,
+          ai = X[2 * (a * P + p) + 1]!;
+        const br = X[2 * (b * P + p)]!,
+          bi = -X[2 * (b * P + p) + 1]!;
         re += ar * br - ai * bi;
         im += ar * bi + ai * br;
       }
@@ -102,10 +124,13 @@ export function lsChannelEstimate(Y: ComplexArray, X: ComplexArray, receivers: n
   const YXh = new Float64Array(2 * Nr * Nt);
   for (let r = 0; r < Nr; r++) {
     for (let t = 0; t < Nt; t++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let p = 0; p < P; p++) {
-        const yr = Y[2 * (r * P + p)]!, yi = Y[2 * (r * P + p) + 1]!;
-        const xr = X[2 * (t * P + p)]!, xi = -X[2 * (t * P + p) + 1]!;
+        const yr = Y[2 * (r * P + p)]!,
+          yi = Y[2 * (r * P + p) + 1]!;
+        const xr = X[2 * (t * P + p)]!,
+          xi = -X[2 * (t * P + p) + 1]!;
         re += yr * xr - yi * xi;
         im += yr * xi + yi * xr;
       }
@@ -115,10 +140,13 @@ export function lsChannelEstimate(Y: ComplexArray, X: ComplexArray, receivers: n
   }
   for (let r = 0; r < Nr; r++) {
     for (let t = 0; t < Nt; t++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let j = 0; j < Nt; j++) {
-        const ar = YXh[2 * (r * Nt + j)]!, ai = YXh[2 * (r * Nt + j) + 1]!;
-        const br = Ginv[2 * (j * Nt + t)]!, bi = Ginv[2 * (j * Nt + t) + 1]!;
+        const ar = YXh[2 * (r * Nt + j)]!,
+          ai = YXh[2 * (r * Nt + j) + 1]!;
+        const br = Ginv[2 * (j * Nt + t)]!,
+          bi = Ginv[2 * (j * Nt + t) + 1]!;
         re += ar * br - ai * bi;
         im += ar * bi + ai * br;
       }
@@ -136,7 +164,8 @@ export function lsChannelEstimate(Y: ComplexArray, X: ComplexArray, receivers: n
 export function normalizedMse(estimate: ComplexArray, truth: ComplexArray): number {
   const fn = 'normalizedMse()';
   checkLength(fn, 'estimate', estimate, truth.length, 'the same layout as truth');
-  let err = 0, ref = 0;
+  let err = 0,
+    ref = 0;
   for (let i = 0; i < truth.length; i++) {
     const d = estimate[i]! - truth[i]!;
     err += d * d;
@@ -184,36 +213,46 @@ function invertComplex(fn: string, G: Float64Array, n: number): Float64Array {
   let scale = 0;
   for (let i = 0; i < A.length; i++) scale = Math.max(scale, Math.abs(A[i]!));
   for (let c = 0; c < n; c++) {
-    let pivot = c, best = -1;
+    let pivot = c,
+      best = -1;
     for (let r = c; r < n; r++) {
       const m = Math.hypot(A[2 * (r * n + c)]!, A[2 * (r * n + c) + 1]!);
-      if (m > best) { best = m; pivot = r; }
+      if (m > best) {
+        best = m;
+        pivot = r;
+      }
     }
     if (!(best > 1e-12 * scale)) throw new RangeError(`${fn}: X X^H is singular (pilots without full row rank), got pivot ${best} at column ${c}`);
     if (pivot !== c) {
       for (let j = 0; j < 2 * n; j++) {
-        const a = 2 * c * n + j, b = 2 * pivot * n + j;
+        const a = 2 * c * n + j,
+          b = 2 * pivot * n + j;
         [A[a], A[b]] = [A[b]!, A[a]!];
         [I[a], I[b]] = [I[b]!, I[a]!];
       }
     }
-    const pr = A[2 * (c * n + c)]!, pi = A[2 * (c * n + c) + 1]!;
+    const pr = A[2 * (c * n + c)]!,
+      pi = A[2 * (c * n + c) + 1]!;
     const d = pr * pr + pi * pi;
-    const ir = pr / d, ii = -pi / d; // 1 / pivot
+    const ir = pr / d,
+      ii = -pi / d; // 1 / pivot
     for (let j = 0; j < n; j++) {
       for (const M of [A, I]) {
-        const xr = M[2 * (c * n + j)]!, xi = M[2 * (c * n + j) + 1]!;
+        const xr = M[2 * (c * n + j)]!,
+          xi = M[2 * (c * n + j) + 1]!;
         M[2 * (c * n + j)] = xr * ir - xi * ii;
         M[2 * (c * n + j) + 1] = xr * ii + xi * ir;
       }
     }
     for (let r = 0; r < n; r++) {
       if (r === c) continue;
-      const fr = A[2 * (r * n + c)]!, fi = A[2 * (r * n + c) + 1]!;
+      const fr = A[2 * (r * n + c)]!,
+        fi = A[2 * (r * n + c) + 1]!;
       if (fr === 0 && fi === 0) continue;
       for (let j = 0; j < n; j++) {
         for (const M of [A, I]) {
-          const xr = M[2 * (c * n + j)]!, xi = M[2 * (c * n + j) + 1]!;
+          const xr = M[2 * (c * n + j)]!,
+            xi = M[2 * (c * n + j) + 1]!;
           M[2 * (r * n + j)] = M[2 * (r * n + j)]! - (fr * xr - fi * xi);
           M[2 * (r * n + j) + 1] = M[2 * (r * n + j) + 1]! - (fr * xi + fi * xr);
         }

@@ -4,7 +4,17 @@
  * a signal cut into blocks gets exactly the same impairment as in one call.
  */
 import { BlockedStreams, RandomStream } from '../random.js';
-import { allocateLike, checkComplexArray, checkFinite, checkInteger, checkLength, checkNonNegative, checkPositive, checkSignal, type ComplexArray } from './checks.js';
+import {
+  allocateLike,
+  checkComplexArray,
+  checkFinite,
+  checkInteger,
+  checkLength,
+  checkNonNegative,
+  checkPositive,
+  checkSignal,
+  type ComplexArray,
+} from './checks.js';
 
 const TWO_PI = 2 * Math.PI;
 
@@ -42,10 +52,12 @@ export function applyFrequencyOffset(
 
 /** Sample n of every stream of [streams, samples] turned by exp(j phase) (x and out may alias). */
 function rotateSample(x: ComplexArray, out: ComplexArray, streams: number, samples: number, n: number, phase: number): void {
-  const c = Math.cos(phase), s = Math.sin(phase);
+  const c = Math.cos(phase),
+    s = Math.sin(phase);
   for (let t = 0; t < streams; t++) {
     const i = 2 * (t * samples + n);
-    const xr = x[i]!, xi = x[i + 1]!;
+    const xr = x[i]!,
+      xi = x[i + 1]!;
     out[i] = xr * c - xi * s;
     out[i + 1] = xr * s + xi * c;
   }
@@ -96,7 +108,8 @@ export class PhaseNoise {
 
   constructor(options: PhaseNoiseOptions) {
     const fn = 'PhaseNoise()';
-    if (options === null || typeof options !== 'object') throw new TypeError(`${fn}: options must be an object { seed, linewidthHz, sampleRateHz, key? }, got ${options}`);
+    if (options === null || typeof options !== 'object')
+      throw new TypeError(`${fn}: options must be an object { seed, linewidthHz, sampleRateHz, key? }, got ${options}`);
     checkNonNegative(fn, 'linewidthHz', options.linewidthHz);
     checkPositive(fn, 'sampleRateHz', options.sampleRateHz);
     this.linewidthHz = options.linewidthHz;
@@ -124,7 +137,8 @@ export class PhaseNoise {
   phases(out: Float64Array, samples: number): Float64Array {
     const fn = 'PhaseNoise.phases()';
     checkInteger(fn, 'samples', samples, 1);
-    if (!(out instanceof Float64Array) || out.length < samples) throw new RangeError(`${fn}: out must be a Float64Array of at least ${samples} values, got ${out instanceof Float64Array ? out.length : String(out)}`);
+    if (!(out instanceof Float64Array) || out.length < samples)
+      throw new RangeError(`${fn}: out must be a Float64Array of at least ${samples} values, got ${out instanceof Float64Array ? out.length : String(out)}`);
     for (let n = 0; n < samples; n++) out[n] = this.advance();
     return out;
   }

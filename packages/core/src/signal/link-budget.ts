@@ -123,7 +123,12 @@ export interface ReceivedSnr {
  * (module comment: P_r = P_t G(s), SNR = P_r / (k T B F)).
  * @example receivedSnr(Float64Array.of(1e-5, 0), [1, 1, 1, 1], 'frequency', { transmitPowerDbm: 30, bandwidthHz: 1e8 }).snrDb[0] // 23.98
  */
-export function receivedSnr(tensor: ComplexArray, shape: readonly [number, number, number, number], domain: 'frequency' | 'taps', budget: LinkBudget): ReceivedSnr {
+export function receivedSnr(
+  tensor: ComplexArray,
+  shape: readonly [number, number, number, number],
+  domain: 'frequency' | 'taps',
+  budget: LinkBudget,
+): ReceivedSnr {
   const noisePowerW = budgetNoisePowerW(budget);
   const gain = channelPowerGain(tensor, shape, domain);
   const transmitW = dbmToWatts(budget.transmitPowerDbm);
@@ -140,7 +145,8 @@ export function receivedSnr(tensor: ComplexArray, shape: readonly [number, numbe
 }
 
 function checkBudget(fn: string, budget: LinkBudget): void {
-  if (budget === null || typeof budget !== 'object') throw new TypeError(`${fn}: budget must be an object { transmitPowerDbm, bandwidthHz, noiseFigureDb?, temperatureK? }, got ${budget}`);
+  if (budget === null || typeof budget !== 'object')
+    throw new TypeError(`${fn}: budget must be an object { transmitPowerDbm, bandwidthHz, noiseFigureDb?, temperatureK? }, got ${budget}`);
   checkFinite(fn, 'budget.transmitPowerDbm', budget.transmitPowerDbm);
   checkPositive(fn, 'budget.bandwidthHz', budget.bandwidthHz);
   if (budget.noiseFigureDb !== undefined) checkFinite(fn, 'budget.noiseFigureDb', budget.noiseFigureDb);

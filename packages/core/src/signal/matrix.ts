@@ -49,7 +49,12 @@ export interface SteeringOptions {
  * steeringVector(ula, { azimuthDeg: 90, elevationDeg: 0 }, 28e9, { normalize: false }) // Float64Array [0, -1, 0, 1]: exp(-j pi/2), exp(+j pi/2)
  * steeringVector(ula, [0, 1, 0], 28e9, { side: 'transmit' }) // Float64Array [0, 0.7071, 0, -0.7071]: conj, over sqrt(2)
  */
-export function steeringVector(array: AntennaArray, direction: Readonly<Vec3> | { azimuthDeg: number; elevationDeg: number }, carrierHz: number, options: SteeringOptions = {}): Float64Array {
+export function steeringVector(
+  array: AntennaArray,
+  direction: Readonly<Vec3> | { azimuthDeg: number; elevationDeg: number },
+  carrierHz: number,
+  options: SteeringOptions = {},
+): Float64Array {
   const fn = 'steeringVector()';
   checkPositive(fn, 'carrierHz', carrierHz);
   let u: Vec3;
@@ -61,7 +66,9 @@ export function steeringVector(array: AntennaArray, direction: Readonly<Vec3> | 
   } else {
     const { azimuthDeg, elevationDeg } = direction as { azimuthDeg: number; elevationDeg: number };
     if (!Number.isFinite(azimuthDeg) || !Number.isFinite(elevationDeg) || Math.abs(elevationDeg) > 90) {
-      throw new RangeError(`${fn}: direction must be { azimuthDeg, elevationDeg } with finite degrees and |elevationDeg| <= 90, got ${JSON.stringify(direction)}`);
+      throw new RangeError(
+        `${fn}: direction must be { azimuthDeg, elevationDeg } with finite degrees and |elevationDeg| <= 90, got ${JSON.stringify(direction)}`,
+      );
     }
     u = unitFromDeg(azimuthDeg, elevationDeg);
   }
@@ -111,10 +118,13 @@ export function subcarrierMatrix(generator: ChannelGenerator, subframe: TensorAr
   const [bins, Nr, Nt] = [shape[n - 3]!, shape[n - 2]!, shape[n - 1]!];
   const symbols = generator.stepsPerSubframe;
   if (subframe.length !== 2 * generator.valuesPerSubframe) {
-    throw new RangeError(`${fn}: subframe must hold one subframe of the generator (${2 * generator.valuesPerSubframe} numbers, [${shape.slice(1).join(', ')}] complex interleaved), got ${subframe.length}`);
+    throw new RangeError(
+      `${fn}: subframe must hold one subframe of the generator (${2 * generator.valuesPerSubframe} numbers, [${shape.slice(1).join(', ')}] complex interleaved), got ${subframe.length}`,
+    );
   }
   checkInteger(fn, 'k', k, 0);
-  if (k >= bins) throw new RangeError(`${fn}: k must be < ${bins} (the ${generator.spec.grid.domain === 'taps' ? 'taps' : 'subcarriers'} of the generator), got ${k}`);
+  if (k >= bins)
+    throw new RangeError(`${fn}: k must be < ${bins} (the ${generator.spec.grid.domain === 'taps' ? 'taps' : 'subcarriers'} of the generator), got ${k}`);
   const symbol = index.symbol ?? 0;
   checkInteger(fn, 'symbol', symbol, 0);
   if (symbol >= symbols) throw new RangeError(`${fn}: symbol must be < ${symbols} (the steps per subframe of the generator), got ${symbol}`);
@@ -132,8 +142,10 @@ export function subcarrierMatrix(generator: ChannelGenerator, subframe: TensorAr
 export function complexSingularValues(data: ComplexArray, offset: number, Nr: number, Nt: number): number[] {
   const fn = 'complexSingularValues()';
   checkComplexArray(fn, 'data', data);
-  if (!(Number.isSafeInteger(Nr) && Nr >= 1 && Number.isSafeInteger(Nt) && Nt >= 1)) throw new RangeError(`${fn}: Nr and Nt must be integers >= 1, got ${Nr} x ${Nt}`);
-  if (!(Number.isSafeInteger(offset) && offset >= 0 && offset + 2 * Nr * Nt <= data.length)) throw new RangeError(`${fn}: ${Nr} x ${Nt} values at offset ${offset} exceed the ${data.length} numbers given`);
+  if (!(Number.isSafeInteger(Nr) && Nr >= 1 && Number.isSafeInteger(Nt) && Nt >= 1))
+    throw new RangeError(`${fn}: Nr and Nt must be integers >= 1, got ${Nr} x ${Nt}`);
+  if (!(Number.isSafeInteger(offset) && offset >= 0 && offset + 2 * Nr * Nt <= data.length))
+    throw new RangeError(`${fn}: ${Nr} x ${Nt} values at offset ${offset} exceed the ${data.length} numbers given`);
   const real: number[][] = Array.from({ length: 2 * Nr }, () => new Array<number>(2 * Nt).fill(0));
   for (let r = 0; r < Nr; r++) {
     for (let c = 0; c < Nt; c++) {
@@ -145,7 +157,9 @@ export function complexSingularValues(data: ComplexArray, offset: number, Nr: nu
       real[r + Nr]![c + Nt] = re;
     }
   }
-  const all = new SingularValueDecomposition(real, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal.slice().sort((a, b) => b - a);
+  const all = new SingularValueDecomposition(real, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal
+    .slice()
+    .sort((a, b) => b - a);
   // Each value appears twice: keep one of each pair.
   return Array.from({ length: Math.min(Nr, Nt) }, (_, i) => all[2 * i]!);
 }

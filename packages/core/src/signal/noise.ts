@@ -143,7 +143,8 @@ export class NoiseSource {
   add(y: ComplexArray, samples: number, variance: number | undefined = this.noiseFloor, firstSample = this.position): ComplexArray {
     const fn = 'NoiseSource.add()';
     checkSignal(fn, 'y', y, this.streams, samples);
-    if (variance === undefined) throw new TypeError(`${fn}: no noise power: give variance, or create the source with noisePowerW (a stated floor) or budget (thermal k T B F)`);
+    if (variance === undefined)
+      throw new TypeError(`${fn}: no noise power: give variance, or create the source with noisePowerW (a stated floor) or budget (thermal k T B F)`);
     checkNonNegative(fn, 'variance', variance);
     checkInteger(fn, 'firstSample', firstSample, 0);
     const draw = this.draw;
@@ -181,11 +182,12 @@ export class NoiseSource {
       if (typeof reference !== 'object' || reference.perCall !== true) {
         throw new TypeError(
           `${fn}: no reference power for the SNR: create the source with referencePower (the received signal power per antenna, fixed for the run), ` +
-            'pass referencePower here, or pass { perCall: true } to scale the noise to each call\'s own signal power (this behaves like automatic gain control)',
+            "pass referencePower here, or pass { perCall: true } to scale the noise to each call's own signal power (this behaves like automatic gain control)",
         );
       }
       signalPower = meanPower(y, this.streams, samples);
-      if (!(signalPower > 0)) throw new RangeError(`${fn}: the signal has zero power, so an SNR cannot set the noise; give referencePower, got signal power ${signalPower}`);
+      if (!(signalPower > 0))
+        throw new RangeError(`${fn}: the signal has zero power, so an SNR cannot set the noise; give referencePower, got signal power ${signalPower}`);
     } else {
       checkPositive(fn, 'referencePower', referencePower);
       signalPower = referencePower;

@@ -79,7 +79,9 @@ export class OfdmModem {
     const fn = 'OfdmModem.modulate()';
     checkInteger(fn, 'streams', streams, 1);
     checkInteger(fn, 'symbols', symbols, 1);
-    const K = this.subcarriers, cp = this.cyclicPrefix, L = this.symbolLength;
+    const K = this.subcarriers,
+      cp = this.cyclicPrefix,
+      L = this.symbolLength;
     checkLength(fn, 'X', X, 2 * streams * symbols * K, `[${streams}, ${symbols}, ${K}] complex interleaved`);
     const N = symbols * L;
     const x = out ?? allocateLike(X, 2 * streams * N);
@@ -118,7 +120,9 @@ export class OfdmModem {
     const fn = 'OfdmModem.demodulate()';
     checkInteger(fn, 'streams', streams, 1);
     checkSignal(fn, 'y', y, streams, samples);
-    const K = this.subcarriers, cp = this.cyclicPrefix, L = this.symbolLength;
+    const K = this.subcarriers,
+      cp = this.cyclicPrefix,
+      L = this.symbolLength;
     if (samples % L !== 0) throw new RangeError(`${fn}: samples must be a whole number of symbols of ${L} samples (cp ${cp} + K ${K}), got ${samples}`);
     const symbols = samples / L;
     const Y = out ?? allocateLike(y, 2 * streams * symbols * K);
@@ -147,13 +151,21 @@ export class OfdmModem {
  * index k' d is reduced modulo K in integers, so large products lose nothing.
  * @example tapsToSubcarriers(Float64Array.of(0, 0, 1, 0), 2, 1, 1, 4) // delay of one sample: [-1,0, 0,1, 1,0, 0,-1]
  */
-export function tapsToSubcarriers(h: ComplexArray, count: number, receivers: number, transmitters: number, subcarriers: number, out?: ComplexArray): ComplexArray {
+export function tapsToSubcarriers(
+  h: ComplexArray,
+  count: number,
+  receivers: number,
+  transmitters: number,
+  subcarriers: number,
+  out?: ComplexArray,
+): ComplexArray {
   const fn = 'tapsToSubcarriers()';
   checkInteger(fn, 'count', count, 1);
   checkInteger(fn, 'receivers', receivers, 1);
   checkInteger(fn, 'transmitters', transmitters, 1);
   checkInteger(fn, 'subcarriers', subcarriers, 1);
-  const M = receivers * transmitters, K = subcarriers;
+  const M = receivers * transmitters,
+    K = subcarriers;
   checkLength(fn, 'h', h, 2 * count * M, `[${count}, ${receivers}, ${transmitters}] complex interleaved`);
   const H = out ?? allocateLike(h, 2 * K * M);
   checkLength(fn, 'out', H, 2 * K * M, `[${K}, ${receivers}, ${transmitters}] complex interleaved`);
@@ -161,11 +173,14 @@ export function tapsToSubcarriers(h: ComplexArray, count: number, receivers: num
   for (let k = 0; k < K; k++) {
     const kk = (((k - centre) % K) + K) % K;
     for (let m = 0; m < M; m++) {
-      let re = 0, im = 0;
+      let re = 0,
+        im = 0;
       for (let d = 0; d < count; d++) {
         const phase = (-2 * Math.PI * ((kk * d) % K)) / K;
-        const c = Math.cos(phase), s = Math.sin(phase);
-        const hr = h[2 * (d * M + m)]!, hi = h[2 * (d * M + m) + 1]!;
+        const c = Math.cos(phase),
+          s = Math.sin(phase);
+        const hr = h[2 * (d * M + m)]!,
+          hi = h[2 * (d * M + m) + 1]!;
         re += hr * c - hi * s;
         im += hr * s + hi * c;
       }

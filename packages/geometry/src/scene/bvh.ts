@@ -66,7 +66,8 @@ export class Bvh {
     for (let p = 0; p < P; p++) {
       order[p] = p;
       for (let k = 0; k < 3; k++) {
-        const lo = boxes[6 * p + k]!, hi = boxes[6 * p + 3 + k]!;
+        const lo = boxes[6 * p + k]!,
+          hi = boxes[6 * p + 3 + k]!;
         if (!(lo <= hi)) throw new RangeError(`Bvh(): box ${p} has min > max (or NaN) on axis ${k}: ${lo} > ${hi}`);
         centre[3 * p + k] = Number.isFinite(lo) && Number.isFinite(hi) ? 0.5 * (lo + hi) : 0;
       }
@@ -76,7 +77,12 @@ export class Bvh {
     const work: number[] = [];
     const newNode = (start: number, end: number): number => {
       const n = nodes++;
-      let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
+      let x0 = Infinity,
+        y0 = Infinity,
+        z0 = Infinity,
+        x1 = -Infinity,
+        y1 = -Infinity,
+        z1 = -Infinity;
       for (let i = start; i < end; i++) {
         const o = 6 * order[i]!;
         if (boxes[o]! < x0) x0 = boxes[o]!;
@@ -86,30 +92,54 @@ export class Bvh {
         if (boxes[o + 4]! > y1) y1 = boxes[o + 4]!;
         if (boxes[o + 5]! > z1) z1 = boxes[o + 5]!;
       }
-      bounds[6 * n] = x0; bounds[6 * n + 1] = y0; bounds[6 * n + 2] = z0;
-      bounds[6 * n + 3] = x1; bounds[6 * n + 4] = y1; bounds[6 * n + 5] = z1;
+      bounds[6 * n] = x0;
+      bounds[6 * n + 1] = y0;
+      bounds[6 * n + 2] = z0;
+      bounds[6 * n + 3] = x1;
+      bounds[6 * n + 4] = y1;
+      bounds[6 * n + 5] = z1;
       return n;
     };
     if (P === 0) {
       bounds.fill(0, 0, 6); // an empty leaf that nothing reaches (its box is never entered: count 0)
-      first[0] = 0; count[0] = 0; nodes = 1;
+      first[0] = 0;
+      count[0] = 0;
+      nodes = 1;
     } else {
       work.push(newNode(0, P), 0, P);
     }
     while (work.length > 0) {
-      const end = work.pop()!, start = work.pop()!, n = work.pop()!;
-      if (n < 0) { // marker: the second child of inner node -n - 1 starts here
+      const end = work.pop()!,
+        start = work.pop()!,
+        n = work.pop()!;
+      if (n < 0) {
+        // marker: the second child of inner node -n - 1 starts here
         count[-n - 1] = nodes;
         work.push(newNode(start, end), start, end);
         continue;
       }
       const m = end - start;
-      if (m <= BVH_LEAF_SIZE) { first[n] = start; count[n] = m; continue; }
-      let c0 = Infinity, c1 = -Infinity, axis = 0, spread = -1;
+      if (m <= BVH_LEAF_SIZE) {
+        first[n] = start;
+        count[n] = m;
+        continue;
+      }
+      let c0 = Infinity,
+        c1 = -Infinity,
+        axis = 0,
+        spread = -1;
       for (let k = 0; k < 3; k++) {
-        c0 = Infinity; c1 = -Infinity;
-        for (let i = start; i < end; i++) { const c = centre[3 * order[i]! + k]!; if (c < c0) c0 = c; if (c > c1) c1 = c; }
-        if (c1 - c0 > spread) { spread = c1 - c0; axis = k; }
+        c0 = Infinity;
+        c1 = -Infinity;
+        for (let i = start; i < end; i++) {
+          const c = centre[3 * order[i]! + k]!;
+          if (c < c0) c0 = c;
+          if (c > c1) c1 = c;
+        }
+        if (c1 - c0 > spread) {
+          spread = c1 - c0;
+          axis = k;
+        }
       }
       const mid = start + (m >> 1);
       selectNth(order, centre, axis, start, end, mid);
@@ -137,8 +167,14 @@ export class Bvh {
    */
   forEachOnSegment(ax: number, ay: number, az: number, bx: number, by: number, bz: number, visit: (primitive: number) => boolean, pad = 1e-9): boolean {
     if (this.size === 0) return false;
-    const dx = bx - ax, dy = by - ay, dz = bz - az;
-    const b = this.nodeBounds, first = this.nodeFirst, count = this.nodeCount, order = this.order, stack = this.stack;
+    const dx = bx - ax,
+      dy = by - ay,
+      dz = bz - az;
+    const b = this.nodeBounds,
+      first = this.nodeFirst,
+      count = this.nodeCount,
+      order = this.order,
+      stack = this.stack;
     let top = 0;
     stack[top++] = 0;
     while (top > 0) {
@@ -169,14 +205,32 @@ export class Bvh {
    * const t = new Float64Array(1);
    * [bvh.raycast(0, 0, 0, 1, 0, 0, 10, (p) => (p === 0 ? 2 : 5), t), t[0]] // [0, 2]: the plate at x = 2 is hit first
    */
-  raycast(ox: number, oy: number, oz: number, dx: number, dy: number, dz: number, tMax: number, intersect: (primitive: number, tBest: number) => number, out: Float64Array): number {
+  raycast(
+    ox: number,
+    oy: number,
+    oz: number,
+    dx: number,
+    dy: number,
+    dz: number,
+    tMax: number,
+    intersect: (primitive: number, tBest: number) => number,
+    out: Float64Array,
+  ): number {
     out[0] = tMax;
     if (this.size === 0) return -1;
-    const b = this.nodeBounds, first = this.nodeFirst, count = this.nodeCount, order = this.order, stack = this.stack, st = this.stackT;
-    let best = -1, tBest = tMax, top = 0;
+    const b = this.nodeBounds,
+      first = this.nodeFirst,
+      count = this.nodeCount,
+      order = this.order,
+      stack = this.stack,
+      st = this.stackT;
+    let best = -1,
+      tBest = tMax,
+      top = 0;
     const t0 = boxEntry(b, 0, ox, oy, oz, dx, dy, dz, tBest);
     if (t0 === Infinity) return -1;
-    stack[top] = 0; st[top++] = t0;
+    stack[top] = 0;
+    st[top++] = t0;
     while (top > 0) {
       top--;
       const n = stack[top]!;
@@ -186,18 +240,35 @@ export class Bvh {
         for (let i = f, e = f + count[n]!; i < e; i++) {
           const p = order[i]!;
           const t = intersect(p, tBest);
-          if (t > 0 && t < tBest) { tBest = t; best = p; }
+          if (t > 0 && t < tBest) {
+            tBest = t;
+            best = p;
+          }
         }
       } else {
-        const c1 = n + 1, c2 = count[n]!;
-        const e1 = boxEntry(b, 6 * c1, ox, oy, oz, dx, dy, dz, tBest), e2 = boxEntry(b, 6 * c2, ox, oy, oz, dx, dy, dz, tBest);
+        const c1 = n + 1,
+          c2 = count[n]!;
+        const e1 = boxEntry(b, 6 * c1, ox, oy, oz, dx, dy, dz, tBest),
+          e2 = boxEntry(b, 6 * c2, ox, oy, oz, dx, dy, dz, tBest);
         // push the farther first so the nearer is popped first
         if (e1 <= e2) {
-          if (e2 !== Infinity) { stack[top] = c2; st[top++] = e2; }
-          if (e1 !== Infinity) { stack[top] = c1; st[top++] = e1; }
+          if (e2 !== Infinity) {
+            stack[top] = c2;
+            st[top++] = e2;
+          }
+          if (e1 !== Infinity) {
+            stack[top] = c1;
+            st[top++] = e1;
+          }
         } else {
-          if (e1 !== Infinity) { stack[top] = c1; st[top++] = e1; }
-          if (e2 !== Infinity) { stack[top] = c2; st[top++] = e2; }
+          if (e1 !== Infinity) {
+            stack[top] = c1;
+            st[top++] = e1;
+          }
+          if (e2 !== Infinity) {
+            stack[top] = c2;
+            st[top++] = e2;
+          }
         }
       }
     }
@@ -220,17 +291,36 @@ export class Bvh {
     if (this.size === 0) return 0;
     // Per plane, once: which bound of each axis is the far corner along n (a zero component reads
     // the lower bound with weight 0, and an infinite bound there is replaced by 0 via `use`).
-    if (this.planeScratch.length < 7 * planeCount) { this.planeScratch = new Float64Array(7 * planeCount); this.pick = new Int32Array(3 * planeCount); }
-    const P = this.planeScratch, pick = this.pick;
+    if (this.planeScratch.length < 7 * planeCount) {
+      this.planeScratch = new Float64Array(7 * planeCount);
+      this.pick = new Int32Array(3 * planeCount);
+    }
+    const P = this.planeScratch,
+      pick = this.pick;
     for (let q = 0; q < planeCount; q++) {
       const src = 4 * (planeStart + q);
-      const nx = planes[src]!, ny = planes[src + 1]!, nz = planes[src + 2]!;
-      P[7 * q] = nx; P[7 * q + 1] = ny; P[7 * q + 2] = nz; P[7 * q + 3] = planes[src + 3]! - margin;
-      P[7 * q + 4] = nx === 0 ? 0 : 1; P[7 * q + 5] = ny === 0 ? 0 : 1; P[7 * q + 6] = nz === 0 ? 0 : 1;
-      pick[3 * q] = nx > 0 ? 3 : 0; pick[3 * q + 1] = ny > 0 ? 4 : 1; pick[3 * q + 2] = nz > 0 ? 5 : 2;
+      const nx = planes[src]!,
+        ny = planes[src + 1]!,
+        nz = planes[src + 2]!;
+      P[7 * q] = nx;
+      P[7 * q + 1] = ny;
+      P[7 * q + 2] = nz;
+      P[7 * q + 3] = planes[src + 3]! - margin;
+      P[7 * q + 4] = nx === 0 ? 0 : 1;
+      P[7 * q + 5] = ny === 0 ? 0 : 1;
+      P[7 * q + 6] = nz === 0 ? 0 : 1;
+      pick[3 * q] = nx > 0 ? 3 : 0;
+      pick[3 * q + 1] = ny > 0 ? 4 : 1;
+      pick[3 * q + 2] = nz > 0 ? 5 : 2;
     }
-    const b = this.nodeBounds, first = this.nodeFirst, count = this.nodeCount, order = this.order, stack = this.stack, boxes = this.boxes;
-    let top = 0, found = offset;
+    const b = this.nodeBounds,
+      first = this.nodeFirst,
+      count = this.nodeCount,
+      order = this.order,
+      stack = this.stack,
+      boxes = this.boxes;
+    let top = 0,
+      found = offset;
     stack[top++] = 0;
     while (top > 0) {
       const n = stack[--top]!;
@@ -253,7 +343,9 @@ export class Bvh {
 /** True when the box at offset o lies wholly outside one of the prepared planes (see collectInHalfSpaces). */
 function outsidePicked(b: Float64Array, o: number, P: Float64Array, pick: Int32Array, planeCount: number): boolean {
   for (let q = 0, r = 0, t = 0; q < planeCount; q++, r += 7, t += 3) {
-    const x = b[o + pick[t]!]!, y = b[o + pick[t + 1]!]!, z = b[o + pick[t + 2]!]!;
+    const x = b[o + pick[t]!]!,
+      y = b[o + pick[t + 1]!]!,
+      z = b[o + pick[t + 2]!]!;
     const best = (P[r + 4] === 0 ? 0 : P[r]! * x) + (P[r + 5] === 0 ? 0 : P[r + 1]! * y) + (P[r + 6] === 0 ? 0 : P[r + 2]! * z);
     if (best < P[r + 3]!) return true;
   }
@@ -262,14 +354,22 @@ function outsidePicked(b: Float64Array, o: number, P: Float64Array, pick: Int32A
 
 /** Partial sort of order[start, end) so that order[nth] has the nth centre on `axis` (quickselect). */
 function selectNth(order: Int32Array, centre: Float64Array, axis: number, start: number, end: number, nth: number): void {
-  let lo = start, hi = end - 1;
+  let lo = start,
+    hi = end - 1;
   while (hi > lo) {
     const pivot = centre[3 * order[(lo + hi) >> 1]! + axis]!;
-    let i = lo, j = hi;
+    let i = lo,
+      j = hi;
     while (i <= j) {
       while (centre[3 * order[i]! + axis]! < pivot) i++;
       while (centre[3 * order[j]! + axis]! > pivot) j--;
-      if (i <= j) { const t = order[i]!; order[i] = order[j]!; order[j] = t; i++; j--; }
+      if (i <= j) {
+        const t = order[i]!;
+        order[i] = order[j]!;
+        order[j] = t;
+        i++;
+        j--;
+      }
     }
     if (nth <= j) hi = j;
     else if (nth >= i) lo = i;
@@ -279,31 +379,53 @@ function selectNth(order: Int32Array, centre: Float64Array, axis: number, start:
 
 /** Slab test of the closed segment a + t d, t in [0, 1], against box at offset o widened by pad. */
 function segmentTouchesBox(b: Float64Array, o: number, ax: number, ay: number, az: number, dx: number, dy: number, dz: number, pad: number): boolean {
-  let t0 = 0, t1 = 1;
+  let t0 = 0,
+    t1 = 1;
   // x
-  let lo = b[o]! - pad, hi = b[o + 3]! + pad;
-  if (dx === 0) { if (ax < lo || ax > hi) return false; }
-  else {
-    let u = (lo - ax) / dx, v = (hi - ax) / dx;
-    if (u > v) { const w = u; u = v; v = w; }
+  let lo = b[o]! - pad,
+    hi = b[o + 3]! + pad;
+  if (dx === 0) {
+    if (ax < lo || ax > hi) return false;
+  } else {
+    let u = (lo - ax) / dx,
+      v = (hi - ax) / dx;
+    if (u > v) {
+      const w = u;
+      u = v;
+      v = w;
+    }
     if (u > t0) t0 = u;
     if (v < t1) t1 = v;
     if (t0 > t1) return false;
   }
-  lo = b[o + 1]! - pad; hi = b[o + 4]! + pad;
-  if (dy === 0) { if (ay < lo || ay > hi) return false; }
-  else {
-    let u = (lo - ay) / dy, v = (hi - ay) / dy;
-    if (u > v) { const w = u; u = v; v = w; }
+  lo = b[o + 1]! - pad;
+  hi = b[o + 4]! + pad;
+  if (dy === 0) {
+    if (ay < lo || ay > hi) return false;
+  } else {
+    let u = (lo - ay) / dy,
+      v = (hi - ay) / dy;
+    if (u > v) {
+      const w = u;
+      u = v;
+      v = w;
+    }
     if (u > t0) t0 = u;
     if (v < t1) t1 = v;
     if (t0 > t1) return false;
   }
-  lo = b[o + 2]! - pad; hi = b[o + 5]! + pad;
-  if (dz === 0) { if (az < lo || az > hi) return false; }
-  else {
-    let u = (lo - az) / dz, v = (hi - az) / dz;
-    if (u > v) { const w = u; u = v; v = w; }
+  lo = b[o + 2]! - pad;
+  hi = b[o + 5]! + pad;
+  if (dz === 0) {
+    if (az < lo || az > hi) return false;
+  } else {
+    let u = (lo - az) / dz,
+      v = (hi - az) / dz;
+    if (u > v) {
+      const w = u;
+      u = v;
+      v = w;
+    }
     if (u > t0) t0 = u;
     if (v < t1) t1 = v;
     if (t0 > t1) return false;
@@ -313,14 +435,25 @@ function segmentTouchesBox(b: Float64Array, o: number, ax: number, ay: number, a
 
 /** Ray parameter where o + t d enters the box (0 if inside), Infinity when it misses within [0, tMax]. */
 function boxEntry(b: Float64Array, o: number, ox: number, oy: number, oz: number, dx: number, dy: number, dz: number, tMax: number): number {
-  let t0 = 0, t1 = tMax;
+  let t0 = 0,
+    t1 = tMax;
   const pad = 1e-9;
   for (let k = 0; k < 3; k++) {
-    const p = k === 0 ? ox : k === 1 ? oy : oz, d = k === 0 ? dx : k === 1 ? dy : dz;
-    const lo = b[o + k]! - pad, hi = b[o + 3 + k]! + pad;
-    if (d === 0) { if (p < lo || p > hi) return Infinity; continue; }
-    let u = (lo - p) / d, v = (hi - p) / d;
-    if (u > v) { const w = u; u = v; v = w; }
+    const p = k === 0 ? ox : k === 1 ? oy : oz,
+      d = k === 0 ? dx : k === 1 ? dy : dz;
+    const lo = b[o + k]! - pad,
+      hi = b[o + 3 + k]! + pad;
+    if (d === 0) {
+      if (p < lo || p > hi) return Infinity;
+      continue;
+    }
+    let u = (lo - p) / d,
+      v = (hi - p) / d;
+    if (u > v) {
+      const w = u;
+      u = v;
+      v = w;
+    }
     if (u > t0) t0 = u;
     if (v < t1) t1 = v;
     if (t0 > t1) return Infinity;

@@ -50,15 +50,29 @@ const TWO_PI = 2 * Math.PI;
  */
 function kellerPoint(wd: Float64Array, w: number, s: Readonly<Vec3>, o: Readonly<Vec3>, out: Float64Array): boolean {
   const b = WEDGE_STRIDE * w;
-  const ax = wd[b]!, ay = wd[b + 1]!, az = wd[b + 2]!, ex = wd[b + 3]!, ey = wd[b + 4]!, ez = wd[b + 5]!, len = wd[b + 6]!;
-  const sx = s[0] - ax, sy = s[1] - ay, sz = s[2] - az;
-  const ox = o[0] - ax, oy = o[1] - ay, oz = o[2] - az;
-  const ts = sx * ex + sy * ey + sz * ez, to = ox * ex + oy * ey + oz * ez;
-  const rs = Math.hypot(sx - ts * ex, sy - ts * ey, sz - ts * ez), ro = Math.hypot(ox - to * ex, oy - to * ey, oz - to * ez);
+  const ax = wd[b]!,
+    ay = wd[b + 1]!,
+    az = wd[b + 2]!,
+    ex = wd[b + 3]!,
+    ey = wd[b + 4]!,
+    ez = wd[b + 5]!,
+    len = wd[b + 6]!;
+  const sx = s[0] - ax,
+    sy = s[1] - ay,
+    sz = s[2] - az;
+  const ox = o[0] - ax,
+    oy = o[1] - ay,
+    oz = o[2] - az;
+  const ts = sx * ex + sy * ey + sz * ez,
+    to = ox * ex + oy * ey + oz * ez;
+  const rs = Math.hypot(sx - ts * ex, sy - ts * ey, sz - ts * ez),
+    ro = Math.hypot(ox - to * ex, oy - to * ey, oz - to * ez);
   if (!(rs > 1e-9) || !(ro > 1e-9)) return false;
   const t = ts + ((to - ts) * rs) / (rs + ro);
   if (len !== Infinity && (t < 0 || t > len)) return false;
-  out[0] = ax + t * ex; out[1] = ay + t * ey; out[2] = az + t * ez;
+  out[0] = ax + t * ex;
+  out[1] = ay + t * ey;
+  out[2] = az + t * ez;
   return true;
 }
 
@@ -71,9 +85,13 @@ function kellerPoint(wd: Float64Array, w: number, s: Readonly<Vec3>, o: Readonly
  */
 export function wedgeAngle(wd: Float64Array, w: number, dx: number, dy: number, dz: number): number {
   const b = WEDGE_STRIDE * w;
-  const ex = wd[b + 3]!, ey = wd[b + 4]!, ez = wd[b + 5]!;
+  const ex = wd[b + 3]!,
+    ey = wd[b + 4]!,
+    ez = wd[b + 5]!;
   const c = dx * ex + dy * ey + dz * ez;
-  const px = dx - c * ex, py = dy - c * ey, pz = dz - c * ez;
+  const px = dx - c * ex,
+    py = dy - c * ey,
+    pz = dz - c * ez;
   let a = Math.atan2(px * wd[b + 10]! + py * wd[b + 11]! + pz * wd[b + 12]!, px * wd[b + 7]! + py * wd[b + 8]! + pz * wd[b + 9]!);
   if (a < 0) a += TWO_PI;
   return a;
@@ -86,9 +104,12 @@ function outsideWedge(wd: Float64Array, w: number, q: Float64Array, s: Readonly<
 }
 
 function mirrorInto(ps: PreparedScene, w: number, p: Readonly<Vec3>, out: Vec3): Vec3 {
-  const pl = ps.planes, o = 4 * w;
+  const pl = ps.planes,
+    o = 4 * w;
   const f = pl[o]! * p[0] + pl[o + 1]! * p[1] + pl[o + 2]! * p[2] - pl[o + 3]!;
-  out[0] = p[0] - 2 * f * pl[o]!; out[1] = p[1] - 2 * f * pl[o + 1]!; out[2] = p[2] - 2 * f * pl[o + 2]!;
+  out[0] = p[0] - 2 * f * pl[o]!;
+  out[1] = p[1] - 2 * f * pl[o + 1]!;
+  out[2] = p[2] - 2 * f * pl[o + 2]!;
   return out;
 }
 
@@ -97,12 +118,19 @@ function mirrorInto(ps: PreparedScene, w: number, p: Readonly<Vec3>, out: Vec3):
  * and the crossing lies inside it; writes `out`.
  */
 function reflectionPoint(ps: PreparedScene, w: number, qx: number, qy: number, qz: number, i: Readonly<Vec3>, out: Float64Array): boolean {
-  const pl = ps.planes, o = 4 * w;
-  const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
-  const fq = nx * qx + ny * qy + nz * qz - d, fi = nx * i[0] + ny * i[1] + nz * i[2] - d;
+  const pl = ps.planes,
+    o = 4 * w;
+  const nx = pl[o]!,
+    ny = pl[o + 1]!,
+    nz = pl[o + 2]!,
+    d = pl[o + 3]!;
+  const fq = nx * qx + ny * qy + nz * qz - d,
+    fi = nx * i[0] + ny * i[1] + nz * i[2] - d;
   if (!((fq > 0 && fi < 0) || (fq < 0 && fi > 0))) return false;
   const s = fq / (fq - fi);
-  out[0] = qx + s * (i[0] - qx); out[1] = qy + s * (i[1] - qy); out[2] = qz + s * (i[2] - qz);
+  out[0] = qx + s * (i[0] - qx);
+  out[1] = qy + s * (i[1] - qy);
+  out[2] = qz + s * (i[2] - qz);
   return ps.insideWall(w, out[0], out[1], out[2], 1e-9);
 }
 
@@ -114,18 +142,30 @@ function reflectionPoint(ps: PreparedScene, w: number, qx: number, qy: number, q
  * const ps = prepareScene({ walls: [{ vertices: [[0, 0], [10, 0]] }] });
  * traceDiffractions(ps, [2, 5, 0], [3, -5, 0], false, (steps) => console.log(steps)) // [{ type: 'diffraction', index: 0 }] then [{ type: 'diffraction', index: 1 }]
  */
-export function traceDiffractions(ps: PreparedScene, tx: Readonly<Vec3>, rx: Readonly<Vec3>, withReflection: boolean, emit: (steps: DiffractionStep[], points: Vec3[]) => void): void {
+export function traceDiffractions(
+  ps: PreparedScene,
+  tx: Readonly<Vec3>,
+  rx: Readonly<Vec3>,
+  withReflection: boolean,
+  emit: (steps: DiffractionStep[], points: Vec3[]) => void,
+): void {
   const wedges = sceneWedges(ps);
-  const wd = wedges.data, faces = wedges.faces;
-  const q = new Float64Array(3), p = new Float64Array(3);
+  const wd = wedges.data,
+    faces = wedges.faces;
+  const q = new Float64Array(3),
+    p = new Float64Array(3);
   const image: Vec3 = [0, 0, 0];
   const W = ps.wallCount;
   for (let w = 0; w < wedges.count; w++) {
-    const f0 = faces[2 * w]!, fn = faces[2 * w + 1]!;
+    const f0 = faces[2 * w]!,
+      fn = faces[2 * w + 1]!;
     // tx -> Q -> rx
-    if (kellerPoint(wd, w, tx, rx, q) && outsideWedge(wd, w, q, tx, rx)
-      && !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn)
-      && !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)) {
+    if (
+      kellerPoint(wd, w, tx, rx, q) &&
+      outsideWedge(wd, w, q, tx, rx) &&
+      !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn) &&
+      !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)
+    ) {
       emit([{ type: 'diffraction', index: w }], [[q[0]!, q[1]!, q[2]!]]);
     }
     if (!withReflection) continue;
@@ -133,19 +173,45 @@ export function traceDiffractions(ps: PreparedScene, tx: Readonly<Vec3>, rx: Rea
       if (r === f0 || r === fn) continue;
       // tx -> P (wall r) -> Q -> rx: source = image of tx
       mirrorInto(ps, r, tx, image);
-      if (kellerPoint(wd, w, image, rx, q) && outsideWedge(wd, w, q, image, rx) && reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p)
-        && !ps.segmentHitsWall(tx[0], tx[1], tx[2], p[0]!, p[1]!, p[2]!, r, -1)
-        && !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, q[0]!, q[1]!, q[2]!, r, f0)
-        && !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)) {
-        emit([{ type: 'reflection', index: r }, { type: 'diffraction', index: w }], [[p[0]!, p[1]!, p[2]!], [q[0]!, q[1]!, q[2]!]]);
+      if (
+        kellerPoint(wd, w, image, rx, q) &&
+        outsideWedge(wd, w, q, image, rx) &&
+        reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
+        !ps.segmentHitsWall(tx[0], tx[1], tx[2], p[0]!, p[1]!, p[2]!, r, -1) &&
+        !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, q[0]!, q[1]!, q[2]!, r, f0) &&
+        !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)
+      ) {
+        emit(
+          [
+            { type: 'reflection', index: r },
+            { type: 'diffraction', index: w },
+          ],
+          [
+            [p[0]!, p[1]!, p[2]!],
+            [q[0]!, q[1]!, q[2]!],
+          ],
+        );
       }
       // tx -> Q -> P (wall r) -> rx: observer = image of rx
       mirrorInto(ps, r, rx, image);
-      if (kellerPoint(wd, w, tx, image, q) && outsideWedge(wd, w, q, tx, image) && reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p)
-        && !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn)
-        && !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, p[0]!, p[1]!, p[2]!, r, f0)
-        && !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, rx[0], rx[1], rx[2], r, -1)) {
-        emit([{ type: 'diffraction', index: w }, { type: 'reflection', index: r }], [[q[0]!, q[1]!, q[2]!], [p[0]!, p[1]!, p[2]!]]);
+      if (
+        kellerPoint(wd, w, tx, image, q) &&
+        outsideWedge(wd, w, q, tx, image) &&
+        reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
+        !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn) &&
+        !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, p[0]!, p[1]!, p[2]!, r, f0) &&
+        !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, rx[0], rx[1], rx[2], r, -1)
+      ) {
+        emit(
+          [
+            { type: 'diffraction', index: w },
+            { type: 'reflection', index: r },
+          ],
+          [
+            [q[0]!, q[1]!, q[2]!],
+            [p[0]!, p[1]!, p[2]!],
+          ],
+        );
       }
     }
   }
@@ -160,16 +226,23 @@ export function traceDiffractions(ps: PreparedScene, tx: Readonly<Vec3>, rx: Rea
  */
 export function diffractionPoints(ps: PreparedScene, steps: readonly DiffractionStep[], tx: Readonly<Vec3>, rx: Readonly<Vec3>): Vec3[] {
   const wd = sceneWedges(ps).data;
-  const q = new Float64Array(3), p = new Float64Array(3);
+  const q = new Float64Array(3),
+    p = new Float64Array(3);
   const image: Vec3 = [0, 0, 0];
   const d = steps.findIndex((s) => s.type === 'diffraction');
   const w = steps[d]!.index;
   const clampedKeller = (s: Readonly<Vec3>, o: Readonly<Vec3>): void => {
     if (kellerPoint(wd, w, s, o, q)) return;
     // off the finite edge (the path is kept until the next update): clamp to the nearer end
-    const b = WEDGE_STRIDE * w, len = wd[b + 6]!;
-    const t = Math.min(Math.max(((s[0] - wd[b]!) * wd[b + 3]! + (s[1] - wd[b + 1]!) * wd[b + 4]! + (s[2] - wd[b + 2]!) * wd[b + 5]!), 0), len === Infinity ? 0 : len);
-    q[0] = wd[b]! + t * wd[b + 3]!; q[1] = wd[b + 1]! + t * wd[b + 4]!; q[2] = wd[b + 2]! + t * wd[b + 5]!;
+    const b = WEDGE_STRIDE * w,
+      len = wd[b + 6]!;
+    const t = Math.min(
+      Math.max((s[0] - wd[b]!) * wd[b + 3]! + (s[1] - wd[b + 1]!) * wd[b + 4]! + (s[2] - wd[b + 2]!) * wd[b + 5]!, 0),
+      len === Infinity ? 0 : len,
+    );
+    q[0] = wd[b]! + t * wd[b + 3]!;
+    q[1] = wd[b + 1]! + t * wd[b + 4]!;
+    q[2] = wd[b + 2]! + t * wd[b + 5]!;
   };
   if (steps.length === 1) {
     clampedKeller(tx, rx);
@@ -177,9 +250,11 @@ export function diffractionPoints(ps: PreparedScene, steps: readonly Diffraction
   }
   const r = steps[d === 0 ? 1 : 0]!.index;
   mirrorInto(ps, r, d === 0 ? rx : tx, image);
-  if (d === 0) clampedKeller(tx, image); else clampedKeller(image, rx);
+  if (d === 0) clampedKeller(tx, image);
+  else clampedKeller(image, rx);
   reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p);
-  const Q: Vec3 = [q[0]!, q[1]!, q[2]!], P: Vec3 = [p[0]!, p[1]!, p[2]!];
+  const Q: Vec3 = [q[0]!, q[1]!, q[2]!],
+    P: Vec3 = [p[0]!, p[1]!, p[2]!];
   return d === 0 ? [Q, P] : [P, Q];
 }
 
@@ -194,11 +269,33 @@ export function diffractionPoints(ps: PreparedScene, steps: readonly Diffraction
  * wedgeDiffraction(ps, 0, [Math.SQRT1_2, -Math.SQRT1_2, 0], [0, -1, 0], 10, 10, 2 * Math.PI / 0.0107, 28e9).phiRad // 4.712 (3 pi / 2: straight below the edge)
  */
 export function wedgeDiffraction(
-  ps: PreparedScene, w: number, kIn: Readonly<Vec3>, kOut: Readonly<Vec3>, sPrime: number, s: number, k: number, carrierHz: number, sides?: readonly number[],
-): DiffractionCoefficients & { sides: [number, number, number, number]; phiPrimeRad: number; phiRad: number; beta0Rad: number; n: number; phiHatIn: Vec3; betaHatIn: Vec3; phiHatOut: Vec3; betaHatOut: Vec3 } {
+  ps: PreparedScene,
+  w: number,
+  kIn: Readonly<Vec3>,
+  kOut: Readonly<Vec3>,
+  sPrime: number,
+  s: number,
+  k: number,
+  carrierHz: number,
+  sides?: readonly number[],
+): DiffractionCoefficients & {
+  sides: [number, number, number, number];
+  phiPrimeRad: number;
+  phiRad: number;
+  beta0Rad: number;
+  n: number;
+  phiHatIn: Vec3;
+  betaHatIn: Vec3;
+  phiHatOut: Vec3;
+  betaHatOut: Vec3;
+} {
   const wedges: SceneWedges = sceneWedges(ps);
-  const wd = wedges.data, b = WEDGE_STRIDE * w;
-  const ex = wd[b + 3]!, ey = wd[b + 4]!, ez = wd[b + 5]!, n = wd[b + 13]!;
+  const wd = wedges.data,
+    b = WEDGE_STRIDE * w;
+  const ex = wd[b + 3]!,
+    ey = wd[b + 4]!,
+    ez = wd[b + 5]!,
+    n = wd[b + 13]!;
   // A retraced path can stray inside the wedge before the next update: take the nearer face.
   const clamp = (a: number): number => (a <= n * Math.PI ? a : a - n * Math.PI < TWO_PI - a ? n * Math.PI : 0);
   const phiPrimeRad = clamp(wedgeAngle(wd, w, -kIn[0], -kIn[1], -kIn[2]));
@@ -208,15 +305,25 @@ export function wedgeDiffraction(
   const sin2 = 1 - cosB * cosB;
   const L = ((s * sPrime) / (s + sPrime)) * sin2;
   const surfaces: ResolvedSurface[] = ps.surfacesAt(carrierHz);
-  const f0 = wedges.faces[2 * w]!, fn = wedges.faces[2 * w + 1]!;
+  const f0 = wedges.faces[2 * w]!,
+    fn = wedges.faces[2 * w + 1]!;
   const pl = ps.planes;
   const c0 = Math.min(1, Math.abs(kIn[0] * pl[4 * f0]! + kIn[1] * pl[4 * f0 + 1]! + kIn[2] * pl[4 * f0 + 2]!));
   const cn = Math.min(1, Math.abs(kOut[0] * pl[4 * fn]! + kOut[1] * pl[4 * fn + 1]! + kOut[2] * pl[4 * fn + 2]!));
-  const D = utdWedgeCoefficients(k, { n, phiPrimeRad, phiRad, beta0Rad, distanceParameterM: L }, surfaceCoefficients(surfaces[f0]!.surface, c0), surfaceCoefficients(surfaces[fn]!.surface, cn), sides);
+  const D = utdWedgeCoefficients(
+    k,
+    { n, phiPrimeRad, phiRad, beta0Rad, distanceParameterM: L },
+    surfaceCoefficients(surfaces[f0]!.surface, c0),
+    surfaceCoefficients(surfaces[fn]!.surface, cn),
+    sides,
+  );
   // phi_hat = e x (unit offset perpendicular to e): source side offset is -kIn, observer side kOut
   const perpUnit = (x: number, y: number, z: number): Vec3 => {
     const c = x * ex + y * ey + z * ez;
-    const px = x - c * ex, py = y - c * ey, pz = z - c * ez, m = Math.hypot(px, py, pz);
+    const px = x - c * ex,
+      py = y - c * ey,
+      pz = z - c * ez,
+      m = Math.hypot(px, py, pz);
     return [px / m, py / m, pz / m];
   };
   const cross = (a: Readonly<Vec3>, c: Readonly<Vec3>): Vec3 => [a[1] * c[2] - a[2] * c[1], a[2] * c[0] - a[0] * c[2], a[0] * c[1] - a[1] * c[0]];
@@ -231,12 +338,25 @@ export function wedgeDiffraction(
  * out = -Ds (e . betaIn) betaOut - Dh (e . phiIn) phiOut (may alias e).
  * @example diffractField(new Float64Array(6), Float64Array.of(0, 0, 1, 0, 0, 0), { soft: [0.5, 0], hard: [0, 0] }, [0, 0, -1], [0, -1, 0], [0, 0, 1], [0, 1, 0]) // [0, 0, 0.5, 0, 0, 0]
  */
-export function diffractField(out: Float64Array, e: Float64Array, d: DiffractionCoefficients, betaIn: Readonly<Vec3>, phiIn: Readonly<Vec3>, betaOut: Readonly<Vec3>, phiOut: Readonly<Vec3>): Float64Array {
-  const bRe = e[0]! * betaIn[0] + e[1]! * betaIn[1] + e[2]! * betaIn[2], bIm = e[3]! * betaIn[0] + e[4]! * betaIn[1] + e[5]! * betaIn[2];
-  const pRe = e[0]! * phiIn[0] + e[1]! * phiIn[1] + e[2]! * phiIn[2], pIm = e[3]! * phiIn[0] + e[4]! * phiIn[1] + e[5]! * phiIn[2];
-  const [sRe, sIm] = d.soft, [hRe, hIm] = d.hard;
-  const aRe = -(sRe * bRe - sIm * bIm), aIm = -(sRe * bIm + sIm * bRe);
-  const cRe = -(hRe * pRe - hIm * pIm), cIm = -(hRe * pIm + hIm * pRe);
+export function diffractField(
+  out: Float64Array,
+  e: Float64Array,
+  d: DiffractionCoefficients,
+  betaIn: Readonly<Vec3>,
+  phiIn: Readonly<Vec3>,
+  betaOut: Readonly<Vec3>,
+  phiOut: Readonly<Vec3>,
+): Float64Array {
+  const bRe = e[0]! * betaIn[0] + e[1]! * betaIn[1] + e[2]! * betaIn[2],
+    bIm = e[3]! * betaIn[0] + e[4]! * betaIn[1] + e[5]! * betaIn[2];
+  const pRe = e[0]! * phiIn[0] + e[1]! * phiIn[1] + e[2]! * phiIn[2],
+    pIm = e[3]! * phiIn[0] + e[4]! * phiIn[1] + e[5]! * phiIn[2];
+  const [sRe, sIm] = d.soft,
+    [hRe, hIm] = d.hard;
+  const aRe = -(sRe * bRe - sIm * bIm),
+    aIm = -(sRe * bIm + sIm * bRe);
+  const cRe = -(hRe * pRe - hIm * pIm),
+    cIm = -(hRe * pIm + hIm * pRe);
   for (let i = 0; i < 3; i++) {
     out[i] = aRe * betaOut[i]! + cRe * phiOut[i]!;
     out[3 + i] = aIm * betaOut[i]! + cIm * phiOut[i]!;

@@ -91,10 +91,7 @@ export const DEFAULT_MATERIAL: MaterialName = 'concrete';
  *   10^(-L/20), phase pi for both components in the basis of fresnel.ts).
  * @example const lossy: Surface = { kind: 'fixed', amplitude: 0.5 }; // a 6 dB reflection loss
  */
-export type Surface =
-  | { kind: 'dielectric'; eta: Complex }
-  | { kind: 'conductor' }
-  | { kind: 'fixed'; amplitude: number };
+export type Surface = { kind: 'dielectric'; eta: Complex } | { kind: 'conductor' } | { kind: 'fixed'; amplitude: number };
 
 /**
  * A resolved surface and, when the frequency is outside the material's validated range, a warning.
@@ -111,7 +108,8 @@ export interface ResolvedSurface {
  */
 export function p2040Permittivity(name: P2040MaterialName, frequencyHz: number): { eta: Complex; conductivitySpm: number; warning?: string } {
   const co = P2040_MATERIALS[name];
-  if (co === undefined) throw new RangeError(`p2040Permittivity(): name must be one of ${Object.keys(P2040_MATERIALS).join(', ')}, got ${JSON.stringify(name)}`);
+  if (co === undefined)
+    throw new RangeError(`p2040Permittivity(): name must be one of ${Object.keys(P2040_MATERIALS).join(', ')}, got ${JSON.stringify(name)}`);
   checkFrequency('p2040Permittivity()', frequencyHz);
   const fGHz = frequencyHz / 1e9;
   const epsReal = co.a * fGHz ** co.b;
@@ -120,7 +118,11 @@ export function p2040Permittivity(name: P2040MaterialName, frequencyHz: number):
   const inside = co.validRangesGHz.some(([lo, hi]) => fGHz >= lo && fGHz <= hi);
   if (inside) return { eta, conductivitySpm: sigma };
   const ranges = co.validRangesGHz.map(([lo, hi]) => `${lo}-${hi} GHz`).join(', ');
-  return { eta, conductivitySpm: sigma, warning: `material "${name}" is validated for ${ranges}, got ${fGHz} GHz; the ITU-R P.2040 fit is used outside its range` };
+  return {
+    eta,
+    conductivitySpm: sigma,
+    warning: `material "${name}" is validated for ${ranges}, got ${fGHz} GHz; the ITU-R P.2040 fit is used outside its range`,
+  };
 }
 
 /**
@@ -138,7 +140,10 @@ export function resolveSurface(wall: { material?: MaterialSpec; reflectionLossDb
   const m = wall.material ?? DEFAULT_MATERIAL;
   if (m === 'metal') return { surface: { kind: 'conductor' } };
   if (typeof m === 'string') {
-    if (!(m in P2040_MATERIALS)) throw new RangeError(`resolveSurface(): material must be one of ${MATERIAL_NAMES.join(', ')} or { relativePermittivity, conductivitySpm }, got ${JSON.stringify(m)}`);
+    if (!(m in P2040_MATERIALS))
+      throw new RangeError(
+        `resolveSurface(): material must be one of ${MATERIAL_NAMES.join(', ')} or { relativePermittivity, conductivitySpm }, got ${JSON.stringify(m)}`,
+      );
     const r = p2040Permittivity(m, frequencyHz);
     return r.warning === undefined ? { surface: { kind: 'dielectric', eta: r.eta } } : { surface: { kind: 'dielectric', eta: r.eta }, warning: r.warning };
   }

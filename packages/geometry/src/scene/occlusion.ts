@@ -39,10 +39,13 @@ export class Occlusion {
     this.pairs = W <= PAIR_TABLE_MAX_WALLS && !ps.is2D ? new Uint8Array(W * W) : undefined;
     const poly = ps.polygons;
     for (let w = 0; w < W && !ps.is2D; w++) {
-      const s = ps.polygonStart[w]!, e = ps.polygonStart[w + 1]!, n = e - s;
+      const s = ps.polygonStart[w]!,
+        e = ps.polygonStart[w + 1]!,
+        n = e - s;
       let area = 0;
       for (let i = 0; i < n; i++) {
-        const a = s + i, b = s + ((i + 1) % n);
+        const a = s + i,
+          b = s + ((i + 1) % n);
         area += poly[2 * a]! * poly[2 * b + 1]! - poly[2 * b]! * poly[2 * a + 1]!;
       }
       this.orientation[w] = area >= 0 ? 1 : -1;
@@ -58,7 +61,9 @@ export class Occlusion {
   wallHiddenFromPoint(b: number, px: number, py: number, pz: number): boolean {
     if (this.ps.is2D) return false;
     const p = this.point;
-    p[0] = px; p[1] = py; p[2] = pz;
+    p[0] = px;
+    p[1] = py;
+    p[2] = pz;
     return this.hidden(p, 0, 1, b, -1);
   }
 
@@ -80,28 +85,72 @@ export class Occlusion {
     let v = t[k]!;
     if (v === 0) {
       v = this.hidden(ps.vertices, ps.vertexStart[a]!, ps.vertexStart[a + 1]! - ps.vertexStart[a]!, b, a) ? 2 : 1;
-      t[k] = v; t[b * ps.wallCount + a] = v; // occlusion by a plane wall is symmetric
+      t[k] = v;
+      t[b * ps.wallCount + a] = v; // occlusion by a plane wall is symmetric
     }
     return v === 2;
   }
 
   /** Hidden test of wall b from points (first vertex index aStart, count aCount in pts). */
   private hidden(pts: Float64Array, aStart: number, aCount: number, b: number, skip: number): boolean {
-    const ps = this.ps, V = ps.vertices, bs = ps.vertexStart[b]!, be = ps.vertexStart[b + 1]!;
+    const ps = this.ps,
+      V = ps.vertices,
+      bs = ps.vertexStart[b]!,
+      be = ps.vertexStart[b + 1]!;
     // candidate occluders: walls whose boxes meet the box around A and B
-    let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
+    let x0 = Infinity,
+      y0 = Infinity,
+      z0 = Infinity,
+      x1 = -Infinity,
+      y1 = -Infinity,
+      z1 = -Infinity;
     for (let i = aStart; i < aStart + aCount; i++) {
-      const x = pts[3 * i]!, y = pts[3 * i + 1]!, z = pts[3 * i + 2]!;
-      if (x < x0) x0 = x; if (x > x1) x1 = x; if (y < y0) y0 = y; if (y > y1) y1 = y; if (z < z0) z0 = z; if (z > z1) z1 = z;
+      const x = pts[3 * i]!,
+        y = pts[3 * i + 1]!,
+        z = pts[3 * i + 2]!;
+      if (x < x0) x0 = x;
+      if (x > x1) x1 = x;
+      if (y < y0) y0 = y;
+      if (y > y1) y1 = y;
+      if (z < z0) z0 = z;
+      if (z > z1) z1 = z;
     }
     for (let i = bs; i < be; i++) {
-      const x = V[3 * i]!, y = V[3 * i + 1]!, z = V[3 * i + 2]!;
-      if (x < x0) x0 = x; if (x > x1) x1 = x; if (y < y0) y0 = y; if (y > y1) y1 = y; if (z < z0) z0 = z; if (z > z1) z1 = z;
+      const x = V[3 * i]!,
+        y = V[3 * i + 1]!,
+        z = V[3 * i + 2]!;
+      if (x < x0) x0 = x;
+      if (x > x1) x1 = x;
+      if (y < y0) y0 = y;
+      if (y > y1) y1 = y;
+      if (z < z0) z0 = z;
+      if (z > z1) z1 = z;
     }
     const bx = this.box;
-    bx[0] = 1; bx[1] = 0; bx[2] = 0; bx[3] = x0; bx[4] = -1; bx[5] = 0; bx[6] = 0; bx[7] = -x1;
-    bx[8] = 0; bx[9] = 1; bx[10] = 0; bx[11] = y0; bx[12] = 0; bx[13] = -1; bx[14] = 0; bx[15] = -y1;
-    bx[16] = 0; bx[17] = 0; bx[18] = 1; bx[19] = z0; bx[20] = 0; bx[21] = 0; bx[22] = -1; bx[23] = -z1;
+    bx[0] = 1;
+    bx[1] = 0;
+    bx[2] = 0;
+    bx[3] = x0;
+    bx[4] = -1;
+    bx[5] = 0;
+    bx[6] = 0;
+    bx[7] = -x1;
+    bx[8] = 0;
+    bx[9] = 1;
+    bx[10] = 0;
+    bx[11] = y0;
+    bx[12] = 0;
+    bx[13] = -1;
+    bx[14] = 0;
+    bx[15] = -y1;
+    bx[16] = 0;
+    bx[17] = 0;
+    bx[18] = 1;
+    bx[19] = z0;
+    bx[20] = 0;
+    bx[21] = 0;
+    bx[22] = -1;
+    bx[23] = -z1;
     const n = ps.bvh.collectInHalfSpaces(bx, 6, 0, this.found);
     for (let i = 0; i < n; i++) {
       const o = this.found[i]!;
@@ -113,8 +162,14 @@ export class Occlusion {
 
   /** True when convex wall o cuts every segment from points A to wall b's vertices [bs, be). */
   private cuts(o: number, pts: Float64Array, aStart: number, aCount: number, bs: number, be: number): boolean {
-    const ps = this.ps, V = ps.vertices, pl = ps.planes, m = this.margin;
-    const nx = pl[4 * o]!, ny = pl[4 * o + 1]!, nz = pl[4 * o + 2]!, d = pl[4 * o + 3]!;
+    const ps = this.ps,
+      V = ps.vertices,
+      pl = ps.planes,
+      m = this.margin;
+    const nx = pl[4 * o]!,
+      ny = pl[4 * o + 1]!,
+      nz = pl[4 * o + 2]!,
+      d = pl[4 * o + 3]!;
     let side = 0;
     for (let i = aStart; i < aStart + aCount; i++) {
       const f = nx * pts[3 * i]! + ny * pts[3 * i + 1]! + nz * pts[3 * i + 2]! - d;
@@ -126,22 +181,35 @@ export class Occlusion {
       const f = nx * V[3 * j]! + ny * V[3 * j + 1]! + nz * V[3 * j + 2]! - d;
       if (!(side > 0 ? f < -m : f > m)) return false;
     }
-    const fr = ps.frames, f9 = 9 * o;
-    const ox = fr[f9]!, oy = fr[f9 + 1]!, oz = fr[f9 + 2]!;
-    const poly = ps.polygons, s0 = ps.polygonStart[o]!, s1 = ps.polygonStart[o + 1]!, sigma = this.orientation[o]!;
+    const fr = ps.frames,
+      f9 = 9 * o;
+    const ox = fr[f9]!,
+      oy = fr[f9 + 1]!,
+      oz = fr[f9 + 2]!;
+    const poly = ps.polygons,
+      s0 = ps.polygonStart[o]!,
+      s1 = ps.polygonStart[o + 1]!,
+      sigma = this.orientation[o]!;
     for (let i = aStart; i < aStart + aCount; i++) {
-      const ax = pts[3 * i]!, ay = pts[3 * i + 1]!, az = pts[3 * i + 2]!;
+      const ax = pts[3 * i]!,
+        ay = pts[3 * i + 1]!,
+        az = pts[3 * i + 2]!;
       const fa = nx * ax + ny * ay + nz * az - d;
       for (let j = bs; j < be; j++) {
-        const qx = V[3 * j]!, qy = V[3 * j + 1]!, qz = V[3 * j + 2]!;
+        const qx = V[3 * j]!,
+          qy = V[3 * j + 1]!,
+          qz = V[3 * j + 2]!;
         const fb = nx * qx + ny * qy + nz * qz - d;
         const t = fa / (fa - fb);
-        const dx = ax + t * (qx - ax) - ox, dy = ay + t * (qy - ay) - oy, dz = az + t * (qz - az) - oz;
+        const dx = ax + t * (qx - ax) - ox,
+          dy = ay + t * (qy - ay) - oy,
+          dz = az + t * (qz - az) - oz;
         const u = dx * fr[f9 + 3]! + dy * fr[f9 + 4]! + dz * fr[f9 + 5]!;
         const v = dx * fr[f9 + 6]! + dy * fr[f9 + 7]! + dz * fr[f9 + 8]!;
         for (let k = s0; k < s1; k++) {
           const k2 = k + 1 < s1 ? k + 1 : s0;
-          const eu = poly[2 * k2]! - poly[2 * k]!, ev = poly[2 * k2 + 1]! - poly[2 * k + 1]!;
+          const eu = poly[2 * k2]! - poly[2 * k]!,
+            ev = poly[2 * k2 + 1]! - poly[2 * k + 1]!;
           const cr = sigma * (eu * (v - poly[2 * k + 1]!) - ev * (u - poly[2 * k]!));
           if (!(cr >= m * Math.hypot(eu, ev))) return false; // not inside by the margin
         }

@@ -155,7 +155,7 @@ export const COPLANAR_TOLERANCE_M = 1e-6;
  */
 export const CYLINDER_RING_POINTS = 32;
 
-const fmt = (v: unknown): string => (typeof v === 'number' ? String(v) : JSON.stringify(v) ?? String(v));
+const fmt = (v: unknown): string => (typeof v === 'number' ? String(v) : (JSON.stringify(v) ?? String(v)));
 
 /**
  * Validate a scene (and, with a context, the terminals against it); returns every problem,
@@ -175,7 +175,9 @@ interface Analysis {
 function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   const problems: SceneProblem[] = [];
   const sp = ctx.scenePath ?? 'scene';
-  const err = (path: string, message: string): void => { problems.push({ path, message, severity: 'error' }); };
+  const err = (path: string, message: string): void => {
+    problems.push({ path, message, severity: 'error' });
+  };
   if (typeof scene !== 'object' || scene === null) {
     err(sp, `must be an object, got ${fmt(scene)}`);
     return { problems, is2D: false };
@@ -183,7 +185,11 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   const walls = scene.walls ?? [];
   const scatterers = scene.scatterers ?? [];
   const blockers = scene.blockers ?? [];
-  for (const [key, v] of [['walls', scene.walls], ['scatterers', scene.scatterers], ['blockers', scene.blockers]] as const) {
+  for (const [key, v] of [
+    ['walls', scene.walls],
+    ['scatterers', scene.scatterers],
+    ['blockers', scene.blockers],
+  ] as const) {
     if (v !== undefined && !Array.isArray(v)) err(`${sp}.${key}`, `must be an array, got ${fmt(v)}`);
   }
   const is2D = sceneIs2D(scene);
@@ -204,35 +210,53 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (Array.isArray(walls)) {
     walls.forEach((wall, i) => {
       const wp = `${sp}.walls[${i}]`;
-      if (typeof wall !== 'object' || wall === null) { err(wp, `must be an object { vertices, material?, reflectionLossDb? }, got ${fmt(wall)}`); return; }
+      if (typeof wall !== 'object' || wall === null) {
+        err(wp, `must be an object { vertices, material?, reflectionLossDb? }, got ${fmt(wall)}`);
+        return;
+      }
       const vs = wall.vertices;
-      if (!Array.isArray(vs)) { err(`${wp}.vertices`, `must be an array of points, got ${fmt(vs)}`); }
-      else {
+      if (!Array.isArray(vs)) {
+        err(`${wp}.vertices`, `must be an array of points, got ${fmt(vs)}`);
+      } else {
         let ok = true;
-        vs.forEach((v, j) => { if (!checkPoint(`${wp}.vertices[${j}]`, v)) ok = false; });
+        vs.forEach((v, j) => {
+          if (!checkPoint(`${wp}.vertices[${j}]`, v)) ok = false;
+        });
         if (ok) {
           const g = wallGeometry(vs, is2D);
           if (typeof g === 'string') err(`${wp}.vertices`, g);
         }
       }
       if (wall.thicknessM !== undefined) {
-        if (!(typeof wall.thicknessM === 'number' && Number.isFinite(wall.thicknessM) && wall.thicknessM > 0)) err(`${wp}.thicknessM`, `must be a finite number > 0 (m), got ${fmt(wall.thicknessM)}`);
-        else if (wall.reflectionLossDb !== undefined) err(`${wp}.thicknessM`, 'a wall with reflectionLossDb has no permittivity to transmit through; give a material instead');
+        if (!(typeof wall.thicknessM === 'number' && Number.isFinite(wall.thicknessM) && wall.thicknessM > 0))
+          err(`${wp}.thicknessM`, `must be a finite number > 0 (m), got ${fmt(wall.thicknessM)}`);
+        else if (wall.reflectionLossDb !== undefined)
+          err(`${wp}.thicknessM`, 'a wall with reflectionLossDb has no permittivity to transmit through; give a material instead');
         else if (wall.material === 'metal') err(`${wp}.thicknessM`, 'a metal wall (a perfect conductor) transmits nothing; leave thicknessM out');
       }
-      if (wall.reflectionLossDb !== undefined && !(typeof wall.reflectionLossDb === 'number' && Number.isFinite(wall.reflectionLossDb) && wall.reflectionLossDb >= 0)) {
+      if (
+        wall.reflectionLossDb !== undefined &&
+        !(typeof wall.reflectionLossDb === 'number' && Number.isFinite(wall.reflectionLossDb) && wall.reflectionLossDb >= 0)
+      ) {
         err(`${wp}.reflectionLossDb`, `must be a finite number >= 0 (dB), got ${fmt(wall.reflectionLossDb)}`);
       }
       const m = wall.material;
       if (m !== undefined) {
         if (typeof m === 'string') {
-          if (!(MATERIAL_NAMES as readonly string[]).includes(m)) err(`${wp}.material`, `must be one of ${MATERIAL_NAMES.join(', ')} or { relativePermittivity, conductivitySpm }, got ${fmt(m)}`);
+          if (!(MATERIAL_NAMES as readonly string[]).includes(m))
+            err(`${wp}.material`, `must be one of ${MATERIAL_NAMES.join(', ')} or { relativePermittivity, conductivitySpm }, got ${fmt(m)}`);
         } else {
           const p = customMaterialProblem(m);
           if (p !== undefined) err(`${wp}.material`, p);
         }
       }
-      if (ctx.carrierHz !== undefined && Number.isFinite(ctx.carrierHz) && ctx.carrierHz > 0 && wall.reflectionLossDb === undefined && (m === undefined || (typeof m === 'string' && (MATERIAL_NAMES as readonly string[]).includes(m)))) {
+      if (
+        ctx.carrierHz !== undefined &&
+        Number.isFinite(ctx.carrierHz) &&
+        ctx.carrierHz > 0 &&
+        wall.reflectionLossDb === undefined &&
+        (m === undefined || (typeof m === 'string' && (MATERIAL_NAMES as readonly string[]).includes(m)))
+      ) {
         const r = resolveSurface(m === undefined ? {} : { material: m as MaterialSpec }, ctx.carrierHz);
         if (r.warning !== undefined) problems.push({ path: `${wp}.material`, message: r.warning, severity: 'warning' });
       }
@@ -242,32 +266,46 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (Array.isArray(scatterers)) {
     scatterers.forEach((s, i) => {
       const p = `${sp}.scatterers[${i}]`;
-      if (typeof s !== 'object' || s === null) { err(p, `must be an object { position, rcsM2 }, got ${fmt(s)}`); return; }
+      if (typeof s !== 'object' || s === null) {
+        err(p, `must be an object { position, rcsM2 }, got ${fmt(s)}`);
+        return;
+      }
       checkPoint(`${p}.position`, s.position);
-      if (!(typeof s.rcsM2 === 'number' && Number.isFinite(s.rcsM2) && s.rcsM2 > 0)) err(`${p}.rcsM2`, `must be a finite number > 0 (m^2), got ${fmt(s.rcsM2)}`);
+      if (!(typeof s.rcsM2 === 'number' && Number.isFinite(s.rcsM2) && s.rcsM2 > 0))
+        err(`${p}.rcsM2`, `must be a finite number > 0 (m^2), got ${fmt(s.rcsM2)}`);
     });
   }
 
   if (Array.isArray(blockers)) {
     blockers.forEach((b, i) => {
       const p = `${sp}.blockers[${i}]`;
-      if (typeof b !== 'object' || b === null) { err(p, `must be a box or cylinder object, got ${fmt(b)}`); return; }
+      if (typeof b !== 'object' || b === null) {
+        err(p, `must be a box or cylinder object, got ${fmt(b)}`);
+        return;
+      }
       if (b.shape === 'box') {
-        const okMin = checkPoint(`${p}.min`, b.min), okMax = checkPoint(`${p}.max`, b.max);
+        const okMin = checkPoint(`${p}.min`, b.min),
+          okMax = checkPoint(`${p}.max`, b.max);
         if (okMin && okMax) {
           for (let k = 0; k < dim; k++) {
-            if (!(b.min[k]! < b.max[k]!)) { err(`${p}.max`, `must exceed min in every coordinate, got min ${fmt(b.min)} and max ${fmt(b.max)}`); break; }
+            if (!(b.min[k]! < b.max[k]!)) {
+              err(`${p}.max`, `must exceed min in every coordinate, got min ${fmt(b.min)} and max ${fmt(b.max)}`);
+              break;
+            }
           }
         }
       } else if (b.shape === 'cylinder') {
         checkPoint(`${p}.base`, b.base);
-        if (!(typeof b.radiusM === 'number' && Number.isFinite(b.radiusM) && b.radiusM > 0)) err(`${p}.radiusM`, `must be a finite number > 0 (m), got ${fmt(b.radiusM)}`);
-        if (!(typeof b.heightM === 'number' && Number.isFinite(b.heightM) && b.heightM > 0)) err(`${p}.heightM`, `must be a finite number > 0 (m), got ${fmt(b.heightM)}`);
+        if (!(typeof b.radiusM === 'number' && Number.isFinite(b.radiusM) && b.radiusM > 0))
+          err(`${p}.radiusM`, `must be a finite number > 0 (m), got ${fmt(b.radiusM)}`);
+        if (!(typeof b.heightM === 'number' && Number.isFinite(b.heightM) && b.heightM > 0))
+          err(`${p}.heightM`, `must be a finite number > 0 (m), got ${fmt(b.heightM)}`);
       } else {
         err(`${p}.shape`, `must be "box" or "cylinder", got ${fmt((b as { shape?: unknown }).shape)}`);
         return;
       }
-      if (b.lossDb !== undefined && !(typeof b.lossDb === 'number' && Number.isFinite(b.lossDb) && b.lossDb >= 0)) err(`${p}.lossDb`, `must be a finite number >= 0 (dB), got ${fmt(b.lossDb)}`);
+      if (b.lossDb !== undefined && !(typeof b.lossDb === 'number' && Number.isFinite(b.lossDb) && b.lossDb >= 0))
+        err(`${p}.lossDb`, `must be a finite number >= 0 (dB), got ${fmt(b.lossDb)}`);
     });
   }
 
@@ -275,24 +313,32 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (order !== undefined && !(Number.isInteger(order) && order >= 0 && order <= MAX_REFLECTION_ORDER)) {
     err(`${sp}.maxReflectionOrder`, `must be an integer from 0 to ${MAX_REFLECTION_ORDER}, got ${fmt(order)}`);
   }
-  if (scene.lineOfSight !== undefined && typeof scene.lineOfSight !== 'boolean') err(`${sp}.lineOfSight`, `must be true or false, got ${fmt(scene.lineOfSight)}`);
-  if (scene.maxPaths !== undefined && !(Number.isInteger(scene.maxPaths) && scene.maxPaths >= 1)) err(`${sp}.maxPaths`, `must be an integer >= 1, got ${fmt(scene.maxPaths)}`);
-  if (scene.dynamicRangeDb !== undefined && !(typeof scene.dynamicRangeDb === 'number' && scene.dynamicRangeDb > 0)) err(`${sp}.dynamicRangeDb`, `must be a number > 0 (dB), got ${fmt(scene.dynamicRangeDb)}`);
-  if (scene.gasAttenuationDbPerKm !== undefined && !(typeof scene.gasAttenuationDbPerKm === 'number' && Number.isFinite(scene.gasAttenuationDbPerKm) && scene.gasAttenuationDbPerKm >= 0)) {
+  if (scene.lineOfSight !== undefined && typeof scene.lineOfSight !== 'boolean')
+    err(`${sp}.lineOfSight`, `must be true or false, got ${fmt(scene.lineOfSight)}`);
+  if (scene.maxPaths !== undefined && !(Number.isInteger(scene.maxPaths) && scene.maxPaths >= 1))
+    err(`${sp}.maxPaths`, `must be an integer >= 1, got ${fmt(scene.maxPaths)}`);
+  if (scene.dynamicRangeDb !== undefined && !(typeof scene.dynamicRangeDb === 'number' && scene.dynamicRangeDb > 0))
+    err(`${sp}.dynamicRangeDb`, `must be a number > 0 (dB), got ${fmt(scene.dynamicRangeDb)}`);
+  if (
+    scene.gasAttenuationDbPerKm !== undefined &&
+    !(typeof scene.gasAttenuationDbPerKm === 'number' && Number.isFinite(scene.gasAttenuationDbPerKm) && scene.gasAttenuationDbPerKm >= 0)
+  ) {
     err(`${sp}.gasAttenuationDbPerKm`, `must be a finite number >= 0 (dB/km), got ${fmt(scene.gasAttenuationDbPerKm)}`);
   }
 
-  if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean') err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
+  if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean')
+    err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
 }
 
-
 /** Problems of the terminals against a scene (inside a blocker, coinciding, z != 0 in 2-D). */
 function checkTerminals(scene: Scene, is2D: boolean, ctx: SceneContext, problems: SceneProblem[]): void {
   const sp = ctx.scenePath ?? 'scene';
-  const err = (path: string, message: string): void => { problems.push({ path, message, severity: 'error' }); };
+  const err = (path: string, message: string): void => {
+    problems.push({ path, message, severity: 'error' });
+  };
   const blockers = scene.blockers ?? [];
   const scatterers = scene.scatterers ?? [];
   const terminals: [string, Readonly<Vec3> | undefined][] = [
@@ -301,7 +347,10 @@ function checkTerminals(scene: Scene, is2D: boolean, ctx: SceneContext, problems
   ];
   for (const [path, pos] of terminals) {
     if (pos === undefined) continue;
-    if (!Array.isArray(pos) || pos.length !== 3 || !pos.every((x) => Number.isFinite(x))) { err(path, `must be [x, y, z] of finite numbers, got ${fmt(pos)}`); continue; }
+    if (!Array.isArray(pos) || pos.length !== 3 || !pos.every((x) => Number.isFinite(x))) {
+      err(path, `must be [x, y, z] of finite numbers, got ${fmt(pos)}`);
+      continue;
+    }
     if (is2D && pos[2] !== 0) err(path, `must have z = 0 in a 2-D scene, got z = ${pos[2]}`);
     if (Array.isArray(blockers)) {
       blockers.forEach((b, i) => {
@@ -310,13 +359,18 @@ function checkTerminals(scene: Scene, is2D: boolean, ctx: SceneContext, problems
     }
     if (Array.isArray(scatterers)) {
       scatterers.forEach((s, i) => {
-        if (Array.isArray(s?.position) && s.position.length >= 2 && Math.hypot(s.position[0]! - pos[0], s.position[1]! - pos[1], (s.position[2] ?? 0) - pos[2]) === 0) {
+        if (
+          Array.isArray(s?.position) &&
+          s.position.length >= 2 &&
+          Math.hypot(s.position[0]! - pos[0], s.position[1]! - pos[1], (s.position[2] ?? 0) - pos[2]) === 0
+        ) {
           err(`${sp}.scatterers[${i}].position`, `coincides with the terminal at ${fmt(pos)}; a scatterer must be away from both terminals`);
         }
       });
     }
   }
-  const tx = ctx.transmitter, rx = ctx.receiver;
+  const tx = ctx.transmitter,
+    rx = ctx.receiver;
   if (tx !== undefined && rx !== undefined && Array.isArray(tx) && Array.isArray(rx) && tx[0] === rx[0] && tx[1] === rx[1] && tx[2] === rx[2]) {
     err(ctx.receiverPath ?? 'receiver.position', `coincides with the transmitter at ${fmt(tx)}; the two terminals must be apart`);
   }
@@ -328,7 +382,8 @@ function checkTerminals(scene: Scene, is2D: boolean, ctx: SceneContext, problems
  */
 export function sceneIs2D(scene: Scene): boolean {
   const walls = Array.isArray(scene.walls) ? scene.walls : [];
-  if (walls.length > 0) return walls.every((w) => Array.isArray(w?.vertices) && w.vertices.length > 0 && w.vertices.every((v: unknown) => Array.isArray(v) && v.length === 2));
+  if (walls.length > 0)
+    return walls.every((w) => Array.isArray(w?.vertices) && w.vertices.length > 0 && w.vertices.every((v: unknown) => Array.isArray(v) && v.length === 2));
   const pts: unknown[] = [];
   for (const s of Array.isArray(scene.scatterers) ? scene.scatterers : []) pts.push(s?.position);
   for (const b of Array.isArray(scene.blockers) ? scene.blockers : []) {
@@ -342,7 +397,10 @@ interface WallGeometry {
   normal: Vec3;
   offset: number;
   /** 3-D only */
-  origin?: Vec3; e1?: Vec3; e2?: Vec3; uv?: number[];
+  origin?: Vec3;
+  e1?: Vec3;
+  e2?: Vec3;
+  uv?: number[];
   /** 2-D only */
   seg?: [number, number, number, number, number];
 }
@@ -352,7 +410,8 @@ function wallGeometry(vs: readonly ScenePoint[], is2D: boolean): WallGeometry | 
   if (is2D) {
     if (vs.length !== 2) return `a 2-D wall is a segment with exactly 2 vertices [[x, y], [x, y]], got ${vs.length}`;
     const [a, b] = vs as [ScenePoint, ScenePoint];
-    const dx = b[0]! - a[0]!, dy = b[1]! - a[1]!;
+    const dx = b[0]! - a[0]!,
+      dy = b[1]! - a[1]!;
     const len = Math.hypot(dx, dy);
     if (!(len > 1e-9)) return `the two ends coincide at ${fmt(a)}: a 2-D wall needs length > 0`;
     const normal: Vec3 = [-dy / len, dx / len, 0];
@@ -360,40 +419,59 @@ function wallGeometry(vs: readonly ScenePoint[], is2D: boolean): WallGeometry | 
   }
   if (vs.length < 3) return `a 3-D wall is a polygon with at least 3 vertices [[x, y, z], ...], got ${vs.length}`;
   // Newell's normal (robust for non-convex polygons) and centroid.
-  let nx = 0, ny = 0, nz = 0, cx = 0, cy = 0, cz = 0, extent = 0;
+  let nx = 0,
+    ny = 0,
+    nz = 0,
+    cx = 0,
+    cy = 0,
+    cz = 0,
+    extent = 0;
   const n = vs.length;
   for (let i = 0; i < n; i++) {
-    const p = vs[i]!, q = vs[(i + 1) % n]!;
+    const p = vs[i]!,
+      q = vs[(i + 1) % n]!;
     nx += (p[1]! - q[1]!) * (p[2]! + q[2]!);
     ny += (p[2]! - q[2]!) * (p[0]! + q[0]!);
     nz += (p[0]! - q[0]!) * (p[1]! + q[1]!);
-    cx += p[0]! / n; cy += p[1]! / n; cz += p[2]! / n;
+    cx += p[0]! / n;
+    cy += p[1]! / n;
+    cz += p[2]! / n;
   }
   for (const p of vs) extent = Math.max(extent, Math.hypot(p[0]! - vs[0]![0]!, p[1]! - vs[0]![1]!, p[2]! - vs[0]![2]!));
   const area2 = Math.hypot(nx, ny, nz);
-  if (!(area2 > 1e-12 * Math.max(1, extent * extent))) return `the ${n} vertices are collinear or coincide (area ${area2 / 2} m^2): a wall needs a polygon of non-zero area`;
+  if (!(area2 > 1e-12 * Math.max(1, extent * extent)))
+    return `the ${n} vertices are collinear or coincide (area ${area2 / 2} m^2): a wall needs a polygon of non-zero area`;
   const normal: Vec3 = [nx / area2, ny / area2, nz / area2];
   const offset = normal[0] * cx + normal[1] * cy + normal[2] * cz;
   const tol = COPLANAR_TOLERANCE_M * Math.max(1, extent);
   for (let i = 0; i < n; i++) {
     const p = vs[i]!;
     const dist = normal[0] * p[0]! + normal[1] * p[1]! + normal[2] * p[2]! - offset;
-    if (Math.abs(dist) > tol) return `vertex ${i} ${fmt(p)} is ${Math.abs(dist).toPrecision(3)} m off the mean plane of the wall: the vertices must be coplanar within ${tol.toPrecision(3)} m`;
+    if (Math.abs(dist) > tol)
+      return `vertex ${i} ${fmt(p)} is ${Math.abs(dist).toPrecision(3)} m off the mean plane of the wall: the vertices must be coplanar within ${tol.toPrecision(3)} m`;
   }
   // In-plane frame: e1 along the longest edge from vertex 0, projected into the plane.
   const o: Vec3 = [cx, cy, cz];
-  let e1: Vec3 = [0, 0, 0], best = 0;
+  let e1: Vec3 = [0, 0, 0],
+    best = 0;
   for (let i = 1; i < n; i++) {
     const d: Vec3 = [vs[i]![0]! - vs[0]![0]!, vs[i]![1]! - vs[0]![1]!, vs[i]![2]! - vs[0]![2]!];
     const c = d[0] * normal[0] + d[1] * normal[1] + d[2] * normal[2];
-    d[0] -= c * normal[0]; d[1] -= c * normal[1]; d[2] -= c * normal[2];
+    d[0] -= c * normal[0];
+    d[1] -= c * normal[1];
+    d[2] -= c * normal[2];
     const l = Math.hypot(d[0], d[1], d[2]);
-    if (l > best) { best = l; e1 = [d[0] / l, d[1] / l, d[2] / l]; }
+    if (l > best) {
+      best = l;
+      e1 = [d[0] / l, d[1] / l, d[2] / l];
+    }
   }
   const e2: Vec3 = [normal[1] * e1[2] - normal[2] * e1[1], normal[2] * e1[0] - normal[0] * e1[2], normal[0] * e1[1] - normal[1] * e1[0]];
   const uv: number[] = [];
   for (const p of vs) {
-    const d0 = p[0]! - o[0], d1 = p[1]! - o[1], d2 = p[2]! - o[2];
+    const d0 = p[0]! - o[0],
+      d1 = p[1]! - o[1],
+      d2 = p[2]! - o[2];
     uv.push(d0 * e1[0] + d1 * e1[1] + d2 * e1[2], d0 * e2[0] + d1 * e2[1] + d2 * e2[2]);
   }
   return { normal, offset, origin: o, e1, e2, uv };
@@ -465,9 +543,19 @@ export class PreparedScene {
   private readonly surfaceCache = new Map<number, ResolvedSurface[]>();
   // the segment of the running segmentHitsWall query, read by its long-lived visitor (no closure per query);
   // transmissive walls (thicknessM) let the segment through and are accounted by segmentTransmissions
-  private qax = 0; private qay = 0; private qaz = 0; private qbx = 0; private qby = 0; private qbz = 0;
-  private qSkipA = -1; private qSkipB = -1;
-  private readonly crossVisitor = (w: number): boolean => w !== this.qSkipA && w !== this.qSkipB && this.transmissive[w] !== 1 && this.segmentCrossesWall(w, this.qax, this.qay, this.qaz, this.qbx, this.qby, this.qbz);
+  private qax = 0;
+  private qay = 0;
+  private qaz = 0;
+  private qbx = 0;
+  private qby = 0;
+  private qbz = 0;
+  private qSkipA = -1;
+  private qSkipB = -1;
+  private readonly crossVisitor = (w: number): boolean =>
+    w !== this.qSkipA &&
+    w !== this.qSkipB &&
+    this.transmissive[w] !== 1 &&
+    this.segmentCrossesWall(w, this.qax, this.qay, this.qaz, this.qbx, this.qby, this.qbz);
 
   /** Use `prepareScene()`; the constructor trusts a validated scene. */
   constructor(scene: Scene, is2D: boolean) {
@@ -489,10 +577,15 @@ export class PreparedScene {
       if (g.seg !== undefined) this.segments.set(g.seg, 5 * w);
       if (g.uv !== undefined) {
         this.frames.set([...g.origin!, ...g.e1!, ...g.e2!], 9 * w);
-        let uMin = Infinity, uMax = -Infinity, vMin = Infinity, vMax = -Infinity;
+        let uMin = Infinity,
+          uMax = -Infinity,
+          vMin = Infinity,
+          vMax = -Infinity;
         for (let i = 0; i < g.uv.length; i += 2) {
-          uMin = Math.min(uMin, g.uv[i]!); uMax = Math.max(uMax, g.uv[i]!);
-          vMin = Math.min(vMin, g.uv[i + 1]!); vMax = Math.max(vMax, g.uv[i + 1]!);
+          uMin = Math.min(uMin, g.uv[i]!);
+          uMax = Math.max(uMax, g.uv[i]!);
+          vMin = Math.min(vMin, g.uv[i + 1]!);
+          vMax = Math.max(vMax, g.uv[i + 1]!);
         }
         this.bounds.set([uMin, uMax, vMin, vMax], 4 * w);
         uvAll.push(...g.uv);
@@ -502,18 +595,34 @@ export class PreparedScene {
     this.polygons = Float64Array.from(uvAll);
     this.vertexStart = new Int32Array(W + 1);
     let nv = 0;
-    walls.forEach((wall, w) => { this.vertexStart[w] = nv; nv += wall.vertices.length; });
+    walls.forEach((wall, w) => {
+      this.vertexStart[w] = nv;
+      nv += wall.vertices.length;
+    });
     this.vertexStart[W] = nv;
     this.vertices = new Float64Array(3 * nv);
     const boxes = new Float64Array(6 * W);
     let maxAbs = 1;
     walls.forEach((wall, w) => {
-      let x0 = Infinity, y0 = Infinity, z0 = is2D ? -Infinity : Infinity, x1 = -Infinity, y1 = -Infinity, z1 = is2D ? Infinity : -Infinity;
+      let x0 = Infinity,
+        y0 = Infinity,
+        z0 = is2D ? -Infinity : Infinity,
+        x1 = -Infinity,
+        y1 = -Infinity,
+        z1 = is2D ? Infinity : -Infinity;
       wall.vertices.forEach((v, j) => {
-        const x = v[0]!, y = v[1]!, z = is2D ? 0 : v[2]!;
+        const x = v[0]!,
+          y = v[1]!,
+          z = is2D ? 0 : v[2]!;
         this.vertices.set([x, y, z], 3 * (this.vertexStart[w]! + j));
-        x0 = Math.min(x0, x); x1 = Math.max(x1, x); y0 = Math.min(y0, y); y1 = Math.max(y1, y);
-        if (!is2D) { z0 = Math.min(z0, z); z1 = Math.max(z1, z); }
+        x0 = Math.min(x0, x);
+        x1 = Math.max(x1, x);
+        y0 = Math.min(y0, y);
+        y1 = Math.max(y1, y);
+        if (!is2D) {
+          z0 = Math.min(z0, z);
+          z1 = Math.max(z1, z);
+        }
         maxAbs = Math.max(maxAbs, Math.abs(x), Math.abs(y), Math.abs(z));
       });
       boxes.set([x0, y0, z0, x1, y1, z1], 6 * w);
@@ -523,14 +632,22 @@ export class PreparedScene {
     this.convex = new Uint8Array(W).fill(1);
     let maxV = 0;
     for (let w = 0; w < W; w++) {
-      const s = this.polygonStart[w]!, e = this.polygonStart[w + 1]!, n = e - s, poly = this.polygons;
+      const s = this.polygonStart[w]!,
+        e = this.polygonStart[w + 1]!,
+        n = e - s,
+        poly = this.polygons;
       maxV = Math.max(maxV, walls[w]!.vertices.length);
       if (is2D) continue;
-      let pos = 0, neg = 0;
+      let pos = 0,
+        neg = 0;
       for (let i = 0; i < n; i++) {
-        const a = s + i, b = s + ((i + 1) % n), c = s + ((i + 2) % n);
-        const cr = (poly[2 * b]! - poly[2 * a]!) * (poly[2 * c + 1]! - poly[2 * b + 1]!) - (poly[2 * b + 1]! - poly[2 * a + 1]!) * (poly[2 * c]! - poly[2 * b]!);
-        if (cr > 0) pos++; else if (cr < 0) neg++;
+        const a = s + i,
+          b = s + ((i + 1) % n),
+          c = s + ((i + 2) % n);
+        const cr =
+          (poly[2 * b]! - poly[2 * a]!) * (poly[2 * c + 1]! - poly[2 * b + 1]!) - (poly[2 * b + 1]! - poly[2 * a + 1]!) * (poly[2 * c]! - poly[2 * b]!);
+        if (cr > 0) pos++;
+        else if (cr < 0) neg++;
       }
       this.convex[w] = pos === 0 || neg === 0 ? 1 : 0;
     }
@@ -539,9 +656,15 @@ export class PreparedScene {
     this.blockerSpheres = new Float64Array(4 * blockers.length);
     this.blockerPoints = blockers.map((b, i) => {
       const pts = blockerSilhouettePoints(b, is2D);
-      let cx = 0, cy = 0, cz = 0;
+      let cx = 0,
+        cy = 0,
+        cz = 0;
       const m = pts.length / 3;
-      for (let k = 0; k < m; k++) { cx += pts[3 * k]! / m; cy += pts[3 * k + 1]! / m; cz += pts[3 * k + 2]! / m; }
+      for (let k = 0; k < m; k++) {
+        cx += pts[3 * k]! / m;
+        cy += pts[3 * k + 1]! / m;
+        cz += pts[3 * k + 2]! / m;
+      }
       let r = 0;
       for (let k = 0; k < m; k++) r = Math.max(r, Math.hypot(pts[3 * k]! - cx, pts[3 * k + 1]! - cy, is2D ? 0 : pts[3 * k + 2]! - cz));
       if (b.shape === 'cylinder') r *= 1 / Math.cos(Math.PI / CYLINDER_RING_POINTS); // the true circle lies outside the ring polygon
@@ -595,27 +718,41 @@ export class PreparedScene {
       const t = (x - s[o]!) * s[o + 2]! + (y - s[o + 1]!) * s[o + 3]!;
       return t >= -tol && t <= s[o + 4]! + tol;
     }
-    const f = this.frames, fo = 9 * w;
-    const dx = x - f[fo]!, dy = y - f[fo + 1]!, dz = z - f[fo + 2]!;
+    const f = this.frames,
+      fo = 9 * w;
+    const dx = x - f[fo]!,
+      dy = y - f[fo + 1]!,
+      dz = z - f[fo + 2]!;
     const u = dx * f[fo + 3]! + dy * f[fo + 4]! + dz * f[fo + 5]!;
     const v = dx * f[fo + 6]! + dy * f[fo + 7]! + dz * f[fo + 8]!;
-    const b = this.bounds, bo = 4 * w;
+    const b = this.bounds,
+      bo = 4 * w;
     if (u < b[bo]! - tol || u > b[bo + 1]! + tol || v < b[bo + 2]! - tol || v > b[bo + 3]! + tol) return false;
     const poly = this.polygons;
-    const start = this.polygonStart[w]!, end = this.polygonStart[w + 1]!;
+    const start = this.polygonStart[w]!,
+      end = this.polygonStart[w + 1]!;
     // Crossing number, then (for points that test outside) distance to the boundary within tol.
     let inside = false;
     for (let i = start, j = end - 1; i < end; j = i++) {
-      const ui = poly[2 * i]!, vi = poly[2 * i + 1]!, uj = poly[2 * j]!, vj = poly[2 * j + 1]!;
-      if ((vi > v) !== (vj > v) && u < ((uj - ui) * (v - vi)) / (vj - vi) + ui) inside = !inside;
+      const ui = poly[2 * i]!,
+        vi = poly[2 * i + 1]!,
+        uj = poly[2 * j]!,
+        vj = poly[2 * j + 1]!;
+      if (vi > v !== vj > v && u < ((uj - ui) * (v - vi)) / (vj - vi) + ui) inside = !inside;
     }
     if (inside || tol <= 0) return inside;
     for (let i = start, j = end - 1; i < end; j = i++) {
-      const ui = poly[2 * i]!, vi = poly[2 * i + 1]!, uj = poly[2 * j]!, vj = poly[2 * j + 1]!;
-      const eu = ui - uj, ev = vi - vj, l2 = eu * eu + ev * ev;
+      const ui = poly[2 * i]!,
+        vi = poly[2 * i + 1]!,
+        uj = poly[2 * j]!,
+        vj = poly[2 * j + 1]!;
+      const eu = ui - uj,
+        ev = vi - vj,
+        l2 = eu * eu + ev * ev;
       let t = l2 > 0 ? ((u - uj) * eu + (v - vj) * ev) / l2 : 0;
       t = t < 0 ? 0 : t > 1 ? 1 : t;
-      const du = u - (uj + t * eu), dv = v - (vj + t * ev);
+      const du = u - (uj + t * eu),
+        dv = v - (vj + t * ev);
       if (du * du + dv * dv <= tol * tol) return true;
     }
     return false;
@@ -630,8 +767,14 @@ export class PreparedScene {
    * [ps.segmentHitsWall(0.8, 0.2, 1, 0.8, 0.2, -1, -1, -1), ps.segmentHitsWall(0.2, 0.8, 1, 0.2, 0.8, -1, -1, -1)] // [true, false]: only the first crosses the triangle
    */
   segmentHitsWall(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number): boolean {
-    this.qax = ax; this.qay = ay; this.qaz = az; this.qbx = bx; this.qby = by; this.qbz = bz;
-    this.qSkipA = skipA; this.qSkipB = skipB;
+    this.qax = ax;
+    this.qay = ay;
+    this.qaz = az;
+    this.qbx = bx;
+    this.qby = by;
+    this.qbz = bz;
+    this.qSkipA = skipA;
+    this.qSkipB = skipB;
     return this.bvh.forEachOnSegment(ax, ay, az, bx, by, bz, this.crossVisitor, this.padM);
   }
 
@@ -645,7 +788,10 @@ export class PreparedScene {
     const pl = this.planes;
     const eps = 1e-9;
     const o = 4 * w;
-    const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
+    const nx = pl[o]!,
+      ny = pl[o + 1]!,
+      nz = pl[o + 2]!,
+      d = pl[o + 3]!;
     const fa = nx * ax + ny * ay + nz * az - d;
     const fb = nx * bx + ny * by + nz * bz - d;
     if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0)) return false; // both ends on one side
@@ -664,11 +810,24 @@ export class PreparedScene {
    * const ps = prepareScene({ walls: [{ vertices: [[5, -5], [5, 5]], material: 'glass', thicknessM: 0.01 }] });
    * ps.segmentTransmissions(0, 0, 0, 10, 0, 0, -1, -1) // [[0, 0.5]]
    */
-  segmentTransmissions(ax: number, ay: number, az: number, bx: number, by: number, bz: number, skipA: number, skipB: number, only?: readonly number[]): [number, number][] {
+  segmentTransmissions(
+    ax: number,
+    ay: number,
+    az: number,
+    bx: number,
+    by: number,
+    bz: number,
+    skipA: number,
+    skipB: number,
+    only?: readonly number[],
+  ): [number, number][] {
     const out: [number, number][] = [];
     if (!this.hasTransmission) return out;
-    const pl = this.planes, eps = 1e-9;
-    const dx = bx - ax, dy = by - ay, dz = bz - az;
+    const pl = this.planes,
+      eps = 1e-9;
+    const dx = bx - ax,
+      dy = by - ay,
+      dz = bz - az;
     const list = only ?? Array.from({ length: this.wallCount }, (_, w) => w);
     for (const w of list) {
       if (only === undefined && (w === skipA || w === skipB || this.transmissive[w] !== 1)) continue;
@@ -676,9 +835,15 @@ export class PreparedScene {
       const fa = pl[o]! * ax + pl[o + 1]! * ay + pl[o + 2]! * az - pl[o + 3]!;
       const fb = pl[o]! * bx + pl[o + 1]! * by + pl[o + 2]! * bz - pl[o + 3]!;
       const den = fa - fb;
-      if (Math.abs(den) < 1e-15) { if (only !== undefined) out.push([w, 0.5]); continue; }
+      if (Math.abs(den) < 1e-15) {
+        if (only !== undefined) out.push([w, 0.5]);
+        continue;
+      }
       const t = fa / den;
-      if (only !== undefined) { out.push([w, Math.min(1, Math.max(0, t))]); continue; }
+      if (only !== undefined) {
+        out.push([w, Math.min(1, Math.max(0, t))]);
+        continue;
+      }
       if ((fa > 0 && fb > 0) || (fa < 0 && fb < 0) || t <= eps || t >= 1 - eps) continue;
       if (this.insideWall(w, ax + t * dx, ay + t * dy, az + t * dz, 0)) out.push([w, t]);
     }
@@ -689,15 +854,24 @@ export class PreparedScene {
 /** Silhouette sample points of a blocker (see PreparedScene.blockerPoints). */
 function blockerSilhouettePoints(b: Blocker, is2D: boolean): Float64Array {
   if (b.shape === 'box') {
-    const [x0, y0] = b.min as [number, number], [x1, y1] = b.max as [number, number];
+    const [x0, y0] = b.min as [number, number],
+      [x1, y1] = b.max as [number, number];
     if (is2D) return Float64Array.of(x0, y0, 0, x1, y0, 0, x1, y1, 0, x0, y1, 0);
-    const z0 = b.min[2]!, z1 = b.max[2]!;
+    const z0 = b.min[2]!,
+      z1 = b.max[2]!;
     const out = new Float64Array(24);
     let k = 0;
-    for (const z of [z0, z1]) for (const y of [y0, y1]) for (const x of [x0, x1]) { out[k++] = x; out[k++] = y; out[k++] = z; }
+    for (const z of [z0, z1])
+      for (const y of [y0, y1])
+        for (const x of [x0, x1]) {
+          out[k++] = x;
+          out[k++] = y;
+          out[k++] = z;
+        }
     return out;
   }
-  const cx = b.base[0]!, cy = b.base[1]!;
+  const cx = b.base[0]!,
+    cy = b.base[1]!;
   const rings = is2D ? [0] : [b.base[2]!, b.base[2]! + b.heightM];
   const N = CYLINDER_RING_POINTS;
   const out = new Float64Array(3 * N * rings.length);
@@ -705,7 +879,9 @@ function blockerSilhouettePoints(b: Blocker, is2D: boolean): Float64Array {
   for (const z of rings) {
     for (let i = 0; i < N; i++) {
       const a = (2 * Math.PI * i) / N;
-      out[k++] = cx + b.radiusM * Math.cos(a); out[k++] = cy + b.radiusM * Math.sin(a); out[k++] = z;
+      out[k++] = cx + b.radiusM * Math.cos(a);
+      out[k++] = cy + b.radiusM * Math.sin(a);
+      out[k++] = z;
     }
   }
   return out;
@@ -719,7 +895,9 @@ export function prepareScene(scene: Scene): PreparedScene {
   const a = analyseScene(scene, {});
   const errors = a.problems.filter((p) => p.severity === 'error');
   if (errors.length > 0) {
-    throw new RangeError(`prepareScene(): the scene has ${errors.length} problem${errors.length === 1 ? '' : 's'}:\n` + errors.map((p) => `${p.path}: ${p.message}`).join('\n'));
+    throw new RangeError(
+      `prepareScene(): the scene has ${errors.length} problem${errors.length === 1 ? '' : 's'}:\n` + errors.map((p) => `${p.path}: ${p.message}`).join('\n'),
+    );
   }
   return new PreparedScene(scene, a.is2D);
 }

@@ -33,7 +33,8 @@ export interface SlabCoefficients {
  * @example slabCoefficients([4, 0], 0.0025, 0.01, 1).transmission.te // [0, -1]: a half-wave slab (d = lambda / (2 sqrt(eta))) is transparent at normal incidence, phase -(q - q0) = -pi / 2
  */
 export function slabCoefficients(eta: Readonly<Complex>, thicknessM: number, wavelengthM: number, cosT: number): SlabCoefficients {
-  if (!(thicknessM >= 0) || !Number.isFinite(thicknessM)) throw new RangeError(`slabCoefficients(): thicknessM must be a finite number >= 0, got ${thicknessM}`);
+  if (!(thicknessM >= 0) || !Number.isFinite(thicknessM))
+    throw new RangeError(`slabCoefficients(): thicknessM must be a finite number >= 0, got ${thicknessM}`);
   if (!(wavelengthM > 0)) throw new RangeError(`slabCoefficients(): wavelengthM must be > 0, got ${wavelengthM}`);
   if (!(cosT >= 0 && cosT <= 1)) throw new RangeError(`slabCoefficients(): cosT must be in [0, 1], got ${cosT}`);
   const f = fresnelCos(eta, cosT);
@@ -51,7 +52,8 @@ export function slabCoefficients(eta: Readonly<Complex>, thicknessM: number, wav
     const T = cdiv(cmul([1 - r2[0], -r2[1]], e1), den);
     return { R, T };
   };
-  const te = one(f.te), tm = one(f.tm);
+  const te = one(f.te),
+    tm = one(f.tm);
   return { reflection: { te: te.R, tm: tm.R }, transmission: { te: te.T, tm: tm.T } };
 }
 

@@ -215,15 +215,20 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
   const errors = ps.terminalProblems(tx.position, rx.position);
   if (errors.length > 0) throw new RangeError(`traceScene(): ${errors.map((p) => `${p.path}: ${p.message}`).join('; ')}`);
   const warnings: SceneProblem[] = [];
-  ps.surfacesAt(carrierHz).forEach((r, i) => { if (r.warning !== undefined) warnings.push({ path: `scene.walls[${i}].material`, message: r.warning, severity: 'warning' }); });
+  ps.surfacesAt(carrierHz).forEach((r, i) => {
+    if (r.warning !== undefined) warnings.push({ path: `scene.walls[${i}].material`, message: r.warning, severity: 'warning' });
+  });
   const settings = resolveOptions(ps, options);
   const ctx = new TraceContext(ps, tx, rx, carrierHz, settings.gas);
   const raw: TracedPath[] = [];
-  const t = tx.position, r = rx.position;
+  const t = tx.position,
+    r = rx.position;
   if (settings.lineOfSight && !ps.segmentHitsWall(t[0], t[1], t[2], r[0], r[1], r[2], -1, -1)) {
     raw.push(ctx.build('los', [], []));
   }
-  traceReflections(ps, t, r, settings.order, (seq, points) => { raw.push(ctx.build('reflection', seq, points)); });
+  traceReflections(ps, t, r, settings.order, (seq, points) => {
+    raw.push(ctx.build('reflection', seq, points));
+  });
   const scatterers = ps.scene.scatterers ?? [];
   scatterers.forEach((s, i) => {
     const p: Vec3 = [s.position[0]!, s.position[1]!, s.position[2] ?? 0];
@@ -232,7 +237,16 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
     raw.push(ctx.build('scatter', [i], [p]));
   });
   if (settings.diffraction) {
-    traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => { raw.push(ctx.build('diffraction', steps.map((s) => s.index), points, steps)); });
+    traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => {
+      raw.push(
+        ctx.build(
+          'diffraction',
+          steps.map((s) => s.index),
+          points,
+          steps,
+        ),
+      );
+    });
   }
   return { paths: prunePaths(raw, settings.maxPaths, settings.dynamicRangeDb, options.keepNullPaths ?? false), warnings };
 }
@@ -249,19 +263,34 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
  * const { paths } = traceScene(ps, tx, { position: [10, 0, 0] }, 28e9); // 'los' 10 m, 'R:walls[0]' 14.142 m
  * retracePaths(ps, paths, tx, { position: [10.1, 0, 0] }, 28e9).map((p) => p.lengthM) // [10.1, 14.213]
  */
-export function retracePaths(ps: PreparedScene, paths: readonly TracedPath[], tx: TerminalState, rx: TerminalState, carrierHz: number, options: TraceOptions = {}): TracedPath[] {
+export function retracePaths(
+  ps: PreparedScene,
+  paths: readonly TracedPath[],
+  tx: TerminalState,
+  rx: TerminalState,
+  carrierHz: number,
+  options: TraceOptions = {},
+): TracedPath[] {
   if (!Number.isFinite(carrierHz) || carrierHz <= 0) throw new RangeError(`retracePaths(): carrierHz must be a finite number > 0, got ${carrierHz}`);
   const settings = resolveOptions(ps, options);
   const ctx = new TraceContext(ps, tx, rx, carrierHz, settings.gas);
   return paths.map((p) => ctx.refresh(p));
 }
 
-interface Settings { lineOfSight: boolean; order: number; maxPaths: number; dynamicRangeDb: number; gas: number; diffraction: boolean }
+interface Settings {
+  lineOfSight: boolean;
+  order: number;
+  maxPaths: number;
+  dynamicRangeDb: number;
+  gas: number;
+  diffraction: boolean;
+}
 
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   const s = ps.scene;
   const order = o.maxReflectionOrder ?? ps.maxReflectionOrder;
-  if (!Number.isInteger(order) || order < 0 || order > MAX_REFLECTION_ORDER) throw new RangeError(`traceScene(): maxReflectionOrder must be an integer from 0 to ${MAX_REFLECTION_ORDER}, got ${order}`);
+  if (!Number.isInteger(order) || order < 0 || order > MAX_REFLECTION_ORDER)
+    throw new RangeError(`traceScene(): maxReflectionOrder must be an integer from 0 to ${MAX_REFLECTION_ORDER}, got ${order}`);
   const maxPaths = o.maxPaths ?? s.maxPaths ?? Infinity;
   if (!(maxPaths >= 1)) throw new RangeError(`traceScene(): maxPaths must be >= 1, got ${maxPaths}`);
   const dr = o.dynamicRangeDb ?? s.dynamicRangeDb ?? Infinity;
@@ -280,7 +309,7 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
  * [prunePaths(paths).length, prunePaths(paths, Infinity, 6).map((p) => p.id)] // [2, ['los']]: the reflection is 8.846 dB below the direct path
  */
 export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRangeDb = Infinity, keepNullPaths = false): TracedPath[] {
-  const sorted = [...paths].sort((a, b) => (b.powerDb - a.powerDb) || (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
+  const sorted = [...paths].sort((a, b) => b.powerDb - a.powerDb || (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
   if (sorted.length === 0) return sorted;
   const floor = sorted[0]!.powerDb - dynamicRangeDb;
   const kept = sorted.filter((p) => (p.powerDb >= floor && p.powerDb > -Infinity) || (keepNullPaths && p.powerDb === -Infinity && dynamicRangeDb === Infinity));
@@ -294,41 +323,78 @@ export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRang
  * @example traceReflections(prepareScene({ walls: [{ vertices: [[0, -5], [0, 5]] }] }), [1, 0, 0], [2, 0, 0], 1, (w, p) => console.log(w, p))
  * // [0] [[0, 0, 0]]
  */
-export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Readonly<Vec3>, maxOrder: number, emit: (walls: number[], points: Vec3[]) => void): void {
+export function traceReflections(
+  ps: PreparedScene,
+  tx: Readonly<Vec3>,
+  rx: Readonly<Vec3>,
+  maxOrder: number,
+  emit: (walls: number[], points: Vec3[]) => void,
+): void {
   const W = ps.wallCount;
   if (maxOrder < 1 || W === 0) return;
   const pl = ps.planes;
   const images = new Float64Array(3 * (maxOrder + 1));
   const pts = new Float64Array(3 * maxOrder);
   const seq = new Int32Array(maxOrder);
-  images[0] = tx[0]; images[1] = tx[1]; images[2] = tx[2];
-  const rx0 = rx[0], rx1 = rx[1], rx2 = rx[2];
+  images[0] = tx[0];
+  images[1] = tx[1];
+  images[2] = tx[2];
+  const rx0 = rx[0],
+    rx1 = rx[1],
+    rx2 = rx[2];
   const tol = 1e-9;
 
   const tryPath = (K: number): void => {
-    let qx = rx0, qy = rx1, qz = rx2; // current target
+    let qx = rx0,
+      qy = rx1,
+      qz = rx2; // current target
     for (let k = K; k >= 1; k--) {
-      const w = seq[k - 1]!, o = 4 * w;
-      const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!, d = pl[o + 3]!;
-      const ix = images[3 * k]!, iy = images[3 * k + 1]!, iz = images[3 * k + 2]!;
-      const fq = nx * qx + ny * qy + nz * qz - d, fi = nx * ix + ny * iy + nz * iz - d;
+      const w = seq[k - 1]!,
+        o = 4 * w;
+      const nx = pl[o]!,
+        ny = pl[o + 1]!,
+        nz = pl[o + 2]!,
+        d = pl[o + 3]!;
+      const ix = images[3 * k]!,
+        iy = images[3 * k + 1]!,
+        iz = images[3 * k + 2]!;
+      const fq = nx * qx + ny * qy + nz * qz - d,
+        fi = nx * ix + ny * iy + nz * iz - d;
       if (!((fq > 0 && fi < 0) || (fq < 0 && fi > 0))) return; // target and image must straddle the wall
       const s = fq / (fq - fi);
-      const px = qx + s * (ix - qx), py = qy + s * (iy - qy), pz = qz + s * (iz - qz);
+      const px = qx + s * (ix - qx),
+        py = qy + s * (iy - qy),
+        pz = qz + s * (iz - qz);
       if (!ps.insideWall(w, px, py, pz, tol)) return;
-      pts[3 * (k - 1)] = px; pts[3 * (k - 1) + 1] = py; pts[3 * (k - 1) + 2] = pz;
-      qx = px; qy = py; qz = pz;
+      pts[3 * (k - 1)] = px;
+      pts[3 * (k - 1) + 1] = py;
+      pts[3 * (k - 1) + 2] = pz;
+      qx = px;
+      qy = py;
+      qz = pz;
     }
     // Every segment free of other walls: tx -> P1, P1 -> P2, ..., PK -> rx.
-    let ax = images[0]!, ay = images[1]!, az = images[2]!, prev = -1;
+    let ax = images[0]!,
+      ay = images[1]!,
+      az = images[2]!,
+      prev = -1;
     for (let k = 0; k <= K; k++) {
       const next = k < K ? seq[k]! : -1;
-      const bx = k < K ? pts[3 * k]! : rx0, by = k < K ? pts[3 * k + 1]! : rx1, bz = k < K ? pts[3 * k + 2]! : rx2;
+      const bx = k < K ? pts[3 * k]! : rx0,
+        by = k < K ? pts[3 * k + 1]! : rx1,
+        bz = k < K ? pts[3 * k + 2]! : rx2;
       if (ps.segmentHitsWall(ax, ay, az, bx, by, bz, prev, next)) return;
-      ax = bx; ay = by; az = bz; prev = next;
+      ax = bx;
+      ay = by;
+      az = bz;
+      prev = next;
     }
-    const walls: number[] = [], points: Vec3[] = [];
-    for (let k = 0; k < K; k++) { walls.push(seq[k]!); points.push([pts[3 * k]!, pts[3 * k + 1]!, pts[3 * k + 2]!]); }
+    const walls: number[] = [],
+      points: Vec3[] = [];
+    for (let k = 0; k < K; k++) {
+      walls.push(seq[k]!);
+      points.push([pts[3 * k]!, pts[3 * k + 1]!, pts[3 * k + 2]!]);
+    }
     emit(walls, points);
   };
 
@@ -347,8 +413,11 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
   for (let w = 0; w < W; w++) cand[w] = w;
   const margin = 100 * ps.padM; // conservative: reflection points may sit 1e-9 m outside a polygon
   const grow = 1e-6 * (ps.padM / 1e-8); // the cone's polygon widened by 1e-6 m per metre of scene size
-  const verts = ps.vertices, vStart = ps.vertexStart;
-  const fr = ps.frames, bd = ps.bounds, sg = ps.segments;
+  const verts = ps.vertices,
+    vStart = ps.vertexStart;
+  const fr = ps.frames,
+    bd = ps.bounds,
+    sg = ps.segments;
 
   /**
    * Beam of depth k + 1 (image I at images[3 (k + 1)], through wall w, source side sign s): the
@@ -356,68 +425,149 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
    * rectangle; widened by `grow`), then the parent's half-spaces mirrored through w (the most
    * selective first, for the hierarchy's early outs).
    */
-  let bDst = 0, bCount = 0, bix = 0, biy = 0, biz = 0; // the beam being made (shared with addPlane)
+  let bDst = 0,
+    bCount = 0,
+    bix = 0,
+    biy = 0,
+    biz = 0; // the beam being made (shared with addPlane)
   /** The plane through I and the points a, b (relative to I), oriented to hold (cx, cy, cz). */
   const addPlane = (pxa: number, pya: number, pza: number, pxb: number, pyb: number, pzb: number, cx: number, cy: number, cz: number): void => {
-    let nx = pya * pzb - pza * pyb, ny = pza * pxb - pxa * pzb, nz = pxa * pyb - pya * pxb;
+    let nx = pya * pzb - pza * pyb,
+      ny = pza * pxb - pxa * pzb,
+      nz = pxa * pyb - pya * pxb;
     const l = Math.hypot(nx, ny, nz);
     if (!(l > 1e-12 * Math.hypot(pxa, pya, pza) * Math.hypot(pxb, pyb, pzb))) return; // degenerate: no plane (still conservative)
-    nx /= l; ny /= l; nz /= l;
-    if (nx * cx + ny * cy + nz * cz < 0) { nx = -nx; ny = -ny; nz = -nz; }
+    nx /= l;
+    ny /= l;
+    nz /= l;
+    if (nx * cx + ny * cy + nz * cz < 0) {
+      nx = -nx;
+      ny = -ny;
+      nz = -nz;
+    }
     const q = bDst + 4 * bCount++;
-    beams[q] = nx; beams[q + 1] = ny; beams[q + 2] = nz; beams[q + 3] = nx * bix + ny * biy + nz * biz;
+    beams[q] = nx;
+    beams[q + 1] = ny;
+    beams[q + 2] = nz;
+    beams[q + 3] = nx * bix + ny * biy + nz * biz;
   };
   const makeBeam = (k: number, w: number, s: number): void => {
-    const src = slot * k, dst = slot * (k + 1);
-    const o = 4 * w, mx = pl[o]!, my = pl[o + 1]!, mz = pl[o + 2]!, e = pl[o + 3]!;
+    const src = slot * k,
+      dst = slot * (k + 1);
+    const o = 4 * w,
+      mx = pl[o]!,
+      my = pl[o + 1]!,
+      mz = pl[o + 2]!,
+      e = pl[o + 3]!;
     let c = 0;
     let b = dst + 4 * c++; // beyond the wall: the source's side
-    beams[b] = s * mx; beams[b + 1] = s * my; beams[b + 2] = s * mz; beams[b + 3] = s * e;
-    const ix = images[3 * k + 3]!, iy = images[3 * k + 4]!, iz = images[3 * k + 5]!;
-    bDst = dst; bCount = c; bix = ix; biy = iy; biz = iz;
+    beams[b] = s * mx;
+    beams[b + 1] = s * my;
+    beams[b + 2] = s * mz;
+    beams[b + 3] = s * e;
+    const ix = images[3 * k + 3]!,
+      iy = images[3 * k + 4]!,
+      iz = images[3 * k + 5]!;
+    bDst = dst;
+    bCount = c;
+    bix = ix;
+    biy = iy;
+    biz = iz;
     if (ps.is2D) {
-      const so = 5 * w, ax = sg[so]!, ay = sg[so + 1]!, ux = sg[so + 2]!, uy = sg[so + 3]!, len = sg[so + 4]!;
-      const cx = ax + 0.5 * len * ux - ix, cy = ay + 0.5 * len * uy - iy;
+      const so = 5 * w,
+        ax = sg[so]!,
+        ay = sg[so + 1]!,
+        ux = sg[so + 2]!,
+        uy = sg[so + 3]!,
+        len = sg[so + 4]!;
+      const cx = ax + 0.5 * len * ux - ix,
+        cy = ay + 0.5 * len * uy - iy;
       // vertical planes through I and each end (pushed out by grow along the wall)
       addPlane(ax - grow * ux - ix, ay - grow * uy - iy, 0, ax - grow * ux - ix, ay - grow * uy - iy, 1, cx, cy, 0);
       addPlane(ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 0, ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 1, cx, cy, 0);
     } else if (ps.convex[w] === 1) {
-      const f9 = 9 * w, v0 = vStart[w]!, v1 = vStart[w + 1]!;
-      const ox = fr[f9]!, oy = fr[f9 + 1]!, oz = fr[f9 + 2]!; // the vertices' centroid: inside a convex polygon
-      const cx = ox - ix, cy = oy - iy, cz = oz - iz;
+      const f9 = 9 * w,
+        v0 = vStart[w]!,
+        v1 = vStart[w + 1]!;
+      const ox = fr[f9]!,
+        oy = fr[f9 + 1]!,
+        oz = fr[f9 + 2]!; // the vertices' centroid: inside a convex polygon
+      const cx = ox - ix,
+        cy = oy - iy,
+        cz = oz - iz;
       for (let v = v0; v < v1; v++) {
         const u = v + 1 < v1 ? v + 1 : v0;
-        const ax = verts[3 * v]!, ay = verts[3 * v + 1]!, az = verts[3 * v + 2]!;
-        const ex = verts[3 * u]! - ax, ey = verts[3 * u + 1]! - ay, ez = verts[3 * u + 2]! - az;
+        const ax = verts[3 * v]!,
+          ay = verts[3 * v + 1]!,
+          az = verts[3 * v + 2]!;
+        const ex = verts[3 * u]! - ax,
+          ey = verts[3 * u + 1]! - ay,
+          ez = verts[3 * u + 2]! - az;
         // in-plane outward normal of the edge, to push it out by grow
-        let qx = ey * mz - ez * my, qy = ez * mx - ex * mz, qz = ex * my - ey * mx;
+        let qx = ey * mz - ez * my,
+          qy = ez * mx - ex * mz,
+          qz = ex * my - ey * mx;
         const ql = Math.hypot(qx, qy, qz);
         if (!(ql > 0)) continue;
         const sgn = qx * (ox - ax) + qy * (oy - ay) + qz * (oz - az) > 0 ? -grow / ql : grow / ql;
-        qx *= sgn; qy *= sgn; qz *= sgn;
+        qx *= sgn;
+        qy *= sgn;
+        qz *= sgn;
         addPlane(ax + qx - ix, ay + qy - iy, az + qz - iz, ax + ex + qx - ix, ay + ey + qy - iy, az + ez + qz - iz, cx, cy, cz);
       }
     } else {
-      const f9 = 9 * w, b4 = 4 * w;
-      const u0 = bd[b4]! - grow, u1 = bd[b4 + 1]! + grow, v0 = bd[b4 + 2]! - grow, v1 = bd[b4 + 3]! + grow;
-      const ox = fr[f9]!, oy = fr[f9 + 1]!, oz = fr[f9 + 2]!;
-      const e1x = fr[f9 + 3]!, e1y = fr[f9 + 4]!, e1z = fr[f9 + 5]!, e2x = fr[f9 + 6]!, e2y = fr[f9 + 7]!, e2z = fr[f9 + 8]!;
-      const um = 0.5 * (u0 + u1), vm = 0.5 * (v0 + v1);
-      const cx = ox + um * e1x + vm * e2x - ix, cy = oy + um * e1y + vm * e2y - iy, cz = oz + um * e1z + vm * e2z - iz;
+      const f9 = 9 * w,
+        b4 = 4 * w;
+      const u0 = bd[b4]! - grow,
+        u1 = bd[b4 + 1]! + grow,
+        v0 = bd[b4 + 2]! - grow,
+        v1 = bd[b4 + 3]! + grow;
+      const ox = fr[f9]!,
+        oy = fr[f9 + 1]!,
+        oz = fr[f9 + 2]!;
+      const e1x = fr[f9 + 3]!,
+        e1y = fr[f9 + 4]!,
+        e1z = fr[f9 + 5]!,
+        e2x = fr[f9 + 6]!,
+        e2y = fr[f9 + 7]!,
+        e2z = fr[f9 + 8]!;
+      const um = 0.5 * (u0 + u1),
+        vm = 0.5 * (v0 + v1);
+      const cx = ox + um * e1x + vm * e2x - ix,
+        cy = oy + um * e1y + vm * e2y - iy,
+        cz = oz + um * e1z + vm * e2z - iz;
       for (let edge = 0; edge < 4; edge++) {
-        const ua = edge === 0 || edge === 3 ? u0 : u1, va = edge < 2 ? v0 : v1;
-        const ub = edge < 2 ? u1 : u0, vb = edge === 0 || edge === 3 ? v0 : v1;
-        addPlane(ox + ua * e1x + va * e2x - ix, oy + ua * e1y + va * e2y - iy, oz + ua * e1z + va * e2z - iz,
-          ox + ub * e1x + vb * e2x - ix, oy + ub * e1y + vb * e2y - iy, oz + ub * e1z + vb * e2z - iz, cx, cy, cz);
+        const ua = edge === 0 || edge === 3 ? u0 : u1,
+          va = edge < 2 ? v0 : v1;
+        const ub = edge < 2 ? u1 : u0,
+          vb = edge === 0 || edge === 3 ? v0 : v1;
+        addPlane(
+          ox + ua * e1x + va * e2x - ix,
+          oy + ua * e1y + va * e2y - iy,
+          oz + ua * e1z + va * e2z - iz,
+          ox + ub * e1x + vb * e2x - ix,
+          oy + ub * e1y + vb * e2y - iy,
+          oz + ub * e1z + vb * e2z - iz,
+          cx,
+          cy,
+          cz,
+        );
       }
     }
     c = bCount;
-    for (let q = 0; q < beamCount[k]!; q++) { // the parent's half-spaces mirrored through w
+    for (let q = 0; q < beamCount[k]!; q++) {
+      // the parent's half-spaces mirrored through w
       const a = src + 4 * q;
-      const nx = beams[a]!, ny = beams[a + 1]!, nz = beams[a + 2]!, d = beams[a + 3]!;
+      const nx = beams[a]!,
+        ny = beams[a + 1]!,
+        nz = beams[a + 2]!,
+        d = beams[a + 3]!;
       const nm = nx * mx + ny * my + nz * mz;
       b = dst + 4 * c++;
-      beams[b] = nx - 2 * nm * mx; beams[b + 1] = ny - 2 * nm * my; beams[b + 2] = nz - 2 * nm * mz; beams[b + 3] = d - 2 * e * nm;
+      beams[b] = nx - 2 * nm * mx;
+      beams[b + 1] = ny - 2 * nm * my;
+      beams[b + 2] = nz - 2 * nm * mz;
+      beams[b + 3] = d - 2 * e * nm;
     }
     beamCount[k + 1] = c;
   };
@@ -425,13 +575,20 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
   /** True when some vertex of wall w is inside (within margin) every half-space of beam k. */
   const wallMeetsBeam = (k: number, w: number): boolean => {
     const base = slot * k;
-    const v0 = vStart[w]!, v1 = vStart[w + 1]!;
+    const v0 = vStart[w]!,
+      v1 = vStart[w + 1]!;
     for (let q = 0; q < beamCount[k]!; q++) {
       const a = base + 4 * q;
-      const nx = beams[a]!, ny = beams[a + 1]!, nz = beams[a + 2]!, d = beams[a + 3]! - margin;
+      const nx = beams[a]!,
+        ny = beams[a + 1]!,
+        nz = beams[a + 2]!,
+        d = beams[a + 3]! - margin;
       let inside = false;
       for (let v = v0; v < v1; v++) {
-        if (nx * verts[3 * v]! + ny * verts[3 * v + 1]! + nz * verts[3 * v + 2]! >= d) { inside = true; break; }
+        if (nx * verts[3 * v]! + ny * verts[3 * v + 1]! + nz * verts[3 * v + 2]! >= d) {
+          inside = true;
+          break;
+        }
       }
       if (!inside) return false;
     }
@@ -441,7 +598,8 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
   // Occlusion pruning (3-D, exact in the same sense): a first wall hidden from the transmitter, a
   // wall hidden from the previous one, or a last wall hidden from the receiver, by one convex wall.
   const occ = ps.is2D || W > OCCLUSION_MAX_WALLS || W < OCCLUSION_MIN_WALLS ? undefined : occlusionOf(ps);
-  const txSeen = new Int8Array(W), rxSeen = new Int8Array(W); // 0 unknown, 1 visible, 2 hidden
+  const txSeen = new Int8Array(W),
+    rxSeen = new Int8Array(W); // 0 unknown, 1 visible, 2 hidden
   const hiddenFrom = (seen: Int8Array, w: number, p: Readonly<Vec3>): boolean => {
     if (occ === undefined) return false;
     if (seen[w] === 0) seen[w] = occ.wallHiddenFromPoint(w, p[0], p[1], p[2]) ? 2 : 1;
@@ -450,7 +608,8 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
 
   // The last wall of a sequence must be visible from the receiver: with occlusion, the leaves are
   // drawn from that list (built once per trace) instead of the beam query.
-  let rxList: Int32Array | undefined, rxCount = 0;
+  let rxList: Int32Array | undefined,
+    rxCount = 0;
   const leafList = (): Int32Array => {
     if (rxList === undefined) {
       rxList = new Int32Array(W);
@@ -460,12 +619,20 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
   };
 
   const descend = (depth: number): void => {
-    const px = images[3 * depth]!, py = images[3 * depth + 1]!, pz = images[3 * depth + 2]!;
+    const px = images[3 * depth]!,
+      py = images[3 * depth + 1]!,
+      pz = images[3 * depth + 2]!;
     const leaves = depth + 1 === maxOrder;
-    let list: Int32Array = cand, base = W * depth, n = W;
-    if (!prune) base = 0; // every wall, as listed in slot 0
-    else if (leaves && occ !== undefined) { list = leafList(); base = 0; n = rxCount; }
-    else if (depth > 0) n = ps.bvh.collectInHalfSpaces(beams, beamCount[depth]!, margin, cand, base, (slot * depth) / 4);
+    let list: Int32Array = cand,
+      base = W * depth,
+      n = W;
+    if (!prune)
+      base = 0; // every wall, as listed in slot 0
+    else if (leaves && occ !== undefined) {
+      list = leafList();
+      base = 0;
+      n = rxCount;
+    } else if (depth > 0) n = ps.bvh.collectInHalfSpaces(beams, beamCount[depth]!, margin, cand, base, (slot * depth) / 4);
     for (let i = 0; i < n; i++) {
       const w = list[base + i]!;
       if (depth > 0) {
@@ -474,10 +641,14 @@ export function traceReflections(ps: PreparedScene, tx: Readonly<Vec3>, rx: Read
         if (prune && !leaves && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
       } else if (hiddenFrom(txSeen, w, tx)) continue;
       const o = 4 * w;
-      const nx = pl[o]!, ny = pl[o + 1]!, nz = pl[o + 2]!;
+      const nx = pl[o]!,
+        ny = pl[o + 1]!,
+        nz = pl[o + 2]!;
       const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
       if (f === 0) continue; // the source lies in the plane: no image
-      images[3 * depth + 3] = px - 2 * f * nx; images[3 * depth + 4] = py - 2 * f * ny; images[3 * depth + 5] = pz - 2 * f * nz;
+      images[3 * depth + 3] = px - 2 * f * nx;
+      images[3 * depth + 4] = py - 2 * f * ny;
+      images[3 * depth + 5] = pz - 2 * f * nz;
       seq[depth] = w;
       if (!hiddenFrom(rxSeen, w, rx)) tryPath(depth + 1);
       if (!leaves) {
@@ -498,7 +669,10 @@ const OCCLUSION_MIN_WALLS = 32;
 const occlusionCache = new WeakMap<PreparedScene, Occlusion>();
 function occlusionOf(ps: PreparedScene): Occlusion {
   let o = occlusionCache.get(ps);
-  if (o === undefined) { o = new Occlusion(ps); occlusionCache.set(ps, o); }
+  if (o === undefined) {
+    o = new Occlusion(ps);
+    occlusionCache.set(ps, o);
+  }
   return o;
 }
 
@@ -529,34 +703,55 @@ class TraceContext {
   }
 
   /** A full path from its interaction list (wall, scatterer or wedge indices, with `steps` for diffracted paths) and interaction points. */
-  build(kind: TracedPath['kind'], objects: number[], points: Vec3[], steps?: readonly DiffractionStep[], sides?: readonly number[], throughWalls?: readonly (readonly number[])[]): TracedPath {
+  build(
+    kind: TracedPath['kind'],
+    objects: number[],
+    points: Vec3[],
+    steps?: readonly DiffractionStep[],
+    sides?: readonly number[],
+    throughWalls?: readonly (readonly number[])[],
+  ): TracedPath {
     const ps = this.ps;
     const main: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
     const mainTypes: PathInteraction['type'][] = objects.map((_, k) => (steps !== undefined ? steps[k]!.type : kind === 'scatter' ? 'scatter' : 'reflection'));
     // Walls with thicknessM crossed by a segment become transmission interactions on it
     // (`throughWalls` per segment when retracing: the same walls, found by their planes).
-    let chain = main, types = mainTypes, objs = objects;
+    let chain = main,
+      types = mainTypes,
+      objs = objects;
     if (ps.hasTransmission) {
-      chain = [main[0]!]; types = []; objs = [];
+      chain = [main[0]!];
+      types = [];
+      objs = [];
       for (let k = 0; k + 1 < main.length; k++) {
-        const a = main[k]!, b = main[k + 1]!;
-        const skipA = k > 0 && mainTypes[k - 1] === 'reflection' ? objects[k - 1]! : -1, skipB = k < objects.length && mainTypes[k] === 'reflection' ? objects[k]! : -1;
+        const a = main[k]!,
+          b = main[k + 1]!;
+        const skipA = k > 0 && mainTypes[k - 1] === 'reflection' ? objects[k - 1]! : -1,
+          skipB = k < objects.length && mainTypes[k] === 'reflection' ? objects[k]! : -1;
         for (const [w, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], skipA, skipB, throughWalls?.[k])) {
           chain.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
-          types.push('transmission'); objs.push(w);
+          types.push('transmission');
+          objs.push(w);
         }
-        if (k < objects.length) { chain.push(b); types.push(mainTypes[k]!); objs.push(objects[k]!); }
+        if (k < objects.length) {
+          chain.push(b);
+          types.push(mainTypes[k]!);
+          objs.push(objects[k]!);
+        }
       }
       chain.push(main[main.length - 1]!);
       if (kind === 'los' && types.length > 0) kind = 'transmission';
     }
     const surfaces = ps.surfacesAt(this.carrierHz);
     const wedges = kind === 'diffraction' ? sceneWedges(ps) : undefined;
-    let diffractionAt = -1, lengthBefore = 0, lengthAfter = 0;
+    let diffractionAt = -1,
+      lengthBefore = 0,
+      lengthAfter = 0;
     if (steps !== undefined) {
       diffractionAt = types.indexOf('diffraction') + 1;
       for (let k = 0; k + 1 < chain.length; k++) {
-        if (k < diffractionAt) lengthBefore += dist(chain[k]!, chain[k + 1]!); else lengthAfter += dist(chain[k]!, chain[k + 1]!);
+        if (k < diffractionAt) lengthBefore += dist(chain[k]!, chain[k + 1]!);
+        else lengthAfter += dist(chain[k]!, chain[k + 1]!);
       }
     }
     const interactions: PathInteraction[] = [];
@@ -566,8 +761,10 @@ class TraceContext {
     const eT = Float64Array.of(basis[0]!, basis[1]!, basis[2]!, 0, 0, 0);
     const eP = Float64Array.of(basis[3]!, basis[4]!, basis[5]!, 0, 0, 0);
     for (let k = 1; k < chain.length - 1; k++) {
-      const kIn = unit(chain[k - 1]!, chain[k]!), kOut = unit(chain[k]!, chain[k + 1]!);
-      const o = objs[k - 1]!, type = types[k - 1]!;
+      const kIn = unit(chain[k - 1]!, chain[k]!),
+        kOut = unit(chain[k]!, chain[k + 1]!);
+      const o = objs[k - 1]!,
+        type = types[k - 1]!;
       if (type === 'transmission') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
@@ -577,14 +774,32 @@ class TraceContext {
         const c = slabCoefficients(eta, ps.scene.walls![o]!.thicknessM!, this.lambda, cosT).transmission;
         reflectField(eT, eT, kIn, kIn, n, c); // the wave leaves the slab along its incident direction
         reflectField(eP, eP, kIn, kIn, n, c);
-        interactions.push({ type: 'transmission', object: { kind: 'wall', index: o }, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
+        interactions.push({
+          type: 'transmission',
+          object: { kind: 'wall', index: o },
+          point: chain[k]!,
+          incidenceDeg: (Math.acos(cosT) * 180) / Math.PI,
+          coefficients: c,
+        });
       } else if (k === diffractionAt && wedges !== undefined) {
         const d = wedgeDiffraction(ps, o, kIn, kOut, lengthBefore, lengthAfter, (2 * Math.PI) / this.lambda, this.carrierHz, sides);
         diffractField(eT, eT, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
         diffractField(eP, eP, d, d.betaHatIn, d.phiHatIn, d.betaHatOut, d.phiHatOut);
         const f = wedges.faces;
-        const object: SceneObjectRef = ps.is2D ? { kind: 'edge', index: wedges.wall[o]!, vertex: wedges.part[o]! } : { kind: 'edge', index: wedges.wall[o]!, edge: wedges.part[o]! };
-        interactions.push({ type: 'diffraction', object, point: chain[k]!, faces: [{ kind: 'wall', index: f[2 * o]! }, { kind: 'wall', index: f[2 * o + 1]! }], exteriorAngleDeg: d.n * 180, diffraction: { soft: d.soft, hard: d.hard, sides: sides !== undefined ? [sides[0]!, sides[1]!, sides[2]!, sides[3]!] : d.sides } });
+        const object: SceneObjectRef = ps.is2D
+          ? { kind: 'edge', index: wedges.wall[o]!, vertex: wedges.part[o]! }
+          : { kind: 'edge', index: wedges.wall[o]!, edge: wedges.part[o]! };
+        interactions.push({
+          type: 'diffraction',
+          object,
+          point: chain[k]!,
+          faces: [
+            { kind: 'wall', index: f[2 * o]! },
+            { kind: 'wall', index: f[2 * o + 1]! },
+          ],
+          exteriorAngleDeg: d.n * 180,
+          diffraction: { soft: d.soft, hard: d.hard, sides: sides !== undefined ? [sides[0]!, sides[1]!, sides[2]!, sides[3]!] : d.sides },
+        });
       } else if (type === 'reflection') {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
@@ -592,7 +807,13 @@ class TraceContext {
         const c = surfaceCoefficients(surfaces[o]!.surface, cosT);
         reflectField(eT, eT, kIn, kOut, n, c);
         reflectField(eP, eP, kIn, kOut, n, c);
-        interactions.push({ type: 'reflection', object: { kind: 'wall', index: o }, point: chain[k]!, incidenceDeg: (Math.acos(cosT) * 180) / Math.PI, coefficients: c });
+        interactions.push({
+          type: 'reflection',
+          object: { kind: 'wall', index: o },
+          point: chain[k]!,
+          incidenceDeg: (Math.acos(cosT) * 180) / Math.PI,
+          coefficients: c,
+        });
       } else {
         projectFieldPerpendicular(eT, eT, kOut);
         projectFieldPerpendicular(eP, eP, kOut);
@@ -607,22 +828,41 @@ class TraceContext {
     ];
     const ft = terminalFieldVector([0, 0, 0], this.txPol, this.txRot, dep);
     const fr = terminalFieldVector([0, 0, 0], this.rxPol, this.rxRot, arr);
-    const t0 = ft[0] * basis[0]! + ft[1] * basis[1]! + ft[2] * basis[2]!, t1 = ft[0] * basis[3]! + ft[1] * basis[4]! + ft[2] * basis[5]!;
-    const r0 = fr[0] * ab[0]! + fr[1] * ab[1]! + fr[2] * ab[2]!, r1 = fr[0] * ab[3]! + fr[1] * ab[4]! + fr[2] * ab[5]!;
+    const t0 = ft[0] * basis[0]! + ft[1] * basis[1]! + ft[2] * basis[2]!,
+      t1 = ft[0] * basis[3]! + ft[1] * basis[4]! + ft[2] * basis[5]!;
+    const r0 = fr[0] * ab[0]! + fr[1] * ab[1]! + fr[2] * ab[2]!,
+      r1 = fr[0] * ab[3]! + fr[1] * ab[4]! + fr[2] * ab[5]!;
     const F: Complex = [
       r0 * (T[0][0][0] * t0 + T[0][1][0] * t1) + r1 * (T[1][0][0] * t0 + T[1][1][0] * t1),
       r0 * (T[0][0][1] * t0 + T[0][1][1] * t1) + r1 * (T[1][0][1] * t0 + T[1][1][1] * t1),
     ];
     let blockageDb = 0;
     for (let k = 0; k + 1 < chain.length; k++) {
-      const a = chain[k]!, b = chain[k + 1]!;
+      const a = chain[k]!,
+        b = chain[k + 1]!;
       blockageDb += segmentBlockageDb(ps, a[0], a[1], a[2], b[0], b[1], b[2], this.lambda);
     }
     const path: TracedPath = {
-      id: pathIdOf(interactions), kind, interactions,
-      lengthM: 0, delayS: 0, departure: dep, arrival: arr, aodDeg: [0, 0], aoaDeg: [0, 0], aodLocalDeg: [0, 0], aoaLocalDeg: [0, 0],
-      amplitude: [0, 0], powerDb: 0, phaseDeg: 0, dopplerHz: 0, virtualSource: [0, 0, 0], virtualSink: [0, 0, 0],
-      blockageDb, polarizationFactor: F, polarimetric: T,
+      id: pathIdOf(interactions),
+      kind,
+      interactions,
+      lengthM: 0,
+      delayS: 0,
+      departure: dep,
+      arrival: arr,
+      aodDeg: [0, 0],
+      aoaDeg: [0, 0],
+      aodLocalDeg: [0, 0],
+      aoaLocalDeg: [0, 0],
+      amplitude: [0, 0],
+      powerDb: 0,
+      phaseDeg: 0,
+      dopplerHz: 0,
+      virtualSource: [0, 0, 0],
+      virtualSink: [0, 0, 0],
+      blockageDb,
+      polarizationFactor: F,
+      polarimetric: T,
     };
     this.fillKinematics(path, chain);
     return path;
@@ -631,15 +871,26 @@ class TraceContext {
   /** The path at the context's terminal positions, keeping its interaction factors. */
   refresh(p: TracedPath): TracedPath {
     const ps = this.ps;
-    const tx = vec(this.tx.position), rx = vec(this.rx.position);
+    const tx = vec(this.tx.position),
+      rx = vec(this.rx.position);
     if (p.kind === 'diffraction') {
       // The UTD coefficient changes quickly near shadow and reflection boundaries: rebuild it
       // at the new positions, each boundary term held on the side it had when traced (utd.ts),
       // as the direct and reflected paths keep their traced set (the blocker loss stays as traced).
       const steps = diffractionSteps(ps, p);
       const sides = p.interactions.find((it) => it.type === 'diffraction')?.diffraction?.sides;
-      const out = this.build('diffraction', steps.map((s) => s.index), diffractionPoints(ps, steps, tx, rx), steps, sides, transmissionsPerSegment(p));
-      if (out.blockageDb !== p.blockageDb) { out.blockageDb = p.blockageDb; this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]); }
+      const out = this.build(
+        'diffraction',
+        steps.map((s) => s.index),
+        diffractionPoints(ps, steps, tx, rx),
+        steps,
+        sides,
+        transmissionsPerSegment(p),
+      );
+      if (out.blockageDb !== p.blockageDb) {
+        out.blockageDb = p.blockageDb;
+        this.fillKinematics(out, [tx, ...out.interactions.map((it) => it.point), rx]);
+      }
       return out;
     }
     let points: Vec3[];
@@ -651,8 +902,10 @@ class TraceContext {
       points = new Array<Vec3>(walls.length);
       let q = rx;
       for (let k = walls.length; k >= 1; k--) {
-        const w = walls[k - 1]!, I = images[k]!;
-        const fq = planeValue(ps, w, q), fi = planeValue(ps, w, I);
+        const w = walls[k - 1]!,
+          I = images[k]!;
+        const fq = planeValue(ps, w, q),
+          fi = planeValue(ps, w, I);
         const s = fq / (fq - fi);
         q = [q[0] + s * (I[0] - q[0]), q[1] + s * (I[1] - q[1]), q[2] + s * (I[2] - q[2])];
         points[k - 1] = q;
@@ -666,8 +919,10 @@ class TraceContext {
       const main = [tx, ...points, rx];
       points = [];
       for (let k = 0; k + 1 < main.length; k++) {
-        const a = main[k]!, b = main[k + 1]!;
-        for (const [, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], -1, -1, perSegment[k])) points.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
+        const a = main[k]!,
+          b = main[k + 1]!;
+        for (const [, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], -1, -1, perSegment[k]))
+          points.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
         if (k + 2 < main.length) points.push(b);
       }
     }
@@ -693,8 +948,11 @@ class TraceContext {
     p.aoaDeg = degFromVector(p.arrival);
     p.aodLocalDeg = degFromVector(applyInverseRotation([0, 0, 0], this.txRot, p.departure));
     p.aoaLocalDeg = degFromVector(applyInverseRotation([0, 0, 0], this.rxRot, p.arrival));
-    const v1 = this.txVel, v2 = this.rxVel;
-    p.dopplerHz = (v1[0] * p.departure[0] + v1[1] * p.departure[1] + v1[2] * p.departure[2] + v2[0] * p.arrival[0] + v2[1] * p.arrival[1] + v2[2] * p.arrival[2]) / this.lambda;
+    const v1 = this.txVel,
+      v2 = this.rxVel;
+    p.dopplerHz =
+      (v1[0] * p.departure[0] + v1[1] * p.departure[1] + v1[2] * p.departure[2] + v2[0] * p.arrival[0] + v2[1] * p.arrival[1] + v2[2] * p.arrival[2]) /
+      this.lambda;
     let spreading: number;
     if (p.kind === 'scatter') {
       const at = p.interactions.findIndex((it) => it.type === 'scatter');
@@ -714,7 +972,8 @@ class TraceContext {
       const after = length - before;
       spreading = this.lambda / (4 * Math.PI * Math.sqrt(before * after * length));
       // seen from each end, the wave comes from the edge point mirrored through the walls in between
-      let src = vec(chain[at]!), sink = vec(chain[at]!);
+      let src = vec(chain[at]!),
+        sink = vec(chain[at]!);
       for (let k = at; k < p.interactions.length; k++) if (p.interactions[k]!.type === 'reflection') src = mirror(ps, wallIndex(p.interactions[k]!), src);
       for (let k = at - 2; k >= 0; k--) if (p.interactions[k]!.type === 'reflection') sink = mirror(ps, wallIndex(p.interactions[k]!), sink);
       p.virtualSource = src;
@@ -722,7 +981,8 @@ class TraceContext {
     } else {
       spreading = this.lambda / (4 * Math.PI * length);
       const walls = p.interactions.filter((it) => it.type === 'reflection').map(wallIndex);
-      let src = vec(chain[0]!), sink = vec(chain[chain.length - 1]!);
+      let src = vec(chain[0]!),
+        sink = vec(chain[chain.length - 1]!);
       for (const w of walls) src = mirror(ps, w, src);
       for (let k = walls.length - 1; k >= 0; k--) sink = mirror(ps, walls[k]!, sink);
       p.virtualSource = src;
@@ -732,7 +992,8 @@ class TraceContext {
     // exp(-j k0 d), with k0 d reduced modulo 2 pi in wavelengths first to keep digits
     const cycles = length / this.lambda;
     const phase = -2 * Math.PI * (cycles - Math.floor(cycles));
-    const c = Math.cos(phase), s = Math.sin(phase);
+    const c = Math.cos(phase),
+      s = Math.sin(phase);
     const F = p.polarizationFactor;
     p.amplitude = [mag * (F[0] * c - F[1] * s), mag * (F[0] * s + F[1] * c)];
     const a = Math.hypot(p.amplitude[0], p.amplitude[1]);
@@ -752,7 +1013,9 @@ function dist(a: Readonly<Vec3>, b: Readonly<Vec3>): number {
 }
 
 function unit(from: Readonly<Vec3>, to: Readonly<Vec3>): Vec3 {
-  const x = to[0] - from[0], y = to[1] - from[1], z = to[2] - from[2];
+  const x = to[0] - from[0],
+    y = to[1] - from[1],
+    z = to[2] - from[2];
   const n = Math.hypot(x, y, z);
   if (!(n > 0)) throw new RangeError(`traceScene(): two consecutive points of a path coincide at ${JSON.stringify(from)}`);
   return [x / n, y / n, z / n];
@@ -760,19 +1023,18 @@ function unit(from: Readonly<Vec3>, to: Readonly<Vec3>): Vec3 {
 
 /** e . basis[offset..offset+2] for a complex vector e (Float64Array(6)). */
 function cdot(e: Float64Array, b: Float64Array, offset: number): Complex {
-  return [
-    e[0]! * b[offset]! + e[1]! * b[offset + 1]! + e[2]! * b[offset + 2]!,
-    e[3]! * b[offset]! + e[4]! * b[offset + 1]! + e[5]! * b[offset + 2]!,
-  ];
+  return [e[0]! * b[offset]! + e[1]! * b[offset + 1]! + e[2]! * b[offset + 2]!, e[3]! * b[offset]! + e[4]! * b[offset + 1]! + e[5]! * b[offset + 2]!];
 }
 
 function planeValue(ps: PreparedScene, w: number, p: Readonly<Vec3>): number {
-  const pl = ps.planes, o = 4 * w;
+  const pl = ps.planes,
+    o = 4 * w;
   return pl[o]! * p[0] + pl[o + 1]! * p[1] + pl[o + 2]! * p[2] - pl[o + 3]!;
 }
 
 function mirror(ps: PreparedScene, w: number, p: Readonly<Vec3>): Vec3 {
-  const pl = ps.planes, o = 4 * w;
+  const pl = ps.planes,
+    o = 4 * w;
   const f = planeValue(ps, w, p);
   return [p[0] - 2 * f * pl[o]!, p[1] - 2 * f * pl[o + 1]!, p[2] - 2 * f * pl[o + 2]!];
 }
@@ -799,10 +1061,12 @@ function transmissionsPerSegment(p: TracedPath): number[][] {
 /** The steps of a diffracted path from its interactions (wedges by their edge's label). */
 function diffractionSteps(ps: PreparedScene, p: TracedPath): DiffractionStep[] {
   const index = sceneWedges(ps).index;
-  return p.interactions.filter((it) => it.type !== 'transmission').map((it) => {
-    if (it.type === 'reflection') return { type: 'reflection', index: wallIndex(it) };
-    const w = it.object.kind === 'edge' ? index.get(sceneObjectLabel(it.object)) : undefined;
-    if (w === undefined) throw new RangeError(`retracePaths(): the scene has no diffracting edge ${JSON.stringify(it.object)}`);
-    return { type: 'diffraction', index: w };
-  });
+  return p.interactions
+    .filter((it) => it.type !== 'transmission')
+    .map((it) => {
+      if (it.type === 'reflection') return { type: 'reflection', index: wallIndex(it) };
+      const w = it.object.kind === 'edge' ? index.get(sceneObjectLabel(it.object)) : undefined;
+      if (w === undefined) throw new RangeError(`retracePaths(): the scene has no diffracting edge ${JSON.stringify(it.object)}`);
+      return { type: 'diffraction', index: w };
+    });
 }

@@ -108,32 +108,43 @@ export function fresnelComplement(x: number): Complex {
   const pix2 = Math.PI * x * x;
   let bRe = 1;
   const bIm = -pix2;
-  let cRe = 1e300, cIm = 0;
+  let cRe = 1e300,
+    cIm = 0;
   let den = bRe * bRe + bIm * bIm;
-  let dRe = bRe / den, dIm = -bIm / den;
-  let hRe = dRe, hIm = dIm;
+  let dRe = bRe / den,
+    dIm = -bIm / den;
+  let hRe = dRe,
+    hIm = dIm;
   let n = -1;
   for (let k = 2; k <= MAX_ITERATIONS; k++) {
     n += 2;
     const a = -n * (n + 1);
     bRe += 4;
     // d = 1 / (a d + b)
-    const tRe = a * dRe + bRe, tIm = a * dIm + bIm;
+    const tRe = a * dRe + bRe,
+      tIm = a * dIm + bIm;
     den = tRe * tRe + tIm * tIm;
-    dRe = tRe / den; dIm = -tIm / den;
+    dRe = tRe / den;
+    dIm = -tIm / den;
     // c = b + a / c
     den = cRe * cRe + cIm * cIm;
-    cRe = bRe + (a * cRe) / den; cIm = bIm - (a * cIm) / den;
-    const delRe = cRe * dRe - cIm * dIm, delIm = cRe * dIm + cIm * dRe;
+    cRe = bRe + (a * cRe) / den;
+    cIm = bIm - (a * cIm) / den;
+    const delRe = cRe * dRe - cIm * dIm,
+      delIm = cRe * dIm + cIm * dRe;
     const nhRe = hRe * delRe - hIm * delIm;
     hIm = hRe * delIm + hIm * delRe;
     hRe = nhRe;
     if (Math.abs(delRe - 1) + Math.abs(delIm) < EPS) break;
   }
   // (x - j x) h
-  const gRe = x * (hRe + hIm), gIm = x * (hIm - hRe);
-  const ph = pix2 / 2, ce = Math.cos(ph), se = Math.sin(ph);
-  const eRe = ce * gRe - se * gIm, eIm = ce * gIm + se * gRe;
+  const gRe = x * (hRe + hIm),
+    gIm = x * (hIm - hRe);
+  const ph = pix2 / 2,
+    ce = Math.cos(ph),
+    se = Math.sin(ph);
+  const eRe = ce * gRe - se * gIm,
+    eIm = ce * gIm + se * gRe;
   return [0.5 * (eRe - eIm), 0.5 * (eRe + eIm)];
 }
 
@@ -148,7 +159,8 @@ export function fresnelIntegrals(x: number): Complex {
   if (a <= SERIES_LIMIT) [c, s] = fresnelSeries(a);
   else {
     const g = fresnelComplement(a);
-    c = 0.5 - g[0]; s = 0.5 - g[1];
+    c = 0.5 - g[0];
+    s = 0.5 - g[1];
   }
   return x < 0 ? [-c, -s] : [c, s];
 }
@@ -157,12 +169,25 @@ export function fresnelIntegrals(x: number): Complex {
 function fresnelSeries(x: number): Complex {
   if (x < 1e-150) return [x, 0];
   const fact = HALF_PI * x * x;
-  let sumC = x, sumS = 0, term = x, sign = 1, odd = true, n = 3, sum = 0;
+  let sumC = x,
+    sumS = 0,
+    term = x,
+    sign = 1,
+    odd = true,
+    n = 3,
+    sum = 0;
   for (let k = 1; k <= MAX_ITERATIONS; k++) {
     term *= fact / k;
     sum += (sign * term) / n;
     const test = Math.abs(sum) * EPS;
-    if (odd) { sign = -sign; sumS = sum; sum = sumC; } else { sumC = sum; sum = sumS; }
+    if (odd) {
+      sign = -sign;
+      sumS = sum;
+      sum = sumC;
+    } else {
+      sumC = sum;
+      sum = sumS;
+    }
     if (term < test) break;
     odd = !odd;
     n += 2;
@@ -182,8 +207,10 @@ export function utdTransition(X: number): Complex {
   const g = fresnelComplement(Math.sqrt((2 * X) / Math.PI));
   const m = 2 * Math.sqrt(X) * Math.sqrt(HALF_PI);
   // 2 j sqrt(X) sqrt(pi/2) * exp(jX) * (g0 - j g1)
-  const iRe = m * g[1], iIm = m * g[0]; // j m (g0 - j g1) = m g1 + j m g0
-  const c = Math.cos(X), s = Math.sin(X);
+  const iRe = m * g[1],
+    iIm = m * g[0]; // j m (g0 - j g1) = m g1 + j m g0
+  const c = Math.cos(X),
+    s = Math.sin(X);
   return [iRe * c - iIm * s, iRe * s + iIm * c];
 }
 
@@ -200,7 +227,7 @@ function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: n
   // On the boundary itself the side must agree with the tracer's geometric-optics test: a
   // direct ray grazing an edge counts as blocked (shadow side, -1), a reflection point on the
   // edge (within the 1e-9 m tolerance of the image method) counts as inside its wall (lit, +1).
-  const side = reflectionBoundary ? (eps > -1e-10 ? 1 : -1) : (eps > 0 ? 1 : -1);
+  const side = reflectionBoundary ? (eps > -1e-10 ? 1 : -1) : eps > 0 ? 1 : -1;
   if (Math.abs(eps) < 1e-7) {
     // n [sqrt(2 pi k L) sgn(eps) - 2 k L eps e^{j pi/4}] e^{j pi/4}
     const sg = locked !== 0 ? locked : side;
@@ -220,14 +247,18 @@ function utdTerm(out: Float64Array, sign: number, beta: number, n: number, kL: n
   out[1] = cot * F[1];
   if (locked !== 0 && locked !== side) {
     // continued from the other side: sqrt(X) changes sign with eps, F -> F - 2 sqrt(pi X) e^{j (X + pi/4)}
-    const c = 2 * Math.sqrt(Math.PI * X) * cot, ph = X + Math.PI / 4;
+    const c = 2 * Math.sqrt(Math.PI * X) * cot,
+      ph = X + Math.PI / 4;
     out[0] -= c * Math.cos(ph);
     out[1] -= c * Math.sin(ph);
   }
   return side;
 }
 
-const t1 = new Float64Array(2), t2 = new Float64Array(2), t3 = new Float64Array(2), t4 = new Float64Array(2);
+const t1 = new Float64Array(2),
+  t2 = new Float64Array(2),
+  t3 = new Float64Array(2),
+  t4 = new Float64Array(2);
 const PEC_FACE: FaceReflection = { te: [-1, 0], tm: [1, 0] };
 
 /**
@@ -241,12 +272,19 @@ const PEC_FACE: FaceReflection = { te: [-1, 0], tm: [1, 0] };
  * // coefficient -exp(-j pi/4) / (2 sqrt(2 pi k)) [sec((phi - phi')/2) -+ sec((phi + phi')/2)]:
  * utdWedgeCoefficients(2 * Math.PI, { n: 2, phiPrimeRad: Math.PI / 3, phiRad: 3 * Math.PI / 2, beta0Rad: Math.PI / 2, distanceParameterM: 1e4 }).soft // [0.15917, -0.15914] (GTD: [0.15915, -0.15915])
  */
-export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, face0: FaceReflection = PEC_FACE, faceN: FaceReflection = PEC_FACE, sides?: readonly number[]): DiffractionCoefficients & { sides: [number, number, number, number] } {
+export function utdWedgeCoefficients(
+  k: number,
+  g: WedgeDiffractionGeometry,
+  face0: FaceReflection = PEC_FACE,
+  faceN: FaceReflection = PEC_FACE,
+  sides?: readonly number[],
+): DiffractionCoefficients & { sides: [number, number, number, number] } {
   const { n, phiPrimeRad: pp, phiRad: p, beta0Rad: b0, distanceParameterM: L } = g;
   if (!(k > 0) || !Number.isFinite(k)) throw new RangeError(`utdWedgeCoefficients(): k must be a finite number > 0, got ${k}`);
   if (!(n > 0 && n <= 2)) throw new RangeError(`utdWedgeCoefficients(): n must be in (0, 2], got ${n}`);
   const tol = 1e-9;
-  if (!(pp >= -tol && pp <= n * Math.PI + tol)) throw new RangeError(`utdWedgeCoefficients(): phiPrimeRad must be in [0, n pi] = [0, ${n * Math.PI}], got ${pp}`);
+  if (!(pp >= -tol && pp <= n * Math.PI + tol))
+    throw new RangeError(`utdWedgeCoefficients(): phiPrimeRad must be in [0, n pi] = [0, ${n * Math.PI}], got ${pp}`);
   if (!(p >= -tol && p <= n * Math.PI + tol)) throw new RangeError(`utdWedgeCoefficients(): phiRad must be in [0, n pi] = [0, ${n * Math.PI}], got ${p}`);
   if (!(b0 > 0 && b0 < Math.PI)) throw new RangeError(`utdWedgeCoefficients(): beta0Rad must be in (0, pi), got ${b0}`);
   if (!(L > 0) || !Number.isFinite(L)) throw new RangeError(`utdWedgeCoefficients(): distanceParameterM must be a finite number > 0, got ${L}`);
@@ -257,7 +295,8 @@ export function utdWedgeCoefficients(k: number, g: WedgeDiffractionGeometry, fac
   const s4 = utdTerm(t4, +1, p + pp, n, kL, true, sides?.[3] ?? 0);
   // -exp(-j pi/4) / (2 n sqrt(2 pi k) sin b0)
   const scale = -1 / (2 * n * Math.sqrt(2 * Math.PI * k) * Math.sin(b0));
-  const preRe = scale * SQRT_HALF, preIm = -scale * SQRT_HALF;
+  const preRe = scale * SQRT_HALF,
+    preIm = -scale * SQRT_HALF;
   const combine = (r0: Complex, rn: Complex): Complex => {
     const sRe = t1[0]! + t2[0]! + (r0[0] * t3[0]! - r0[1] * t3[1]!) + (rn[0] * t4[0]! - rn[1] * t4[1]!);
     const sIm = t1[1]! + t2[1]! + (r0[0] * t3[1]! + r0[1] * t3[0]!) + (rn[0] * t4[1]! + rn[1] * t4[0]!);

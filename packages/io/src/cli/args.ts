@@ -29,7 +29,12 @@ export function parseArgs(command: string, argv: readonly string[], spec: Option
       break;
     }
     if (!a.startsWith('--') || a === '-') {
-      if (a.startsWith('-') && a.length > 1 && !/^-\d/.test(a)) throw new UsageError(`${command}: unknown option ${a}; options are ${Object.keys(spec).map((k) => `--${k}`).join(', ')}`);
+      if (a.startsWith('-') && a.length > 1 && !/^-\d/.test(a))
+        throw new UsageError(
+          `${command}: unknown option ${a}; options are ${Object.keys(spec)
+            .map((k) => `--${k}`)
+            .join(', ')}`,
+        );
       out.positionals.push(a);
       continue;
     }
@@ -38,7 +43,15 @@ export function parseArgs(command: string, argv: readonly string[], spec: Option
     const kind = spec[name];
     if (kind === undefined) {
       const near = nearestKey(name, Object.keys(spec));
-      throw new UsageError(`${command}: unknown option --${name}${near !== undefined ? `; did you mean --${near}?` : `; options are ${Object.keys(spec).map((k) => `--${k}`).join(', ')}`}`);
+      throw new UsageError(
+        `${command}: unknown option --${name}${
+          near !== undefined
+            ? `; did you mean --${near}?`
+            : `; options are ${Object.keys(spec)
+                .map((k) => `--${k}`)
+                .join(', ')}`
+        }`,
+      );
     }
     if (kind === 'flag') {
       if (eq >= 0) throw new UsageError(`${command}: --${name} takes no value`);
@@ -122,7 +135,8 @@ export function parseShard(text: string, env: ShardEnvironment): { index: number
     const step = int('SLURM_ARRAY_TASK_STEP') ?? 1;
     const count = given ?? int('SLURM_ARRAY_TASK_COUNT');
     if (count === undefined) throw new UsageError('--shard auto: SLURM_ARRAY_TASK_COUNT is not set; give the count as --shard auto/N');
-    if (step < 1 || (slurmId - min) % step !== 0) throw new UsageError(`--shard auto: SLURM_ARRAY_TASK_ID ${slurmId} is not MIN ${min} plus a multiple of STEP ${step}`);
+    if (step < 1 || (slurmId - min) % step !== 0)
+      throw new UsageError(`--shard auto: SLURM_ARRAY_TASK_ID ${slurmId} is not MIN ${min} plus a multiple of STEP ${step}`);
     const index = (slurmId - min) / step;
     if (!(index >= 0 && index < count)) throw new UsageError(`--shard auto: Slurm index (ID - MIN) / STEP = ${index} is outside 0..${count - 1}`);
     return { index, count, source: 'Slurm job array' };

@@ -20,7 +20,8 @@ export interface Command {
 
 /** The single positional argument of a command. */
 export function onePositional(command: string, positionals: string[], what: string): string {
-  if (positionals.length !== 1) throw new UsageError(`${command}: expected one ${what}, got ${positionals.length === 0 ? 'none' : positionals.map((p) => JSON.stringify(p)).join(' ')}`);
+  if (positionals.length !== 1)
+    throw new UsageError(`${command}: expected one ${what}, got ${positionals.length === 0 ? 'none' : positionals.map((p) => JSON.stringify(p)).join(' ')}`);
   return positionals[0]!;
 }
 

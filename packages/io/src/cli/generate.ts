@@ -44,13 +44,17 @@ async function run(argv: string[], io: Io): Promise<number> {
   const file = onePositional('generate', args.positionals, 'scenario file');
   const out = args.values.out;
   if (out === undefined) throw new UsageError('generate: --out <file> is required');
-  if (args.values.format !== undefined && !(OUTPUT_FORMATS as readonly string[]).includes(args.values.format)) throw new UsageError(`--format must be one of ${OUTPUT_FORMATS.join(', ')}, got ${JSON.stringify(args.values.format)}`);
+  if (args.values.format !== undefined && !(OUTPUT_FORMATS as readonly string[]).includes(args.values.format))
+    throw new UsageError(`--format must be one of ${OUTPUT_FORMATS.join(', ')}, got ${JSON.stringify(args.values.format)}`);
   const format = (args.values.format ?? formatFromPath(out) ?? 'npy') as OutputFormat;
   // One command line serves every task of a job array: without {index} each task would replace the others' part.
   if (args.values.shard !== undefined && !out.includes('{index}')) {
-    throw new UsageError(`generate: --shard needs {index} in --out, so each shard writes its own part file (e.g. --out run.part-{index}-of-{count}.${format}); got ${JSON.stringify(out)}`);
+    throw new UsageError(
+      `generate: --shard needs {index} in --out, so each shard writes its own part file (e.g. --out run.part-{index}-of-{count}.${format}); got ${JSON.stringify(out)}`,
+    );
   }
-  if (args.values.shard === undefined && /\{(index|count)\}/.test(out)) throw new UsageError(`generate: --out ${JSON.stringify(out)} holds {index} or {count}, which only --shard fills in; give --shard I/N or name the file`);
+  if (args.values.shard === undefined && /\{(index|count)\}/.test(out))
+    throw new UsageError(`generate: --out ${JSON.stringify(out)} holds {index} or {count}, which only --shard fills in; give --shard I/N or name the file`);
   const seed = args.values.seed === undefined ? undefined : parseInteger('--seed', args.values.seed, 0, 2 ** 53 - 1);
   const workers = args.values.workers === undefined ? undefined : parseInteger('--workers', args.values.workers, 1, 256);
   const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
@@ -83,7 +87,9 @@ async function run(argv: string[], io: Io): Promise<number> {
   if (shard !== undefined) {
     const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
     if (earlier.reusable) {
-      io.out(`skipped ${target}: part ${shard.index} of ${shard.count} (subframes ${range[0]}:${range[1]}) is already complete; its manifest verified (${earlier.manifest.fileBytes} bytes, tensor sha256 ${earlier.manifest.tensor.sha256})`);
+      io.out(
+        `skipped ${target}: part ${shard.index} of ${shard.count} (subframes ${range[0]}:${range[1]}) is already complete; its manifest verified (${earlier.manifest.fileBytes} bytes, tensor sha256 ${earlier.manifest.tensor.sha256})`,
+      );
       return 0;
     }
     if (earlier.reason !== 'no manifest yet') {
@@ -143,8 +149,10 @@ async function run(argv: string[], io: Io): Promise<number> {
     void stopped.then(() => {
       clearTimeout(deadline);
       removed += removeTemporariesOf(target);
-      if (completed) io.err(`error: interrupted by ${signal} after the last subframe; ${target} is complete, but the run did not finish (no manifest or report)`);
-      else io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed} temporary file(s); nothing was written to ${target}`);
+      if (completed)
+        io.err(`error: interrupted by ${signal} after the last subframe; ${target} is complete, but the run did not finish (no manifest or report)`);
+      else
+        io.err(`error: interrupted by ${signal} after ${done} of ${total} subframes; removed ${removed} temporary file(s); nothing was written to ${target}`);
       onInterrupted(signal);
     });
   };
@@ -193,7 +201,6 @@ async function run(argv: string[], io: Io): Promise<number> {
     process.off('SIGTERM', onSignal);
   }
 }
-
 
 /** The generate command. */
 export const generateCommand: Command = {

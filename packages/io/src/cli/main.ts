@@ -62,7 +62,10 @@ export async function main(argv: readonly string[], given: Io = defaultIo): Prom
     }
     if (e instanceof UsageError || e instanceof RequestError || e instanceof InputFileError || e instanceof OutputPathError) {
       io.err(`error: ${e.message}`);
-      if (e instanceof UsageError) io.err(command !== undefined && COMMANDS[command] !== undefined ? `run "pathweave ${command} --help" for its options` : 'run "pathweave help" for usage');
+      if (e instanceof UsageError)
+        io.err(
+          command !== undefined && COMMANDS[command] !== undefined ? `run "pathweave ${command} --help" for its options` : 'run "pathweave help" for usage',
+        );
       return 2;
     }
     io.err(`error: ${e instanceof Error ? e.message : String(e)}`);

@@ -37,7 +37,9 @@ async function run(argv: string[], io: Io): Promise<number> {
       },
     });
     for (const w of report.warnings) io.err(`warning: ${w}`);
-    io.out(`wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] from ${report.parts} parts, ${formatBytes(report.fileBytes)} (${report.fileBytes} bytes), tensor sha256 ${report.sha256}, in ${report.seconds.toFixed(2)} s`);
+    io.out(
+      `wrote ${report.out}: ${report.tensorName} ${report.dtype} [${report.shape.join(', ')}] from ${report.parts} parts, ${formatBytes(report.fileBytes)} (${report.fileBytes} bytes), tensor sha256 ${report.sha256}, in ${report.seconds.toFixed(2)} s`,
+    );
     return 0;
   } catch (e) {
     if (interrupted !== undefined) {

@@ -12,7 +12,8 @@ async function run(argv: string[], io: Io): Promise<number> {
   let at = 0;
   if (args.values.at !== undefined) {
     at = Number(args.values.at);
-    if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0) throw new UsageError(`--at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
+    if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0)
+      throw new UsageError(`--at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
   }
   const built = buildScenario(scenario);
   let userIndex = 0;
@@ -22,7 +23,10 @@ async function run(argv: string[], io: Io): Promise<number> {
     if (userIndex < 0 || args.values.user === '') {
       const index = /^\d+$/.test(args.values.user) ? Number(args.values.user) : -1;
       const named = ids.filter((id) => id !== '');
-      if (!(index >= 0 && index < ids.length)) throw new UsageError(`paths: --user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${ids.length - 1}], got ${JSON.stringify(args.values.user)}`);
+      if (!(index >= 0 && index < ids.length))
+        throw new UsageError(
+          `paths: --user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${ids.length - 1}], got ${JSON.stringify(args.values.user)}`,
+        );
       userIndex = index;
     }
   }

@@ -10,14 +10,16 @@ async function run(argv: string[], io: Io): Promise<number> {
   const file = onePositional('plot', args.positionals, 'scenario or output file');
   const kind = args.values.kind;
   if (kind === undefined) throw new UsageError(`plot: --kind is required; kinds are ${PLOT_KINDS.join(', ')}`);
-  if (!(PLOT_KINDS as readonly string[]).includes(kind)) throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, got ${JSON.stringify(kind)}`);
+  if (!(PLOT_KINDS as readonly string[]).includes(kind))
+    throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, got ${JSON.stringify(kind)}`);
   const out = args.values.out;
   if (out === undefined) throw new UsageError('plot: --out <file.svg> is required');
   if (!/\.svg$/i.test(out)) throw new UsageError(`plot: --out must name an .svg file, got ${JSON.stringify(out)}`);
   const options: PlotOptions = {};
   if (args.values.at !== undefined) {
     const at = Number(args.values.at);
-    if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0) throw new UsageError(`plot: --at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
+    if (args.values.at.trim() === '' || !Number.isFinite(at) || at < 0)
+      throw new UsageError(`plot: --at must be a time in seconds >= 0, got ${JSON.stringify(args.values.at)}`);
     options.atS = at;
   }
   if (args.values.user !== undefined) options.user = args.values.user; // an id or an index, resolved against the scenario
@@ -41,6 +43,7 @@ async function run(argv: string[], io: Io): Promise<number> {
 
 /** The plot command. */
 export const plotCommand: Command = {
-  usage: 'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
+  usage:
+    'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
   run,
 };

@@ -47,7 +47,9 @@ export class Progress {
     } else {
       // Plain lines at most every 5 s or 10 %, for logs of batch jobs.
       if (done < this.total && now - this.lastPrint < 5000 && fraction - this.lastFraction < 0.1) return;
-      this.stream.write(`${this.label}: ${done}/${this.total} subframes (${(100 * fraction).toFixed(0)}%), ${rate.toFixed(1)} subframes/s, ${formatSeconds(left)} left\n`);
+      this.stream.write(
+        `${this.label}: ${done}/${this.total} subframes (${(100 * fraction).toFixed(0)}%), ${rate.toFixed(1)} subframes/s, ${formatSeconds(left)} left\n`,
+      );
       this.lastFraction = fraction;
     }
     this.lastPrint = now;

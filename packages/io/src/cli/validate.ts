@@ -19,13 +19,16 @@ async function run(argv: string[], io: Io): Promise<number> {
   const arrayLine = (name: string, array: ArrayPlan): string => {
     const a = array.config;
     const o = array.orientation;
-    const layout = a.kind === 'ula' ? `ULA of ${a.elements}` : a.kind === 'upa' ? `UPA ${a.rows} rows x ${a.columns} columns` : `custom, ${a.positions!.length} elements`;
+    const layout =
+      a.kind === 'ula' ? `ULA of ${a.elements}` : a.kind === 'upa' ? `UPA ${a.rows} rows x ${a.columns} columns` : `custom, ${a.positions!.length} elements`;
     const spacing = array.spacingWavelengths === undefined ? '' : `, spacing ${array.spacingWavelengths} wavelengths`;
     const ports = a.dualPolarized !== undefined ? `, dual-polarised (${a.dualPolarized}): ${array.ports} ports` : '';
     return `  ${name.padEnd(12)} ${layout}${spacing}, yaw ${o.yawDeg} pitch ${o.pitchDeg} roll ${o.rollDeg} deg, ${array.elements} elements${ports}`;
   };
   io.out(`${file}: valid`);
-  io.out(`  carrier      ${(plan.carrierHz / 1e9).toFixed(3)} GHz, ${plan.timing.subframes} subframes of ${plan.timing.subframeS * 1e3} ms, fading ${plan.fading.model}, seed ${plan.seed}`);
+  io.out(
+    `  carrier      ${(plan.carrierHz / 1e9).toFixed(3)} GHz, ${plan.timing.subframes} subframes of ${plan.timing.subframeS * 1e3} ms, fading ${plan.fading.model}, seed ${plan.seed}`,
+  );
   io.out(arrayLine('transmitter', plan.transmitter.array));
   io.out(arrayLine('receiver', plan.users[0]!.array));
   io.out(`  paths        ${built.paths.length} (${plan.source === 'scene' ? 'traced from the scene' : 'explicit'})`);
@@ -35,13 +38,14 @@ async function run(argv: string[], io: Io): Promise<number> {
       io.out(`               ... ${built.generator.correlations.length - 8} more`);
       break;
     }
-    io.out(`               ${built.paths[i]!.id}: alpha ${c.alpha.toFixed(6)} (${c.source}${c.dopplersHz.length > 0 ? `, f_D ${c.dopplersHz.map((f) => f.toFixed(1)).join(' and ')} Hz` : ''})`);
+    io.out(
+      `               ${built.paths[i]!.id}: alpha ${c.alpha.toFixed(6)} (${c.source}${c.dopplersHz.length > 0 ? `, f_D ${c.dopplersHz.map((f) => f.toFixed(1)).join(' and ')} Hz` : ''})`,
+    );
   }
   io.out(`  output       ${plan.tensor.name} ${plan.precision} [${est.shape.join(', ')}], ${formatBytes(est.bytes)} (${est.bytes} bytes) as .npy`);
   for (const w of new Set([...warnings, ...built.warnings])) io.out(`  warning: ${w}`);
   return 0;
 }
-
 
 /** The validate command. */
 export const validateCommand: Command = {

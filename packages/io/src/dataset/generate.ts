@@ -157,7 +157,9 @@ export function checkRequest(
   const budget = totalmem() / 2;
   const need = workingMemoryEstimate(plan, pathCount) + 2 * est.bytesPerSubframe;
   if (need > budget) {
-    throw new RequestError(`the run would need about ${formatBytes(need)} of memory (one subframe is ${formatBytes(est.bytesPerSubframe)}), more than the ${formatBytes(budget)} this machine can spare; use fewer elements, subcarriers or paths`);
+    throw new RequestError(
+      `the run would need about ${formatBytes(need)} of memory (one subframe is ${formatBytes(est.bytesPerSubframe)}), more than the ${formatBytes(budget)} this machine can spare; use fewer elements, subcarriers or paths`,
+    );
   }
   if (options.sideArrays === undefined) return;
   // The side arrays (gains, ground truth) stay in memory until the commit.
@@ -219,7 +221,14 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   const gains = new Float64Array(2 * gainShape.reduce((a, b) => a * b, 1));
   const gainsPerSubframe = gains.length / count;
   const job: TensorJob = {
-    built, first, end, block, blocks, workers, gains, gainsPerSubframe,
+    built,
+    first,
+    end,
+    block,
+    blocks,
+    workers,
+    gains,
+    gainsPerSubframe,
     values: 2 * Math.min(block, count) * built.valuesPerSubframe,
     hash: options.checksum === true ? createHash('sha256') : undefined,
     pool: { plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe },
@@ -232,7 +241,14 @@ export async function generate(scenario: Scenario, scenarioText: string, options
 
   const sink = await openSink(options.format, options.out);
   try {
-    await sink.beginTensor({ name: tensorName, dtype: plan.precision, shape, units: unitsOf(tensorName), chunkRows: Math.min(block, count), ...(options.deflate ? { deflate: options.deflate } : {}) });
+    await sink.beginTensor({
+      name: tensorName,
+      dtype: plan.precision,
+      shape,
+      units: unitsOf(tensorName),
+      chunkRows: Math.min(block, count),
+      ...(options.deflate ? { deflate: options.deflate } : {}),
+    });
     const { sha256, kernel } = await streamTensor(sink, job);
     await job.between(); // a signal during the last block is served before the commit
     for (const a of sideArrays(built, first, count, gains, gainShape)) await sink.addArray(a);
@@ -254,18 +270,35 @@ export async function generate(scenario: Scenario, scenarioText: string, options
         if (a.optional === true) continue;
         throw new Error(`generate(): no value for attribute ${a.name}`);
       }
-      await sink.setAttribute(a.dtype === 'string' ? { name: a.name, dtype: a.dtype, value: String(value) } : { name: a.name, dtype: a.dtype, value: Number(value) });
+      await sink.setAttribute(
+        a.dtype === 'string' ? { name: a.name, dtype: a.dtype, value: String(value) } : { name: a.name, dtype: a.dtype, value: Number(value) },
+      );
     }
     // A .npy's side file goes under its name before the .npy does, and is restored should the
     // .npy's commit fail (atomic.ts, commitWithSideFile).
     const fileBytes =
       options.format === 'npy'
-        ? await commitWithSideFile(`${options.out}.json`, npySideFileText(built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion }), () => sink.commit())
+        ? await commitWithSideFile(
+            `${options.out}.json`,
+            npySideFileText(built, { first, end, shape, tensorName, sha256, seed, scenarioText, kernel, formatVersion }),
+            () => sink.commit(),
+          )
         : await sink.commit();
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
     return {
-      out: options.out, format: options.format, tensorName, dtype: plan.precision, shape, range, fileBytes, tensorBytes: count * bytesPerSubframe,
-      ...(sha256 !== undefined ? { sha256 } : {}), kernel, seconds, warnings: built.warnings, built,
+      out: options.out,
+      format: options.format,
+      tensorName,
+      dtype: plan.precision,
+      shape,
+      range,
+      fileBytes,
+      tensorBytes: count * bytesPerSubframe,
+      ...(sha256 !== undefined ? { sha256 } : {}),
+      kernel,
+      seconds,
+      warnings: built.warnings,
+      built,
     };
   } catch (e) {
     await sink.abort();
@@ -428,7 +461,9 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
   const Lmax = maxPathCount(built);
   const out: NamedArray[] = [];
   const array = (name: string, shape: number[], data: NamedArray['data'] | string[]): NamedArray =>
-    Array.isArray(data) ? { name, dtype: 'string', shape, strings: data, units: unitsOf(name) } : { name, dtype: datasetArrayDtype(name), shape, data: data!, units: unitsOf(name) };
+    Array.isArray(data)
+      ? { name, dtype: 'string', shape, strings: data, units: unitsOf(name) }
+      : { name, dtype: datasetArrayDtype(name), shape, data: data!, units: unitsOf(name) };
   out.push({ ...array('gains', gainShape, gains), dtype: 'complex128' });
   const g = plan.grid;
   if (g.domain === 'frequency') out.push(array('frequenciesHz', [g.subcarriers], subcarrierOffsetsHz(g.subcarriers, g.spacingHz)));
@@ -437,7 +472,9 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
 
   // Path table: [(U,) (E,) L]; the epoch axis appears when the geometry moves (timelines that
   // state their epochs and are not constant).
-  const epochs = users.map((u) => (u.timeline.epochs !== undefined && !u.timeline.constant ? u.timeline.epochs.map((m) => u.timeline.ids.map((id) => m.get(id))) : undefined));
+  const epochs = users.map((u) =>
+    u.timeline.epochs !== undefined && !u.timeline.constant ? u.timeline.epochs.map((m) => u.timeline.ids.map((id) => m.get(id))) : undefined,
+  );
   const E = Math.max(1, ...epochs.map((e) => e?.length ?? 1));
   const moving = epochs.some((e) => e !== undefined);
   const axes: LayoutAxes = { ...layoutAxes(built), epochs: moving ? E : undefined };
@@ -454,15 +491,46 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
     return user.paths[l];
   };
   const sizes = { L: Lmax };
-  out.push(array('paths/delayS', arrayShape('paths/delayS', sizes, axes), padded(rows, Lmax, (r, l) => cell(r, l)?.delayS)));
-  out.push(array('paths/powerDb', arrayShape('paths/powerDb', sizes, axes), padded(rows, Lmax, (r, l) => cell(r, l)?.powerDb)));
-  out.push(array('paths/aodDeg', arrayShape('paths/aodDeg', sizes, axes), padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aodDeg[i % 2], 2)));
-  out.push(array('paths/aoaDeg', arrayShape('paths/aoaDeg', sizes, axes), padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aoaDeg[i % 2], 2)));
+  out.push(
+    array(
+      'paths/delayS',
+      arrayShape('paths/delayS', sizes, axes),
+      padded(rows, Lmax, (r, l) => cell(r, l)?.delayS),
+    ),
+  );
+  out.push(
+    array(
+      'paths/powerDb',
+      arrayShape('paths/powerDb', sizes, axes),
+      padded(rows, Lmax, (r, l) => cell(r, l)?.powerDb),
+    ),
+  );
+  out.push(
+    array(
+      'paths/aodDeg',
+      arrayShape('paths/aodDeg', sizes, axes),
+      padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aodDeg[i % 2], 2),
+    ),
+  );
+  out.push(
+    array(
+      'paths/aoaDeg',
+      arrayShape('paths/aoaDeg', sizes, axes),
+      padded(rows, Lmax, (r, i) => cell(r, Math.floor(i / 2))?.aoaDeg[i % 2], 2),
+    ),
+  );
   const idRows = users.map((u) => Array.from({ length: Lmax }, (_, l) => u.timeline.ids[l] ?? ''));
   const kindRows = users.map((u) => Array.from({ length: Lmax }, (_, l) => u.timeline.kinds[l] ?? ''));
   out.push(array('paths/kind', arrayShape('paths/kind', sizes, axes), kindRows.flat()));
   out.push(array('paths/id', arrayShape('paths/id', sizes, axes), idRows.flat()));
-  if (moving) out.push(array('paths/epochTimesS', [E], Float64Array.from({ length: E }, (_, e) => e * plan.timing.geometryUpdateS)));
+  if (moving)
+    out.push(
+      array(
+        'paths/epochTimesS',
+        [E],
+        Float64Array.from({ length: E }, (_, e) => e * plan.timing.geometryUpdateS),
+      ),
+    );
 
   out.push(...truthArrays(built, first, count));
   return out;
@@ -470,13 +538,18 @@ export function sideArrays(built: BuiltScenario, first: number, count: number, g
 
 /** The optional axes of a built run's arrays (users, symbols; no epoch axis). */
 function layoutAxes(built: BuiltScenario): LayoutAxes {
-  return { users: built.multiUser ? built.users.length : undefined, symbols: built.plan.timing.symbolAxis ? built.plan.timing.stepsPerSubframe : undefined, epochs: undefined };
+  return {
+    users: built.multiUser ? built.users.length : undefined,
+    symbols: built.plan.timing.symbolAxis ? built.plan.timing.stepsPerSubframe : undefined,
+    epochs: undefined,
+  };
 }
 
 /** The stored dtype of a side array of the layout table. */
 function datasetArrayDtype(name: string): Exclude<NamedArray['dtype'], 'string'> {
   const dtype = datasetArray(name)?.dtype;
-  if (dtype === undefined || dtype === 'tensor' || dtype === 'string') throw new Error(`generate(): "${name}" is not a numeric side array of the dataset layout`);
+  if (dtype === undefined || dtype === 'tensor' || dtype === 'string')
+    throw new Error(`generate(): "${name}" is not a numeric side array of the dataset layout`);
   return dtype;
 }
 
@@ -494,8 +567,12 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
   const users = built.users;
   const U = users.length;
   const Lmax = maxPathCount(built);
-  const txPos = new Float64Array(3 * count), txVel = new Float64Array(3 * count), txOri = new Float64Array(3 * count);
-  const rxPos = new Float64Array(3 * count * U), rxVel = new Float64Array(3 * count * U), rxOri = new Float64Array(3 * count * U);
+  const txPos = new Float64Array(3 * count),
+    txVel = new Float64Array(3 * count),
+    txOri = new Float64Array(3 * count);
+  const rxPos = new Float64Array(3 * count * U),
+    rxVel = new Float64Array(3 * count * U),
+    rxOri = new Float64Array(3 * count * U);
   const los = new Uint8Array(count * U);
   const delay = new Float64Array(count * U * Lmax).fill(NaN);
   const power = new Float64Array(count * U * Lmax).fill(NaN);
@@ -513,7 +590,8 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
       const g = user.generator;
       const step = (first + s) * g.stepsPerSubframe;
       const t = g.clock.timeS(step);
-      const txm = user.spec.transmitter.motion!, rxm = user.spec.receiver.motion!;
+      const txm = user.spec.transmitter.motion!,
+        rxm = user.spec.receiver.motion!;
       if (u === 0) {
         txPos.set(txm.positionAt(t, p), 3 * s);
         txVel.set(txm.velocityAt(t, p), 3 * s);
@@ -544,7 +622,13 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
   // Shapes, dtypes and units from the layout table.
   const axes = layoutAxes(built);
   const sizes = { S: count, L: Lmax };
-  const row = (name: string, data: Float64Array | Uint8Array): NamedArray => ({ name, dtype: datasetArrayDtype(name), shape: arrayShape(name, sizes, axes), data, units: unitsOf(name) });
+  const row = (name: string, data: Float64Array | Uint8Array): NamedArray => ({
+    name,
+    dtype: datasetArrayDtype(name),
+    shape: arrayShape(name, sizes, axes),
+    data,
+    units: unitsOf(name),
+  });
   return [
     row('truth/transmitterPosition', txPos),
     row('truth/transmitterVelocity', txVel),
@@ -567,14 +651,28 @@ export function truthArrays(built: BuiltScenario, first: number, count: number):
  */
 function npySideFileText(
   built: BuiltScenario,
-  info: { first: number; end: number; shape: number[]; tensorName: string; sha256: string | undefined; seed: number; scenarioText: string; kernel: string; formatVersion: number },
+  info: {
+    first: number;
+    end: number;
+    shape: number[];
+    tensorName: string;
+    sha256: string | undefined;
+    seed: number;
+    scenarioText: string;
+    kernel: string;
+    formatVersion: number;
+  },
 ): string {
   const doc = {
     formatVersion: info.formatVersion,
     pathweaveVersion: PATHWEAVE_VERSION,
     kernel: info.kernel,
     tensor: {
-      name: info.tensorName, dtype: built.plan.precision, shape: info.shape, subframes: [info.first, info.end], subframesTotal: built.plan.timing.subframes,
+      name: info.tensorName,
+      dtype: built.plan.precision,
+      shape: info.shape,
+      subframes: [info.first, info.end],
+      subframesTotal: built.plan.timing.subframes,
       ...(info.sha256 !== undefined ? { sha256: info.sha256 } : {}),
     },
     seed: info.seed,

@@ -47,7 +47,10 @@ const manifestSchema = z.object({
   /** sha256 of the whole part file: every array and attribute, not only the tensor. */
   fileSha256: z.string().regex(/^[0-9a-f]{64}$/),
   /** sha256 of a .npy part's side file (`<part>.json`). */
-  sideFileSha256: z.string().regex(/^[0-9a-f]{64}$/).optional(),
+  sideFileSha256: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/)
+    .optional(),
   format: z.enum(['npy', 'npz', 'h5']),
   tensor: z.object({
     name: z.enum(['H', 'h']),
@@ -115,7 +118,9 @@ export function canonicalJson(value: unknown): string {
  * @example scenarioSha256('{"b": 1, "a": 2}') === scenarioSha256('{"a":2,"b":1}') // true
  */
 export function scenarioSha256(scenarioText: string): string {
-  return createHash('sha256').update(canonicalJson(JSON.parse(scenarioText) as unknown)).digest('hex');
+  return createHash('sha256')
+    .update(canonicalJson(JSON.parse(scenarioText) as unknown))
+    .digest('hex');
 }
 
 /**
@@ -127,7 +132,8 @@ export function scenarioSha256(scenarioText: string): string {
  * await writeManifest('other.h5', m) // throws RangeError 'writeManifest(): manifest.file must be "other.h5", got "run.part-0-of-2.h5"'
  */
 export async function writeManifest(partFile: string, manifest: PartManifest): Promise<string> {
-  if (manifest.file !== basename(partFile)) throw new RangeError(`writeManifest(): manifest.file must be ${JSON.stringify(basename(partFile))}, got ${JSON.stringify(manifest.file)}`);
+  if (manifest.file !== basename(partFile))
+    throw new RangeError(`writeManifest(): manifest.file must be ${JSON.stringify(basename(partFile))}, got ${JSON.stringify(manifest.file)}`);
   const path = manifestPathOf(partFile);
   await writeFileAtomic(path, JSON.stringify(manifest, null, 2) + '\n');
   return path;
@@ -156,7 +162,9 @@ export async function readManifest(path: string): Promise<PartManifest> {
   }
   const version = (doc as { manifestVersion?: unknown } | null)?.manifestVersion;
   if (typeof version === 'number' && version < MANIFEST_VERSION) {
-    throw new ManifestError(`${path}: a manifest of version ${version}, from an earlier pathweave, without the sha256 of the whole part; rerun its shard to write a version ${MANIFEST_VERSION} manifest`);
+    throw new ManifestError(
+      `${path}: a manifest of version ${version}, from an earlier pathweave, without the sha256 of the whole part; rerun its shard to write a version ${MANIFEST_VERSION} manifest`,
+    );
   }
   const parsed = manifestSchema.safeParse(doc);
   if (!parsed.success) {
@@ -165,7 +173,9 @@ export async function readManifest(path: string): Promise<PartManifest> {
   }
   const m = parsed.data;
   if (!(m.part.index < m.part.count && m.range[0] < m.range[1] && m.range[1] <= m.subframesTotal && m.tensor.shape[0] === m.range[1] - m.range[0])) {
-    throw new ManifestError(`${path}: inconsistent manifest: part ${m.part.index} of ${m.part.count}, range ${m.range[0]}:${m.range[1]} of ${m.subframesTotal}, shape [${m.tensor.shape.join(', ')}]`);
+    throw new ManifestError(
+      `${path}: inconsistent manifest: part ${m.part.index} of ${m.part.count}, range ${m.range[0]}:${m.range[1]} of ${m.subframesTotal}, shape [${m.tensor.shape.join(', ')}]`,
+    );
   }
   return m;
 }
@@ -242,10 +252,18 @@ export async function verifyPart(partFile: string, manifest: PartManifest, optio
   // The whole file first: it covers every array and attribute (scenario, version, side arrays, truth, paths).
   try {
     const whole = await fileSha256(partFile);
-    if (whole !== manifest.fileSha256) return { ok: false, reason: `${partFile}: file sha256 ${whole} differs from the manifest's ${manifest.fileSha256} (an array or attribute was changed after it was written)` };
+    if (whole !== manifest.fileSha256)
+      return {
+        ok: false,
+        reason: `${partFile}: file sha256 ${whole} differs from the manifest's ${manifest.fileSha256} (an array or attribute was changed after it was written)`,
+      };
     if (manifest.format === 'npy') {
       const side = await fileSha256(`${partFile}.json`).catch(() => undefined);
-      if (side !== manifest.sideFileSha256) return { ok: false, reason: `${partFile}.json: the side file ${side === undefined ? 'is missing' : `has sha256 ${side}`}, the manifest says ${manifest.sideFileSha256 ?? 'none'}` };
+      if (side !== manifest.sideFileSha256)
+        return {
+          ok: false,
+          reason: `${partFile}.json: the side file ${side === undefined ? 'is missing' : `has sha256 ${side}`}, the manifest says ${manifest.sideFileSha256 ?? 'none'}`,
+        };
     }
   } catch (e) {
     return { ok: false, reason: `${partFile} cannot be read: ${(e as Error).message}` };
@@ -258,7 +276,8 @@ export async function verifyPart(partFile: string, manifest: PartManifest, optio
   }
   const expectBytes = manifest.tensor.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[manifest.tensor.dtype];
   if (sha.bytes !== expectBytes) return { ok: false, reason: `${partFile} holds ${sha.bytes} tensor bytes, the manifest's shape needs ${expectBytes}` };
-  if (sha.sha256 !== manifest.tensor.sha256) return { ok: false, reason: `${partFile}: tensor sha256 ${sha.sha256} differs from the manifest's ${manifest.tensor.sha256}` };
+  if (sha.sha256 !== manifest.tensor.sha256)
+    return { ok: false, reason: `${partFile}: tensor sha256 ${sha.sha256} differs from the manifest's ${manifest.tensor.sha256}` };
   return { ok: true };
 }
 
@@ -341,7 +360,8 @@ export async function reusablePart(
   }
   if (m.scenarioSha256 !== scenarioSha256(request.scenarioText)) return { reusable: false, reason: 'the manifest is of another scenario' };
   if (m.seed !== request.seed) return { reusable: false, reason: `the manifest is of seed ${m.seed}, not ${request.seed}` };
-  if (m.range[0] !== request.range[0] || m.range[1] !== request.range[1]) return { reusable: false, reason: `the manifest covers ${m.range[0]}:${m.range[1]}, not ${request.range[0]}:${request.range[1]}` };
+  if (m.range[0] !== request.range[0] || m.range[1] !== request.range[1])
+    return { reusable: false, reason: `the manifest covers ${m.range[0]}:${m.range[1]}, not ${request.range[0]}:${request.range[1]}` };
   if (m.format !== request.format) return { reusable: false, reason: `the manifest is of format ${m.format}, not ${request.format}` };
   const check = await verifyPart(partFile, m);
   return check.ok ? { reusable: true, manifest: m } : { reusable: false, reason: check.reason };
@@ -364,18 +384,29 @@ export function checkScenarioAttribute(reader: DatasetReader): void {
   try {
     scenario = parseScenarioText(text, `${reader.path}: scenario attribute`).scenario;
   } catch (e) {
-    if (e instanceof ScenarioError) throw new InputFileError(reader.path, `its scenario attribute is not a valid scenario (${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}, the first: ${e.problems[0]?.path ?? ''} ${e.problems[0]?.message ?? ''})`, { cause: e });
+    if (e instanceof ScenarioError)
+      throw new InputFileError(
+        reader.path,
+        `its scenario attribute is not a valid scenario (${e.problems.length} problem${e.problems.length === 1 ? '' : 's'}, the first: ${e.problems[0]?.path ?? ''} ${e.problems[0]?.message ?? ''})`,
+        { cause: e },
+      );
     throw e;
   }
   const tensor = tensorOf(reader);
   const domain = tensor.name === 'h' ? 'taps' : 'frequency';
   if ((domain === 'taps' ? scenario.taps : scenario.band) === undefined) {
-    throw new InputFileError(reader.path, `its scenario attribute has no ${domain === 'taps' ? 'taps' : 'band'} section, but the file holds ${tensor.name}: the scenario or the tensor was changed`);
+    throw new InputFileError(
+      reader.path,
+      `its scenario attribute has no ${domain === 'taps' ? 'taps' : 'band'} section, but the file holds ${tensor.name}: the scenario or the tensor was changed`,
+    );
   }
   const plan = planScenario(scenario, { domain });
   const expected = outputEstimate(plan, tensor.shape[0]).shape;
   const dtype = plan.precision;
   if (expected.length !== tensor.shape.length || expected.some((v, i) => v !== tensor.shape[i]) || dtype !== tensor.dtype) {
-    throw new InputFileError(reader.path, `its scenario attribute describes ${tensor.name} ${dtype} [${expected.join(', ')}], but the file holds ${tensor.dtype} [${tensor.shape.join(', ')}]: the scenario or the tensor was changed`);
+    throw new InputFileError(
+      reader.path,
+      `its scenario attribute describes ${tensor.name} ${dtype} [${expected.join(', ')}], but the file holds ${tensor.dtype} [${tensor.shape.join(', ')}]: the scenario or the tensor was changed`,
+    );
   }
 }

@@ -123,13 +123,22 @@ async function checkParts(partFiles: string[], options: MergeOptions, warnings: 
   }
   const ref = parts[0]!;
   for (const p of parts.slice(1)) {
-    const a = ref.manifest, b = p.manifest;
-    if (b.scenarioSha256 !== a.scenarioSha256) refuse(`${p.path} is of another scenario than ${ref.path} (scenario sha256 ${b.scenarioSha256.slice(0, 12)}... against ${a.scenarioSha256.slice(0, 12)}...)`);
+    const a = ref.manifest,
+      b = p.manifest;
+    if (b.scenarioSha256 !== a.scenarioSha256)
+      refuse(
+        `${p.path} is of another scenario than ${ref.path} (scenario sha256 ${b.scenarioSha256.slice(0, 12)}... against ${a.scenarioSha256.slice(0, 12)}...)`,
+      );
     if (b.seed !== a.seed) refuse(`${p.path} is of seed ${b.seed}, ${ref.path} of seed ${a.seed}`);
     if (b.subframesTotal !== a.subframesTotal) refuse(`${p.path} is of a run of ${b.subframesTotal} subframes, ${ref.path} of ${a.subframesTotal}`);
-    if (b.format !== a.format) refuse(`${p.path} is a part in ${b.format}, ${ref.path} in ${a.format}: the parts of one run share one format (a mixed-format merge is refused); regenerate the odd parts or convert them`);
+    if (b.format !== a.format)
+      refuse(
+        `${p.path} is a part in ${b.format}, ${ref.path} in ${a.format}: the parts of one run share one format (a mixed-format merge is refused); regenerate the odd parts or convert them`,
+      );
     if (b.tensor.name !== a.tensor.name || b.tensor.dtype !== a.tensor.dtype || !sameShape(b.tensor.shape.slice(1), a.tensor.shape.slice(1))) {
-      refuse(`${p.path} holds ${b.tensor.name} ${b.tensor.dtype} [${b.tensor.shape.join(', ')}], ${ref.path} holds ${a.tensor.name} ${a.tensor.dtype} [${a.tensor.shape.join(', ')}]`);
+      refuse(
+        `${p.path} holds ${b.tensor.name} ${b.tensor.dtype} [${b.tensor.shape.join(', ')}], ${ref.path} holds ${a.tensor.name} ${a.tensor.dtype} [${a.tensor.shape.join(', ')}]`,
+      );
     }
   }
   parts.sort((x, y) => x.manifest.range[0] - y.manifest.range[0] || x.manifest.range[1] - y.manifest.range[1]);
@@ -144,23 +153,39 @@ async function checkParts(partFiles: string[], options: MergeOptions, warnings: 
   if (next < S) refuse(`subframes ${next}:${S} are in no part (missing at the end); give every part of the run`);
   const versions = [...new Set(parts.map((p) => p.manifest.pathweaveVersion))];
   if (versions.length > 1) {
-    const list = versions.map((v) => `${v} (${parts.filter((p) => p.manifest.pathweaveVersion === v).map((p) => p.path).join(', ')})`).join('; ');
-    if (options.allowVersions !== true) refuse(`the parts were written by different pathweave versions: ${list}; regenerate them with one version, or give --allow-versions to merge them anyway`);
+    const list = versions
+      .map(
+        (v) =>
+          `${v} (${parts
+            .filter((p) => p.manifest.pathweaveVersion === v)
+            .map((p) => p.path)
+            .join(', ')})`,
+      )
+      .join('; ');
+    if (options.allowVersions !== true)
+      refuse(
+        `the parts were written by different pathweave versions: ${list}; regenerate them with one version, or give --allow-versions to merge them anyway`,
+      );
     warnings.push(`the parts were written by different pathweave versions (${list}); merged as asked (--allow-versions)`);
   }
   // Every byte of every part (and of a .npy's side file) against its manifest, before anything is written.
   for (const p of parts) {
     if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
     const { size } = await stat(p.path).catch(() => refuse(`${p.path} is missing`));
-    if (size !== p.manifest.fileBytes) refuse(`${p.path} is ${size} bytes, its manifest says ${p.manifest.fileBytes}: the part was changed or truncated after it was written`);
+    if (size !== p.manifest.fileBytes)
+      refuse(`${p.path} is ${size} bytes, its manifest says ${p.manifest.fileBytes}: the part was changed or truncated after it was written`);
     const whole = await fileSha256(p.path, options.signal).catch((e: unknown) => {
       if (e instanceof InputFileError) refuse(e.message);
       throw e;
     });
-    if (whole !== p.manifest.fileSha256) refuse(`${p.path}: file sha256 ${whole} differs from its manifest's ${p.manifest.fileSha256}: an array or attribute of the part was changed after it was written; regenerate it (rerun its shard)`);
+    if (whole !== p.manifest.fileSha256)
+      refuse(
+        `${p.path}: file sha256 ${whole} differs from its manifest's ${p.manifest.fileSha256}: an array or attribute of the part was changed after it was written; regenerate it (rerun its shard)`,
+      );
     if (p.manifest.format === 'npy') {
       const side = await fileSha256(`${p.path}.json`, options.signal).catch((e: Error) => refuse(`${p.path}.json: ${e.message}`));
-      if (side !== p.manifest.sideFileSha256) refuse(`${p.path}.json: side file sha256 ${side} differs from its manifest's ${p.manifest.sideFileSha256 ?? '(none)'}; regenerate the part`);
+      if (side !== p.manifest.sideFileSha256)
+        refuse(`${p.path}.json: side file sha256 ${side} differs from its manifest's ${p.manifest.sideFileSha256 ?? '(none)'}; regenerate the part`);
     }
   }
   return parts;
@@ -187,7 +212,8 @@ export async function merge(partFiles: string[], out: string, options: MergeOpti
   try {
     for (const { path, manifest } of checked) {
       const { size } = await stat(path).catch(() => refuse(`${path} is missing`));
-      if (size !== manifest.fileBytes) refuse(`${path} is ${size} bytes, its manifest says ${manifest.fileBytes}: the part was changed or truncated after it was written`);
+      if (size !== manifest.fileBytes)
+        refuse(`${path} is ${size} bytes, its manifest says ${manifest.fileBytes}: the part was changed or truncated after it was written`);
       const reader = await openDatasetReader(path);
       if (reader.format !== manifest.format) {
         await reader.close();
@@ -201,21 +227,35 @@ export async function merge(partFiles: string[], out: string, options: MergeOpti
         refuse(`${path} holds ${t.dtype} [${t.shape.join(', ')}], its manifest says ${manifest.tensor.dtype} [${manifest.tensor.shape.join(', ')}]`);
       }
       const attrSha = attributeOf(reader, 'tensorSha256');
-      if (attrSha !== undefined && attrSha !== manifest.tensor.sha256) refuse(`${path} records tensor sha256 ${String(attrSha)}, its manifest ${manifest.tensor.sha256}`);
+      if (attrSha !== undefined && attrSha !== manifest.tensor.sha256)
+        refuse(`${path} records tensor sha256 ${String(attrSha)}, its manifest ${manifest.tensor.sha256}`);
     }
     const formats = new Set(parts.map((p) => p.reader.format));
     if ((format === 'npy') !== (formats.has('npy') && formats.size === 1)) {
-      refuse(format === 'npy' ? 'a .npy output needs .npy parts (NPZ and HDF5 parts carry side arrays a .npy cannot hold)' : `a .${format} output needs .npz or .h5 parts (.npy parts carry no side arrays)`);
+      refuse(
+        format === 'npy'
+          ? 'a .npy output needs .npy parts (NPZ and HDF5 parts carry side arrays a .npy cannot hold)'
+          : `a .${format} output needs .npz or .h5 parts (.npy parts carry no side arrays)`,
+      );
     }
     const kernels = [...new Set(parts.map((p) => p.manifest.kernel))];
-    if (kernels.length > 1) warnings.push(`the parts were computed with different kernels (${kernels.join(', ')}); they agree to 1e-6 relative, not bit for bit`);
+    if (kernels.length > 1)
+      warnings.push(`the parts were computed with different kernels (${kernels.join(', ')}); they agree to 1e-6 relative, not bit for bit`);
     return await write(parts, out, format, kernels, warnings, started, options);
   } finally {
     for (const p of parts) await p.reader.close().catch(() => undefined);
   }
 }
 
-async function write(parts: Part[], out: string, format: OutputFormat, kernels: string[], warnings: string[], started: bigint, options: MergeOptions): Promise<MergeReport> {
+async function write(
+  parts: Part[],
+  out: string,
+  format: OutputFormat,
+  kernels: string[],
+  warnings: string[],
+  started: bigint,
+  options: MergeOptions,
+): Promise<MergeReport> {
   const first = parts[0]!;
   const m = first.manifest;
   const S = m.subframesTotal;
@@ -241,7 +281,9 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
         perPart.forEach((a, i) => {
           const rows = parts[i]!.manifest.range[1] - parts[i]!.manifest.range[0];
           if (a.shape[0] !== rows || !sameShape(a.shape.slice(1), perPart[0]!.shape.slice(1)) || a.dtype !== perPart[0]!.dtype) {
-            refuse(`${parts[i]!.path}: ${stored.name} is ${a.dtype} [${a.shape.join(', ')}], expected ${rows} rows like [${perPart[0]!.shape.slice(1).join(', ')}] per row`);
+            refuse(
+              `${parts[i]!.path}: ${stored.name} is ${a.dtype} [${a.shape.join(', ')}], expected ${rows} rows like [${perPart[0]!.shape.slice(1).join(', ')}] per row`,
+            );
           }
         });
         side.push({ name: stored.name, dtype: stored.dtype, shape: [S, ...stored.shape.slice(1)], data: concat(perPart.map((a) => a.data!)), units });
@@ -272,7 +314,10 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
         options.onProgress?.(done, S);
       }
       const sha = hash.digest('hex');
-      if (sha !== p.manifest.tensor.sha256) refuse(`${p.path}: tensor sha256 ${sha} differs from its manifest's ${p.manifest.tensor.sha256}: the part was changed after it was written; regenerate it (rerun its shard)`);
+      if (sha !== p.manifest.tensor.sha256)
+        refuse(
+          `${p.path}: tensor sha256 ${sha} differs from its manifest's ${p.manifest.tensor.sha256}: the part was changed after it was written; regenerate it (rerun its shard)`,
+        );
     }
     const sha256 = total.digest('hex');
     for (const a of side) await sink.addArray(a);
@@ -284,7 +329,10 @@ async function write(parts: Part[], out: string, format: OutputFormat, kernels: 
     });
     if (format !== 'npy') for (const a of attributes) await sink.setAttribute(a);
     // The side file first, restored should the .npy's commit fail (as generate does).
-    const fileBytes = format === 'npy' ? await commitWithSideFile(`${out}.json`, sideFileText(first.reader as NpyReader, shape, S, sha256), () => sink.commit()) : await sink.commit();
+    const fileBytes =
+      format === 'npy'
+        ? await commitWithSideFile(`${out}.json`, sideFileText(first.reader as NpyReader, shape, S, sha256), () => sink.commit())
+        : await sink.commit();
     const seconds = Number(process.hrtime.bigint() - started) / 1e9;
     return { out, format, tensorName: m.tensor.name, dtype: m.tensor.dtype, shape, parts: parts.length, fileBytes, sha256, seconds, warnings };
   } catch (e) {

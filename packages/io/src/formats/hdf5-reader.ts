@@ -13,8 +13,17 @@ import { resolve } from 'node:path';
 import { DTYPE_BYTES } from './npy.js';
 import { elementCount } from './npz.js';
 import type { ArrayData, Attribute, DType, NamedArray } from './sink.js';
-import { arrayBytes, checkRows, InputFileError, openRegularFile, READ_LIMITS, safeNumber, typedArrayOf, type DatasetReader, type StoredArray } from './read-support.js';
-
+import {
+  arrayBytes,
+  checkRows,
+  InputFileError,
+  openRegularFile,
+  READ_LIMITS,
+  safeNumber,
+  typedArrayOf,
+  type DatasetReader,
+  type StoredArray,
+} from './read-support.js';
 
 type H5Wasm = typeof import('h5wasm/node').default;
 type H5Module = Awaited<H5Wasm['ready']>;
@@ -60,7 +69,11 @@ function guarded<T>(path: string, what: string, body: () => T): T {
   } catch (e) {
     if (e instanceof InputFileError) throw e;
     if (refusedOpen !== undefined) {
-      throw new InputFileError(path, `${what} refers to another file, ${JSON.stringify(refusedOpen)} (external storage, an external link or a virtual dataset): refused, pathweave reads only self-contained files`, { cause: e });
+      throw new InputFileError(
+        path,
+        `${what} refers to another file, ${JSON.stringify(refusedOpen)} (external storage, an external link or a virtual dataset): refused, pathweave reads only self-contained files`,
+        { cause: e },
+      );
     }
     const text = e instanceof Error ? e.message : String(e);
     // The innermost frame of HDF5's report says what is wrong (e.g. "truncated file: eof = ...").
@@ -129,13 +142,15 @@ export class Hdf5Reader implements DatasetReader {
       if (depth > READ_LIMITS.groupDepth) throw new InputFileError(path, `${p} is nested ${depth} deep, more than the ${READ_LIMITS.groupDepth} allowed`);
       // Links before anything follows them.
       const external = module.get_external_link(file.file_id, p) as { filename?: string } | null;
-      if (external !== null && external.filename !== undefined) throw new InputFileError(path, `${p} is an external link to ${JSON.stringify(external.filename)}: refused, pathweave reads only self-contained files`);
+      if (external !== null && external.filename !== undefined)
+        throw new InputFileError(path, `${p} is an external link to ${JSON.stringify(external.filename)}: refused, pathweave reads only self-contained files`);
       const soft = module.get_symbolic_link(file.file_id, p);
       if (typeof soft === 'string') throw new InputFileError(path, `${p} is a soft link to ${JSON.stringify(soft)}: refused (pathweave writes none)`);
       const ds = file.get(p);
       if (!(ds instanceof h5wasm.Dataset)) continue;
       const m = ds.metadata;
-      if ((m as { virtual_sources?: unknown }).virtual_sources !== undefined) throw new InputFileError(path, `dataset ${p} is virtual (it maps other files): refused`);
+      if ((m as { virtual_sources?: unknown }).virtual_sources !== undefined)
+        throw new InputFileError(path, `dataset ${p} is virtual (it maps other files): refused`);
       const dtype = dtypeOfMetadata(module, m);
       if (dtype === undefined) throw new InputFileError(path, `dataset ${p} has a type pathweave does not write (${JSON.stringify(ds.dtype)})`);
       const shape = (ds.shape ?? []).map(Number);
@@ -143,14 +158,19 @@ export class Hdf5Reader implements DatasetReader {
       // Unfiltered data must be in the file; filtered (deflated) data at most deflate's ratio of it.
       const filtered = ds.filters.length > 0;
       if (dtype !== 'string' && bytes > (filtered ? size * READ_LIMITS.inflateRatio : size)) {
-        throw new InputFileError(path, `dataset ${p} of shape [${shape.join(', ')}] is ${bytes} bytes, more than its ${size}-byte file can hold${filtered ? ' compressed' : ''}: refused`);
+        throw new InputFileError(
+          path,
+          `dataset ${p} of shape [${shape.join(', ')}] is ${bytes} bytes, more than its ${size}-byte file can hold${filtered ? ' compressed' : ''}: refused`,
+        );
       }
       // One element read: storage in another file is tried (and refused) now, naming the dataset.
       if (dtype !== 'string' && bytes > 0) {
         const probe = module._malloc(DTYPE_BYTES[dtype]);
         try {
           const one = shape.length === 0 ? null : shape.map(() => 1n);
-          const status = guarded(path, `dataset ${p}`, () => module.get_dataset_data(file.file_id, p, one, shape.length === 0 ? null : shape.map(() => 0n), one, BigInt(probe)));
+          const status = guarded(path, `dataset ${p}`, () =>
+            module.get_dataset_data(file.file_id, p, one, shape.length === 0 ? null : shape.map(() => 0n), one, BigInt(probe)),
+          );
           if (status < 0) throw new InputFileError(path, `dataset ${p} cannot be read (status ${status})`);
         } finally {
           module._free(probe);
@@ -164,7 +184,8 @@ export class Hdf5Reader implements DatasetReader {
       const dtype = dtypeOfMetadata(module, attr.metadata);
       const value = attr.value;
       if (dtype === 'string' && typeof value === 'string') {
-        if (value.length > READ_LIMITS.attributeChars) throw new InputFileError(path, `root attribute ${name} is ${value.length} characters, more than the ${READ_LIMITS.attributeChars} allowed`);
+        if (value.length > READ_LIMITS.attributeChars)
+          throw new InputFileError(path, `root attribute ${name} is ${value.length} characters, more than the ${READ_LIMITS.attributeChars} allowed`);
         attributes.push({ name, dtype: 'string', value });
       } else if (dtype === 'float64' && typeof value === 'number') attributes.push({ name, dtype: 'float64', value });
       else if (dtype === 'int32' && typeof value === 'number') attributes.push({ name, dtype: 'int32', value });
@@ -193,7 +214,9 @@ export class Hdf5Reader implements DatasetReader {
       const count = array.shape.length === 0 ? null : [BigInt(end - start), ...rest.map(BigInt)];
       const offset = array.shape.length === 0 ? null : [BigInt(start), ...rest.map(() => 0n)];
       const strides = array.shape.length === 0 ? null : array.shape.map(() => 1n);
-      const status = guarded(this.path, `dataset ${array.name}`, () => this.module.get_dataset_data(this.file.file_id, `/${array.name}`, count, offset, strides, BigInt(ptr)));
+      const status = guarded(this.path, `dataset ${array.name}`, () =>
+        this.module.get_dataset_data(this.file.file_id, `/${array.name}`, count, offset, strides, BigInt(ptr)),
+      );
       if (status < 0) throw new InputFileError(this.path, `dataset ${array.name} rows [${start}, ${end}) cannot be read (status ${status})`);
       new Uint8Array(buffer).set(this.module.HEAPU8.subarray(ptr, ptr + nbytes));
     } finally {
@@ -212,7 +235,8 @@ export class Hdf5Reader implements DatasetReader {
     }
     const rows = array.shape[0] ?? 1;
     const bytes = elementCount(array.shape) * DTYPE_BYTES[array.dtype];
-    if (bytes > READ_LIMITS.sideArrayBytes) throw new InputFileError(this.path, `array ${name} is ${bytes} bytes, more than the ${READ_LIMITS.sideArrayBytes} read whole`);
+    if (bytes > READ_LIMITS.sideArrayBytes)
+      throw new InputFileError(this.path, `array ${name} is ${bytes} bytes, more than the ${READ_LIMITS.sideArrayBytes} read whole`);
     return { name, dtype: array.dtype, shape: array.shape, data: this.hyperslab(array, 0, rows), units };
   }
 

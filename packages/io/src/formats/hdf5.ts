@@ -30,14 +30,7 @@ import { endianness } from 'node:os';
 import { dirname } from 'node:path';
 import h5wasm from 'h5wasm/node';
 import { OutputFileError, temporaryPathFor, trackTemporary, untrackTemporary, type OutputFileStage } from './atomic.js';
-import {
-  checkAttribute,
-  checkNamedArray,
-  checkTensorHeader,
-  elementCount,
-  ITEM_BYTES,
-  RowCounter,
-} from './npz.js';
+import { checkAttribute, checkNamedArray, checkTensorHeader, elementCount, ITEM_BYTES, RowCounter } from './npz.js';
 import type { Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
 
 type H5Module = Awaited<typeof h5wasm.ready>;
@@ -200,8 +193,17 @@ class Hdf5Sink implements DatasetSink {
     tensor.rows.rowsWritten += rows;
   }
 
-  private writePieces(tensor: NonNullable<Hdf5Sink['tensor']>, rows: number, bytes: Uint8Array, rowBytes: number, rest: bigint[], zeros: bigint[], strides: bigint[], fn: string): void {
-    for (let done = 0; done < rows; ) {
+  private writePieces(
+    tensor: NonNullable<Hdf5Sink['tensor']>,
+    rows: number,
+    bytes: Uint8Array,
+    rowBytes: number,
+    rest: bigint[],
+    zeros: bigint[],
+    strides: bigint[],
+    fn: string,
+  ): void {
+    for (let done = 0; done < rows;) {
       const piece = Math.min(tensor.rowsPerPiece, rows - done);
       // HEAPU8 is re-read each time: the heap's buffer is replaced when memory grows.
       this.module.HEAPU8.set(bytes.subarray(done * rowBytes, (done + piece) * rowBytes), tensor.heapPtr);
@@ -213,7 +215,8 @@ class Hdf5Sink implements DatasetSink {
         strides,
         BigInt(tensor.heapPtr),
       );
-      if (status < 0) throw new Error(`${fn}(): H5Dwrite of rows ${tensor.rows.rowsWritten + done}..${tensor.rows.rowsWritten + done + piece} failed (status ${status})`);
+      if (status < 0)
+        throw new Error(`${fn}(): H5Dwrite of rows ${tensor.rows.rowsWritten + done}..${tensor.rows.rowsWritten + done + piece} failed (status ${status})`);
       done += piece;
     }
   }
@@ -224,7 +227,11 @@ class Hdf5Sink implements DatasetSink {
    * file system, and only the first line of HDF5's own report is kept.
    */
   private async failure(stage: OutputFileStage, err: unknown): Promise<Error> {
-    const first = (err instanceof Error ? err.message : String(err)).split('\n').find((l) => /minor:|Error|failed/.test(l))?.trim() ?? 'HDF5 write failed';
+    const first =
+      (err instanceof Error ? err.message : String(err))
+        .split('\n')
+        .find((l) => /minor:|Error|failed/.test(l))
+        ?.trim() ?? 'HDF5 write failed';
     let code = '';
     try {
       const fsInfo = await fsp.statfs(dirname(this.path));
@@ -253,7 +260,15 @@ class Hdf5Sink implements DatasetSink {
         re[j] = interleaved[2 * j] as number;
         im[j] = interleaved[2 * j + 1] as number;
       }
-      group.create_dataset({ name: leaf, data: new Map([['r', re], ['i', im]]), shape: array.shape, dtype: complexCompound(array.dtype) });
+      group.create_dataset({
+        name: leaf,
+        data: new Map([
+          ['r', re],
+          ['i', im],
+        ]),
+        shape: array.shape,
+        dtype: complexCompound(array.dtype),
+      });
     } else {
       group.create_dataset({ name: leaf, data: array.data as Float64Array, shape: array.shape, dtype: H5_DTYPE[array.dtype] });
     }

@@ -3,23 +3,39 @@ import type { FileHandle } from 'node:fs/promises';
 import { dtypeOfDescr, parseNpyHeader, DTYPE_BYTES, type NpyHeaderInfo } from './npy.js';
 import { elementCount } from './npz.js';
 import type { ArrayData, Attribute, DType, NamedArray } from './sink.js';
-import { arrayBytes, checkRows, InputFileError, READ_LIMITS, readAt, readSmallFile, typedArrayOf, type DatasetReader, type StoredArray } from './read-support.js';
+import {
+  arrayBytes,
+  checkRows,
+  InputFileError,
+  READ_LIMITS,
+  readAt,
+  readSmallFile,
+  typedArrayOf,
+  type DatasetReader,
+  type StoredArray,
+} from './read-support.js';
 
 /** An NPY header read from a file, a refusal named after the file (and entry). */
 /** @internal */
-export function npyHeaderOf(path: string, what: string, bytes: Uint8Array): NpyHeaderInfo & { dtype: Exclude<DType, 'string'> | 'string'; unicodeWidth: number } {
+export function npyHeaderOf(
+  path: string,
+  what: string,
+  bytes: Uint8Array,
+): NpyHeaderInfo & { dtype: Exclude<DType, 'string'> | 'string'; unicodeWidth: number } {
   let info: NpyHeaderInfo;
   try {
     info = parseNpyHeader(bytes);
   } catch (e) {
     throw new InputFileError(path, `${what}: ${(e as Error).message.replace(/^parseNpyHeader\(\): /, '')}`, { cause: e });
   }
-  if (info.dataOffset - 10 > READ_LIMITS.npyHeaderBytes) throw new InputFileError(path, `${what}: an NPY header of ${info.dataOffset} bytes, more than the ${READ_LIMITS.npyHeaderBytes} allowed`);
+  if (info.dataOffset - 10 > READ_LIMITS.npyHeaderBytes)
+    throw new InputFileError(path, `${what}: an NPY header of ${info.dataOffset} bytes, more than the ${READ_LIMITS.npyHeaderBytes} allowed`);
   if (info.fortranOrder) throw new InputFileError(path, `${what} is Fortran-ordered; pathweave writes C order`);
   const unicode = /^<U([0-9]+)$/.exec(info.descr);
   if (unicode !== null) {
     const width = Number(unicode[1]);
-    if (!(width >= 1 && width <= READ_LIMITS.attributeChars)) throw new InputFileError(path, `${what}: strings of ${unicode[1]} characters; at most ${READ_LIMITS.attributeChars} are read`);
+    if (!(width >= 1 && width <= READ_LIMITS.attributeChars))
+      throw new InputFileError(path, `${what}: strings of ${unicode[1]} characters; at most ${READ_LIMITS.attributeChars} are read`);
     return { ...info, dtype: 'string', unicodeWidth: width };
   }
   let dtype: Exclude<DType, 'string'>;
@@ -39,7 +55,8 @@ function checkSideFile(path: string, doc: unknown): NpySideFile {
   if (doc === null || typeof doc !== 'object' || Array.isArray(doc)) fail('the document is not a JSON object');
   const d = doc as Record<string, unknown>;
   const str = (k: string, v: unknown): void => {
-    if (v !== undefined && (typeof v !== 'string' || v.length > READ_LIMITS.attributeChars)) fail(`${k} must be a string of at most ${READ_LIMITS.attributeChars} characters`);
+    if (v !== undefined && (typeof v !== 'string' || v.length > READ_LIMITS.attributeChars))
+      fail(`${k} must be a string of at most ${READ_LIMITS.attributeChars} characters`);
   };
   const int = (k: string, v: unknown): void => {
     if (v !== undefined && !(Number.isSafeInteger(v) && (v as number) >= 0)) fail(`${k} must be an integer >= 0, got ${JSON.stringify(v)}`);
@@ -55,14 +72,18 @@ function checkSideFile(path: string, doc: unknown): NpySideFile {
     const tt = t as Record<string, unknown>;
     if (tt.name !== undefined && tt.name !== 'H' && tt.name !== 'h') fail(`tensor.name must be "H" or "h", got ${JSON.stringify(tt.name)}`);
     str('tensor.dtype', tt.dtype);
-    if (tt.shape !== undefined && !(Array.isArray(tt.shape) && tt.shape.every((v) => Number.isSafeInteger(v) && v >= 0))) fail('tensor.shape must be a list of integers >= 0');
-    if (tt.subframes !== undefined && !(Array.isArray(tt.subframes) && tt.subframes.length === 2 && tt.subframes.every((v) => Number.isSafeInteger(v) && v >= 0))) fail('tensor.subframes must be [first, end]');
+    if (tt.shape !== undefined && !(Array.isArray(tt.shape) && tt.shape.every((v) => Number.isSafeInteger(v) && v >= 0)))
+      fail('tensor.shape must be a list of integers >= 0');
+    if (
+      tt.subframes !== undefined &&
+      !(Array.isArray(tt.subframes) && tt.subframes.length === 2 && tt.subframes.every((v) => Number.isSafeInteger(v) && v >= 0))
+    )
+      fail('tensor.subframes must be [first, end]');
     int('tensor.subframesTotal', tt.subframesTotal);
     if (tt.sha256 !== undefined && !(typeof tt.sha256 === 'string' && /^[0-9a-f]{64}$/.test(tt.sha256))) fail('tensor.sha256 must be 64 hexadecimal digits');
   }
   return d as NpySideFile;
 }
-
 
 /**
  * The side file `<file>.json` generate writes beside a .npy (see generate.ts).
@@ -109,7 +130,11 @@ export class NpyReader implements DatasetReader {
     if (info.dtype === 'string') throw new InputFileError(path, 'holds strings, not a channel tensor');
     const dtype = info.dtype;
     const need = info.dataOffset + arrayBytes(path, 'the array', info.shape, DTYPE_BYTES[dtype]);
-    if (size !== need) throw new InputFileError(path, `is ${size} bytes, its header [${info.shape.join(', ')}] ${dtype} needs ${need}: the file is ${size < need ? 'truncated' : 'longer than its header says'}`);
+    if (size !== need)
+      throw new InputFileError(
+        path,
+        `is ${size} bytes, its header [${info.shape.join(', ')}] ${dtype} needs ${need}: the file is ${size < need ? 'truncated' : 'longer than its header says'}`,
+      );
     let side: NpySideFile | undefined;
     let sideText: string | undefined;
     try {

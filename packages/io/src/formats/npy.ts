@@ -36,8 +36,10 @@ export const DTYPE_BYTES: Record<Exclude<DType, 'string'>, number> = { complex64
  */
 export function npyHeader(descr: string, shape: readonly number[], fortranOrder = false, forceVersion2 = false): Uint8Array {
   // Refused rather than escaped: nothing else is a numpy descr, and a quote would end the literal.
-  if (typeof descr !== 'string' || !/^[<>|=][a-zA-Z][0-9]*$/.test(descr)) throw new RangeError(`npyHeader(): descr must look like "<c8" or "|u1", got ${JSON.stringify(descr)}`);
-  if (!Array.isArray(shape) || !shape.every((d) => Number.isSafeInteger(d) && d >= 0)) throw new RangeError(`npyHeader(): shape must be integers >= 0, got ${JSON.stringify(shape)}`);
+  if (typeof descr !== 'string' || !/^[<>|=][a-zA-Z][0-9]*$/.test(descr))
+    throw new RangeError(`npyHeader(): descr must look like "<c8" or "|u1", got ${JSON.stringify(descr)}`);
+  if (!Array.isArray(shape) || !shape.every((d) => Number.isSafeInteger(d) && d >= 0))
+    throw new RangeError(`npyHeader(): shape must be integers >= 0, got ${JSON.stringify(shape)}`);
   const shapeText = shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
   const dict = `{'descr': '${descr}', 'fortran_order': ${fortranOrder ? 'True' : 'False'}, 'shape': ${shapeText}, }`;
   let major = 1;
@@ -194,7 +196,8 @@ export function encodeNpy(array: Pick<NamedArray, 'dtype' | 'shape' | 'data'>, o
   const header = npyHeader(NPY_DESCR[array.dtype], array.shape, false, options.forceVersion2 === true);
   const body = bytesOf(array.data);
   const expected = array.shape.reduce((a, b) => a * b, 1) * DTYPE_BYTES[array.dtype];
-  if (body.length !== expected) throw new RangeError(`encodeNpy(): shape [${array.shape.join(', ')}] of ${array.dtype} needs ${expected} bytes, got ${body.length}`);
+  if (body.length !== expected)
+    throw new RangeError(`encodeNpy(): shape [${array.shape.join(', ')}] of ${array.dtype} needs ${expected} bytes, got ${body.length}`);
   const out = new Uint8Array(header.length + body.length);
   out.set(header);
   out.set(body, header.length);

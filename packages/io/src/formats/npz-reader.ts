@@ -100,11 +100,12 @@ async function readCentralDirectory(path: string, handle: FileHandle, size: numb
     const next = at + 46 + nameLength + extraLength + commentLength;
     if (next > cd.length) lie(`entry ${k} runs past the directory`);
     const name = cd.toString('utf8', at + 46, at + 46 + nameLength);
-    if (names.has(name)) throw new InputFileError(path, `zip entry ${JSON.stringify(name)} appears twice (numpy would read the last, a zip tool the first): refused`);
+    if (names.has(name))
+      throw new InputFileError(path, `zip entry ${JSON.stringify(name)} appears twice (numpy would read the last, a zip tool the first): refused`);
     names.add(name);
     if ((flags & 1) !== 0) throw new InputFileError(path, `zip entry ${JSON.stringify(name)} is encrypted`);
     // ZIP64 extended information (4.5.3): present fields in the order size, compressed, offset.
-    for (let e = at + 46 + nameLength; e + 4 <= at + 46 + nameLength + extraLength; ) {
+    for (let e = at + 46 + nameLength; e + 4 <= at + 46 + nameLength + extraLength;) {
       const id = cd.readUInt16LE(e);
       const len = cd.readUInt16LE(e + 2);
       if (e + 4 + len > at + 46 + nameLength + extraLength) lie(`an extra field of ${JSON.stringify(name)} runs past its entry`);
@@ -128,19 +129,25 @@ async function readCentralDirectory(path: string, handle: FileHandle, size: numb
     if (local.readUInt32LE(0) !== ZIP_MAGIC) throw new InputFileError(path, `the local header of ${JSON.stringify(name)} is damaged`);
     const localNameLength = local.readUInt16LE(26);
     const dataOffset = localHeaderOffset + 30 + localNameLength + local.readUInt16LE(28);
-    if (localNameLength !== nameLength || !(await readAt(handle, localHeaderOffset + 30, nameLength, path)).equals(cd.subarray(at + 46, at + 46 + nameLength))) {
+    if (
+      localNameLength !== nameLength ||
+      !(await readAt(handle, localHeaderOffset + 30, nameLength, path)).equals(cd.subarray(at + 46, at + 46 + nameLength))
+    ) {
       lie(`the local header at ${localHeaderOffset} does not name ${JSON.stringify(name)}`);
     }
-    if (dataOffset + compressedSize > cdOffset) lie(`${JSON.stringify(name)} claims bytes [${dataOffset}, ${dataOffset + compressedSize}), past the data area, which ends at ${cdOffset}`);
+    if (dataOffset + compressedSize > cdOffset)
+      lie(`${JSON.stringify(name)} claims bytes [${dataOffset}, ${dataOffset + compressedSize}), past the data area, which ends at ${cdOffset}`);
     if (method === 0 && compressedSize !== uncompressed) lie(`stored entry ${JSON.stringify(name)} has sizes ${compressedSize} and ${uncompressed}`);
-    if (method === 8 && uncompressed > compressedSize * READ_LIMITS.inflateRatio + 1024) lie(`${JSON.stringify(name)} claims to inflate ${compressedSize} bytes to ${uncompressed}, beyond deflate's ratio`);
+    if (method === 8 && uncompressed > compressedSize * READ_LIMITS.inflateRatio + 1024)
+      lie(`${JSON.stringify(name)} claims to inflate ${compressedSize} bytes to ${uncompressed}, beyond deflate's ratio`);
     entries.push({ name, method, compressedSize, size: uncompressed, crc32: crc, localHeaderOffset, dataOffset });
     at = next;
   }
   // No two entries share bytes (a directory pointing twice at one payload lies about one of them).
   const sorted = [...entries].sort((a, b) => a.localHeaderOffset - b.localHeaderOffset);
   for (let i = 1; i < sorted.length; i++) {
-    const a = sorted[i - 1]!, b = sorted[i]!;
+    const a = sorted[i - 1]!,
+      b = sorted[i]!;
     if (a.dataOffset + a.compressedSize > b.localHeaderOffset) lie(`entries ${JSON.stringify(a.name)} and ${JSON.stringify(b.name)} overlap`);
   }
   return entries;
@@ -174,7 +181,8 @@ class EntryCursor {
   /** Bytes [from, to) of the uncompressed entry. */
   async read(from: number, to: number): Promise<Buffer> {
     const e = this.entry;
-    if (!(0 <= from && from <= to && to <= e.size)) throw new InputFileError(this.path, `entry ${e.name}: bytes [${from}, ${to}) lie outside its ${e.size} bytes`);
+    if (!(0 <= from && from <= to && to <= e.size))
+      throw new InputFileError(this.path, `entry ${e.name}: bytes [${from}, ${to}) lie outside its ${e.size} bytes`);
     if (e.method === 0) {
       const bytes = await readAt(this.handle, e.dataOffset + from, to - from, this.path);
       if (from === this.position) this.advance(bytes);
@@ -217,7 +225,10 @@ class EntryCursor {
     this.position += bytes.length;
     if (this.position === this.entry.size && this.crc !== this.entry.crc32) {
       const hex = (v: number): string => `0x${(v >>> 0).toString(16).padStart(8, '0')}`;
-      throw new InputFileError(this.path, `entry ${this.entry.name}: CRC-32 ${hex(this.crc)}, the zip directory says ${hex(this.entry.crc32)}: the entry is corrupt`);
+      throw new InputFileError(
+        this.path,
+        `entry ${this.entry.name}: CRC-32 ${hex(this.crc)}, the zip directory says ${hex(this.entry.crc32)}: the entry is corrupt`,
+      );
     }
   }
 
@@ -231,10 +242,12 @@ class EntryCursor {
       } catch (err) {
         throw new InputFileError(this.path, `entry ${this.entry.name} does not inflate: ${(err as Error).message}`, { cause: err });
       }
-      if (next.done) throw new InputFileError(this.path, `entry ${this.entry.name} inflates to ${this.position} bytes, the zip directory says ${this.entry.size}`);
+      if (next.done)
+        throw new InputFileError(this.path, `entry ${this.entry.name} inflates to ${this.position} bytes, the zip directory says ${this.entry.size}`);
       this.held = next.value;
       this.inflated += this.held.length;
-      if (this.position + this.held.length > this.entry.size) throw new InputFileError(this.path, `entry ${this.entry.name} inflates to more than the ${this.entry.size} bytes the zip directory says`);
+      if (this.position + this.held.length > this.entry.size)
+        throw new InputFileError(this.path, `entry ${this.entry.name} inflates to more than the ${this.entry.size} bytes the zip directory says`);
     }
     const piece = this.held.subarray(0, Math.min(max, this.held.length));
     this.held = this.held.subarray(piece.length);
@@ -249,7 +262,8 @@ class EntryCursor {
     // Compressed bytes through positional reads on the open handle (never reopened by name).
     const source = Readable.from(
       (async function* () {
-        for (let at = 0; at < compressedSize && !stopped; at += INFLATE_READ) yield await readAt(handle, dataOffset + at, Math.min(INFLATE_READ, compressedSize - at), path);
+        for (let at = 0; at < compressedSize && !stopped; at += INFLATE_READ)
+          yield await readAt(handle, dataOffset + at, Math.min(INFLATE_READ, compressedSize - at), path);
       })(),
     );
     const inflate = createInflateRaw();
@@ -291,26 +305,42 @@ export class NpzReader implements DatasetReader {
     const zeroD: NpzArray[] = [];
     for (const entry of entries) {
       if (!entry.name.endsWith('.npy')) continue;
-      if (entry.method !== 0 && entry.method !== 8) throw new InputFileError(path, `entry ${entry.name} uses zip method ${entry.method}; only 0 (stored) and 8 (deflated) are read`);
+      if (entry.method !== 0 && entry.method !== 8)
+        throw new InputFileError(path, `entry ${entry.name} uses zip method ${entry.method}; only 0 (stored) and 8 (deflated) are read`);
       const what = `entry ${entry.name}`;
       // The header's own length field first, then exactly the header (the pass goes on from there).
       const cursor = reader.cursor(entry);
       const start = await cursor.read(0, Math.min(entry.size, 12));
       const length = start.length < 10 ? 0 : start[6] === 1 ? start.readUInt16LE(8) : start.length >= 12 ? start.readUInt32LE(8) : 0;
       const prefix = start[6] === 1 ? 10 : 12;
-      if (length > READ_LIMITS.npyHeaderBytes) throw new InputFileError(path, `${what}: an NPY header of ${length} bytes, more than the ${READ_LIMITS.npyHeaderBytes} allowed`);
+      if (length > READ_LIMITS.npyHeaderBytes)
+        throw new InputFileError(path, `${what}: an NPY header of ${length} bytes, more than the ${READ_LIMITS.npyHeaderBytes} allowed`);
       const head = Buffer.concat([start, await cursor.read(start.length, Math.max(start.length, Math.min(entry.size, prefix + length)))]);
       const info = npyHeaderOf(path, what, head);
       const dataBytes = arrayBytes(path, what, info.shape, info.dtype === 'string' ? info.unicodeWidth * 4 : DTYPE_BYTES[info.dtype]);
-      if (info.dataOffset + dataBytes !== entry.size) throw new InputFileError(path, `${what} is ${entry.size} bytes, its NPY header [${info.shape.join(', ')}] ${info.descr} needs ${info.dataOffset + dataBytes}`);
-      const array: NpzArray = { name: entry.name.slice(0, -4), dtype: info.dtype, shape: info.shape, units: undefined, entry, npyDataOffset: info.dataOffset, unicodeWidth: info.unicodeWidth };
+      if (info.dataOffset + dataBytes !== entry.size)
+        throw new InputFileError(
+          path,
+          `${what} is ${entry.size} bytes, its NPY header [${info.shape.join(', ')}] ${info.descr} needs ${info.dataOffset + dataBytes}`,
+        );
+      const array: NpzArray = {
+        name: entry.name.slice(0, -4),
+        dtype: info.dtype,
+        shape: info.shape,
+        units: undefined,
+        entry,
+        npyDataOffset: info.dataOffset,
+        unicodeWidth: info.unicodeWidth,
+      };
       (array.shape.length === 0 ? zeroD : reader.arrays).push(array);
     }
     for (const a of zeroD) {
       const value = await reader.readWhole(a);
       if (a.dtype === 'string') reader.attributes.push({ name: a.name, dtype: 'string', value: (value.strings as string[])[0] as string });
-      else if (a.dtype === 'int64') reader.attributes.push({ name: a.name, dtype: 'int64', value: safeNumber(path, a.name, (value.data as BigInt64Array)[0] as bigint) });
-      else if (a.dtype === 'int32' || a.dtype === 'float64') reader.attributes.push({ name: a.name, dtype: a.dtype, value: (value.data as Int32Array | Float64Array)[0] as number });
+      else if (a.dtype === 'int64')
+        reader.attributes.push({ name: a.name, dtype: 'int64', value: safeNumber(path, a.name, (value.data as BigInt64Array)[0] as bigint) });
+      else if (a.dtype === 'int32' || a.dtype === 'float64')
+        reader.attributes.push({ name: a.name, dtype: a.dtype, value: (value.data as Int32Array | Float64Array)[0] as number });
       else reader.arrays.push(a); // other 0-d arrays are not attributes the sink writes
     }
     return reader;
@@ -338,7 +368,8 @@ export class NpzReader implements DatasetReader {
   private async readWhole(array: NpzArray): Promise<NamedArray> {
     const count = elementCount(array.shape);
     const bytesNeeded = array.entry.size - array.npyDataOffset;
-    if (bytesNeeded > READ_LIMITS.sideArrayBytes) throw new InputFileError(this.path, `array ${array.name} is ${bytesNeeded} bytes, more than the ${READ_LIMITS.sideArrayBytes} read whole`);
+    if (bytesNeeded > READ_LIMITS.sideArrayBytes)
+      throw new InputFileError(this.path, `array ${array.name} is ${bytesNeeded} bytes, more than the ${READ_LIMITS.sideArrayBytes} read whole`);
     // Read to the entry's end (the whole entry), so the pass checks the CRC-32.
     const bytes = (await this.cursor(array.entry).read(0, array.entry.size)).subarray(array.npyDataOffset);
     if (array.dtype === 'string') {

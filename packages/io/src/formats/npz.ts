@@ -115,9 +115,12 @@ export function checkNamedArray(fn: string, array: NamedArray): void {
     return;
   }
   const cls = DATA_CLASS[array.dtype];
-  if (cls === undefined) throw new TypeError(`${fn}(): ${array.name}.dtype must be one of ${Object.keys(ITEM_BYTES).join(', ')}, string; got ${String(array.dtype)}`);
+  if (cls === undefined)
+    throw new TypeError(`${fn}(): ${array.name}.dtype must be one of ${Object.keys(ITEM_BYTES).join(', ')}, string; got ${String(array.dtype)}`);
   if (!cls.is(array.data)) {
-    throw new TypeError(`${fn}(): ${array.name}.data must be a ${cls.name} for dtype ${array.dtype}, got ${array.data?.constructor.name ?? String(array.data)}`);
+    throw new TypeError(
+      `${fn}(): ${array.name}.data must be a ${cls.name} for dtype ${array.dtype}, got ${array.data?.constructor.name ?? String(array.data)}`,
+    );
   }
   const data = array.data as ArrayData;
   if (data.length !== count * cls.perElement) {

@@ -68,7 +68,10 @@ export async function checkOutputPath(out: string, options: OutputPathOptions = 
   }
   for (const suffix of ['', ...(options.companions ?? [])]) {
     const name = basename(out) + suffix;
-    if (Buffer.byteLength(name) > NAME_MAX_BYTES) refuse(`the file name ${suffix === '' ? '' : `${JSON.stringify(name)} `}is ${Buffer.byteLength(name)} bytes, more than the ${NAME_MAX_BYTES} a file name may have`);
+    if (Buffer.byteLength(name) > NAME_MAX_BYTES)
+      refuse(
+        `the file name ${suffix === '' ? '' : `${JSON.stringify(name)} `}is ${Buffer.byteLength(name)} bytes, more than the ${NAME_MAX_BYTES} a file name may have`,
+      );
   }
   const folder = dirname(out);
   const folderStat = await stat(folder).catch((e: NodeJS.ErrnoException) => e);
@@ -82,10 +85,13 @@ export async function checkOutputPath(out: string, options: OutputPathOptions = 
     const st = await lstat(path).catch(() => undefined);
     if (st === undefined) continue;
     const what = suffix === '' ? '' : ` (written beside the output as ${path})`;
-    if (st.isSymbolicLink()) refuse(`${path} is a symbolic link${what}; the output is committed by rename, which would replace the link, not write to its target: name the real file`);
+    if (st.isSymbolicLink())
+      refuse(`${path} is a symbolic link${what}; the output is committed by rename, which would replace the link, not write to its target: name the real file`);
     if (st.isDirectory()) refuse(`${path} is a folder${what}; name a file in it, e.g. ${join(path, 'run.h5')}`);
     if (st.isFIFO() || st.isSocket() || st.isCharacterDevice() || st.isBlockDevice()) {
-      refuse(`${path} is ${st.isFIFO() ? 'a FIFO' : st.isSocket() ? 'a socket' : 'a device'}${what}; pathweave writes regular files only and will not replace it`);
+      refuse(
+        `${path} is ${st.isFIFO() ? 'a FIFO' : st.isSocket() ? 'a socket' : 'a device'}${what}; pathweave writes regular files only and will not replace it`,
+      );
     }
     const uid = process.getuid?.();
     const notOurs = uid !== undefined && st.uid !== uid;

@@ -65,12 +65,24 @@ export async function openRegularFile(path: string, what: string, maxBytes = Num
     handle = await open(path, constants.O_RDONLY | constants.O_NONBLOCK);
   } catch (e) {
     const code = (e as NodeJS.ErrnoException).code;
-    throw new InputFileError(path, `cannot open the ${what}: ${code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'permission denied' : code === 'EISDIR' ? 'it is a directory' : (code ?? (e as Error).message)}`, { cause: e });
+    throw new InputFileError(
+      path,
+      `cannot open the ${what}: ${code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'permission denied' : code === 'EISDIR' ? 'it is a directory' : (code ?? (e as Error).message)}`,
+      { cause: e },
+    );
   }
   try {
     const st = await handle.stat();
     if (!st.isFile()) {
-      const kind = st.isDirectory() ? 'a directory' : st.isFIFO() ? 'a FIFO' : st.isSocket() ? 'a socket' : st.isCharacterDevice() || st.isBlockDevice() ? 'a device' : 'not a regular file';
+      const kind = st.isDirectory()
+        ? 'a directory'
+        : st.isFIFO()
+          ? 'a FIFO'
+          : st.isSocket()
+            ? 'a socket'
+            : st.isCharacterDevice() || st.isBlockDevice()
+              ? 'a device'
+              : 'not a regular file';
       throw new InputFileError(path, `the ${what} is ${kind}; only regular files are read`);
     }
     if (st.size > maxBytes) throw new InputFileError(path, `the ${what} is ${st.size} bytes, more than the ${maxBytes} allowed`);
@@ -103,9 +115,11 @@ export async function readSmallFile(path: string, what: string): Promise<string>
  */
 export function printable(text: string): string {
   // eslint-disable-next-line no-control-regex -- matching control characters is the point: they are escaped
-  return text.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  return text.replace(
+    /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g,
+    (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`,
+  );
 }
-
 
 /**
  * One array as listed by a reader.
@@ -188,12 +202,14 @@ const READ_PIECE = 2 ** 30;
 /** Read bytes [from, from + length) of a file, in pieces of at most 1 GiB; a file that ends early is an InputFileError. */
 /** @internal */
 export async function readAt(handle: FileHandle, from: number, length: number, path = 'the file'): Promise<Buffer> {
-  if (!(Number.isSafeInteger(from) && from >= 0 && Number.isSafeInteger(length) && length >= 0)) throw new RangeError(`readAt(): bytes [${from}, ${from} + ${length}) are not a range of a file`);
+  if (!(Number.isSafeInteger(from) && from >= 0 && Number.isSafeInteger(length) && length >= 0))
+    throw new RangeError(`readAt(): bytes [${from}, ${from} + ${length}) are not a range of a file`);
   const out = Buffer.allocUnsafe(length);
   let done = 0;
   while (done < length) {
     const { bytesRead } = await handle.read(out, done, Math.min(READ_PIECE, length - done), from + done);
-    if (bytesRead === 0) throw new InputFileError(path, `the file ends at byte ${from + done}, its own records need ${from + length}: it is truncated or its records lie`);
+    if (bytesRead === 0)
+      throw new InputFileError(path, `the file ends at byte ${from + done}, its own records need ${from + length}: it is truncated or its records lie`);
     done += bytesRead;
   }
   return out;

@@ -90,10 +90,14 @@ export async function* readRowBlocks(reader: DatasetReader, name: string, blockR
  */
 export function tensorOf(reader: DatasetReader): StoredArray {
   const t = reader.arrays.find((a) => a.name === 'H') ?? reader.arrays.find((a) => a.name === 'h') ?? (reader.format === 'npy' ? reader.arrays[0] : undefined);
-  if (t === undefined) throw new InputFileError(reader.path, `holds no channel tensor H or h; it has ${reader.arrays.map((a) => a.name).join(', ') || 'no arrays'}`);
-  if (t.dtype !== 'complex64' && t.dtype !== 'complex128') throw new InputFileError(reader.path, `its tensor ${t.name} is ${t.dtype}; a channel tensor is complex64 or complex128`);
-  if (t.shape.length < 3) throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]; a channel tensor has at least 3 axes (subframes first)`);
-  if (t.shape[0] === 0 || t.shape.includes(0)) throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]: no data (pathweave never writes an empty tensor)`);
+  if (t === undefined)
+    throw new InputFileError(reader.path, `holds no channel tensor H or h; it has ${reader.arrays.map((a) => a.name).join(', ') || 'no arrays'}`);
+  if (t.dtype !== 'complex64' && t.dtype !== 'complex128')
+    throw new InputFileError(reader.path, `its tensor ${t.name} is ${t.dtype}; a channel tensor is complex64 or complex128`);
+  if (t.shape.length < 3)
+    throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]; a channel tensor has at least 3 axes (subframes first)`);
+  if (t.shape[0] === 0 || t.shape.includes(0))
+    throw new InputFileError(reader.path, `its tensor ${t.name} has shape [${t.shape.join(', ')}]: no data (pathweave never writes an empty tensor)`);
   return t;
 }
 

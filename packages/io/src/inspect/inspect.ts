@@ -85,7 +85,8 @@ export { complexSingularValues };
  * @example sampleIndices(100, 5) // [0, 25, 50, 74, 99]
  */
 export function sampleIndices(n: number, count: number): number[] {
-  if (!(Number.isSafeInteger(n) && n >= 0 && Number.isSafeInteger(count) && count >= 1)) throw new RangeError(`sampleIndices(): need integers n >= 0 and count >= 1, got ${n}, ${count}`);
+  if (!(Number.isSafeInteger(n) && n >= 0 && Number.isSafeInteger(count) && count >= 1))
+    throw new RangeError(`sampleIndices(): need integers n >= 0 and count >= 1, got ${n}, ${count}`);
   if (n <= count) return Array.from({ length: n }, (_, i) => i);
   if (count === 1) return [0];
   return Array.from({ length: count }, (_, i) => Math.round((i * (n - 1)) / (count - 1)));
@@ -116,17 +117,22 @@ export function meanPower(data: Float32Array | Float64Array): number {
  */
 export async function conditioningOf(reader: DatasetReader, tensor: StoredArray, options: InspectOptions = {}): Promise<Conditioning> {
   const shape = tensor.shape;
-  const Nr = shape[shape.length - 2]!, Nt = shape[shape.length - 1]!;
+  const Nr = shape[shape.length - 2]!,
+    Nt = shape[shape.length - 1]!;
   const bins = shape.slice(1, -2).reduce((a, b) => a * b, 1);
   const subframes = sampleIndices(shape[0]!, options.subframeSamples ?? 16);
   const binIndices = sampleIndices(bins, options.binSamples ?? 8);
   const eps = tensor.dtype === 'complex64' ? 2 ** -23 : 2 ** -52;
-  const cond: number[] = [], rank: number[] = [], largest: number[] = [], smallest: number[] = [];
+  const cond: number[] = [],
+    rank: number[] = [],
+    largest: number[] = [],
+    smallest: number[] = [];
   for (const s of subframes) {
     const row = (await reader.readRows(tensor.name, s, s + 1)) as Float32Array | Float64Array;
     for (const b of binIndices) {
       const sv = complexSingularValues(row, 2 * b * Nr * Nt, Nr, Nt);
-      const top = sv[0]!, bottom = sv[sv.length - 1]!;
+      const top = sv[0]!,
+        bottom = sv[sv.length - 1]!;
       cond.push(bottom > 0 ? top / bottom : Infinity);
       const tol = top * Math.max(Nr, Nt) * eps;
       rank.push(sv.filter((x) => x > tol).length);
@@ -134,7 +140,16 @@ export async function conditioningOf(reader: DatasetReader, tensor: StoredArray,
       smallest.push(bottom);
     }
   }
-  return { Nr, Nt, subframes, bins: binIndices, conditionNumber: spreadOf(cond), rank: spreadOf(rank), largestSingularValue: spreadOf(largest), smallestSingularValue: spreadOf(smallest) };
+  return {
+    Nr,
+    Nt,
+    subframes,
+    bins: binIndices,
+    conditionNumber: spreadOf(cond),
+    rank: spreadOf(rank),
+    largestSingularValue: spreadOf(largest),
+    smallestSingularValue: spreadOf(smallest),
+  };
 }
 
 interface PathRow {
@@ -156,8 +171,8 @@ async function pathRows(reader: DatasetReader): Promise<{ rows: PathRow[]; epoch
   if (!has('paths/delayS') || !has('paths/powerDb')) return { rows: [], epochs: 1 };
   const delay = await reader.readArray('paths/delayS');
   const power = await reader.readArray('paths/powerDb');
-  const ids = has('paths/id') ? (await reader.readArray('paths/id')).strings ?? [] : [];
-  const kinds = has('paths/kind') ? (await reader.readArray('paths/kind')).strings ?? [] : [];
+  const ids = has('paths/id') ? ((await reader.readArray('paths/id')).strings ?? []) : [];
+  const kinds = has('paths/kind') ? ((await reader.readArray('paths/kind')).strings ?? []) : [];
   const epochs = has('paths/epochTimesS') ? reader.arrays.find((a) => a.name === 'paths/epochTimesS')!.shape[0]! : 1;
   const L = delay.shape[delay.shape.length - 1]!;
   const users = delay.data!.length / (L * epochs);
@@ -165,7 +180,8 @@ async function pathRows(reader: DatasetReader): Promise<{ rows: PathRow[]; epoch
   for (let u = 0; u < users; u++) {
     for (let l = 0; l < L; l++) {
       const i = u * epochs * L + l; // epoch 0 of user u
-      const d = (delay.data as Float64Array)[i]!, p = (power.data as Float64Array)[i]!;
+      const d = (delay.data as Float64Array)[i]!,
+        p = (power.data as Float64Array)[i]!;
       if (Number.isNaN(d) && (ids[u * L + l] ?? '') === '') continue;
       rows.push({ user: u, id: ids[u * L + l] ?? String(l), kind: kinds[u * L + l] ?? '', delayS: d, powerDb: p });
     }
@@ -187,12 +203,21 @@ function scenarioBrief(text: string | undefined): { lines: string[]; data: Recor
   // applied them); one it does not (another version's) is read as recorded, key by key.
   const checked = safeParseScenario(s);
   const plan = checked.ok ? planScenario(checked.scenario) : undefined;
-  const elements = (a: any): number => (a?.kind === 'upa' ? (a.rows ?? 1) * (a.columns ?? 1) : a?.kind === 'custom' ? (a.positions?.length ?? 0) : (a?.elements ?? 1));
+  const elements = (a: any): number =>
+    a?.kind === 'upa' ? (a.rows ?? 1) * (a.columns ?? 1) : a?.kind === 'custom' ? (a.positions?.length ?? 0) : (a?.elements ?? 1);
   const layout = (a: any): string => (a?.kind === 'upa' ? `UPA ${a.rows}x${a.columns}` : a?.kind === 'custom' ? `custom ${elements(a)}` : `ULA ${a?.elements}`);
   const receivers: any[] = plan !== undefined ? plan.users.map((u) => u.config) : (s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []));
   const spacingHz = plan?.grid.domain === 'frequency' ? plan.grid.spacingHz : s.band?.spacingHz;
-  const grid = s.band !== undefined ? `${s.band.subcarriers} subcarriers x ${spacingHz / 1e3} kHz` : s.taps !== undefined ? `${s.taps.count} taps at ${s.taps.sampleRateHz / 1e6} MHz` : '';
-  const source = s.scene !== undefined ? `scene of ${s.scene.walls?.length ?? 0} walls, ${s.scene.scatterers?.length ?? 0} scatterers (traced)` : `${s.paths?.length ?? 0} explicit paths`;
+  const grid =
+    s.band !== undefined
+      ? `${s.band.subcarriers} subcarriers x ${spacingHz / 1e3} kHz`
+      : s.taps !== undefined
+        ? `${s.taps.count} taps at ${s.taps.sampleRateHz / 1e6} MHz`
+        : '';
+  const source =
+    s.scene !== undefined
+      ? `scene of ${s.scene.walls?.length ?? 0} walls, ${s.scene.scatterers?.length ?? 0} scatterers (traced)`
+      : `${s.paths?.length ?? 0} explicit paths`;
   const data = {
     name: s.name,
     carrierHz: s.carrierHz,
@@ -246,9 +271,16 @@ export async function inspectFile(file: string, options: InspectOptions = {}): P
     if (range !== undefined) lines.push(`  subframes    ${range}${total !== undefined ? ` of ${total}` : ''}`);
     lines.push('  arrays');
     const width = Math.max(...reader.arrays.map((a) => a.name.length));
-    for (const a of reader.arrays) lines.push(`    ${a.name.padEnd(width)}  ${a.dtype.padEnd(10)} [${a.shape.join(', ')}]${a.units !== undefined ? `  ${a.units}` : ''}`);
+    for (const a of reader.arrays)
+      lines.push(`    ${a.name.padEnd(width)}  ${a.dtype.padEnd(10)} [${a.shape.join(', ')}]${a.units !== undefined ? `  ${a.units}` : ''}`);
     const attributes = Object.fromEntries(reader.attributes.filter((a) => a.name !== 'scenario').map((a) => [a.name, a.value]));
-    lines.push(`  attributes   ${Object.entries(attributes).map(([k, v]) => `${k} ${String(v)}`).join(', ') || '(none)'}`);
+    lines.push(
+      `  attributes   ${
+        Object.entries(attributes)
+          .map(([k, v]) => `${k} ${String(v)}`)
+          .join(', ') || '(none)'
+      }`,
+    );
 
     const { rows, epochs } = await pathRows(reader);
     if (rows.length > 0) {
@@ -257,14 +289,17 @@ export async function inspectFile(file: string, options: InspectOptions = {}): P
       const idWidth = Math.max(4, ...rows.map((r) => r.id.length));
       lines.push(`    ${multi ? 'user  ' : ''}${'id'.padEnd(idWidth)}  ${'kind'.padEnd(12)} ${'delay ns'.padStart(10)} ${'power dB'.padStart(9)}`);
       for (const r of rows.slice(0, 40)) {
-        lines.push(`    ${multi ? String(r.user).padEnd(6) : ''}${r.id.padEnd(idWidth)}  ${r.kind.padEnd(12)} ${(r.delayS * 1e9).toFixed(3).padStart(10)} ${r.powerDb.toFixed(2).padStart(9)}`);
+        lines.push(
+          `    ${multi ? String(r.user).padEnd(6) : ''}${r.id.padEnd(idWidth)}  ${r.kind.padEnd(12)} ${(r.delayS * 1e9).toFixed(3).padStart(10)} ${r.powerDb.toFixed(2).padStart(9)}`,
+        );
       }
       if (rows.length > 40) lines.push(`    ... ${rows.length - 40} more`);
     }
 
     // Mean power over the whole tensor, a block at a time.
     const rowBytes = DTYPE_BYTES[tensor.dtype as 'complex64' | 'complex128'] * tensor.shape.slice(1).reduce((a, b) => a * b, 1);
-    let sum = 0, values = 0;
+    let sum = 0,
+      values = 0;
     for await (const block of readRowBlocks(reader, tensor.name, Math.max(1, Math.floor((16 << 20) / rowBytes)))) {
       const b = block as Float32Array | Float64Array;
       sum += meanPower(b) * (b.length / 2);
@@ -304,7 +339,8 @@ export async function inspectFile(file: string, options: InspectOptions = {}): P
         rank: c.rank,
         largestSingularValue: c.largestSingularValue,
         smallestSingularValue: c.smallestSingularValue,
-        method: 'singular values of the real embedding [[Re, -Im], [Im, Re]] (each singular value of H twice), every other kept; rank tolerance s_max * max(Nr, Nt) * eps of the dtype',
+        method:
+          'singular values of the real embedding [[Re, -Im], [Im, Re]] (each singular value of H twice), every other kept; rank tolerance s_max * max(Nr, Nt) * eps of the dtype',
       },
     };
     return { text: lines.join('\n'), data };

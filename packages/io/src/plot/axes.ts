@@ -98,7 +98,8 @@ export class Panel {
     if (spec.equalAspect === true) {
       // Widen the narrower range so one metre is the same length on both axes.
       const scale = Math.max((x1 - x0) / spec.width, (y1 - y0) / spec.height);
-      const cx = (x0 + x1) / 2, cy = (y0 + y1) / 2;
+      const cx = (x0 + x1) / 2,
+        cy = (y0 + y1) / 2;
       x0 = cx - (scale * spec.width) / 2;
       x1 = cx + (scale * spec.width) / 2;
       y0 = cy - (scale * spec.height) / 2;
@@ -153,7 +154,8 @@ export class Panel {
       svg.text(left - 8, this.py(t) + 4, tickLabel(t, yStep), { 'text-anchor': 'end', 'font-size': THEME.smallSize, class: 'tick' });
     }
     svg.text(left + width / 2, top + height + 40, s.xLabel, { 'text-anchor': 'middle', class: 'axis-label x-label' });
-    const yl = left - 48, ym = top + height / 2;
+    const yl = left - 48,
+      ym = top + height / 2;
     svg.text(yl, ym, s.yLabel, { 'text-anchor': 'middle', transform: `rotate(-90 ${fmt(yl)} ${fmt(ym)})`, class: 'axis-label y-label' });
     if (s.title !== undefined) svg.text(left, top - 10, s.title, { 'font-size': THEME.titleSize, 'font-weight': 'bold', class: 'panel-title' });
     svg.end();
@@ -189,8 +191,12 @@ export function rampColour(t: number): string {
   const x = t * (RAMP.length - 1);
   const i = Math.min(RAMP.length - 2, Math.floor(x));
   const f = x - i;
-  const a = RAMP[i]!, b = RAMP[i + 1]!;
-  const hex = (k: number): string => Math.round(a[k]! + f * (b[k]! - a[k]!)).toString(16).padStart(2, '0');
+  const a = RAMP[i]!,
+    b = RAMP[i + 1]!;
+  const hex = (k: number): string =>
+    Math.round(a[k]! + f * (b[k]! - a[k]!))
+      .toString(16)
+      .padStart(2, '0');
   return `#${hex(0)}${hex(1)}${hex(2)}`;
 }
 
@@ -231,7 +237,8 @@ export function colourBar(svg: SvgDocument, x: number, y: number, height: number
     svg.line(x + w, ty, x + w + 4, ty, { stroke: THEME.frame });
     svg.text(x + w + 7, ty + 4, tickLabel(t, step), { 'font-size': THEME.smallSize, class: 'tick' });
   }
-  const lx = x + w + 48, ly = y + height / 2;
+  const lx = x + w + 48,
+    ly = y + height / 2;
   svg.text(lx, ly, label, { 'text-anchor': 'middle', transform: `rotate(-90 ${fmt(lx)} ${fmt(ly)})`, class: 'axis-label colour-label' });
   svg.end();
 }
@@ -247,7 +254,8 @@ export const SHADE_LIGHTEST = 0.82;
  * @example shade(-60, -100, -60) // "#1b1030"
  */
 export function shade(value: number, lo: number, hi: number): string {
-  if (!(value >= lo - 1e-9 * Math.abs(hi - lo) && value <= hi + 1e-9 * Math.abs(hi - lo))) throw new RangeError(`shade(): value must be in [${lo}, ${hi}], got ${value}`);
+  if (!(value >= lo - 1e-9 * Math.abs(hi - lo) && value <= hi + 1e-9 * Math.abs(hi - lo)))
+    throw new RangeError(`shade(): value must be in [${lo}, ${hi}], got ${value}`);
   const t = hi > lo ? Math.min(1, Math.max(0, (value - lo) / (hi - lo))) : 1;
   return rampColour(SHADE_LIGHTEST * (1 - t));
 }

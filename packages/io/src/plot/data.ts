@@ -55,7 +55,10 @@ export async function openPlotSource(file: string): Promise<PlotSource> {
     checkScenarioAttribute(reader); // the figure is computed from the scenario: it must be the tensor's
     const { scenario } = parseScenarioText(text, `${file}: scenario`);
     const seed = attributeOf(reader, 'seed');
-    const built = buildScenario(scenario, { domain: tensorOf(reader).name === 'h' ? 'taps' : reader.format === 'npy' ? undefined : 'frequency', ...(typeof seed === 'number' ? { seed } : {}) });
+    const built = buildScenario(scenario, {
+      domain: tensorOf(reader).name === 'h' ? 'taps' : reader.format === 'npy' ? undefined : 'frequency',
+      ...(typeof seed === 'number' ? { seed } : {}),
+    });
     return { file, scenario, built, reader };
   } catch (e) {
     await reader.close();
@@ -99,7 +102,9 @@ export function userIndexOf(source: PlotSource, user: number | string): number {
   }
   if (!(typeof user === 'number' && Number.isInteger(user) && user >= 0 && user < U)) {
     const named = ids.filter((id) => id !== '');
-    throw new RequestError(`user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${U - 1}], got ${JSON.stringify(user)}`);
+    throw new RequestError(
+      `user must be ${named.length > 0 ? `a receiver id (${named.join(', ')}) or ` : ''}an index in [0, ${U - 1}], got ${JSON.stringify(user)}`,
+    );
   }
   return user;
 }
@@ -166,13 +171,23 @@ export async function profilePathsOf(source: PlotSource, atS = 0, user: number |
       const data = (await r.readRows(name, s, s + 1)) as Float64Array;
       return data.subarray(ui * L * width, (ui + 1) * L * width);
     };
-    const delay = await row('truth/delayS', 1), power = await row('truth/powerDb', 1), aod = await row('truth/aodDeg', 2), aoa = await row('truth/aoaDeg', 2);
+    const delay = await row('truth/delayS', 1),
+      power = await row('truth/powerDb', 1),
+      aod = await row('truth/aodDeg', 2),
+      aoa = await row('truth/aoaDeg', 2);
     const ids = (await r.readArray('paths/id')).strings ?? [];
     const kinds = (await r.readArray('paths/kind')).strings ?? [];
     const paths: ProfilePath[] = [];
     for (let l = 0; l < L; l++) {
       if (!Number.isFinite(power[l]!) || !Number.isFinite(delay[l]!)) continue;
-      paths.push({ id: ids[ui * L + l] ?? `path ${l}`, kind: kinds[ui * L + l] ?? 'path', delayS: delay[l]!, powerDb: power[l]!, aodDeg: [aod[2 * l]!, aod[2 * l + 1]!], aoaDeg: [aoa[2 * l]!, aoa[2 * l + 1]!] });
+      paths.push({
+        id: ids[ui * L + l] ?? `path ${l}`,
+        kind: kinds[ui * L + l] ?? 'path',
+        delayS: delay[l]!,
+        powerDb: power[l]!,
+        aodDeg: [aod[2 * l]!, aod[2 * l + 1]!],
+        aoaDeg: [aoa[2 * l]!, aoa[2 * l + 1]!],
+      });
     }
     return { paths, origin: `${source.file}, truth tables at subframe ${s} (t = ${(times[s] ?? 0).toPrecision(4)} s)` };
   }
@@ -194,7 +209,9 @@ export interface FieldOptions {
 /** Index layout of one subframe of the tensor. */
 function subframeLayout(built: BuiltScenario, shape: readonly number[]): { bins: number; Nr: number; Nt: number; perUser: number; symbols: number } {
   const n = shape.length;
-  const Nt = shape[n - 1]!, Nr = shape[n - 2]!, bins = shape[n - 3]!;
+  const Nt = shape[n - 1]!,
+    Nr = shape[n - 2]!,
+    bins = shape[n - 3]!;
   const symbols = built.generator.stepsPerSubframe;
   return { bins, Nr, Nt, perUser: symbols * bins * Nr * Nt, symbols };
 }
@@ -211,7 +228,8 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
   const r = source.reader;
   const shape = r !== undefined ? tensorOf(r).shape : b.shape;
   const { bins, Nr, Nt, perUser } = subframeLayout(b, shape);
-  if (!(Number.isInteger(er) && er >= 0 && er < Nr && Number.isInteger(et) && et >= 0 && et < Nt)) throw new RequestError(`element must be [r, t] with r in [0, ${Nr - 1}] and t in [0, ${Nt - 1}], got [${er}, ${et}]`);
+  if (!(Number.isInteger(er) && er >= 0 && er < Nr && Number.isInteger(et) && et >= 0 && et < Nt))
+    throw new RequestError(`element must be [r, t] with r in [0, ${Nr - 1}] and t in [0, ${Nt - 1}], got [${er}, ${et}]`);
   const S = r !== undefined ? shape[0]! : Math.min(options.subframes ?? b.plan.timing.subframes, b.plan.timing.subframes, 2000);
   const out = new Float64Array(S * bins);
   const pick = (block: Float32Array | Float64Array, count: number, firstRow: number): void => {
@@ -219,7 +237,8 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
     for (let s = 0; s < count; s++) {
       for (let k = 0; k < bins; k++) {
         const i = s * stride + ui * perUser + (k * Nr + er) * Nt + et;
-        const re = block[2 * i]!, im = block[2 * i + 1]!;
+        const re = block[2 * i]!,
+          im = block[2 * i + 1]!;
         out[(firstRow + s) * bins + k] = 10 * Math.log10(re * re + im * im);
       }
     }
@@ -232,9 +251,12 @@ export async function timeFrequencyOf(source: PlotSource, options: FieldOptions 
       const n = Math.min(blockRows, S - s);
       pick((await r.readRows(name, s, s + n)) as Float32Array | Float64Array, n, s);
     }
-    timesS = r.arrays.some((a) => a.name === 'subframeTimesS') ? ((await r.readArray('subframeTimesS')).data as Float64Array) : Float64Array.from({ length: S }, (_, s) => s * b.plan.timing.subframeS);
+    timesS = r.arrays.some((a) => a.name === 'subframeTimesS')
+      ? ((await r.readArray('subframeTimesS')).data as Float64Array)
+      : Float64Array.from({ length: S }, (_, s) => s * b.plan.timing.subframeS);
   } else {
-    const buffer = b.plan.precision === 'complex128' ? new Float64Array(2 * blockRows * b.valuesPerSubframe) : new Float32Array(2 * blockRows * b.valuesPerSubframe);
+    const buffer =
+      b.plan.precision === 'complex128' ? new Float64Array(2 * blockRows * b.valuesPerSubframe) : new Float32Array(2 * blockRows * b.valuesPerSubframe);
     for (let s = 0; s < S; s += blockRows) {
       const n = Math.min(blockRows, S - s);
       const view = buffer.subarray(0, 2 * n * b.valuesPerSubframe);
@@ -266,11 +288,15 @@ function centredOffsets(K: number, b: BuiltScenario): Float64Array {
  * and, for Gauss-Markov, alpha^k. Paths are averaged (each normalised to its own power).
  * @example (await correlationOf(await openPlotSource('examples/highway-39ghz.json'))).series.map((s) => s.style) // ["markers", "line"]
  */
-export async function correlationOf(source: PlotSource, options: { user?: number; lags?: number; subframes?: number } = {}): Promise<{ lagsS: Float64Array; series: CorrelationSeries[]; subtitle: string }> {
+export async function correlationOf(
+  source: PlotSource,
+  options: { user?: number; lags?: number; subframes?: number } = {},
+): Promise<{ lagsS: Float64Array; series: CorrelationSeries[]; subtitle: string }> {
   const b = source.built;
   const ui = userIndexOf(source, options.user ?? 0);
   const gen = b.users[ui]!.generator;
-  const L = gen.pathCount, Lmax = maxPathCount(b);
+  const L = gen.pathCount,
+    Lmax = maxPathCount(b);
   const U = b.users.length;
   const N = gen.stepsPerSubframe;
   let S: number;
@@ -278,15 +304,17 @@ export async function correlationOf(source: PlotSource, options: { user?: number
   const fromFile = source.reader !== undefined;
   const take = (g: Float64Array, n: number, first: number, into: Float64Array): void => {
     const perRow = (b.multiUser ? U : 1) * N * Lmax;
-    for (let s = 0; s < n; s++) for (let l = 0; l < Lmax; l++) {
-      const src = 2 * (s * perRow + (b.multiUser ? ui * N * Lmax : 0) + l);
-      into[2 * ((first + s) * Lmax + l)] = g[src]!;
-      into[2 * ((first + s) * Lmax + l) + 1] = g[src + 1]!;
-    }
+    for (let s = 0; s < n; s++)
+      for (let l = 0; l < Lmax; l++) {
+        const src = 2 * (s * perRow + (b.multiUser ? ui * N * Lmax : 0) + l);
+        into[2 * ((first + s) * Lmax + l)] = g[src]!;
+        into[2 * ((first + s) * Lmax + l) + 1] = g[src + 1]!;
+      }
   };
   if (source.reader !== undefined) {
     const r = source.reader;
-    if (!r.arrays.some((a) => a.name === 'gains')) throw new RequestError(`${source.file} holds no gains array (an .npy holds the tensor only); plot the scenario or an .h5/.npz file`);
+    if (!r.arrays.some((a) => a.name === 'gains'))
+      throw new RequestError(`${source.file} holds no gains array (an .npy holds the tensor only); plot the scenario or an .h5/.npz file`);
     const g = (await r.readArray('gains')).data as Float64Array;
     S = r.arrays.find((a) => a.name === 'gains')!.shape[0]!;
     rows = new Float64Array(2 * S * Lmax);
@@ -314,7 +342,8 @@ export async function correlationOf(source: PlotSource, options: { user?: number
   for (let s = 0; s < S; s++) own.set(rows.subarray(2 * s * Lmax, 2 * (s * Lmax + L)), 2 * s * L);
   const estimate = gainCorrelation(own, S, L, maxLag);
   const lagsS = Float64Array.from({ length: maxLag }, (_, k) => k * T);
-  const j0 = new Float64Array(maxLag), ak = new Float64Array(maxLag);
+  const j0 = new Float64Array(maxLag),
+    ak = new Float64Array(maxLag);
   const model = b.plan.fading.model;
   for (const c of gen.correlations) {
     for (let k = 0; k < maxLag; k++) {

@@ -47,13 +47,16 @@ export const RASTER_LEVELS = 48;
  * svg.includes('frequency offset (MHz)') // true
  */
 export function timeFrequencyFigure(input: TimeFrequencyInput): string {
-  const rows = input.timesS.length, cols = input.bins.length;
+  const rows = input.timesS.length,
+    cols = input.bins.length;
   if (rows < 1 || cols < 1) throw new RangeError(`timeFrequencyFigure(): needs at least one time and one bin, got ${rows} x ${cols}`);
-  if (input.magnitudeDb.length !== rows * cols) throw new RangeError(`timeFrequencyFigure(): magnitudeDb must hold ${rows} x ${cols} = ${rows * cols} values, got ${input.magnitudeDb.length}`);
+  if (input.magnitudeDb.length !== rows * cols)
+    throw new RangeError(`timeFrequencyFigure(): magnitudeDb must hold ${rows} x ${cols} = ${rows * cols} values, got ${input.magnitudeDb.length}`);
   const range = input.dynamicRangeDb ?? 30;
   if (!(range > 0)) throw new RangeError(`timeFrequencyFigure(): dynamicRangeDb must be > 0, got ${range}`);
   // Average power into at most MAX_RASTER_CELLS bins per axis.
-  const R = Math.min(rows, MAX_RASTER_CELLS), C = Math.min(cols, MAX_RASTER_CELLS);
+  const R = Math.min(rows, MAX_RASTER_CELLS),
+    C = Math.min(cols, MAX_RASTER_CELLS);
   const grid = new Float64Array(R * C);
   const counts = new Float64Array(R * C);
   for (let r = 0; r < rows; r++) {
@@ -71,8 +74,10 @@ export function timeFrequencyFigure(input: TimeFrequencyInput): string {
     if (grid[i]! > max) max = grid[i]!;
   }
   if (!Number.isFinite(max)) throw new RangeError('timeFrequencyFigure(): every value is zero (-Infinity dB); nothing to show');
-  const hi = Math.ceil(max), lo = hi - range;
-  const W = 820, H = 560;
+  const hi = Math.ceil(max),
+    lo = hi - range;
+  const W = 820,
+    H = 560;
   const svg = new SvgDocument(W, H, input.title);
   svg.text(20, 26, input.title, { 'font-size': THEME.titleSize + 1, 'font-weight': 'bold', class: 'figure-title' });
   if (input.subtitle !== undefined) svg.text(20, 46, input.subtitle, { 'font-size': THEME.smallSize, class: 'subtitle' });
@@ -82,13 +87,23 @@ export function timeFrequencyFigure(input: TimeFrequencyInput): string {
   const t = Array.from(input.timesS, (v) => v * 1e3);
   const dt = rows > 1 ? (t[rows - 1]! - t[0]!) / (rows - 1) : 1;
   const panel = new Panel({
-    x: 90, y: 70, width: W - 230, height: H - 170, xRange: [bx[0]! - half, bx[cols - 1]! + half], yRange: [t[0]!, t[rows - 1]! + dt],
-    xLabel: input.domain === 'frequency' ? 'frequency offset (MHz)' : 'delay (ns)', yLabel: 'time (ms)', exact: true, grid: false,
+    x: 90,
+    y: 70,
+    width: W - 230,
+    height: H - 170,
+    xRange: [bx[0]! - half, bx[cols - 1]! + half],
+    yRange: [t[0]!, t[rows - 1]! + dt],
+    xLabel: input.domain === 'frequency' ? 'frequency offset (MHz)' : 'delay (ns)',
+    yLabel: 'time (ms)',
+    exact: true,
+    grid: false,
   });
   panel.drawAxes(svg);
   svg.group({ class: 'raster', 'shape-rendering': 'crispEdges' });
-  const x0 = panel.left, y0 = panel.top;
-  const cw = panel.width / C, ch = panel.height / R;
+  const x0 = panel.left,
+    y0 = panel.top;
+  const cw = panel.width / C,
+    ch = panel.height / R;
   const level = (db: number): number => Math.max(0, Math.min(RASTER_LEVELS - 1, Math.floor(((db - lo) / range) * RASTER_LEVELS)));
   for (let r = 0; r < R; r++) {
     let c = 0;
@@ -104,7 +119,10 @@ export function timeFrequencyFigure(input: TimeFrequencyInput): string {
   svg.end();
   panel.frame(svg);
   colourBar(svg, W - 120, 70, H - 170, lo, hi, input.domain === 'frequency' ? '|H| (dB)' : '|h| (dB)');
-  svg.text(90, H - 36, `${rows} x ${cols} values${rows > R || cols > C ? `, averaged in power to ${R} x ${C} cells` : ''}; below ${lo} dB shown palest`, { 'font-size': THEME.smallSize, class: 'note' });
+  svg.text(90, H - 36, `${rows} x ${cols} values${rows > R || cols > C ? `, averaged in power to ${R} x ${C} cells` : ''}; below ${lo} dB shown palest`, {
+    'font-size': THEME.smallSize,
+    class: 'note',
+  });
   return svg.toString();
 }
 
@@ -126,29 +144,47 @@ export interface CorrelationSeries {
  * const svg = correlationFigure({ title: 'J0', lagsS: Float64Array.of(0, 1e-3, 2e-3), series: [{ label: 'J0', values: [1, 0.9, 0.7], style: 'line' }] });
  * svg.includes('lag (ms)') // true
  */
-export function correlationFigure(input: { title: string; subtitle?: string; lagsS: Float64Array | readonly number[]; series: readonly CorrelationSeries[] }): string {
+export function correlationFigure(input: {
+  title: string;
+  subtitle?: string;
+  lagsS: Float64Array | readonly number[];
+  series: readonly CorrelationSeries[];
+}): string {
   const n = input.lagsS.length;
   if (n < 2) throw new RangeError(`correlationFigure(): needs at least 2 lags, got ${n}`);
-  for (const s of input.series) if (s.values.length !== n) throw new RangeError(`correlationFigure(): series "${s.label}" has ${s.values.length} values for ${n} lags`);
-  const W = 880, H = 500;
+  for (const s of input.series)
+    if (s.values.length !== n) throw new RangeError(`correlationFigure(): series "${s.label}" has ${s.values.length} values for ${n} lags`);
+  const W = 880,
+    H = 500;
   const svg = new SvgDocument(W, H, input.title);
   svg.text(20, 26, input.title, { 'font-size': THEME.titleSize + 1, 'font-weight': 'bold', class: 'figure-title' });
   if (input.subtitle !== undefined) svg.text(20, 46, input.subtitle, { 'font-size': THEME.smallSize, class: 'subtitle' });
   const lags = Array.from(input.lagsS, (v) => v * 1e3);
   let yMin = -0.5;
   for (const s of input.series) for (const v of s.values) if (Number.isFinite(v)) yMin = Math.min(yMin, v);
-  const panel = new Panel({ x: 90, y: 70, width: W - 390, height: H - 160, xRange: [lags[0]!, lags[n - 1]!], yRange: [yMin, 1], xLabel: 'lag (ms)', yLabel: 'correlation (1)' });
+  const panel = new Panel({
+    x: 90,
+    y: 70,
+    width: W - 390,
+    height: H - 160,
+    xRange: [lags[0]!, lags[n - 1]!],
+    yRange: [yMin, 1],
+    xLabel: 'lag (ms)',
+    yLabel: 'correlation (1)',
+  });
   panel.drawAxes(svg);
   svg.line(panel.left, panel.py(0), panel.left + panel.width, panel.py(0), { stroke: THEME.frame, 'stroke-width': 0.8 });
   const inks = ['#1a1a1a', '#6b2a70', '#b8522e', '#7a7a7a'];
   const shapes = ['circle', 'square', 'triangle', 'diamond'] as const;
-  let markerIndex = 0, lineIndex = 0;
+  let markerIndex = 0,
+    lineIndex = 0;
   const legend: { label: string; draw: (x: number, y: number) => void }[] = [];
   for (const s of input.series) {
     const pts: number[] = [];
     for (let k = 0; k < n; k++) if (Number.isFinite(s.values[k]!)) pts.push(panel.px(lags[k]!), panel.py(s.values[k]!));
     if (s.style === 'markers') {
-      const shape = shapes[markerIndex % shapes.length]!, ink = inks[(markerIndex + 1) % inks.length]!;
+      const shape = shapes[markerIndex % shapes.length]!,
+        ink = inks[(markerIndex + 1) % inks.length]!;
       markerIndex++;
       const every = Math.max(1, Math.ceil(pts.length / 2 / 60));
       const mark = (x: number, y: number): void => {
@@ -172,7 +208,8 @@ export function correlationFigure(input: { title: string; subtitle?: string; lag
   panel.frame(svg);
   svg.group({ class: 'legend' });
   legend.forEach((l, i) => {
-    const y = 90 + i * 24, x = W - 270;
+    const y = 90 + i * 24,
+      x = W - 270;
     l.draw(x, y);
     svg.text(x + 20, y + 4, l.label, { 'font-size': THEME.smallSize });
   });
@@ -187,14 +224,17 @@ export function correlationFigure(input: { title: string; subtitle?: string; lag
  * @example gainCorrelation(Float64Array.of(1, 0, 1, 0, 1, 0), 3, 1, 2) // Float64Array [1, 1]
  */
 export function gainCorrelation(gains: Float64Array, subframes: number, paths: number, lags: number): Float64Array {
-  if (gains.length !== 2 * subframes * paths) throw new RangeError(`gainCorrelation(): gains must hold 2 x ${subframes} x ${paths} values, got ${gains.length}`);
-  if (!(Number.isInteger(lags) && lags >= 1 && lags <= subframes)) throw new RangeError(`gainCorrelation(): lags must be an integer in [1, ${subframes}], got ${lags}`);
+  if (gains.length !== 2 * subframes * paths)
+    throw new RangeError(`gainCorrelation(): gains must hold 2 x ${subframes} x ${paths} values, got ${gains.length}`);
+  if (!(Number.isInteger(lags) && lags >= 1 && lags <= subframes))
+    throw new RangeError(`gainCorrelation(): lags must be an integer in [1, ${subframes}], got ${lags}`);
   const out = new Float64Array(lags);
   let used = 0;
   for (let l = 0; l < paths; l++) {
     let p0 = 0;
     for (let s = 0; s < subframes; s++) {
-      const re = gains[2 * (s * paths + l)]!, im = gains[2 * (s * paths + l) + 1]!;
+      const re = gains[2 * (s * paths + l)]!,
+        im = gains[2 * (s * paths + l) + 1]!;
       p0 += re * re + im * im;
     }
     if (!(p0 > 0) || !Number.isFinite(p0)) continue;
@@ -203,7 +243,8 @@ export function gainCorrelation(gains: Float64Array, subframes: number, paths: n
     for (let k = 0; k < lags; k++) {
       let acc = 0;
       for (let s = 0; s + k < subframes; s++) {
-        const a = 2 * ((s + k) * paths + l), b = 2 * (s * paths + l);
+        const a = 2 * ((s + k) * paths + l),
+          b = 2 * (s * paths + l);
         acc += gains[a]! * gains[b]! + gains[a + 1]! * gains[b + 1]!;
       }
       out[k]! += acc / (subframes - k) / p0;

@@ -63,7 +63,8 @@ export async function plotSource(source: PlotSource, kind: PlotKind, options: Pl
     }
     case 'angles': {
       const { paths, origin } = await profilePathsOf(source, at, user);
-      const bore = (o: Parameters<typeof rotationFromOrientation>[0]): number => degFromVector(applyRotation([0, 0, 0], rotationFromOrientation(o), [1, 0, 0]))[0];
+      const bore = (o: Parameters<typeof rotationFromOrientation>[0]): number =>
+        degFromVector(applyRotation([0, 0, 0], rotationFromOrientation(o), [1, 0, 0]))[0];
       const u = source.built.users[user]!;
       return anglesFigure({
         title: `${name}: angular power spectra`,
@@ -74,7 +75,10 @@ export async function plotSource(source: PlotSource, kind: PlotKind, options: Pl
     }
     case 'time-frequency': {
       const data = await timeFrequencyOf(source, { user, ...(options.element !== undefined ? { element: options.element } : {}) });
-      return timeFrequencyFigure({ title: `${name}: ${source.built.domain === 'frequency' ? '|H| over subcarriers and time' : '|h| over taps and time'}`, ...data });
+      return timeFrequencyFigure({
+        title: `${name}: ${source.built.domain === 'frequency' ? '|H| over subcarriers and time' : '|h| over taps and time'}`,
+        ...data,
+      });
     }
     case 'correlation': {
       const data = await correlationOf(source, { user, ...(options.lags !== undefined ? { lags: options.lags } : {}) });
@@ -90,7 +94,8 @@ export async function plotSource(source: PlotSource, kind: PlotKind, options: Pl
  * statSync('highway-correlation.svg').size // 6735
  */
 export async function plotFile(file: string, kind: PlotKind, out: string, options: PlotOptions = {}): Promise<void> {
-  if (!(PLOT_KINDS as readonly string[]).includes(kind)) throw new RangeError(`plotFile(): kind must be one of ${PLOT_KINDS.join(', ')}, got ${JSON.stringify(kind)}`);
+  if (!(PLOT_KINDS as readonly string[]).includes(kind))
+    throw new RangeError(`plotFile(): kind must be one of ${PLOT_KINDS.join(', ')}, got ${JSON.stringify(kind)}`);
   const source = await openPlotSource(file);
   try {
     await writeFileAtomic(out, await plotSource(source, kind, options));

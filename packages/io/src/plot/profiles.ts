@@ -58,23 +58,39 @@ function finitePaths(paths: readonly ProfilePath[], fn: string): ProfilePath[] {
  */
 export function delayProfileFigure(input: { title: string; paths: readonly ProfilePath[]; subtitle?: string }): string {
   const paths = finitePaths(input.paths, 'delayProfileFigure');
-  const W = 820, H = 460;
+  const W = 820,
+    H = 460;
   const svg = new SvgDocument(W, H, input.title);
   svg.text(20, 26, input.title, { 'font-size': THEME.titleSize + 1, 'font-weight': 'bold', class: 'figure-title' });
   if (input.subtitle !== undefined) svg.text(20, 46, input.subtitle, { 'font-size': THEME.smallSize, class: 'subtitle' });
-  const delays = paths.map((p) => p.delayS * 1e9), powers = paths.map((p) => p.powerDb);
-  const dMin = Math.min(...delays), dMax = Math.max(...delays);
-  const pMax = Math.max(...powers), pMin = Math.min(...powers);
+  const delays = paths.map((p) => p.delayS * 1e9),
+    powers = paths.map((p) => p.powerDb);
+  const dMin = Math.min(...delays),
+    dMax = Math.max(...delays);
+  const pMax = Math.max(...powers),
+    pMin = Math.min(...powers);
   const pad = Math.max(2, 0.06 * (dMax - dMin));
   const floor = Math.floor((pMin - 5) / 10) * 10;
-  const panel = new Panel({ x: 90, y: 70, width: W - 130, height: H - 160, xRange: [Math.max(0, dMin - pad), dMax + pad], yRange: [floor, pMax + 3], xLabel: 'delay (ns)', yLabel: 'path power (dB)' });
+  const panel = new Panel({
+    x: 90,
+    y: 70,
+    width: W - 130,
+    height: H - 160,
+    xRange: [Math.max(0, dMin - pad), dMax + pad],
+    yRange: [floor, pMax + 3],
+    xLabel: 'delay (ns)',
+    yLabel: 'path power (dB)',
+  });
   panel.drawAxes(svg);
   const base = panel.py(panel.y0);
   const order = paths.map((p, i) => ({ p, i })).sort((a, b) => a.p.powerDb - b.p.powerDb);
   for (const { p } of order) {
-    const x = panel.px(p.delayS * 1e9), y = panel.py(p.powerDb);
+    const x = panel.px(p.delayS * 1e9),
+      y = panel.py(p.powerDb);
     const colour = shade(p.powerDb, pMin === pMax ? pMax - 10 : pMin, pMax);
-    svg.raw(`<line class="stem" data-id="${escapeXml(p.id)}" x1="${fmt(x)}" y1="${fmt(base)}" x2="${fmt(x)}" y2="${fmt(y)}" stroke="${colour}" stroke-width="2"><title>${escapeXml(`${p.id}: ${(p.delayS * 1e9).toFixed(2)} ns, ${p.powerDb.toFixed(1)} dB`)}</title></line>`);
+    svg.raw(
+      `<line class="stem" data-id="${escapeXml(p.id)}" x1="${fmt(x)}" y1="${fmt(base)}" x2="${fmt(x)}" y2="${fmt(y)}" stroke="${colour}" stroke-width="2"><title>${escapeXml(`${p.id}: ${(p.delayS * 1e9).toFixed(2)} ns, ${p.powerDb.toFixed(1)} dB`)}</title></line>`,
+    );
     marker(svg, p.kind, x, y, colour, 'stem-head');
   }
   if (paths.length <= 16) {
@@ -99,14 +115,21 @@ export function delayProfileFigure(input: { title: string; paths: readonly Profi
  * const svg = anglesFigure({ title: 'one path', paths: [{ id: 'los', kind: 'los', delayS: 80e-9, powerDb: -89, aodDeg: [22, -10], aoaDeg: [-158, 10] }] });
  * svg.match(/class="stem"/g).length // 2
  */
-export function anglesFigure(input: { title: string; paths: readonly ProfilePath[]; subtitle?: string; boresightAzimuthDeg?: { transmitter?: number; receiver?: number } }): string {
+export function anglesFigure(input: {
+  title: string;
+  paths: readonly ProfilePath[];
+  subtitle?: string;
+  boresightAzimuthDeg?: { transmitter?: number; receiver?: number };
+}): string {
   const paths = finitePaths(input.paths, 'anglesFigure');
-  const W = 1100, H = 700;
+  const W = 1100,
+    H = 700;
   const svg = new SvgDocument(W, H, input.title);
   svg.text(20, 26, input.title, { 'font-size': THEME.titleSize + 1, 'font-weight': 'bold', class: 'figure-title' });
   if (input.subtitle !== undefined) svg.text(20, 46, input.subtitle, { 'font-size': THEME.smallSize, class: 'subtitle' });
   const powers = paths.map((p) => p.powerDb);
-  const pMax = Math.max(...powers), pMin = paths.length > 1 ? Math.min(...powers) : pMax - 10;
+  const pMax = Math.max(...powers),
+    pMin = paths.length > 1 ? Math.min(...powers) : pMax - 10;
   const floor = Math.floor((pMin - 5) / 10) * 10;
   const ends: { key: 'aodDeg' | 'aoaDeg'; title: string; who: 'transmitter' | 'receiver' }[] = [
     { key: 'aodDeg', title: 'at the transmitter (departure)', who: 'transmitter' },
@@ -115,22 +138,51 @@ export function anglesFigure(input: { title: string; paths: readonly ProfilePath
   const pw = 380;
   ends.forEach((end, col) => {
     const x = 90 + col * (pw + 110);
-    const top = new Panel({ x, y: 80, width: pw, height: 220, xRange: [-180, 180], yRange: [floor, pMax + 3], xLabel: 'azimuth (deg)', yLabel: 'path power (dB)', title: `power ${end.title}`, exact: true, xTicks: AZIMUTH_TICKS });
+    const top = new Panel({
+      x,
+      y: 80,
+      width: pw,
+      height: 220,
+      xRange: [-180, 180],
+      yRange: [floor, pMax + 3],
+      xLabel: 'azimuth (deg)',
+      yLabel: 'path power (dB)',
+      title: `power ${end.title}`,
+      exact: true,
+      xTicks: AZIMUTH_TICKS,
+    });
     top.drawAxes(svg);
     const bore = input.boresightAzimuthDeg?.[end.who];
-    if (bore !== undefined) svg.line(top.px(bore), top.top, top.px(bore), top.top + top.height, { stroke: THEME.frame, 'stroke-dasharray': '6 4', class: 'boresight' });
+    if (bore !== undefined)
+      svg.line(top.px(bore), top.top, top.px(bore), top.top + top.height, { stroke: THEME.frame, 'stroke-dasharray': '6 4', class: 'boresight' });
     const base = top.py(top.y0);
     const order = [...paths].sort((a, b) => a.powerDb - b.powerDb);
     for (const p of order) {
       const az = p[end.key][0];
       const colour = shade(p.powerDb, pMin, pMax);
-      svg.raw(`<line class="stem" data-id="${escapeXml(p.id)}" x1="${fmt(top.px(az))}" y1="${fmt(base)}" x2="${fmt(top.px(az))}" y2="${fmt(top.py(p.powerDb))}" stroke="${colour}" stroke-width="2"/>`);
+      svg.raw(
+        `<line class="stem" data-id="${escapeXml(p.id)}" x1="${fmt(top.px(az))}" y1="${fmt(base)}" x2="${fmt(top.px(az))}" y2="${fmt(top.py(p.powerDb))}" stroke="${colour}" stroke-width="2"/>`,
+      );
       marker(svg, p.kind, top.px(az), top.py(p.powerDb), colour, 'stem-head');
     }
     top.frame(svg);
-    const map = new Panel({ x, y: 390, width: pw, height: 200, xRange: [-180, 180], yRange: [-90, 90], xLabel: 'azimuth (deg)', yLabel: 'elevation (deg)', title: `directions ${end.title}`, exact: true, xTicks: AZIMUTH_TICKS, yTicks: [-90, -45, 0, 45, 90] });
+    const map = new Panel({
+      x,
+      y: 390,
+      width: pw,
+      height: 200,
+      xRange: [-180, 180],
+      yRange: [-90, 90],
+      xLabel: 'azimuth (deg)',
+      yLabel: 'elevation (deg)',
+      title: `directions ${end.title}`,
+      exact: true,
+      xTicks: AZIMUTH_TICKS,
+      yTicks: [-90, -45, 0, 45, 90],
+    });
     map.drawAxes(svg);
-    if (bore !== undefined) svg.line(map.px(bore), map.top, map.px(bore), map.top + map.height, { stroke: THEME.frame, 'stroke-dasharray': '6 4', class: 'boresight' });
+    if (bore !== undefined)
+      svg.line(map.px(bore), map.top, map.px(bore), map.top + map.height, { stroke: THEME.frame, 'stroke-dasharray': '6 4', class: 'boresight' });
     for (const p of order) marker(svg, p.kind, map.px(p[end.key][0]), map.py(p[end.key][1]), shade(p.powerDb, pMin, pMax), 'direction');
     map.frame(svg);
   });
@@ -140,6 +192,10 @@ export function anglesFigure(input: { title: string; paths: readonly ProfilePath
     svg.line(520, H - 30, 550, H - 30, { stroke: THEME.frame, 'stroke-dasharray': '6 4' });
     svg.text(556, H - 26, 'boresight azimuth', { 'font-size': THEME.smallSize });
   }
-  svg.text(W - 40, 46, 'global frame: azimuth from +x towards +y, elevation up from the horizontal', { 'text-anchor': 'end', 'font-size': THEME.smallSize, class: 'note' });
+  svg.text(W - 40, 46, 'global frame: azimuth from +x towards +y, elevation up from the horizontal', {
+    'text-anchor': 'end',
+    'font-size': THEME.smallSize,
+    class: 'note',
+  });
   return svg.toString();
 }

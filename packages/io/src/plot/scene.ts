@@ -65,7 +65,10 @@ function extent(input: SceneFigureInput, a: Axis, b: Axis): [number, number, num
   for (const p of input.paths) for (const i of p.interactions ?? []) pts.push(point3(i.point));
   for (const s of input.scene.scatterers ?? []) pts.push(point3(s.position));
   for (const bl of input.scene.blockers ?? []) pts.push(...(bl.shape === 'box' ? [point3(bl.min), point3(bl.max)] : [point3(bl.base)]));
-  let x0 = Infinity, x1 = -Infinity, y0 = Infinity, y1 = -Infinity;
+  let x0 = Infinity,
+    x1 = -Infinity,
+    y0 = Infinity,
+    y1 = -Infinity;
   for (const p of pts) {
     x0 = Math.min(x0, p[a]);
     x1 = Math.max(x1, p[a]);
@@ -93,25 +96,41 @@ function drawView(svg: SvgDocument, input: SceneFigureInput, panel: Panel, a: Ax
     const c = b === 2 ? 1 : 2; // the axis the view looks along
     let facing = false;
     if (vs.length >= 3 && !is2D) {
-      const p0 = point3(vs[0]!), p1 = point3(vs[1]!), p2 = point3(vs[2]!);
-      const e1 = [p1[0] - p0[0], p1[1] - p0[1], p1[2] - p0[2]], e2 = [p2[0] - p0[0], p2[1] - p0[1], p2[2] - p0[2]];
+      const p0 = point3(vs[0]!),
+        p1 = point3(vs[1]!),
+        p2 = point3(vs[2]!);
+      const e1 = [p1[0] - p0[0], p1[1] - p0[1], p1[2] - p0[2]],
+        e2 = [p2[0] - p0[0], p2[1] - p0[1], p2[2] - p0[2]];
       const n = [e1[1]! * e2[2]! - e1[2]! * e2[1]!, e1[2]! * e2[0]! - e1[0]! * e2[2]!, e1[0]! * e2[1]! - e1[1]! * e2[0]!];
       const len = Math.hypot(n[0]!, n[1]!, n[2]!) || 1;
       facing = Math.abs(n[c]! / len) > 0.5;
     }
     const material = typeof w.material === 'string' ? w.material : w.material !== undefined ? 'custom' : 'concrete';
-    if (facing) svg.polygon(pts, { fill: THEME.wallFill, 'fill-opacity': 0.6, stroke: THEME.wall, 'stroke-width': 0.8, 'stroke-dasharray': '4 3', class: 'wall', 'data-wall': `walls[${i}]` });
-    else if (pts.length === 4) svg.polyline(pts, { stroke: THEME.wall, 'stroke-width': 4, 'stroke-linecap': 'round', class: 'wall', 'data-wall': `walls[${i}]` });
+    if (facing)
+      svg.polygon(pts, {
+        fill: THEME.wallFill,
+        'fill-opacity': 0.6,
+        stroke: THEME.wall,
+        'stroke-width': 0.8,
+        'stroke-dasharray': '4 3',
+        class: 'wall',
+        'data-wall': `walls[${i}]`,
+      });
+    else if (pts.length === 4)
+      svg.polyline(pts, { stroke: THEME.wall, 'stroke-width': 4, 'stroke-linecap': 'round', class: 'wall', 'data-wall': `walls[${i}]` });
     else svg.polygon(pts, { fill: 'none', stroke: THEME.wall, 'stroke-width': 4, 'stroke-linejoin': 'round', class: 'wall', 'data-wall': `walls[${i}]` });
     if (!facing) {
-      const xs = pts.filter((_, k) => k % 2 === 0), ys = pts.filter((_, k) => k % 2 === 1);
-      const cx = (Math.min(...xs) + Math.max(...xs)) / 2, cy = (Math.min(...ys) + Math.max(...ys)) / 2;
+      const xs = pts.filter((_, k) => k % 2 === 0),
+        ys = pts.filter((_, k) => k % 2 === 1);
+      const cx = (Math.min(...xs) + Math.max(...xs)) / 2,
+        cy = (Math.min(...ys) + Math.max(...ys)) / 2;
       wallLabels.push({ x: cx + 6, y: cy - 6, text: `walls[${i}] ${material}` });
     }
   });
   for (const bl of input.scene.blockers ?? []) {
     if (bl.shape === 'box') {
-      const [xa, ya] = P(bl.min), [xb, yb] = P(bl.max);
+      const [xa, ya] = P(bl.min),
+        [xb, yb] = P(bl.max);
       svg.rect(Math.min(xa, xb), Math.min(ya, yb), Math.abs(xb - xa), Math.abs(yb - ya), { fill: THEME.blockerFill, stroke: THEME.blocker, class: 'blocker' });
     } else {
       const base = point3(bl.base);
@@ -119,11 +138,20 @@ function drawView(svg: SvgDocument, input: SceneFigureInput, panel: Panel, a: Ax
       if (b === 2) {
         const top = [...base] as Vec3;
         top[2] += bl.heightM;
-        const [xa, ya] = P([base[0] - r, base[1], base[2]]), [xb, yb] = P([base[0] + r, base[1], top[2]]);
-        svg.rect(Math.min(xa, xb), Math.min(ya, yb), Math.abs(xb - xa), Math.abs(yb - ya), { fill: THEME.blockerFill, stroke: THEME.blocker, class: 'blocker' });
+        const [xa, ya] = P([base[0] - r, base[1], base[2]]),
+          [xb, yb] = P([base[0] + r, base[1], top[2]]);
+        svg.rect(Math.min(xa, xb), Math.min(ya, yb), Math.abs(xb - xa), Math.abs(yb - ya), {
+          fill: THEME.blockerFill,
+          stroke: THEME.blocker,
+          class: 'blocker',
+        });
       } else {
         const [cx, cy] = P(base);
-        svg.circle(cx, cy, Math.max(2, Math.abs(panel.px(base[0] + r) - panel.px(base[0]))), { fill: THEME.blockerFill, stroke: THEME.blocker, class: 'blocker' });
+        svg.circle(cx, cy, Math.max(2, Math.abs(panel.px(base[0] + r) - panel.px(base[0]))), {
+          fill: THEME.blockerFill,
+          stroke: THEME.blocker,
+          class: 'blocker',
+        });
       }
     }
   }
@@ -143,7 +171,11 @@ function drawView(svg: SvgDocument, input: SceneFigureInput, panel: Panel, a: Ax
   }
   // Tracks, then terminals with their boresight.
   for (const r of input.receivers) {
-    if (r.track !== undefined && r.track.length > 1) svg.polyline(r.track.flatMap((t) => P(t)), { stroke: THEME.ink, 'stroke-width': 1.2, 'stroke-dasharray': '2 3', class: 'track' });
+    if (r.track !== undefined && r.track.length > 1)
+      svg.polyline(
+        r.track.flatMap((t) => P(t)),
+        { stroke: THEME.ink, 'stroke-width': 1.2, 'stroke-dasharray': '2 3', class: 'track' },
+      );
   }
   const span = Math.max(panel.x1 - panel.x0, panel.y1 - panel.y0);
   const terminal = (t: FigureTerminal, kind: 'transmitter' | 'receiver'): void => {
@@ -160,9 +192,13 @@ function drawView(svg: SvgDocument, input: SceneFigureInput, panel: Panel, a: Ax
     if (lenPx > 3) {
       svg.line(cx, cy, tx, ty, { stroke: THEME.ink, 'stroke-width': 1.6, class: 'boresight' });
       const h = 7;
-      svg.polygon([tx, ty, tx - h * Math.cos(ang - 0.4), ty - h * Math.sin(ang - 0.4), tx - h * Math.cos(ang + 0.4), ty - h * Math.sin(ang + 0.4)], { fill: THEME.ink, class: 'boresight-head' });
+      svg.polygon([tx, ty, tx - h * Math.cos(ang - 0.4), ty - h * Math.sin(ang - 0.4), tx - h * Math.cos(ang + 0.4), ty - h * Math.sin(ang + 0.4)], {
+        fill: THEME.ink,
+        class: 'boresight-head',
+      });
     }
-    if (kind === 'transmitter') svg.polygon([cx, cy - 7, cx + 6.5, cy + 5, cx - 6.5, cy + 5], { fill: THEME.transmitter, stroke: '#ffffff', 'stroke-width': 1 });
+    if (kind === 'transmitter')
+      svg.polygon([cx, cy - 7, cx + 6.5, cy + 5, cx - 6.5, cy + 5], { fill: THEME.transmitter, stroke: '#ffffff', 'stroke-width': 1 });
     else svg.circle(cx, cy, 5.5, { fill: '#ffffff', stroke: THEME.receiver, 'stroke-width': 2 });
     svg.text(cx + 9, cy + 15, t.label, { 'font-size': THEME.smallSize, 'font-weight': 'bold', class: 'terminal-label' });
     svg.end();
@@ -173,7 +209,8 @@ function drawView(svg: SvgDocument, input: SceneFigureInput, panel: Panel, a: Ax
   // Wall labels outside the clip, kept inside the panel and apart from each other.
   const placer = new LabelPlacer(panel.left, panel.left + panel.width);
   for (const l of wallLabels) {
-    const x = Math.min(Math.max(l.x, panel.left + 4), panel.left + panel.width - 4), y = Math.min(Math.max(l.y, panel.top + 14), panel.top + panel.height - 4);
+    const x = Math.min(Math.max(l.x, panel.left + 4), panel.left + panel.width - 4),
+      y = Math.min(Math.max(l.y, panel.top + 14), panel.top + panel.height - 4);
     const at = placer.place(x, y, l.text, THEME.smallSize - 1);
     svg.text(at.x, at.y, l.text, { 'font-size': THEME.smallSize - 1, fill: THEME.wall, 'text-anchor': at.anchor, class: 'wall-label' });
   }
@@ -213,8 +250,16 @@ export function sceneFigure(input: SceneFigureInput): string {
     const [a, b]: [Axis, Axis] = v === 'top' ? [0, 1] : [0, 2];
     const [x0, x1, y0, y1] = extent(input, a, b);
     const panel = new Panel({
-      x, y: 60, width: widths[i]!, height: panelH, xRange: [x0, x1], yRange: v === 'side' ? [Math.min(y0, 0), y1] : [y0, y1],
-      xLabel: 'x (m)', yLabel: v === 'top' ? 'y (m)' : 'z (m)', title: v === 'top' ? 'from above' : 'from the side (looking along +y)', equalAspect: true,
+      x,
+      y: 60,
+      width: widths[i]!,
+      height: panelH,
+      xRange: [x0, x1],
+      yRange: v === 'side' ? [Math.min(y0, 0), y1] : [y0, y1],
+      xLabel: 'x (m)',
+      yLabel: v === 'top' ? 'y (m)' : 'z (m)',
+      title: v === 'top' ? 'from above' : 'from the side (looking along +y)',
+      equalAspect: true,
     });
     drawView(svg, input, panel, a, b, v, lo, hi);
     x += widths[i]! + 90;

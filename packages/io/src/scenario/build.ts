@@ -229,7 +229,17 @@ function explicitPaths(scenario: Scenario): { paths: ExplicitPathSpec[]; records
       dopplerHz: p.dopplerHz,
       maxDopplerHz: p.maxDopplerHz,
     });
-    records.push({ id, kind: 'explicit', delayS: p.delayS, powerDb: p.powerDb, phaseDeg, aodDeg: [...p.aodDeg], aoaDeg: [...p.aoaDeg], dopplerHz: p.dopplerHz ?? 0, maxDopplerHz: p.maxDopplerHz });
+    records.push({
+      id,
+      kind: 'explicit',
+      delayS: p.delayS,
+      powerDb: p.powerDb,
+      phaseDeg,
+      aodDeg: [...p.aodDeg],
+      aoaDeg: [...p.aoaDeg],
+      dopplerHz: p.dopplerHz ?? 0,
+      maxDopplerHz: p.maxDopplerHz,
+    });
   });
   return { paths, records };
 }
@@ -266,7 +276,8 @@ export function summarizeTraced(p: TracedPath): PathSummary {
 export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
   const t = plan.timing;
   if (!t.symbolAxis) return undefined;
-  if (t.numerology !== undefined) return { perSubframe: t.stepsPerSubframe, clock: numerologyClock(nrNumerology(t.numerology, t.cyclicPrefix), 'start', t.subframeS) };
+  if (t.numerology !== undefined)
+    return { perSubframe: t.stepsPerSubframe, clock: numerologyClock(nrNumerology(t.numerology, t.cyclicPrefix), 'start', t.subframeS) };
   return { perSubframe: t.stepsPerSubframe };
 }
 
@@ -278,7 +289,12 @@ export function symbolTimingOf(plan: ScenarioPlan): SymbolTiming | undefined {
  */
 export function sceneOf(scenario: Scenario): Scene {
   if (scenario.scene?.imports !== undefined) {
-    throw new ScenarioError([{ path: 'scene.imports', message: 'the imported files are not read yet: load the scenario with loadScenario() or expand it with expandSceneImports(scenario, folder) first' }]);
+    throw new ScenarioError([
+      {
+        path: 'scene.imports',
+        message: 'the imported files are not read yet: load the scenario with loadScenario() or expand it with expandSceneImports(scenario, folder) first',
+      },
+    ]);
   }
   const { atmosphere, ...scene } = scenario.scene!;
   if (atmosphere === undefined) return scene as unknown as Scene;
@@ -361,7 +377,12 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
     }
     if (timeline.ids.length === 0) {
       const who = plan.multiUser ? `receivers[${users.length}]` : 'receiver';
-      throw new ScenarioError([{ path: plan.source === 'scene' ? 'scene' : 'paths', message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers, maxReflectionOrder and diffraction)` }]);
+      throw new ScenarioError([
+        {
+          path: plan.source === 'scene' ? 'scene' : 'paths',
+          message: `the geometry yields no path at all between the transmitter and the ${who} (check lineOfSight, walls, blockers, maxReflectionOrder and diffraction)`,
+        },
+      ]);
     }
     const delayShiftS = g.domain === 'taps' && g.alignFirstPath ? alignmentShiftS(delays, g.sampleRateHz) : 0;
     const spec: ChannelSpec = {
@@ -391,8 +412,15 @@ export function buildPlan(plan: ScenarioPlan, options: { traced?: readonly (Trac
     }
     for (const w of generator.warnings) if (!warnings.includes(w)) warnings.push(w);
     users.push({
-      id: r.id, receiver: r.config, generator, timeline, specularTimeline, paths: records,
-      ...(specular !== undefined ? { specularPaths: specular } : {}), ...(tracedEpochs !== undefined ? { tracedEpochs } : {}), spec,
+      id: r.id,
+      receiver: r.config,
+      generator,
+      timeline,
+      specularTimeline,
+      paths: records,
+      ...(specular !== undefined ? { specularPaths: specular } : {}),
+      ...(tracedEpochs !== undefined ? { tracedEpochs } : {}),
+      spec,
     });
   }
   const first = users[0]!;

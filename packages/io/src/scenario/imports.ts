@@ -27,29 +27,43 @@ export function expandSceneImports(scenario: Scenario, folder: string, source = 
     const file = isAbsolute(name) ? name : join(folder, name);
     const path = `scene.imports[${i}].${'footprints' in im ? 'footprints' : 'mesh'}`;
     let text: string;
-    try { text = readFileSync(file, 'utf8'); } catch (e) {
+    try {
+      text = readFileSync(file, 'utf8');
+    } catch (e) {
       throw new ScenarioError([{ path, message: `cannot read ${JSON.stringify(name)} (${file}): ${(e as NodeJS.ErrnoException).code ?? String(e)}` }], source);
     }
     try {
       if ('footprints' in im) {
-        walls.push(...wallsFromGeoJson(text, {
-          origin: im.origin,
-          ...(im.heightProperty !== undefined ? { heightProperty: im.heightProperty } : {}),
-          ...(im.defaultHeightM !== undefined ? { defaultHeightM: im.defaultHeightM } : {}),
-          ...(im.materialProperty !== undefined ? { materialProperty: im.materialProperty } : {}),
-          ...(im.materials !== undefined ? { materials: im.materials as Record<string, MaterialSpec> } : {}),
-          ...(im.material !== undefined ? { material: im.material as MaterialSpec } : {}),
-          ...(im.roofs !== undefined ? { roofs: im.roofs } : {}),
-        }, name));
+        walls.push(
+          ...wallsFromGeoJson(
+            text,
+            {
+              origin: im.origin,
+              ...(im.heightProperty !== undefined ? { heightProperty: im.heightProperty } : {}),
+              ...(im.defaultHeightM !== undefined ? { defaultHeightM: im.defaultHeightM } : {}),
+              ...(im.materialProperty !== undefined ? { materialProperty: im.materialProperty } : {}),
+              ...(im.materials !== undefined ? { materials: im.materials as Record<string, MaterialSpec> } : {}),
+              ...(im.material !== undefined ? { material: im.material as MaterialSpec } : {}),
+              ...(im.roofs !== undefined ? { roofs: im.roofs } : {}),
+            },
+            name,
+          ),
+        );
       } else {
         if (!/\.obj$/i.test(name)) throw new ImportError(name, '', 'is not a mesh format read here: OBJ (.obj) is; PLY and binary glTF are not read yet');
-        walls.push(...wallsFromMesh(readObj(text, name), {
-          ...(im.unit !== undefined ? { unit: im.unit } : {}),
-          ...(im.upAxis !== undefined ? { upAxis: im.upAxis } : {}),
-          ...(im.offsetM !== undefined ? { offsetM: im.offsetM } : {}),
-          ...(im.materials !== undefined ? { materials: im.materials as Record<string, MaterialSpec> } : {}),
-          ...(im.material !== undefined ? { material: im.material as MaterialSpec } : {}),
-        }, name));
+        walls.push(
+          ...wallsFromMesh(
+            readObj(text, name),
+            {
+              ...(im.unit !== undefined ? { unit: im.unit } : {}),
+              ...(im.upAxis !== undefined ? { upAxis: im.upAxis } : {}),
+              ...(im.offsetM !== undefined ? { offsetM: im.offsetM } : {}),
+              ...(im.materials !== undefined ? { materials: im.materials as Record<string, MaterialSpec> } : {}),
+              ...(im.material !== undefined ? { material: im.material as MaterialSpec } : {}),
+            },
+            name,
+          ),
+        );
       }
     } catch (e) {
       if (e instanceof ImportError) throw new ScenarioError([{ path, message: e.message }], source);

@@ -105,7 +105,11 @@ export function parseJson(text: string): unknown {
     }
     if (c === '"') return parseString();
     if (c === '-' || (c! >= '0' && c! <= '9')) return parseNumber();
-    for (const [word, value] of [['true', true], ['false', false], ['null', null]] as const) {
+    for (const [word, value] of [
+      ['true', true],
+      ['false', false],
+      ['null', null],
+    ] as const) {
       if (text.startsWith(word, i)) {
         i += word.length;
         return value;

@@ -10,7 +10,18 @@
  * Tensor layout: [S, (U,) (symbols,) K or count, Nr, Nt] complex interleaved (docs/conventions.md,
  * "Tensor layout"); the other arrays of a file are listed in dataset/layout.ts.
  */
-import { clusterPreset, nrNumerology, nrSymbolTimesS, numerologyClock, uniformSymbolTimesS, type ClusterSpread, type CyclicPrefix, type FadingSpec, type Precision, type PulseShape } from '@pathweave/core';
+import {
+  clusterPreset,
+  nrNumerology,
+  nrSymbolTimesS,
+  numerologyClock,
+  uniformSymbolTimesS,
+  type ClusterSpread,
+  type CyclicPrefix,
+  type FadingSpec,
+  type Precision,
+  type PulseShape,
+} from '@pathweave/core';
 import { DATASET_ARRAYS, DATASET_ATTRIBUTES, type DatasetArray } from '../dataset/layout.js';
 import { CURRENT_FORMAT_VERSION, SCENARIO_DEFAULTS, type ArrayConfig, type ClusterConfig, type Scenario, type TerminalConfig } from './schema.js';
 import { ScenarioError } from './problems.js';
@@ -190,8 +201,10 @@ export function planArray(config: ArrayConfig): ArrayPlan {
  * chooseDomain({ ...scenario, taps: { sampleRateHz: 1e9, count: 16 } }, 'taps') // "taps"
  */
 export function chooseDomain(scenario: Scenario, prefer?: Domain): Domain {
-  if (prefer === 'taps' && scenario.taps === undefined) throw new ScenarioError([{ path: 'taps', message: 'is required for tap-delay output (--domain taps)' }]);
-  if (prefer === 'frequency' && scenario.band === undefined) throw new ScenarioError([{ path: 'band', message: 'is required for frequency-domain output (--domain frequency)' }]);
+  if (prefer === 'taps' && scenario.taps === undefined)
+    throw new ScenarioError([{ path: 'taps', message: 'is required for tap-delay output (--domain taps)' }]);
+  if (prefer === 'frequency' && scenario.band === undefined)
+    throw new ScenarioError([{ path: 'band', message: 'is required for frequency-domain output (--domain frequency)' }]);
   return prefer ?? (scenario.band !== undefined ? 'frequency' : 'taps');
 }
 
@@ -205,7 +218,15 @@ export function clusterSpreadOf(c: ClusterConfig): ClusterSpread {
   const base: ClusterSpread =
     c.preset !== undefined
       ? clusterPreset(c.preset)
-      : { subPaths: 20, method: 'gaussian', azimuthSpreadDepartureDeg: 0, elevationSpreadDepartureDeg: 0, azimuthSpreadArrivalDeg: 0, elevationSpreadArrivalDeg: 0, delaySpreadS: 0 };
+      : {
+          subPaths: 20,
+          method: 'gaussian',
+          azimuthSpreadDepartureDeg: 0,
+          elevationSpreadDepartureDeg: 0,
+          azimuthSpreadArrivalDeg: 0,
+          elevationSpreadArrivalDeg: 0,
+          delaySpreadS: 0,
+        };
   return {
     subPaths: c.subPaths ?? base.subPaths,
     method: c.method ?? base.method,
@@ -220,7 +241,13 @@ export function clusterSpreadOf(c: ClusterConfig): ClusterSpread {
 /** The receivers of a scenario with their identities (ids from `id`, else the index). */
 function usersOf(scenario: Scenario): UserPlan[] {
   if (scenario.receivers !== undefined) {
-    return scenario.receivers.map((r, i) => ({ path: `receivers[${i}]`, config: r, array: planArray(r.array), id: r.id ?? String(i), streamKey: r.id ?? String(i) }));
+    return scenario.receivers.map((r, i) => ({
+      path: `receivers[${i}]`,
+      config: r,
+      array: planArray(r.array),
+      id: r.id ?? String(i),
+      streamKey: r.id ?? String(i),
+    }));
   }
   const r = scenario.receiver!;
   return [{ path: 'receiver', config: r, array: planArray(r.array), id: r.id ?? '', streamKey: r.id }];
@@ -239,7 +266,10 @@ function timingOf(scenario: Scenario): TimingPlan {
   const steps = symbolTimesS.length;
   const S = t.subframes;
   // The step clock build.ts gives the generator, so the traced epochs cover exactly its steps.
-  const lastStepTimeS = t.numerology !== undefined ? numerologyClock(nrNumerology(t.numerology, cyclicPrefix), 'start', t.subframeS).timeS(S * steps - 1) : ((S * steps - 1) * t.subframeS) / steps;
+  const lastStepTimeS =
+    t.numerology !== undefined
+      ? numerologyClock(nrNumerology(t.numerology, cyclicPrefix), 'start', t.subframeS).timeS(S * steps - 1)
+      : ((S * steps - 1) * t.subframeS) / steps;
   return {
     subframeS: t.subframeS,
     subframes: S,

@@ -37,7 +37,10 @@ export function checkPlausibility(s: Scenario): { problems: Problem[]; warnings:
   const problems: Problem[] = [];
   const warnings: string[] = [];
   if (s.carrierHz < MIN_CARRIER_HZ) {
-    const hint = s.carrierHz < 1e3 ? `it looks like GHz: write ${fmt(s.carrierHz)}e9 for ${fmt(s.carrierHz)} GHz` : `it looks like kHz or MHz: write ${fmt(s.carrierHz)}e6 for ${fmt(s.carrierHz)} MHz`;
+    const hint =
+      s.carrierHz < 1e3
+        ? `it looks like GHz: write ${fmt(s.carrierHz)}e9 for ${fmt(s.carrierHz)} GHz`
+        : `it looks like kHz or MHz: write ${fmt(s.carrierHz)}e6 for ${fmt(s.carrierHz)} MHz`;
     problems.push({ path: 'carrierHz', message: `must be in hertz (>= 1e6, 1 MHz), got ${fmt(s.carrierHz)}: ${hint}` });
   }
   if (s.taps !== undefined && s.taps.sampleRateHz < MIN_SAMPLE_RATE_HZ) {
@@ -46,7 +49,10 @@ export function checkPlausibility(s: Scenario): { problems: Problem[]; warnings:
     problems.push({ path: 'taps.sampleRateHz', message: `must be in hertz (>= 1e3), got ${v}: ${hint}` });
   }
   if (s.band?.spacingHz !== undefined && s.band.spacingHz < MIN_SPACING_HZ) {
-    problems.push({ path: 'band.spacingHz', message: `must be in hertz (>= 100), got ${fmt(s.band.spacingHz)}: it looks like kHz: write ${fmt(s.band.spacingHz)}e3 for ${fmt(s.band.spacingHz)} kHz` });
+    problems.push({
+      path: 'band.spacingHz',
+      message: `must be in hertz (>= 100), got ${fmt(s.band.spacingHz)}: it looks like kHz: write ${fmt(s.band.spacingHz)}e3 for ${fmt(s.band.spacingHz)} kHz`,
+    });
   }
   if (s.carrierHz >= MIN_CARRIER_HZ) {
     const lambda = SPEED_OF_LIGHT / s.carrierHz;
@@ -61,10 +67,12 @@ export function checkPlausibility(s: Scenario): { problems: Problem[]; warnings:
       }
       const positions = array.positions;
       if (positions !== undefined && positions.length > 1 && positions.length <= 4096) {
-        let best = Infinity, pair: [number, number] = [0, 1];
+        let best = Infinity,
+          pair: [number, number] = [0, 1];
         for (let i = 0; i < positions.length; i++) {
           for (let j = i + 1; j < positions.length; j++) {
-            const a = positions[i]!, b = positions[j]!;
+            const a = positions[i]!,
+              b = positions[j]!;
             const d = Math.hypot(a[0]! - b[0]!, a[1]! - b[1]!, (a[2] ?? 0) - (b[2] ?? 0));
             if (d < best) [best, pair] = [d, [i, j]];
           }

@@ -96,7 +96,12 @@ const arrayDefinition = z.discriminatedUnion('kind', [
     rows: notForKind('custom'),
     columns: notForKind('custom'),
     spacingWavelengths: notForKind('custom'),
-    positions: z.array(vector3, { error: (issue) => (issue.input === undefined ? 'is required for kind "custom" (element positions in metres, local frame)' : undefined) }).min(1).max(65536),
+    positions: z
+      .array(vector3, {
+        error: (issue) => (issue.input === undefined ? 'is required for kind "custom" (element positions in metres, local frame)' : undefined),
+      })
+      .min(1)
+      .max(65536),
     ...arrayCommon,
   }),
 ]);
@@ -124,7 +129,8 @@ const terminalDefinition = z.strictObject({
 export const terminalSchema: z.ZodType<z.output<typeof terminalDefinition>, z.input<typeof terminalDefinition>> = terminalDefinition;
 
 const OFFSETS_SUB_PATHS = 20;
-const offsetsSubPathsMessage = (got: unknown): string => `method "offsets-38901" has ${OFFSETS_SUB_PATHS} sub-paths (3GPP TR 38.901 Table 7.5-3), got ${describeValue(got)}`;
+const offsetsSubPathsMessage = (got: unknown): string =>
+  `method "offsets-38901" has ${OFFSETS_SUB_PATHS} sub-paths (3GPP TR 38.901 Table 7.5-3), got ${describeValue(got)}`;
 const subPaths = count.max(1000).optional();
 const clusterPreset = z.enum(['umi-los', 'umi-nlos', 'indoor-office-los', 'indoor-office-nlos', 'indoor-factory-los', 'indoor-factory-nlos']).optional();
 const clusterSpreads = {
@@ -137,13 +143,11 @@ const clusterSpreads = {
 // Variants by method. The method may be left out: it is then "offsets-38901" with a preset and
 // "gaussian" without (docs/deployments.md); that one rule across two keys is the refinement below.
 const clusterDefinition = z.discriminatedUnion('method', [
-  z
-    .strictObject({ preset: clusterPreset, method: z.literal('gaussian').optional(), subPaths, ...clusterSpreads })
-    .superRefine((c, ctx) => {
-      if (c.method === undefined && c.preset !== undefined && c.subPaths !== undefined && c.subPaths !== OFFSETS_SUB_PATHS) {
-        ctx.addIssue({ code: 'custom', path: ['subPaths'], message: offsetsSubPathsMessage(c.subPaths), input: c.subPaths });
-      }
-    }),
+  z.strictObject({ preset: clusterPreset, method: z.literal('gaussian').optional(), subPaths, ...clusterSpreads }).superRefine((c, ctx) => {
+    if (c.method === undefined && c.preset !== undefined && c.subPaths !== undefined && c.subPaths !== OFFSETS_SUB_PATHS) {
+      ctx.addIssue({ code: 'custom', path: ['subPaths'], message: offsetsSubPathsMessage(c.subPaths), input: c.subPaths });
+    }
+  }),
   z.strictObject({ preset: clusterPreset, method: z.literal('laplacian'), subPaths, ...clusterSpreads }),
   z.strictObject({
     preset: clusterPreset,
@@ -190,10 +194,7 @@ const pathDefinition = z.strictObject({
  */
 export const pathSchema: z.ZodType<z.output<typeof pathDefinition>, z.input<typeof pathDefinition>> = pathDefinition;
 
-const materialSchema = z.union([
-  z.string().min(1),
-  z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative }),
-]);
+const materialSchema = z.union([z.string().min(1), z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative })]);
 
 // Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
 const sceneImportSchema = z.union([
@@ -269,12 +270,21 @@ const arOrder = count.max(256).optional();
 // Zheng & Xiao (2003) need at least 8 sinusoids for their statistics (checked once the count itself is valid).
 const sinusoidCount = count
   .max(4096)
-  .refine((n) => n >= 8, { error: (issue) => `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${describeValue(issue.input)}`, when: (payload) => payload.issues.length === 0 })
+  .refine((n) => n >= 8, {
+    error: (issue) => `must be >= 8 (Zheng & Xiao need that many for their statistics), got ${describeValue(issue.input)}`,
+    when: (payload) => payload.issues.length === 0,
+  })
   .optional();
 /** A key of other models, refused with `model` (the message names the model given). */
 const onlyFor = (models: string, model: string) => z.never({ error: () => `applies only to ${models}, got model "${model}"` }).optional();
 // Every variant lists the keys in one order (the parsed scenario keeps it): model, speedMps, order, sinusoids, ricianKDb, normalize, xprDb.
-const fadingVariant = <M extends string, O extends z.ZodType, S extends z.ZodType, K extends z.ZodType, V extends z.ZodType>(model: M, speedMps: V, order: O, sinusoids: S, ricianKDb: K) =>
+const fadingVariant = <M extends string, O extends z.ZodType, S extends z.ZodType, K extends z.ZodType, V extends z.ZodType>(
+  model: M,
+  speedMps: V,
+  order: O,
+  sinusoids: S,
+  ricianKDb: K,
+) =>
   z.strictObject({
     model: z.literal(model),
     speedMps,
@@ -291,7 +301,13 @@ const notAr = (model: string) => onlyFor('model "ar"', model);
 const notSinusoids = (model: string) => onlyFor('models "sum-of-sinusoids" and "geometric"', model);
 const notGeometric = (model: string) => onlyFor('model "geometric"', model);
 const fadingDefinition = z.discriminatedUnion('model', [
-  fadingVariant('static', z.never({ error: () => 'has no effect with model "static"' }).optional(), notAr('static'), notSinusoids('static'), notGeometric('static')),
+  fadingVariant(
+    'static',
+    z.never({ error: () => 'has no effect with model "static"' }).optional(),
+    notAr('static'),
+    notSinusoids('static'),
+    notGeometric('static'),
+  ),
   fadingVariant('gauss-markov', speed, notAr('gauss-markov'), notSinusoids('gauss-markov'), notGeometric('gauss-markov')),
   fadingVariant('ar', speed, arOrder, notSinusoids('ar'), notGeometric('ar')),
   fadingVariant('sum-of-sinusoids', speed, notAr('sum-of-sinusoids'), sinusoidCount, notGeometric('sum-of-sinusoids')),
@@ -335,7 +351,11 @@ const scenarioDefinition = z.strictObject({
   /** Widen every path (traced or explicit) into a cluster of sub-paths. */
   clusters: clusterSchema.optional(),
   fading: fadingDefinition,
-  seed: z.number().int().min(0).max(2 ** 53 - 1),
+  seed: z
+    .number()
+    .int()
+    .min(0)
+    .max(2 ** 53 - 1),
   precision: z.enum(['complex64', 'complex128']).optional(),
 });
 
@@ -408,7 +428,11 @@ interface KeyDoc {
 // cluster's under "cluster." (transmitter, receiver and receivers[]; clusters and paths[].cluster).
 const TERMINAL = ['transmitter', 'receiver', 'receivers'];
 const CLUSTER = ['clusters', 'paths.cluster'];
-const d = (description: string, unit?: string, def?: unknown): KeyDoc => ({ description, ...(unit !== undefined ? { unit } : {}), ...(def !== undefined ? { default: def } : {}) });
+const d = (description: string, unit?: string, def?: unknown): KeyDoc => ({
+  description,
+  ...(unit !== undefined ? { unit } : {}),
+  ...(def !== undefined ? { default: def } : {}),
+});
 const orientationDocs = (at: string): Record<string, KeyDoc> => ({
   [`${at}`]: d('Orientation R = Rz(yaw) Ry(pitch) Rx(roll), local to global (docs/conventions.md, "Array frame").'),
   [`${at}.yawDeg`]: d('Rotation about z, degrees.', 'deg', 0),
@@ -423,8 +447,14 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   timing: d('Time axis: subframes and, optionally, OFDM symbols within them.'),
   'timing.subframeS': d('Duration T_s of one subframe (the step of the gain processes).', 's'),
   'timing.subframes': d('Number of subframes S (axis 0 of every per-subframe array).', '1'),
-  'timing.symbolsPerSubframe': d('Uniform OFDM symbols per subframe (adds a symbol axis after S); with a numerology it must equal 14 2^mu (12 2^mu with the extended prefix).', '1'),
-  'timing.numerology': d('NR numerology mu, 0 to 4 (3GPP TS 38.211): sets the symbols per subframe, their true start times and the default subcarrier spacing 15 kHz 2^mu.', '1'),
+  'timing.symbolsPerSubframe': d(
+    'Uniform OFDM symbols per subframe (adds a symbol axis after S); with a numerology it must equal 14 2^mu (12 2^mu with the extended prefix).',
+    '1',
+  ),
+  'timing.numerology': d(
+    'NR numerology mu, 0 to 4 (3GPP TS 38.211): sets the symbols per subframe, their true start times and the default subcarrier spacing 15 kHz 2^mu.',
+    '1',
+  ),
   'timing.cyclicPrefix': d('NR cyclic prefix with a numerology ("extended" only with numerology 2).', undefined, SCENARIO_DEFAULTS.cyclicPrefix),
   'timing.geometryUpdateS': d('Time between two traces of the scene while terminals move; default one subframe.', 's'),
   band: d('Frequency-domain output H[k]: the subcarrier grid f_k = (k - floor(K / 2)) df.'),
@@ -466,7 +496,9 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'terminal.array.wavefront': d('Plane or spherical wavefront; "auto": spherical inside 2 D^2 / lambda.', undefined, SCENARIO_DEFAULTS.wavefront),
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
-  'scene.imports': d('Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").'),
+  'scene.imports': d(
+    'Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").',
+  ),
   'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
   'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
   'scene.imports.origin.latitudeDeg': d('Latitude of the origin.', 'deg'),
@@ -499,7 +531,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.blockers.min': d('Lowest corner of a box.', 'm'),
   'scene.blockers.max': d('Highest corner of a box.', 'm'),
   'scene.blockers.lossDb': d('A fixed loss while a path crosses the blocker; absent: knife-edge diffraction (ITU-R P.526).', 'dB'),
-  'scene.blockers.base': d('Centre of a cylinder\'s base.', 'm'),
+  'scene.blockers.base': d("Centre of a cylinder's base.", 'm'),
   'scene.blockers.radiusM': d('Radius of a cylinder.', 'm'),
   'scene.blockers.heightM': d('Height of a cylinder.', 'm'),
   'scene.diffraction': d('Trace edge-diffracted paths (uniform theory of diffraction) around the wedges of the walls.', undefined, false),
@@ -520,8 +552,8 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'paths.powerDb': d('Mean power E|rho|^2, absolute.', 'dB'),
   'paths.phaseDeg': d('arg(rho) at t = 0 (static and geometric fading).', 'deg', 0),
   'paths.dopplerHz': d('Signed Doppler shift of the path.', 'Hz', 0),
-  'paths.maxDopplerHz': d('Maximum Doppler of the path\'s spread (replaces the speeds for its correlation).', 'Hz'),
-  'paths.cluster': d('This path\'s own cluster (replaces clusters for it).'),
+  'paths.maxDopplerHz': d("Maximum Doppler of the path's spread (replaces the speeds for its correlation).", 'Hz'),
+  'paths.cluster': d("This path's own cluster (replaces clusters for it)."),
   'paths.kind': d('Descriptive (printed by pathweave paths --json); ignored.'),
   'paths.interactions': d('Descriptive (printed by pathweave paths --json); ignored.'),
   'paths.interactions.type': d('Descriptive; ignored.'),
@@ -542,11 +574,11 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'cluster.delaySpreadS': d('Delay spread of the sub-paths.', 's', 0),
   fading: d('How the path gains evolve over the subframes.'),
   'fading.model': d('"static", "gauss-markov" (AR(1), Clarke/Jakes alpha), "ar" (AR(p)), "sum-of-sinusoids" or "geometric".'),
-  'fading.speedMps': d('Speed of the one moving end for the Doppler spread; default the terminals\' speeds.', 'm/s'),
+  'fading.speedMps': d("Speed of the one moving end for the Doppler spread; default the terminals' speeds.", 'm/s'),
   'fading.order': d('Order p of the AR model.', '1', AR_DEFAULT_ORDER),
   'fading.sinusoids': d('Sinusoids of sum-of-sinusoids (and of the diffuse part of geometric), at least 8.', '1', SOS_DEFAULT_SINUSOIDS),
   'fading.ricianKDb': d('Rician K factor of the geometric model (specular over diffuse power).', 'dB'),
-  'fading.normalize': d('Scale each user\'s total path power to 1.', undefined, SCENARIO_DEFAULTS.normalize),
+  'fading.normalize': d("Scale each user's total path power to 1.", undefined, SCENARIO_DEFAULTS.normalize),
   'fading.xprDb': d('Cross-polar ratio of stochastic paths and cluster sub-paths (turns polarised ports on).', 'dB'),
   seed: d('Seed of every random stream, 0 <= seed < 2^53.', '1'),
   precision: d('Complex sample type of the tensors.', undefined, SCENARIO_DEFAULTS.precision),

@@ -152,14 +152,28 @@ function issueToProblems(issue: z.core.$ZodIssue, input: unknown): Problem[] {
         return [{ path, message: `must have at most ${issue.maximum as number} ${what}s, ${got}` }];
       }
       if (issue.origin === 'number' && issue.maximum === 2 ** 53 - 1) return [{ path, message: `must be an integer below 2^53, ${got}` }];
-      if (path === 'formatVersion') return [{ path, message: `this build reads scenario format versions 1 to ${CURRENT_FORMAT_VERSION}; version ${describeValue(value)} comes from a newer pathweave; older versions load with the same meaning` }];
+      if (path === 'formatVersion')
+        return [
+          {
+            path,
+            message: `this build reads scenario format versions 1 to ${CURRENT_FORMAT_VERSION}; version ${describeValue(value)} comes from a newer pathweave; older versions load with the same meaning`,
+          },
+        ];
       return [{ path, message: `must be ${boundText(issue.inclusive, issue.maximum, false)}, ${got}` }];
     case 'invalid_value':
       return [{ path, message: `must be one of ${issue.values.map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
     case 'invalid_union': {
       // A discriminated union whose tag (array kind, fading model) names no variant.
       if (issue.discriminator !== undefined && 'options' in issue && issue.options !== undefined && issue.errors.length === 0) {
-        return [{ path, message: `must be one of ${issue.options.filter((v) => v !== undefined).map((v) => JSON.stringify(v)).join(', ')}, ${got}` }];
+        return [
+          {
+            path,
+            message: `must be one of ${issue.options
+              .filter((v) => v !== undefined)
+              .map((v) => JSON.stringify(v))
+              .join(', ')}, ${got}`,
+          },
+        ];
       }
       // Report the alternative that came closest (fewest problems) rather than a bare "invalid".
       let best: Problem[] | undefined;
@@ -186,7 +200,8 @@ export const MAX_REFLECTION_SEQUENCES = 1_000_000;
 
 function crossChecks(s: Scenario): Problem[] {
   const problems: Problem[] = [];
-  if (s.paths === undefined && s.scene === undefined) problems.push({ path: '', message: 'give either "paths" (explicit paths) or "scene" (paths traced from geometry)' });
+  if (s.paths === undefined && s.scene === undefined)
+    problems.push({ path: '', message: 'give either "paths" (explicit paths) or "scene" (paths traced from geometry)' });
   if (s.paths !== undefined && s.scene !== undefined) problems.push({ path: 'scene', message: 'give either "paths" or "scene", not both' });
   if (s.band === undefined && s.taps === undefined) problems.push({ path: '', message: 'give "band" (frequency-domain output) or "taps" (tap-delay output)' });
   if (s.receiver === undefined && s.receivers === undefined) problems.push({ path: 'receiver', message: 'is required (or give "receivers")' });
@@ -199,11 +214,17 @@ function crossChecks(s: Scenario): Problem[] {
     const at = `${name}.array`;
     // Which keys each kind requires or refuses is the schema's (the variants of arraySchema).
     if (a.dualPolarized !== undefined && a.polarization !== undefined) {
-      problems.push({ path: `${at}.polarization`, message: `does not apply to a dual-polarised array (dualPolarized "${a.dualPolarized}" sets both ports), got ${describeValue(a.polarization)}` });
+      problems.push({
+        path: `${at}.polarization`,
+        message: `does not apply to a dual-polarised array (dualPolarized "${a.dualPolarized}" sets both ports), got ${describeValue(a.polarization)}`,
+      });
     }
     const table = a.element !== undefined && typeof a.element === 'object' ? a.element.table : undefined;
     if (table !== undefined && (table.gainsDbi.length !== table.elevationsDeg.length || table.gainsDbi.some((r) => r.length !== table.azimuthsDeg.length))) {
-      problems.push({ path: `${at}.element.table.gainsDbi`, message: `must be ${table.elevationsDeg.length} rows (elevations) of ${table.azimuthsDeg.length} values (azimuths)` });
+      problems.push({
+        path: `${at}.element.table.gainsDbi`,
+        message: `must be ${table.elevationsDeg.length} rows (elevations) of ${table.azimuthsDeg.length} values (azimuths)`,
+      });
     }
     if (t.trajectory !== undefined) {
       t.trajectory.forEach((w, i) => {
@@ -218,7 +239,10 @@ function crossChecks(s: Scenario): Problem[] {
   // Up-front limits on work (docs/conventions.md, "Limits"): refused here, before a build that
   // would hold the event loop (and so a signal) for a long time.
   if (s.paths !== undefined && s.paths.length > MAX_EXPLICIT_PATHS) {
-    problems.push({ path: 'paths', message: `lists ${s.paths.length} paths, more than the ${MAX_EXPLICIT_PATHS} allowed; split the scenario or widen fewer paths into clusters` });
+    problems.push({
+      path: 'paths',
+      message: `lists ${s.paths.length} paths, more than the ${MAX_EXPLICIT_PATHS} allowed; split the scenario or widen fewer paths into clusters`,
+    });
   }
   if (s.scene !== undefined) {
     const walls = s.scene.walls?.length ?? 0;
@@ -226,7 +250,10 @@ function crossChecks(s: Scenario): Problem[] {
     let sequences = 0;
     for (let k = 1, n = walls; k <= order; k++, n *= Math.max(walls - 1, 0)) sequences += n; // no wall twice in a row
     if (sequences > MAX_REFLECTION_SEQUENCES) {
-      problems.push({ path: 'scene.maxReflectionOrder', message: `${walls} walls at order ${order} mean ${sequences} reflection sequences to trace, more than the ${MAX_REFLECTION_SEQUENCES} allowed; lower maxReflectionOrder or give fewer walls` });
+      problems.push({
+        path: 'scene.maxReflectionOrder',
+        message: `${walls} walls at order ${order} mean ${sequences} reflection sequences to trace, more than the ${MAX_REFLECTION_SEQUENCES} allowed; lower maxReflectionOrder or give fewer walls`,
+      });
     }
   }
   const ids = new Set<string>();
@@ -240,7 +267,11 @@ function crossChecks(s: Scenario): Problem[] {
     const count = portCount;
     const n0 = count(s.receivers[0]!.array);
     s.receivers.forEach((r, i) => {
-      if (count(r.array) !== n0) problems.push({ path: `receivers[${i}].array`, message: `has ${count(r.array)} ports (elements, twice for dualPolarized) but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]` });
+      if (count(r.array) !== n0)
+        problems.push({
+          path: `receivers[${i}].array`,
+          message: `has ${count(r.array)} ports (elements, twice for dualPolarized) but receivers[0] has ${n0}; users share one tensor [S, U, ..., Nr, Nt]`,
+        });
     });
     const ids = new Set<string>();
     s.receivers.forEach((r, i) => {
@@ -252,21 +283,37 @@ function crossChecks(s: Scenario): Problem[] {
   // Time resolution: numerology (3GPP TS 38.211 section 4) or a uniform symbol count.
   const t = s.timing;
   if (t.numerology !== undefined) {
-    if (t.numerology < 0 || t.numerology > 4) problems.push({ path: 'timing.numerology', message: `must be an integer from 0 to 4 (subcarrier spacing 15 kHz * 2^mu), got ${t.numerology}` });
+    if (t.numerology < 0 || t.numerology > 4)
+      problems.push({ path: 'timing.numerology', message: `must be an integer from 0 to 4 (subcarrier spacing 15 kHz * 2^mu), got ${t.numerology}` });
     else {
-      if (t.cyclicPrefix === 'extended' && t.numerology !== 2) problems.push({ path: 'timing.cyclicPrefix', message: `"extended" is allowed only with numerology 2 (60 kHz, TS 38.211 Table 4.2-1), got numerology ${t.numerology}` });
+      if (t.cyclicPrefix === 'extended' && t.numerology !== 2)
+        problems.push({
+          path: 'timing.cyclicPrefix',
+          message: `"extended" is allowed only with numerology 2 (60 kHz, TS 38.211 Table 4.2-1), got numerology ${t.numerology}`,
+        });
       const symbols = (t.cyclicPrefix === 'extended' ? 12 : 14) * 2 ** t.numerology;
-      if (t.symbolsPerSubframe !== undefined && t.symbolsPerSubframe !== symbols) problems.push({ path: 'timing.symbolsPerSubframe', message: `numerology ${t.numerology} has ${symbols} symbols per 1 ms subframe, got ${t.symbolsPerSubframe}` });
+      if (t.symbolsPerSubframe !== undefined && t.symbolsPerSubframe !== symbols)
+        problems.push({
+          path: 'timing.symbolsPerSubframe',
+          message: `numerology ${t.numerology} has ${symbols} symbols per 1 ms subframe, got ${t.symbolsPerSubframe}`,
+        });
       const spacing = SCENARIO_DEFAULTS.numerologyBaseSpacingHz * 2 ** t.numerology;
-      if (s.band?.spacingHz !== undefined && s.band.spacingHz !== spacing) problems.push({ path: 'band.spacingHz', message: `numerology ${t.numerology} means ${spacing} Hz; give that or leave spacingHz out, got ${s.band.spacingHz}` });
-      if (t.subframeS < 1e-3) problems.push({ path: 'timing.subframeS', message: `an NR subframe is 1 ms: with a numerology it must be >= 0.001, got ${t.subframeS}` });
+      if (s.band?.spacingHz !== undefined && s.band.spacingHz !== spacing)
+        problems.push({
+          path: 'band.spacingHz',
+          message: `numerology ${t.numerology} means ${spacing} Hz; give that or leave spacingHz out, got ${s.band.spacingHz}`,
+        });
+      if (t.subframeS < 1e-3)
+        problems.push({ path: 'timing.subframeS', message: `an NR subframe is 1 ms: with a numerology it must be >= 0.001, got ${t.subframeS}` });
     }
   } else if (t.cyclicPrefix !== undefined) problems.push({ path: 'timing.cyclicPrefix', message: 'applies only with timing.numerology' });
-  if (s.band !== undefined && s.band.spacingHz === undefined && t.numerology === undefined) problems.push({ path: 'band.spacingHz', message: 'is required (or give timing.numerology, from which it follows)' });
+  if (s.band !== undefined && s.band.spacingHz === undefined && t.numerology === undefined)
+    problems.push({ path: 'band.spacingHz', message: 'is required (or give timing.numerology, from which it follows)' });
   const f = s.fading;
   // Which options each model takes is the schema's (the variants of the fading union).
   const polarised = f.xprDb !== undefined || terminals.some(([, t]) => t.array.dualPolarized !== undefined);
-  if (polarised && s.band?.beamSquint === true) problems.push({ path: 'band.beamSquint', message: 'is not supported together with dual-polarised arrays or fading.xprDb' });
+  if (polarised && s.band?.beamSquint === true)
+    problems.push({ path: 'band.beamSquint', message: 'is not supported together with dual-polarised arrays or fading.xprDb' });
   // A cluster's sub-path count with method "offsets-38901" is the schema's (the variants of clusterSchema).
   for (const [i, p] of (s.paths ?? []).entries()) {
     for (const key of ['aodDeg', 'aoaDeg'] as const) {
@@ -274,8 +321,10 @@ function crossChecks(s: Scenario): Problem[] {
       if (el < -90 || el > 90) problems.push({ path: `paths[${i}].${key}[1]`, message: `elevation must lie in [-90, 90] degrees, got ${el}` });
     }
   }
-  if (s.scene?.atmosphere !== undefined && s.scene.gasAttenuationDbPerKm !== undefined) problems.push({ path: 'scene.atmosphere', message: 'give either "atmosphere" (ITU-R P.676 line-by-line) or "gasAttenuationDbPerKm", not both' });
-  if (s.scene?.atmosphere !== undefined && !(s.carrierHz >= 1e9 && s.carrierHz <= 1e12)) problems.push({ path: 'scene.atmosphere', message: `the P.676 line-by-line method covers 1-1000 GHz, got a carrier of ${s.carrierHz / 1e9} GHz` });
+  if (s.scene?.atmosphere !== undefined && s.scene.gasAttenuationDbPerKm !== undefined)
+    problems.push({ path: 'scene.atmosphere', message: 'give either "atmosphere" (ITU-R P.676 line-by-line) or "gasAttenuationDbPerKm", not both' });
+  if (s.scene?.atmosphere !== undefined && !(s.carrierHz >= 1e9 && s.carrierHz <= 1e12))
+    problems.push({ path: 'scene.atmosphere', message: `the P.676 line-by-line method covers 1-1000 GHz, got a carrier of ${s.carrierHz / 1e9} GHz` });
   if (s.scene !== undefined && problems.length === 0) {
     const receivers = s.receivers ?? (s.receiver !== undefined ? [s.receiver] : []);
     receivers.forEach((r, i) => {

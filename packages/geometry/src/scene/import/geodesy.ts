@@ -38,8 +38,11 @@ export interface GeodeticPoint {
  * @example geodeticToEcef({ latitudeDeg: 90, longitudeDeg: 0 })[2] // 6356752.314245179: the semi-minor axis b = a (1 - f)
  */
 export function geodeticToEcef(p: GeodeticPoint): [number, number, number] {
-  const lat = (p.latitudeDeg * Math.PI) / 180, lon = (p.longitudeDeg * Math.PI) / 180, h = p.heightM ?? 0;
-  const s = Math.sin(lat), c = Math.cos(lat);
+  const lat = (p.latitudeDeg * Math.PI) / 180,
+    lon = (p.longitudeDeg * Math.PI) / 180,
+    h = p.heightM ?? 0;
+  const s = Math.sin(lat),
+    c = Math.cos(lat);
   const N = WGS84_A / Math.sqrt(1 - E2 * s * s);
   return [(N + h) * c * Math.cos(lon), (N + h) * c * Math.sin(lon), (N * (1 - E2) + h) * s];
 }
@@ -58,12 +61,17 @@ export class EnuFrame {
 
   constructor(origin: GeodeticPoint) {
     const bad = ['latitudeDeg', 'longitudeDeg'].find((k) => !Number.isFinite((origin as unknown as Record<string, number>)[k]));
-    if (bad !== undefined) throw new RangeError(`EnuFrame(): origin.${bad} must be a finite number of degrees, got ${String((origin as unknown as Record<string, unknown>)[bad])}`);
+    if (bad !== undefined)
+      throw new RangeError(`EnuFrame(): origin.${bad} must be a finite number of degrees, got ${String((origin as unknown as Record<string, unknown>)[bad])}`);
     if (Math.abs(origin.latitudeDeg) > 90) throw new RangeError(`EnuFrame(): origin.latitudeDeg must be within [-90, 90], got ${origin.latitudeDeg}`);
     this.origin = origin;
     this.o = geodeticToEcef(origin);
-    const lat = (origin.latitudeDeg * Math.PI) / 180, lon = (origin.longitudeDeg * Math.PI) / 180;
-    const sl = Math.sin(lat), cl = Math.cos(lat), so = Math.sin(lon), co = Math.cos(lon);
+    const lat = (origin.latitudeDeg * Math.PI) / 180,
+      lon = (origin.longitudeDeg * Math.PI) / 180;
+    const sl = Math.sin(lat),
+      cl = Math.cos(lat),
+      so = Math.sin(lon),
+      co = Math.cos(lon);
     this.r = Float64Array.of(-so, co, 0, -sl * co, -sl * so, cl, cl * co, cl * so, sl);
   }
 
@@ -73,7 +81,10 @@ export class EnuFrame {
    */
   fromGeodetic(latitudeDeg: number, longitudeDeg: number, heightM = 0): [number, number, number] {
     const p = geodeticToEcef({ latitudeDeg, longitudeDeg, heightM });
-    const dx = p[0] - this.o[0], dy = p[1] - this.o[1], dz = p[2] - this.o[2], r = this.r;
+    const dx = p[0] - this.o[0],
+      dy = p[1] - this.o[1],
+      dz = p[2] - this.o[2],
+      r = this.r;
     return [r[0]! * dx + r[1]! * dy + r[2]! * dz, r[3]! * dx + r[4]! * dy + r[5]! * dz, r[6]! * dx + r[7]! * dy + r[8]! * dz];
   }
 }

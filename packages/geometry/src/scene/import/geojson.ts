@@ -66,7 +66,11 @@ const fmt = (v: unknown): string => JSON.stringify(v) ?? String(v);
 export function wallsFromGeoJson(input: string | Json, options: FootprintOptions, file = 'GeoJSON input'): Wall[] {
   let doc: Json = input;
   if (typeof input === 'string') {
-    try { doc = JSON.parse(input); } catch (e) { throw new ImportError(file, '', `is not JSON (${(e as Error).message}); a GeoJSON file (RFC 7946) was expected`); }
+    try {
+      doc = JSON.parse(input);
+    } catch (e) {
+      throw new ImportError(file, '', `is not JSON (${(e as Error).message}); a GeoJSON file (RFC 7946) was expected`);
+    }
   }
   const enu = new EnuFrame(options.origin);
   const hp = options.heightProperty ?? 'height';
@@ -83,21 +87,28 @@ export function wallsFromGeoJson(input: string | Json, options: FootprintOptions
   for (const { f, path } of features) {
     const at = (s: string): string => (path === '' ? s : `${path}.${s}`);
     const feat = f as { type?: unknown; properties?: Record<string, unknown> | null; geometry?: { type?: unknown; coordinates?: unknown } | null };
-    if (typeof feat !== 'object' || feat === null || feat.type !== 'Feature') throw new ImportError(file, path === '' ? 'type' : path, `must be a GeoJSON Feature, got ${fmt(feat?.type ?? feat)}`);
+    if (typeof feat !== 'object' || feat === null || feat.type !== 'Feature')
+      throw new ImportError(file, path === '' ? 'type' : path, `must be a GeoJSON Feature, got ${fmt(feat?.type ?? feat)}`);
     const props = feat.properties ?? {};
     let height = props[hp];
     if (height === undefined || height === null) {
-      if (options.defaultHeightM === undefined) throw new ImportError(file, at(`properties.${hp}`), 'is missing: every footprint needs a height in metres (or give defaultHeightM)');
+      if (options.defaultHeightM === undefined)
+        throw new ImportError(file, at(`properties.${hp}`), 'is missing: every footprint needs a height in metres (or give defaultHeightM)');
       height = options.defaultHeightM;
     }
-    if (typeof height !== 'number' || !Number.isFinite(height) || height <= 0) throw new ImportError(file, at(`properties.${hp}`), `must be a finite number of metres > 0, got ${fmt(height)}`);
+    if (typeof height !== 'number' || !Number.isFinite(height) || height <= 0)
+      throw new ImportError(file, at(`properties.${hp}`), `must be a finite number of metres > 0, got ${fmt(height)}`);
     let material: MaterialSpec | undefined = options.material;
     if (options.materialProperty !== undefined && props[options.materialProperty] !== undefined) {
       const v = props[options.materialProperty];
       if (typeof v !== 'string') throw new ImportError(file, at(`properties.${options.materialProperty}`), `must be a string naming a material, got ${fmt(v)}`);
       const mapped = options.materials?.[v];
       if (mapped === undefined && !(MATERIAL_NAMES as readonly string[]).includes(v)) {
-        throw new ImportError(file, at(`properties.${options.materialProperty}`), `${fmt(v)} is neither a key of the materials mapping nor one of ${MATERIAL_NAMES.join(', ')}`);
+        throw new ImportError(
+          file,
+          at(`properties.${options.materialProperty}`),
+          `${fmt(v)} is neither a key of the materials mapping nor one of ${MATERIAL_NAMES.join(', ')}`,
+        );
       }
       material = mapped ?? (v as MaterialSpec);
     }
@@ -111,32 +122,70 @@ export function wallsFromGeoJson(input: string | Json, options: FootprintOptions
     } else throw new ImportError(file, at('geometry.type'), `must be "Polygon" or "MultiPolygon" (a building footprint), got ${fmt(g.type)}`);
     for (const { rings, path: pp } of polygons) {
       if (!Array.isArray(rings) || rings.length === 0) throw new ImportError(file, pp, `must be an array of linear rings, got ${fmt(rings)}`);
-      if (rings.length > 1) throw new ImportError(file, `${pp}[1]`, 'is a hole (inner ring): footprints with holes are not supported (a roof with a hole is not one polygon); split the footprint');
+      if (rings.length > 1)
+        throw new ImportError(
+          file,
+          `${pp}[1]`,
+          'is a hole (inner ring): footprints with holes are not supported (a roof with a hole is not one polygon); split the footprint',
+        );
       const ring = rings[0] as unknown;
       const rp = `${pp}[0]`;
-      if (!Array.isArray(ring) || ring.length < 4) throw new ImportError(file, rp, `must be a closed linear ring of at least 4 positions (RFC 7946 section 3.1.6), got ${Array.isArray(ring) ? `${ring.length} positions` : fmt(ring)}`);
+      if (!Array.isArray(ring) || ring.length < 4)
+        throw new ImportError(
+          file,
+          rp,
+          `must be a closed linear ring of at least 4 positions (RFC 7946 section 3.1.6), got ${Array.isArray(ring) ? `${ring.length} positions` : fmt(ring)}`,
+        );
       const xy: [number, number][] = [];
       ring.forEach((pos: unknown, j: number) => {
         if (!Array.isArray(pos) || pos.length < 2 || pos.length > 3 || !pos.every((c) => typeof c === 'number' && Number.isFinite(c))) {
-          throw new ImportError(file, `${rp}[${j}]`, `must be a position [longitude, latitude] or [longitude, latitude, altitude] of finite numbers, got ${fmt(pos)}`);
+          throw new ImportError(
+            file,
+            `${rp}[${j}]`,
+            `must be a position [longitude, latitude] or [longitude, latitude, altitude] of finite numbers, got ${fmt(pos)}`,
+          );
         }
         const [lon, lat] = pos as [number, number];
-        if (Math.abs(lat) > 90 || Math.abs(lon) > 180) throw new ImportError(file, `${rp}[${j}]`, `must have longitude within [-180, 180] and latitude within [-90, 90] degrees, got ${fmt(pos)}`);
+        if (Math.abs(lat) > 90 || Math.abs(lon) > 180)
+          throw new ImportError(file, `${rp}[${j}]`, `must have longitude within [-180, 180] and latitude within [-90, 90] degrees, got ${fmt(pos)}`);
         const e = enu.fromGeodetic(lat, lon, 0);
         xy.push([e[0], e[1]]);
       });
-      const first = ring[0] as number[], last = ring[ring.length - 1] as number[];
-      if (first[0] !== last[0] || first[1] !== last[1]) throw new ImportError(file, rp, `the ring is not closed: first position ${fmt(first)} differs from the last ${fmt(last)} (RFC 7946 section 3.1.6)`);
+      const first = ring[0] as number[],
+        last = ring[ring.length - 1] as number[];
+      if (first[0] !== last[0] || first[1] !== last[1])
+        throw new ImportError(file, rp, `the ring is not closed: first position ${fmt(first)} differs from the last ${fmt(last)} (RFC 7946 section 3.1.6)`);
       xy.pop();
       // drop repeated consecutive positions (a zero-length edge has no facade)
-      const pts = xy.filter((p, j) => { const q = xy[(j + xy.length - 1) % xy.length]!; return Math.hypot(p[0] - q[0], p[1] - q[1]) > 1e-6; });
+      const pts = xy.filter((p, j) => {
+        const q = xy[(j + xy.length - 1) % xy.length]!;
+        return Math.hypot(p[0] - q[0], p[1] - q[1]) > 1e-6;
+      });
       let area = 0;
-      for (let j = 0; j < pts.length; j++) { const p = pts[j]!, q = pts[(j + 1) % pts.length]!; area += p[0] * q[1] - q[0] * p[1]; }
-      if (pts.length < 3 || !(Math.abs(area) / 2 > 1e-6)) throw new ImportError(file, rp, `the ring encloses no area (${pts.length} distinct positions, area ${(Math.abs(area) / 2).toPrecision(3)} m^2): a footprint needs a polygon of non-zero area`);
+      for (let j = 0; j < pts.length; j++) {
+        const p = pts[j]!,
+          q = pts[(j + 1) % pts.length]!;
+        area += p[0] * q[1] - q[0] * p[1];
+      }
+      if (pts.length < 3 || !(Math.abs(area) / 2 > 1e-6))
+        throw new ImportError(
+          file,
+          rp,
+          `the ring encloses no area (${pts.length} distinct positions, area ${(Math.abs(area) / 2).toPrecision(3)} m^2): a footprint needs a polygon of non-zero area`,
+        );
       const mat = material === undefined ? {} : { material };
       for (let j = 0; j < pts.length; j++) {
-        const p = pts[j]!, q = pts[(j + 1) % pts.length]!;
-        walls.push({ vertices: [[p[0], p[1], 0], [q[0], q[1], 0], [q[0], q[1], height], [p[0], p[1], height]], ...mat });
+        const p = pts[j]!,
+          q = pts[(j + 1) % pts.length]!;
+        walls.push({
+          vertices: [
+            [p[0], p[1], 0],
+            [q[0], q[1], 0],
+            [q[0], q[1], height],
+            [p[0], p[1], height],
+          ],
+          ...mat,
+        });
       }
       if (options.roofs ?? true) walls.push({ vertices: pts.map((p) => [p[0], p[1], height as number]), ...mat });
     }

@@ -76,27 +76,42 @@ export function wallsFromMesh(mesh: TriangleMesh, options: MeshOptions = {}, fil
   const up = options.upAxis ?? 'z';
   if (up !== 'y' && up !== 'z') throw new RangeError(`wallsFromMesh(): upAxis must be "y" or "z", got ${JSON.stringify(up)}`);
   const off = options.offsetM ?? [0, 0, 0];
-  const P = mesh.positions, nv = Math.floor(P.length / 3);
+  const P = mesh.positions,
+    nv = Math.floor(P.length / 3);
   if (P.length % 3 !== 0) throw new ImportError(file, 'positions', `must hold 3 coordinates per vertex, got ${P.length} numbers`);
-  for (let i = 0; i < P.length; i++) if (!Number.isFinite(P[i])) throw new ImportError(file, `vertex ${Math.floor(i / 3)}`, `has a coordinate that is not a finite number (${P[i]})`);
+  for (let i = 0; i < P.length; i++)
+    if (!Number.isFinite(P[i])) throw new ImportError(file, `vertex ${Math.floor(i / 3)}`, `has a coordinate that is not a finite number (${P[i]})`);
   const I = mesh.indices;
   const nt = I === undefined ? Math.floor(nv / 3) : Math.floor(I.length / 3);
   if (I !== undefined && I.length % 3 !== 0) throw new ImportError(file, 'indices', `must hold 3 indices per triangle, got ${I.length}`);
   const groupOf = new Array<string | undefined>(nt).fill(undefined);
   for (const g of mesh.groups ?? []) for (let t = g.firstTriangle; t < g.firstTriangle + g.triangles && t < nt; t++) groupOf[t] = g.name;
   const point = (v: number): [number, number, number] => {
-    const x = P[3 * v]! * scale, y = P[3 * v + 1]! * scale, z = P[3 * v + 2]! * scale;
+    const x = P[3 * v]! * scale,
+      y = P[3 * v + 1]! * scale,
+      z = P[3 * v + 2]! * scale;
     return up === 'z' ? [x + off[0], y + off[1], z + off[2]] : [x + off[0], -z + off[1], y + off[2]];
   };
   const walls: Wall[] = [];
   for (let t = 0; t < nt; t++) {
     const ids = [0, 1, 2].map((k) => (I === undefined ? 3 * t + k : I[3 * t + k]!));
-    for (const v of ids) if (!(Number.isInteger(v) && v >= 0 && v < nv)) throw new ImportError(file, `triangle ${t}`, `refers to vertex ${v}, outside 0..${nv - 1}`);
+    for (const v of ids)
+      if (!(Number.isInteger(v) && v >= 0 && v < nv)) throw new ImportError(file, `triangle ${t}`, `refers to vertex ${v}, outside 0..${nv - 1}`);
     const [a, b, c] = ids.map(point) as [[number, number, number], [number, number, number], [number, number, number]];
-    const ux = b[0] - a[0], uy = b[1] - a[1], uz = b[2] - a[2], vx = c[0] - a[0], vy = c[1] - a[1], vz = c[2] - a[2];
+    const ux = b[0] - a[0],
+      uy = b[1] - a[1],
+      uz = b[2] - a[2],
+      vx = c[0] - a[0],
+      vy = c[1] - a[1],
+      vz = c[2] - a[2];
     const area2 = Math.hypot(uy * vz - uz * vy, uz * vx - ux * vz, ux * vy - uy * vx);
     const ext = Math.max(Math.hypot(ux, uy, uz), Math.hypot(vx, vy, vz));
-    if (!(area2 > 1e-12 * Math.max(1, ext * ext))) throw new ImportError(file, `triangle ${t}`, `is degenerate (vertices ${ids.join(', ')} collinear or coinciding, area ${(area2 / 2).toPrecision(3)} m^2): remove it from the mesh`);
+    if (!(area2 > 1e-12 * Math.max(1, ext * ext)))
+      throw new ImportError(
+        file,
+        `triangle ${t}`,
+        `is degenerate (vertices ${ids.join(', ')} collinear or coinciding, area ${(area2 / 2).toPrecision(3)} m^2): remove it from the mesh`,
+      );
     const g = groupOf[t];
     const material = (g !== undefined ? options.materials?.[g] : undefined) ?? options.material;
     walls.push(material === undefined ? { vertices: [a, b, c] } : { vertices: [a, b, c], material });

@@ -14,9 +14,11 @@ import type { MeshGroup, TriangleMesh } from './mesh.js';
  * @example readObj('v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nusemtl glass\nf 1 2 3 4\n').indices // [0, 1, 2, 0, 2, 3]: the quadrilateral as two triangles
  */
 export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indices: number[]; groups: MeshGroup[] } {
-  const positions: number[] = [], indices: number[] = [];
+  const positions: number[] = [],
+    indices: number[] = [];
   const groups: MeshGroup[] = [];
-  let group = 'default', material: string | undefined;
+  let group = 'default',
+    material: string | undefined;
   const lines = text.split(/\r?\n/);
   const setGroup = (name: string): void => {
     const last = groups[groups.length - 1];
@@ -48,7 +50,8 @@ export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indi
         const ids = parts.slice(1).map((p) => {
           const n = Number(p.split('/')[0]);
           const v = n < 0 ? nv + n : n - 1;
-          if (!Number.isInteger(n) || n === 0 || v < 0 || v >= nv) throw new ImportError(file, at, `face vertex ${JSON.stringify(p)} refers to no vertex read so far (1..${nv} or -1..-${nv})`);
+          if (!Number.isInteger(n) || n === 0 || v < 0 || v >= nv)
+            throw new ImportError(file, at, `face vertex ${JSON.stringify(p)} refers to no vertex read so far (1..${nv} or -1..-${nv})`);
           return v;
         });
         for (let k = 1; k + 1 < ids.length; k++) indices.push(ids[0]!, ids[k]!, ids[k + 1]!);
@@ -56,7 +59,8 @@ export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indi
         faces++;
         break;
       }
-      case 'g': case 'o':
+      case 'g':
+      case 'o':
         group = parts.slice(1).join(' ') || 'default';
         if (material === undefined) setGroup(group);
         break;
@@ -65,7 +69,8 @@ export function readObj(text: string, file = 'OBJ input'): TriangleMesh & { indi
         setGroup(material ?? group);
         break;
       default:
-        if (!/^[a-z_]+$/i.test(parts[0]!)) throw new ImportError(file, at, `is not an OBJ statement (${JSON.stringify(line.slice(0, 40))}): is this an OBJ file?`);
+        if (!/^[a-z_]+$/i.test(parts[0]!))
+          throw new ImportError(file, at, `is not an OBJ statement (${JSON.stringify(line.slice(0, 40))}): is this an OBJ file?`);
     }
   }
   if (positions.length === 0 || faces === 0) throw new ImportError(file, '', 'has no vertex ("v") or no face ("f") statement: not a Wavefront OBJ mesh');

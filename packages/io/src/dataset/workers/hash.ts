@@ -49,7 +49,8 @@ export class HashThread {
 
   /** Hash `bytes` (a view of a SharedArrayBuffer) after the ranges sent before; resolves once done, when the bytes may change again. */
   update(bytes: ArrayBufferView): Promise<void> {
-    if (!(bytes.buffer instanceof SharedArrayBuffer)) throw new TypeError(`HashThread.update(): bytes must be a view of a SharedArrayBuffer, got a view of ${bytes.buffer.constructor.name}`);
+    if (!(bytes.buffer instanceof SharedArrayBuffer))
+      throw new TypeError(`HashThread.update(): bytes must be a view of a SharedArrayBuffer, got a view of ${bytes.buffer.constructor.name}`);
     const message: HashRequest = { kind: 'update', buffer: bytes.buffer, byteOffset: bytes.byteOffset, byteLength: bytes.byteLength };
     return this.ask(message).then(() => undefined);
   }
