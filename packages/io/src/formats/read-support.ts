@@ -114,12 +114,12 @@ export async function readSmallFile(path: string, what: string): Promise<string>
  * @example printable('a\u001b[2Jb') // "a\\u001b[2Jb"
  */
 export function printable(text: string): string {
-  // eslint-disable-next-line no-control-regex -- matching control characters is the point: they are escaped
-  return text.replace(
-    /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g,
-    (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`,
-  );
+  return text.replace(UNPRINTABLE, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
 }
+
+// C0 but newline and tab, DEL, C1, and the bidirectional marks and overrides.
+// eslint-disable-next-line no-control-regex -- matching control characters is the point: they are escaped
+const UNPRINTABLE = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200e\u200f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g;
 
 /**
  * One array as listed by a reader.
