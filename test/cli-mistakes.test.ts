@@ -142,7 +142,12 @@ describe('the command line', () => {
     expect(g.stderr).toBe('');
     expect(existsSync(out)).toBe(true);
     const parts = [0, 1].map((i) => join(dir, `quiet-part-${i}.npy`));
-    for (const [i, p] of parts.entries()) expect(runCli(['generate', f, '--out', p, '--shard', `${i}/2`, '--quiet']).stdout).toBe('');
+    for (const i of [0, 1]) {
+      // --out names each part by {index} (without it every task would write the same file)
+      const part = runCli(['generate', f, '--out', join(dir, 'quiet-part-{index}.npy'), '--shard', `${i}/2`, '--quiet']);
+      expect(part.status, part.stderr).toBe(0);
+      expect(part.stdout).toBe('');
+    }
     const m = runCli(['merge', ...parts, '--out', join(dir, 'quiet-merged.npy'), '--quiet']);
     expect(m.status, m.stderr).toBe(0);
     expect(m.stdout).toBe('');
