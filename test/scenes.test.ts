@@ -24,7 +24,7 @@ describe('demo scenarios of examples/', () => {
     const r = runCli(['generate', file, '--out', join(dir, 'out.npy'), '--quiet']);
     expect(r.status, r.stderr).toBe(0);
     const H = decodeNpy(readFileSync(join(dir, 'out.npy')));
-    expect(H.shape[0]).toBe(40);
+    expect(H.shape[0]).toBe(s.timing.subframes);
     let power = 0;
     for (const v of H.data as Float32Array) power += v * v;
     expect(power).toBeGreaterThan(0);
