@@ -377,7 +377,11 @@ function selectNth(order: Int32Array, centre: Float64Array, axis: number, start:
   }
 }
 
-/** Slab test of the closed segment a + t d, t in [0, 1], against box at offset o widened by pad. */
+/**
+ * Slab test of the closed segment a + t d, t in [0, 1], against box at offset o widened by pad.
+ * The three axes are written out: a per-axis helper would have to hand back two numbers (the
+ * clipped t0, t1) per call in the hottest loop of the tracer.
+ */
 function segmentTouchesBox(b: Float64Array, o: number, ax: number, ay: number, az: number, dx: number, dy: number, dz: number, pad: number): boolean {
   let t0 = 0,
     t1 = 1;
