@@ -27,6 +27,8 @@ export class Occlusion {
   private readonly pairs: Uint8Array | undefined;
   private readonly found: Int32Array;
   private readonly box = new Float64Array(24);
+  /** Scratch: [x0, y0, z0, x1, y1, z1] of the points around A and B. */
+  private readonly extent = new Float64Array(6);
   private readonly point = new Float64Array(3);
   /** Margin of every side and inside test, metres (100 times the scene's box padding). */
   readonly margin: number;
@@ -98,34 +100,17 @@ export class Occlusion {
       bs = ps.vertexStart[b]!,
       be = ps.vertexStart[b + 1]!;
     // candidate occluders: walls whose boxes meet the box around A and B
-    let x0 = Infinity,
-      y0 = Infinity,
-      z0 = Infinity,
-      x1 = -Infinity,
-      y1 = -Infinity,
-      z1 = -Infinity;
-    for (let i = aStart; i < aStart + aCount; i++) {
-      const x = pts[3 * i]!,
-        y = pts[3 * i + 1]!,
-        z = pts[3 * i + 2]!;
-      if (x < x0) x0 = x;
-      if (x > x1) x1 = x;
-      if (y < y0) y0 = y;
-      if (y > y1) y1 = y;
-      if (z < z0) z0 = z;
-      if (z > z1) z1 = z;
-    }
-    for (let i = bs; i < be; i++) {
-      const x = V[3 * i]!,
-        y = V[3 * i + 1]!,
-        z = V[3 * i + 2]!;
-      if (x < x0) x0 = x;
-      if (x > x1) x1 = x;
-      if (y < y0) y0 = y;
-      if (y > y1) y1 = y;
-      if (z < z0) z0 = z;
-      if (z > z1) z1 = z;
-    }
+    const ext = this.extent;
+    ext.fill(Infinity, 0, 3);
+    ext.fill(-Infinity, 3, 6);
+    extendExtent(ext, pts, aStart, aStart + aCount);
+    extendExtent(ext, V, bs, be);
+    const x0 = ext[0]!,
+      y0 = ext[1]!,
+      z0 = ext[2]!,
+      x1 = ext[3]!,
+      y1 = ext[4]!,
+      z1 = ext[5]!;
     const bx = this.box;
     bx[0] = 1;
     bx[1] = 0;
@@ -216,5 +201,16 @@ export class Occlusion {
       }
     }
     return true;
+  }
+}
+
+/** Grow the extent [x0, y0, z0, x1, y1, z1] by points [from, to) of an xyz array. */
+function extendExtent(ext: Float64Array, xyz: Float64Array, from: number, to: number): void {
+  for (let i = from; i < to; i++) {
+    for (let k = 0; k < 3; k++) {
+      const v = xyz[3 * i + k]!;
+      if (v < ext[k]!) ext[k] = v;
+      if (v > ext[k + 3]!) ext[k + 3] = v;
+    }
   }
 }
