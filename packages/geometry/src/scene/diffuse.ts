@@ -497,7 +497,10 @@ export function diffuseProblems(scene: Scene, sp: string, is2D: boolean): SceneP
       tiles += Math.ceil(ext / d.tileM) ** 2;
     }
     if (tiles > MAX_DIFFUSE_TILES)
-      err(`${dp}.tileM`, `cuts the walls into up to ${tiles} tiles, more than ${MAX_DIFFUSE_TILES}; give a larger tileM (${fmt(d.tileM)} m now)`);
+      err(
+        `${dp}.tileM`,
+        `cuts the walls into about ${tiles} tiles (estimated from each wall's extent), more than ${MAX_DIFFUSE_TILES}; give a larger tileM (${fmt(d.tileM)} m now)`,
+      );
   }
   return out;
 }
