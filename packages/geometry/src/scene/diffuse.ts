@@ -78,7 +78,7 @@ export const MAX_DIFFUSE_TILES = 200_000;
  * of the wall, psi_R measured from the specular direction at incidence theta_i; the closed form of
  * Degli-Esposti et al. 2007: F = 2^-alphaR sum_j C(alphaR, j) I_j, I_j = 2 pi / (j + 1) for even j,
  * I_j = 2 pi / (j + 1) cos(theta_i) sum_{w=0}^{(j-1)/2} C(2w, w) sin^{2w}(theta_i) / 2^{2w} for odd j.
- * @example [directiveNormalization(1, 1), directiveNormalization(4, 0.5)] // [4.712389, 2.434734]: 3 pi / 2 at normal incidence for alphaR = 1
+ * @example [directiveNormalization(1, 1), directiveNormalization(4, 1)] // [4.712389, 2.434734]: at normal incidence; 3 pi / 2 for alphaR = 1
  */
 export function directiveNormalization(alphaR: number, cosThetaI: number): number {
   const sin2 = Math.max(0, 1 - cosThetaI * cosThetaI);
@@ -379,7 +379,9 @@ export function rotateField(e: Float64Array, from: Readonly<Vec3>, to: Readonly<
  * wall by the tile factor over r_i r_s; calls `emit(wall, tile, centroid)`.
  * @example
  * const ps = prepareScene({ walls: [{ vertices: [[-2, 5, 0], [2, 5, 0], [2, 5, 2], [-2, 5, 2]] }], diffuse: { tileM: 1, maxPathsPerWall: 3 } });
- * let n = 0; traceDiffuse(ps, [-1, 0, 1], [1, 0, 1], () => n++); n // 3
+ * let n = 0;
+ * traceDiffuse(ps, [-1, 0, 1], [1, 0, 1], () => n++);
+ * n // 3
  */
 export function traceDiffuse(ps: PreparedScene, tx: Readonly<Vec3>, rx: Readonly<Vec3>, emit: (wall: number, tile: number, point: Vec3) => void): void {
   const t = sceneDiffuseTiles(ps);
@@ -486,23 +488,63 @@ export function diffuseProblems(scene: Scene, sp: string, is2D: boolean): SceneP
     return out;
   }
   if (tileOk) {
-    // tile count from each wall's bounding rectangle (its vertices' extent along two in-plane axes), before preparing the scene
     let tiles = 0;
-    for (const w of walls) {
-      const vs = (w as Wall | undefined)?.vertices;
-      if (!Array.isArray(vs) || vs.length < 3) continue;
-      let ext = 0;
-      for (const p of vs)
-        if (Array.isArray(p)) ext = Math.max(ext, Math.hypot((p[0] ?? 0) - (vs[0]![0] ?? 0), (p[1] ?? 0) - (vs[0]![1] ?? 0), (p[2] ?? 0) - (vs[0]![2] ?? 0)));
-      tiles += Math.ceil(ext / d.tileM) ** 2;
-    }
+    for (const w of walls) if (typeof w === 'object' && w !== null && wallCoefficient(w, d) > 0) tiles += gridCells(w.vertices, d.tileM);
     if (tiles > MAX_DIFFUSE_TILES)
-      err(
-        `${dp}.tileM`,
-        `cuts the walls into about ${tiles} tiles (estimated from each wall's extent), more than ${MAX_DIFFUSE_TILES}; give a larger tileM (${fmt(d.tileM)} m now)`,
-      );
+      err(`${dp}.tileM`, `cuts the walls into ${tiles} tiles, more than ${MAX_DIFFUSE_TILES}; give a larger tileM (${fmt(d.tileM)} m now)`);
   }
   return out;
+}
+
+/** Cells of the tile grid of a wall (the frame of sceneDiffuseTiles: u along the first edge, v = n x u), from its raw vertices; 0 when they are not a valid 3-D polygon. */
+function gridCells(vs: unknown, tileM: number): number {
+  if (!Array.isArray(vs) || vs.length < 3) return 0;
+  const p = vs as number[][];
+  if (!p.every((q) => Array.isArray(q) && q.length === 3 && q.every((x) => Number.isFinite(x)))) return 0;
+  // Newell's normal
+  let nx = 0,
+    ny = 0,
+    nz = 0;
+  for (let i = 0; i < p.length; i++) {
+    const a = p[i]!,
+      b = p[(i + 1) % p.length]!;
+    nx += (a[1]! - b[1]!) * (a[2]! + b[2]!);
+    ny += (a[2]! - b[2]!) * (a[0]! + b[0]!);
+    nz += (a[0]! - b[0]!) * (a[1]! + b[1]!);
+  }
+  const nl = Math.hypot(nx, ny, nz);
+  if (!(nl > 0)) return 0;
+  nx /= nl;
+  ny /= nl;
+  nz /= nl;
+  let ux = p[1]![0]! - p[0]![0]!,
+    uy = p[1]![1]! - p[0]![1]!,
+    uz = p[1]![2]! - p[0]![2]!;
+  const un = ux * nx + uy * ny + uz * nz;
+  ux -= un * nx;
+  uy -= un * ny;
+  uz -= un * nz;
+  const ul = Math.hypot(ux, uy, uz);
+  if (!(ul > 0)) return 0;
+  ux /= ul;
+  uy /= ul;
+  uz /= ul;
+  const wx = ny * uz - nz * uy,
+    wy = nz * ux - nx * uz,
+    wz = nx * uy - ny * ux;
+  let u0 = Infinity,
+    u1 = -Infinity,
+    v0 = Infinity,
+    v1 = -Infinity;
+  for (const q of p) {
+    const u = q[0]! * ux + q[1]! * uy + q[2]! * uz,
+      v = q[0]! * wx + q[1]! * wy + q[2]! * wz;
+    u0 = Math.min(u0, u);
+    u1 = Math.max(u1, u);
+    v0 = Math.min(v0, v);
+    v1 = Math.max(v1, v);
+  }
+  return Math.max(1, Math.ceil((u1 - u0) / tileM - 1e-9)) * Math.max(1, Math.ceil((v1 - v0) / tileM - 1e-9));
 }
 
 const fmt = (v: unknown): string => (typeof v === 'number' ? String(v) : (JSON.stringify(v) ?? String(v)));
