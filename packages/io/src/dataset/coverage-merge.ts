@@ -87,7 +87,12 @@ export async function coverageManifestOf(
 
 /**
  * Write a coverage part's manifest atomically beside it; returns the manifest's path.
- * @example await writeCoverageManifest('part.npz', manifest) // "part.npz.manifest.json"
+ * @example
+ * const grid = coverageGridOf({ origin: [0, 0, 1.5], columns: 3, rows: 2, stepM: 1 });
+ * const facts = { scenarioText: JSON.stringify(scenario), grid, rowsTotal: 2 };
+ * const maps = emptyCoverageMaps([0, 1], 3);
+ * await writeCoverage('part.npz', 'npz', maps, facts);
+ * await writeCoverageManifest('part.npz', await coverageManifestOf('part.npz', { index: 0, count: 2 }, 'npz', maps, facts)) // "part.npz.manifest.json"
  */
 export async function writeCoverageManifest(partFile: string, manifest: CoverageManifest): Promise<string> {
   const path = manifestPathOf(partFile);

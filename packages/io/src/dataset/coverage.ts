@@ -253,7 +253,7 @@ export interface CoverageOptions {
 /**
  * Refuse a scenario and grid a coverage map cannot be made of (ScenarioError, dotted paths):
  * explicit paths instead of a scene, or grid points off the plane z = 0 of a 2-D scene.
- * @example checkCoverage({ ...scenario, scene: undefined, paths: [] }, grid) // throws ScenarioError "scenario: 1 problem\npaths: a coverage map traces a scene; this scenario gives explicit paths"
+ * @example checkCoverage({ ...scenario, scene: undefined }, coverageGridOf({ origin: [0, 0], columns: 2, rows: 2, stepM: 1 })) // throws ScenarioError "scenario: 1 problem\npaths: a coverage map traces a scene; this scenario gives explicit paths"
  */
 export function checkCoverage(scenario: Scenario, grid: CoverageGrid): void {
   if (scenario.scene === undefined) throw new ScenarioError([{ path: 'paths', message: 'a coverage map traces a scene; this scenario gives explicit paths' }]);
