@@ -11,7 +11,7 @@ async function run(argv: string[], io: Io): Promise<number> {
   const kind = args.values.kind;
   if (kind === undefined) throw new UsageError(`plot: --kind is required; kinds are ${PLOT_KINDS.join(', ')}, coverage`);
   if (!(PLOT_KINDS as readonly string[]).includes(kind) && kind !== 'coverage')
-    throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, coverage; got ${JSON.stringify(kind)}`);
+    throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, coverage, got ${JSON.stringify(kind)}`);
   const out = args.values.out;
   if (out === undefined) throw new UsageError('plot: --out <file.svg> is required');
   if (!/\.svg$/i.test(out)) throw new UsageError(`plot: --out must name an .svg file, got ${JSON.stringify(out)}`);
