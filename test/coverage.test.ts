@@ -244,7 +244,7 @@ print(json.dumps({'valid': pick(z['valid']), 'gain': [None if np.isnan(g[1, 4]) 
       expect(ref.count[1]).toBeGreaterThan(1);
     });
 
-    it('sharded over grid rows and merged equals the unsharded run byte for byte (.npz, .npy)', () => {
+    it('sharded over grid rows and merged equals the unsharded run byte for byte (.npz, .npy), and so do worker threads', () => {
       for (const format of ['npz', 'npy'] as const) {
         const whole = join(dir, `whole.${format}`);
         expect(runCli(['coverage', room_, '--out', whole, '--quiet']).status).toBe(0);
@@ -266,6 +266,11 @@ print(json.dumps({'valid': pick(z['valid']), 'gain': [None if np.isnan(g[1, 4]) 
         expect(readFileSync(merged).equals(readFileSync(whole))).toBe(true);
         if (format === 'npy') expect(readFileSync(`${merged}.json`).equals(readFileSync(`${whole}.json`))).toBe(true);
       }
+      // Worker threads trace the rows in batches: the same bytes as one thread.
+      const threaded = join(dir, 'threaded.npz');
+      const r = runCli(['coverage', room_, '--out', threaded, '--workers', '2', '--quiet']);
+      expect(r.status, r.stderr).toBe(0);
+      expect(readFileSync(threaded).equals(readFileSync(join(dir, 'whole.npz')))).toBe(true);
     });
 
     it.runIf(hasPython('numpy', 'h5py'))('h5py reads the maps, units and attributes; merged .h5 parts equal the unsharded .npz', () => {

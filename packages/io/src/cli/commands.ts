@@ -29,6 +29,7 @@ const DETAILS: Record<string, string> = {
   --step M            spacing of the points along both axes, metres (replaces coverage.stepM, uStepM and vStepM)
   --columns N         points along the grid's u axis (replaces coverage.columns)
   --rows N            points along the grid's v axis (replaces coverage.rows)
+  --workers N         worker threads tracing the rows (1 to 256, default 1); the bytes are the same for any N
   --plot FILE.svg     also draw the path-gain map (not with --shard)
   --quiet             print nothing on stdout and no progress; errors and warnings still go to stderr`,
   validate: `Check a scenario file: every problem with its dotted path (exit 2), or a summary (exit 0).

@@ -6,7 +6,7 @@
  * is computed: an interrupted run leaves no file.
  */
 import { unlink } from 'node:fs/promises';
-import { computeCoverage, coverageGridOf, writeCoverage, type CoverageFacts } from '../dataset/coverage.js';
+import { computeCoverage, computeCoverageInWorkers, coverageGridOf, writeCoverage, type CoverageFacts } from '../dataset/coverage.js';
 import { coverageManifestOf, writeCoverageManifest } from '../dataset/coverage-merge.js';
 import { formatBytes } from '../dataset/generate.js';
 import { manifestPathOf, partPath } from '../dataset/manifest.js';
@@ -72,6 +72,7 @@ async function run(argv: string[], io: Io): Promise<number> {
     columns: 'value',
     rows: 'value',
     plot: 'value',
+    workers: 'value',
     quiet: 'flag',
     overwrite: 'flag',
   });
@@ -111,10 +112,14 @@ async function run(argv: string[], io: Io): Promise<number> {
     // Never leave a manifest beside a file it does not describe.
     await unlink(manifestPathOf(target)).catch(() => undefined);
   }
+  const workers = args.values.workers === undefined ? 1 : parseInteger('--workers', args.values.workers, 1, 256);
   const quiet = args.flags.has('quiet');
   const started = process.hrtime.bigint();
   const progress = new Progress(`coverage ${printable(target)}`, range[1] - range[0], process.stderr, quiet, 'rows');
-  const maps = computeCoverage(scenario, grid, range, { onProgress: (n) => progress.update(n) });
+  const onProgress = (n: number): void => progress.update(n);
+  // One thread by default; with --workers N the rows are traced in N worker threads (the same bytes).
+  const maps =
+    workers === 1 ? computeCoverage(scenario, grid, range, { onProgress }) : await computeCoverageInWorkers(scenario, grid, range, workers, { onProgress });
   const facts: CoverageFacts = { scenarioText: text, grid, rowsTotal: grid.rows };
   const fileBytes = await writeCoverage(target, format, maps, facts);
   const seconds = Number(process.hrtime.bigint() - started) / 1e9;
@@ -139,6 +144,6 @@ async function run(argv: string[], io: Io): Promise<number> {
 /** The coverage command. */
 export const coverageCommand: Command = {
   usage: `pathweave coverage <scenario.json> --out <file> [--format npy|npz|h5] [--shard I/N|auto|auto/N]
-                   [--origin X,Y,Z] [--step M] [--columns N] [--rows N] [--plot FILE.svg] [--quiet] [--overwrite]`,
+                   [--origin X,Y,Z] [--step M] [--columns N] [--rows N] [--workers N] [--plot FILE.svg] [--quiet] [--overwrite]`,
   run,
 };

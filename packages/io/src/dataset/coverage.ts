@@ -20,6 +20,7 @@
  * A point is invalid (valid = 0, the maps NaN, pathCount 0, strongestKind -1) when the receiver
  * cannot stand there (inside a blocker, on a scatterer or on the transmitter) or no path reaches it.
  */
+import { Worker } from 'node:worker_threads';
 import { prepareScene, rotationFromOrientation, traceScene, type TerminalState, type Vec3 } from '@pathweave/geometry';
 import { commitWithSideFile, writeFileAtomic } from '../formats/atomic.js';
 import { openSink, type OutputFormat } from '../formats/index.js';
@@ -322,6 +323,71 @@ export function computeCoverage(scenario: Scenario, grid: CoverageGrid, rowRange
       maps.strongestKind[i] = m.strongestKind;
     }
     options.onProgress?.(r - a + 1);
+  }
+  return maps;
+}
+
+/**
+ * Where the compiled coverage worker lives (dist/dataset/workers/coverage-worker.js), reached the
+ * same way from src/ (tests run the sources) and from dist/.
+ * @example COVERAGE_WORKER_URL.pathname.endsWith('/dist/dataset/workers/coverage-worker.js') // true
+ */
+export const COVERAGE_WORKER_URL: URL = new URL('../../dist/dataset/workers/coverage-worker.js', import.meta.url);
+
+/**
+ * computeCoverage spread over `workers` worker threads, a few grid rows at a time; the maps are
+ * the same bytes as computeCoverage's in one thread (each point is traced on its own).
+ * `onProgress` is called as each batch of rows comes back.
+ * @example
+ * const { paths, ...traced } = scenario; // the transmitter at [0, 0, 10], 28 GHz
+ * const grid = coverageGridOf({ origin: [5, 0, 10], columns: 2, rows: 4, stepM: 5 });
+ * const maps = await computeCoverageInWorkers({ ...traced, scene: {} }, grid, [0, 4], 2);
+ * Math.round(maps.pathGainDb[1]! * 100) / 100 // -81.39: free space at 10 m (ITU-R P.525)
+ */
+export async function computeCoverageInWorkers(
+  scenario: Scenario,
+  grid: CoverageGrid,
+  rowRange: [number, number],
+  workers: number,
+  options: CoverageOptions = {},
+): Promise<CoverageMaps> {
+  const [a, b] = rowRange;
+  if (!(Number.isSafeInteger(workers) && workers >= 1)) throw new RangeError(`computeCoverageInWorkers(): workers must be an integer >= 1, got ${workers}`);
+  checkCoverage(scenario, grid);
+  const maps = emptyCoverageMaps(rowRange, grid.columns);
+  // Batches small enough to balance threads over rows of unequal cost (open streets, courtyards).
+  const batch = Math.max(1, Math.ceil((b - a) / (4 * workers)));
+  const batches: [number, number][] = [];
+  for (let r = a; r < b; r += batch) batches.push([r, Math.min(b, r + batch)]);
+  const pool = Array.from({ length: Math.min(workers, batches.length) }, () => new Worker(COVERAGE_WORKER_URL, { workerData: { scenario, grid } }));
+  let done = 0;
+  try {
+    await Promise.all(
+      pool.map(
+        (w) =>
+          new Promise<void>((resolve, reject) => {
+            const next = (): void => {
+              if (options.signal?.aborted) return reject(options.signal.reason ?? new Error('aborted'));
+              const job = batches.shift();
+              if (job === undefined) return resolve();
+              w.postMessage({ first: job[0], end: job[1] });
+            };
+            w.on('message', (m: { first: number; maps?: CoverageMaps; error?: string }) => {
+              if (m.error !== undefined || m.maps === undefined) return reject(new Error(`coverage worker: ${m.error ?? 'no maps'}`));
+              const offset = (m.first - a) * grid.columns;
+              for (const arr of COVERAGE_ARRAYS)
+                (maps[arr.name] as Float64Array).set(m.maps[arr.name] as Float64Array, arr.name === 'pointsM' ? 3 * offset : offset);
+              done += m.maps.rowRange[1] - m.maps.rowRange[0];
+              options.onProgress?.(done);
+              next();
+            });
+            w.on('error', reject);
+            next();
+          }),
+      ),
+    );
+  } finally {
+    await Promise.all(pool.map((w) => w.terminate()));
   }
   return maps;
 }
