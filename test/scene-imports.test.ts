@@ -9,7 +9,7 @@
 import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { wallsFromGeoJson, wallsFromMesh, readObj, traceScene } from '@pathweave/geometry';
+import { wallsFromGeoJson, wallsFromMesh, readObj, readPly, traceScene } from '@pathweave/geometry';
 import { expandSceneImports, loadScenario, parseScenarioText, sceneOf } from '@pathweave/io';
 import { ROOT, runCli, tempDir, writeScenario } from './support/run.js';
 
@@ -43,6 +43,28 @@ describe('scene.imports', () => {
       b = traceScene(sceneOf(typed), tx, rx, 28e9).paths;
     expect(a.length).toBeGreaterThan(3);
     expect(a).toEqual(b);
+  });
+
+  it('the bus-shelter demo imports its PLY shelter in centimetres, a material per face, after the typed walls', async () => {
+    const { scenario } = await loadScenario(join(ROOT, 'examples', 'bus-shelter-28ghz.json'));
+    const walls = scenario.scene!.walls!;
+    expect(walls).toHaveLength(2 + 8); // pavement and facade, then 4 quadrilaterals as triangles
+    const shelter = wallsFromMesh(
+      readPly(readFileSync(join(ROOT, 'examples', 'scenes', 'shelter.ply')), 'shelter.ply', { materialProperty: 'material_index' }),
+      {
+        unit: 'cm',
+        offsetM: [10, 0, 0],
+        materials: { '0': 'metal', '1': 'glass' },
+      },
+    );
+    expect(walls.slice(2)).toEqual(shelter);
+    expect(shelter.map((w) => w.material)).toEqual(['glass', 'glass', 'glass', 'glass', 'glass', 'glass', 'metal', 'metal']);
+    // the back pane's first triangle: file corners (0, 150, 0), (400, 150, 0), (400, 150, 250) cm, moved 10 m along x
+    expect(shelter[0]!.vertices).toEqual([
+      [10, 1.5, 0],
+      [14, 1.5, 0],
+      [14, 1.5, 2.5],
+    ]);
   });
 
   it('a scenario parsed from text is expanded against a stated folder, and refused by sceneOf before', async () => {

@@ -196,7 +196,7 @@ export const pathSchema: z.ZodType<z.output<typeof pathDefinition>, z.input<type
 
 const materialSchema = z.union([z.string().min(1), z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative })]);
 
-// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+// Imported surfaces (docs/conventions.md, "Imported surfaces"): a file path relative to the scenario file.
 const sceneImportSchema = z.union([
   z.strictObject({
     footprints: z.string().min(1),
