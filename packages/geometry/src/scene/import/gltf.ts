@@ -23,7 +23,7 @@ const MODES = ['POINTS', 'LINES', 'LINE_LOOP', 'LINE_STRIP', 'TRIANGLES', 'TRIAN
 /**
  * Check the GLB container (magic, version 2, lengths of the file and its chunks, a JSON chunk
  * first, asset.version "2.0"); throws ImportError naming the file and what is wrong.
- * @example checkGlbContainer(new TextEncoder().encode('{"type": "FeatureCollection"}'), 'city.glb') // throws ImportError 'city.glb: does not start with the glTF magic "glTF" (it starts with "{\"ty"): not a binary glTF file'
+ * @example checkGlbContainer(new TextEncoder().encode('solid box\nendsolid box\n'), 'box.glb') // throws ImportError 'box.glb: does not start with the glTF magic "glTF" (it starts with "soli"): not a binary glTF file'
  */
 export function checkGlbContainer(data: Uint8Array, file = 'glTF input'): void {
   const head = String.fromCharCode(...data.subarray(0, 4));
