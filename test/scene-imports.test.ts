@@ -144,10 +144,17 @@ function plyBox(format: 'ascii' | 'binary_little_endian' | 'binary_big_endian'):
   const little = format === 'binary_little_endian';
   const body = new DataView(new ArrayBuffer(corners.length * 12 + quads.length * (1 + 16 + 2)));
   let at = 0;
-  for (const c of corners) for (const x of c) (body.setFloat32(at, x, little), (at += 4));
+  for (const c of corners)
+    for (const x of c) {
+      body.setFloat32(at, x, little);
+      at += 4;
+    }
   quads.forEach((q, i) => {
     body.setUint8(at++, 4);
-    for (const v of q) (body.setUint32(at, v, little), (at += 4));
+    for (const v of q) {
+      body.setUint32(at, v, little);
+      at += 4;
+    }
     body.setUint16(at, glazed(i) ? 7 : 3, little);
     at += 2;
   });
