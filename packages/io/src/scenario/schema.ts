@@ -196,7 +196,7 @@ export const pathSchema: z.ZodType<z.output<typeof pathDefinition>, z.input<type
 
 const materialSchema = z.union([z.string().min(1), z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative })]);
 
-// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+// Imported surfaces (docs/conventions.md, "Imported surfaces"): a file path relative to the scenario file.
 const sceneImportSchema = z.union([
   z.strictObject({
     footprints: z.string().min(1),
@@ -213,6 +213,7 @@ const sceneImportSchema = z.union([
     unit: z.enum(['m', 'cm', 'mm', 'km', 'in', 'ft']).optional(),
     upAxis: z.enum(['y', 'z']).optional(),
     offsetM: vector3.optional(),
+    materialProperty: z.string().min(1).optional(),
     materials: z.record(z.string(), materialSchema).optional(),
     material: materialSchema.optional(),
   }),
@@ -551,7 +552,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
   'scene.imports': d(
-    'Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").',
+    'Surfaces read from files beside the scenario (GeoJSON footprints; OBJ, PLY and binary glTF meshes), appended to walls (docs/conventions.md, "Imported surfaces").',
   ),
   'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
   'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
@@ -560,15 +561,23 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.imports.origin.heightM': d('Height of the origin above the ellipsoid.', 'm', 0),
   'scene.imports.heightProperty': d('Feature property holding the building height.', undefined, 'height'),
   'scene.imports.defaultHeightM': d('Height of features without the height property (else they are refused).', 'm'),
-  'scene.imports.materialProperty': d('Feature property naming the material (looked up in materials, else a material name).'),
+  'scene.imports.materialProperty': d(
+    'Footprints: the feature property naming the material (looked up in materials, else a material name). PLY meshes: the face property whose value (as a decimal string) is looked up in materials.',
+  ),
   'scene.imports.materials': d('Property values (footprints) or group names (meshes) to materials.'),
   'scene.imports.material': d('Material of surfaces not mapped by materials.', undefined, DEFAULT_MATERIAL),
   'scene.imports.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
   'scene.imports.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
   'scene.imports.roofs': d('Add a flat roof on every footprint.', undefined, true),
-  'scene.imports.mesh': d('A Wavefront OBJ mesh file, relative to the scenario file; one wall per triangle.'),
-  'scene.imports.unit': d('Length unit of the mesh file.', undefined, 'm'),
-  'scene.imports.upAxis': d('Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)).', undefined, 'z'),
+  'scene.imports.mesh': d(
+    'A mesh file, relative to the scenario file, by its extension: Wavefront OBJ (.obj), PLY (.ply, ASCII or binary) or binary glTF 2.0 (.glb); one wall per triangle.',
+  ),
+  'scene.imports.unit': d('Length unit of the mesh file (glTF 2.0 is metres by its specification).', undefined, 'm'),
+  'scene.imports.upAxis': d(
+    'Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)); a .glb defaults to "y", as the glTF 2.0 specification fixes.',
+    undefined,
+    'z',
+  ),
   'scene.imports.offsetM': d('Shift added after scaling and turning.', 'm', [0, 0, 0]),
   'scene.walls': d('Planar walls (3-D polygons) or vertical wall segments (2-D).'),
   'scene.walls.vertices': d('Corners [[x, y, z], ...] (at least 3, coplanar) or the two ends [[x, y], [x, y]].', 'm'),
