@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 /**
  * Renders the pictures of the docs into docs/images/ (SVG from the library, PNG through resvg):
- * the demo scenarios' scenes, profiles and |H|, the gain correlation of real runs against J0,
+ * the demo scenarios' scenes, profiles and |H|, the coverage map of the crossroads demo, the gain correlation of real runs against J0,
  * and the frames-and-angles figure of docs/conventions.md. Build first: `npx tsc -b`.
  *
  *   node scripts/render-docs-images.mjs            # writes docs/images/*.svg and *.png
@@ -38,6 +38,15 @@ for (const [name, kinds] of Object.entries(figures)) {
   const source = await plot.openPlotSource(join(ROOT, 'examples', `${name}.json`));
   source.file = `examples/${name}.json`;
   for (const kind of kinds) await emit(`${name}-${kind}`, await plot.plotSource(source, kind));
+}
+
+// Coverage map of the crossroads demo (docs/coverage.md): the grid of its coverage section, traced
+// point by point as `pathweave coverage` does.
+{
+  const { scenario } = await io.loadScenario(join(ROOT, 'examples', 'coverage', 'crossroads-28ghz.json'));
+  const grid = io.coverageGridOf(scenario.coverage);
+  const maps = io.computeCoverage(scenario, grid, [0, grid.rows]);
+  await emit('crossroads-28ghz-coverage', plot.coverageSvg({ maps, grid, scenario }));
 }
 
 // Gain correlation of real runs: 16 explicit paths of equal power, one moving end at 3 m/s,

@@ -22,7 +22,7 @@ import { librarySnippets } from './support/docs.js';
 
 const PACKAGES = ['geometry', 'core', 'io'] as const;
 type Pkg = (typeof PACKAGES)[number];
-const REGISTRY_DEPENDENCIES = ['zod', 'ml-matrix', 'fft.js', 'h5wasm', 'yazl'];
+const REGISTRY_DEPENDENCIES = ['zod', 'ml-matrix', 'fft.js', 'h5wasm', 'yazl', '@gltf-transform/core'];
 
 /** The environment without npm's per-run variables (npm test sets npm_config_* for the workspace). */
 function cleanEnv(): NodeJS.ProcessEnv {

@@ -25,5 +25,7 @@ export * from './inspect/inspect.js';
 export * from './version.js';
 export * from './dataset/manifest.js';
 export * from './dataset/merge.js';
+export * from './dataset/coverage.js';
+export * from './dataset/coverage-merge.js';
 export * from './formats/reader.js';
 export * from './formats/output-path.js';

@@ -21,6 +21,17 @@ const DETAILS: Record<string, string> = {
   --json              the paths as a JSON array in the scenario's explicit "paths" form
   --at SECONDS        the instant (default 0)
   --user ID|N         the receiver of a scenario with "receivers": its id, or its index from 0`,
+  coverage: `Write coverage maps of a scenario: the receiver moved to every point of a grid (the scenario's "coverage" section), at t = 0.
+  --out FILE          the file written (.npz, .h5, or .npy: pathGainDb only); {index} and {count} are replaced by a shard's I and N
+  --format F          npy, npz or h5; default from the extension of --out
+  --shard I/N         shard I of N (I from 0): grid rows floor(I R / N) to floor((I+1) R / N) - 1; auto or auto/N read a job array's variables
+  --origin X,Y,Z      grid point (row 0, column 0), metres (replaces coverage.origin)
+  --step M            spacing of the points along both axes, metres (replaces coverage.stepM, uStepM and vStepM)
+  --columns N         points along the grid's u axis (replaces coverage.columns)
+  --rows N            points along the grid's v axis (replaces coverage.rows)
+  --workers N         worker threads tracing the rows (1 to 256, default 1); the bytes are the same for any N
+  --plot FILE.svg     also draw the path-gain map (not with --shard)
+  --quiet             print nothing on stdout and no progress; errors and warnings still go to stderr`,
   validate: `Check a scenario file: every problem with its dotted path (exit 2), or a summary (exit 0).
   --max-bytes SIZE    the output size limit checked (such as 500MB or 2GiB)`,
   inspect: `Summarise a file pathweave wrote: arrays, scenario, paths, power and the conditioning of H.
@@ -29,7 +40,7 @@ const DETAILS: Record<string, string> = {
   --out FILE          the merged file
   --quiet             print nothing on stdout and no progress`,
   plot: `Draw an SVG figure of a scenario (run in memory) or of an output file.
-  --kind K            scene, delay-profile, angles, time-frequency or correlation
+  --kind K            scene, delay-profile, angles, time-frequency or correlation; coverage for a file pathweave coverage wrote
   --out FILE.svg      the figure written
   --at SECONDS        the instant of the path snapshot (scene, delay-profile, angles)
   --user ID|N         the receiver of a scenario with "receivers": its id, or its index from 0
@@ -65,6 +76,7 @@ function shared(name: string, command: Command): Command {
 /** Command name to a loader of its implementation; `pathweave help` lists them in this order. */
 export const COMMANDS: Record<string, () => Promise<Command>> = {
   generate: async () => shared('generate', (await import('./generate.js')).generateCommand),
+  coverage: async () => shared('coverage', (await import('./coverage.js')).coverageCommand),
   paths: async () => shared('paths', (await import('./paths.js')).pathsCommand),
   validate: async () => shared('validate', (await import('./validate.js')).validateCommand),
   inspect: async () => shared('inspect', (await import('./inspect.js')).inspectCommand),

@@ -1,5 +1,6 @@
 /** `pathweave merge`: the part files of a sharded run into one file (merge.ts). */
 import { formatBytes } from '../dataset/generate.js';
+import { isCoveragePart, mergeCoverage } from '../dataset/coverage-merge.js';
 import { merge } from '../dataset/merge.js';
 import { manifestPathOf } from '../dataset/manifest.js';
 import { formatFromPath } from '../formats/index.js';
@@ -28,6 +29,14 @@ async function run(argv: string[], io: Io): Promise<number> {
   process.on('SIGTERM', onSignal);
   let progress: Progress | undefined;
   try {
+    if (await isCoveragePart(args.positionals[0]!)) {
+      // Parts of `pathweave coverage --shard`: maps, not a channel tensor (coverage-merge.ts).
+      const report = await mergeCoverage(args.positionals, out, { signal: controller.signal });
+      io.out(
+        `wrote ${report.out}: coverage ${report.rows} x ${report.columns} points from ${report.parts} parts, ${formatBytes(report.fileBytes)} (${report.fileBytes} bytes), sha256 ${report.sha256}`,
+      );
+      return 0;
+    }
     const report = await merge(args.positionals, out, {
       signal: controller.signal,
       allowVersions: args.flags.has('allow-versions'),

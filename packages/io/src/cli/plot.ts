@@ -1,7 +1,7 @@
 /** `pathweave plot`: a figure of a scenario (run in memory) or of an output file, as SVG. */
 import { access } from 'node:fs/promises';
 import { RequestError } from '../dataset/generate.js';
-import { PLOT_KINDS, plotFile, type PlotKind, type PlotOptions } from '../plot/index.js';
+import { PLOT_KINDS, plotCoverageFile, plotFile, type PlotKind, type PlotOptions } from '../plot/index.js';
 import { parseArgs, parseInteger, UsageError } from './args.js';
 import { onePositional, type Command, type Io } from './common.js';
 
@@ -9,9 +9,9 @@ async function run(argv: string[], io: Io): Promise<number> {
   const args = parseArgs('plot', argv, { kind: 'value', out: 'value', at: 'value', user: 'value', element: 'value', lags: 'value' });
   const file = onePositional('plot', args.positionals, 'scenario or output file');
   const kind = args.values.kind;
-  if (kind === undefined) throw new UsageError(`plot: --kind is required; kinds are ${PLOT_KINDS.join(', ')}`);
-  if (!(PLOT_KINDS as readonly string[]).includes(kind))
-    throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, got ${JSON.stringify(kind)}`);
+  if (kind === undefined) throw new UsageError(`plot: --kind is required; kinds are ${PLOT_KINDS.join(', ')}, coverage`);
+  if (!(PLOT_KINDS as readonly string[]).includes(kind) && kind !== 'coverage')
+    throw new UsageError(`plot: --kind must be one of ${PLOT_KINDS.join(', ')}, coverage, got ${JSON.stringify(kind)}`);
   const out = args.values.out;
   if (out === undefined) throw new UsageError('plot: --out <file.svg> is required');
   if (!/\.svg$/i.test(out)) throw new UsageError(`plot: --out must name an .svg file, got ${JSON.stringify(out)}`);
@@ -32,6 +32,12 @@ async function run(argv: string[], io: Io): Promise<number> {
   await access(file).catch((e: NodeJS.ErrnoException) => {
     throw new RequestError(`plot: cannot read ${file}: ${e.code ?? e.message}`);
   });
+  if (kind === 'coverage') {
+    // A map of a file `pathweave coverage` wrote (its own reader: no channel tensor in it).
+    await plotCoverageFile(file, out);
+    io.out(`wrote ${out}: coverage map of ${file}`);
+    return 0;
+  }
   await plotFile(file, kind as PlotKind, out, options).catch((e: unknown) => {
     // The library names options.user; on the command line it is --user.
     if (e instanceof RequestError && e.message.startsWith('user must be')) throw new UsageError(`plot: --${e.message}`);
@@ -44,6 +50,6 @@ async function run(argv: string[], io: Io): Promise<number> {
 /** The plot command. */
 export const plotCommand: Command = {
   usage:
-    'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
+    'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation|coverage> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
   run,
 };

@@ -18,6 +18,7 @@ export * from './scene.js';
 export * from './profiles.js';
 export * from './fields.js';
 export * from './data.js';
+export * from './coverage.js';
 
 /**
  * The kinds of figure `pathweave plot --kind` draws.

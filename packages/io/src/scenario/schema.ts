@@ -206,7 +206,7 @@ export const pathSchema: z.ZodType<z.output<typeof pathDefinition>, z.input<type
 
 const materialSchema = z.union([z.string().min(1), z.strictObject({ relativePermittivity: positive, conductivitySpm: nonNegative })]);
 
-// Imported surfaces (docs/scenes.md "Importing"): a file path relative to the scenario file.
+// Imported surfaces (docs/conventions.md, "Imported surfaces"): a file path relative to the scenario file.
 const sceneImportSchema = z.union([
   z.strictObject({
     footprints: z.string().min(1),
@@ -223,6 +223,7 @@ const sceneImportSchema = z.union([
     unit: z.enum(['m', 'cm', 'mm', 'km', 'in', 'ft']).optional(),
     upAxis: z.enum(['y', 'z']).optional(),
     offsetM: vector3.optional(),
+    materialProperty: z.string().min(1).optional(),
     materials: z.record(z.string(), materialSchema).optional(),
     material: materialSchema.optional(),
   }),
@@ -345,6 +346,58 @@ const tapsDefinition = z.discriminatedUnion('pulse', [
   tapsVariant(z.literal('raised-cosine'), z.number().min(0).max(1).optional()),
 ]);
 
+// The coverage grid (dataset/coverage.ts): point (row, column) = origin + column uStepM u + row vStepM v,
+// u and v the unit vectors of uAxis and vAxis. The rules across keys are the refinement below.
+const coverageDefinition = z
+  .strictObject({
+    origin: point,
+    columns: count.max(100_000),
+    rows: count.max(100_000),
+    stepM: positive.max(1e6).optional(),
+    uStepM: positive.max(1e6).optional(),
+    vStepM: positive.max(1e6).optional(),
+    uAxis: vector3.optional(),
+    vAxis: vector3.optional(),
+  })
+  .superRefine((c, ctx) => {
+    const issue = (path: string, message: string, input: unknown): void => ctx.addIssue({ code: 'custom', path: [path], message, input });
+    if (c.stepM === undefined && (c.uStepM === undefined || c.vStepM === undefined))
+      issue(c.uStepM === undefined ? 'uStepM' : 'vStepM', 'give stepM (both directions), or uStepM and vStepM', c.uStepM === undefined ? c.uStepM : c.vStepM);
+    if (c.stepM !== undefined && (c.uStepM !== undefined || c.vStepM !== undefined))
+      issue(c.uStepM !== undefined ? 'uStepM' : 'vStepM', `give stepM or uStepM and vStepM, not both (stepM is ${c.stepM})`, c.uStepM ?? c.vStepM);
+    if (c.columns * c.rows > MAX_COVERAGE_POINTS)
+      issue('rows', `columns x rows must be at most ${MAX_COVERAGE_POINTS} points, got ${c.columns} x ${c.rows} = ${c.columns * c.rows}`, c.rows);
+    const u = c.uAxis ?? [1, 0, 0],
+      v = c.vAxis ?? [0, 1, 0];
+    const nu = Math.hypot(...u),
+      nv = Math.hypot(...v);
+    if (!(nu > 0)) issue('uAxis', `must be a non-zero direction, got ${describeValue(c.uAxis)}`, c.uAxis);
+    if (!(nv > 0)) issue('vAxis', `must be a non-zero direction, got ${describeValue(c.vAxis)}`, c.vAxis);
+    if (nu > 0 && nv > 0) {
+      const cross = Math.hypot(u[1] * v[2] - u[2] * v[1], u[2] * v[0] - u[0] * v[2], u[0] * v[1] - u[1] * v[0]) / (nu * nv);
+      // sin of the angle between the axes: below 1e-6 the grid collapses onto a line.
+      if (cross < 1e-6) issue('vAxis', `must not be parallel to uAxis ${describeValue(u)}, got ${describeValue(v)}`, c.vAxis);
+    }
+  });
+
+/**
+ * The largest coverage grid, columns x rows (every map of it is held in memory: about 100 bytes a point).
+ * @example MAX_COVERAGE_POINTS // 4000000
+ */
+export const MAX_COVERAGE_POINTS = 4_000_000;
+
+/**
+ * The `coverage` section of a scenario: a grid of receiver points for `pathweave coverage`.
+ * @example coverageSchema.safeParse({ origin: [0, 0, 1.5], columns: 10, rows: 5, stepM: 1 }).success // true
+ */
+export const coverageSchema: z.ZodType<z.output<typeof coverageDefinition>, z.input<typeof coverageDefinition>> = coverageDefinition;
+
+/**
+ * A coverage grid as a scenario gives it.
+ * @example const grid: CoverageConfig = { origin: [-20, -20, 1.5], columns: 41, rows: 41, stepM: 1 }; // a horizontal 40 m x 40 m grid at 1.5 m
+ */
+export type CoverageConfig = z.infer<typeof coverageSchema>;
+
 const scenarioDefinition = z.strictObject({
   formatVersion: z.number().int().min(1).max(CURRENT_FORMAT_VERSION).optional(),
   name: z.string().max(200).optional(),
@@ -373,6 +426,8 @@ const scenarioDefinition = z.strictObject({
   paths: z.array(pathSchema).min(1).optional(),
   /** Widen every path (traced or explicit) into a cluster of sub-paths. */
   clusters: clusterSchema.optional(),
+  /** A grid of receiver points for `pathweave coverage` (ignored by generate). */
+  coverage: coverageSchema.optional(),
   fading: fadingDefinition,
   seed: z
     .number()
@@ -520,7 +575,7 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
   'scene.imports': d(
-    'Surfaces read from files beside the scenario (GeoJSON footprints, OBJ meshes), appended to walls (docs/conventions.md, "Imported surfaces").',
+    'Surfaces read from files beside the scenario (GeoJSON footprints; OBJ, PLY and binary glTF meshes), appended to walls (docs/conventions.md, "Imported surfaces").',
   ),
   'scene.imports.footprints': d('A GeoJSON file (RFC 7946) of Polygon or MultiPolygon building footprints, relative to the scenario file.'),
   'scene.imports.origin': d('The geodetic point (WGS-84) where east = north = 0.'),
@@ -529,15 +584,23 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.imports.origin.heightM': d('Height of the origin above the ellipsoid.', 'm', 0),
   'scene.imports.heightProperty': d('Feature property holding the building height.', undefined, 'height'),
   'scene.imports.defaultHeightM': d('Height of features without the height property (else they are refused).', 'm'),
-  'scene.imports.materialProperty': d('Feature property naming the material (looked up in materials, else a material name).'),
+  'scene.imports.materialProperty': d(
+    'Footprints: the feature property naming the material (looked up in materials, else a material name). PLY meshes: the face property whose value (as a decimal string) is looked up in materials.',
+  ),
   'scene.imports.materials': d('Property values (footprints) or group names (meshes) to materials.'),
   'scene.imports.material': d('Material of surfaces not mapped by materials.', undefined, DEFAULT_MATERIAL),
   'scene.imports.material.relativePermittivity': d('Relative permittivity of a custom material.', '1'),
   'scene.imports.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
   'scene.imports.roofs': d('Add a flat roof on every footprint.', undefined, true),
-  'scene.imports.mesh': d('A Wavefront OBJ mesh file, relative to the scenario file; one wall per triangle.'),
-  'scene.imports.unit': d('Length unit of the mesh file.', undefined, 'm'),
-  'scene.imports.upAxis': d('Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)).', undefined, 'z'),
+  'scene.imports.mesh': d(
+    'A mesh file, relative to the scenario file, by its extension: Wavefront OBJ (.obj), PLY (.ply, ASCII or binary) or binary glTF 2.0 (.glb); one wall per triangle.',
+  ),
+  'scene.imports.unit': d('Length unit of the mesh file (glTF 2.0 is metres by its specification).', undefined, 'm'),
+  'scene.imports.upAxis': d(
+    'Up axis of the mesh file ("y" maps (x, y, z) to (x, -z, y)); a .glb defaults to "y", as the glTF 2.0 specification fixes.',
+    undefined,
+    'z',
+  ),
   'scene.imports.offsetM': d('Shift added after scaling and turning.', 'm', [0, 0, 0]),
   'scene.walls': d('Planar walls (3-D polygons) or vertical wall segments (2-D).'),
   'scene.walls.vertices': d('Corners [[x, y, z], ...] (at least 3, coplanar) or the two ends [[x, y], [x, y]].', 'm'),
@@ -613,6 +676,17 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'cluster.azimuthSpreadArrivalDeg': d('Azimuth spread at arrival.', 'deg', 0),
   'cluster.elevationSpreadArrivalDeg': d('Elevation spread at arrival.', 'deg', 0),
   'cluster.delaySpreadS': d('Delay spread of the sub-paths.', 's', 0),
+  coverage: d(
+    'A grid of receiver points evaluated by pathweave coverage (ignored by generate): point (row, column) = origin + column uStepM u + row vStepM v.',
+  ),
+  'coverage.origin': d('Grid point (row 0, column 0), [x, y, z] (z = 0 when given as [x, y]).', 'm'),
+  'coverage.columns': d('Points along uAxis.', '1'),
+  'coverage.rows': d('Points along vAxis (rows are what --shard splits).', '1'),
+  'coverage.stepM': d('Spacing of the points along both axes (or give uStepM and vStepM).', 'm'),
+  'coverage.uStepM': d('Spacing of the points along uAxis.', 'm'),
+  'coverage.vStepM': d('Spacing of the points along vAxis.', 'm'),
+  'coverage.uAxis': d('Direction of the columns, made a unit vector; default east.', '1', [1, 0, 0]),
+  'coverage.vAxis': d('Direction of the rows, made a unit vector; default north (with east: a horizontal plane at the height of origin).', '1', [0, 1, 0]),
   fading: d('How the path gains evolve over the subframes.'),
   'fading.model': d('"static", "gauss-markov" (AR(1), Clarke/Jakes alpha), "ar" (AR(p)), "sum-of-sinusoids" or "geometric".'),
   'fading.speedMps': d("Speed of the one moving end for the Doppler spread; default the terminals' speeds.", 'm/s'),

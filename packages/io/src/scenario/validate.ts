@@ -435,5 +435,5 @@ export async function loadScenario(file: string): Promise<{ scenario: Scenario; 
   const parsed = parseScenarioText(text, file);
   // scene.imports: files beside the scenario, read into walls (scenario/imports.ts)
   const { expandSceneImports } = await import('./imports.js');
-  return { ...parsed, scenario: expandSceneImports(parsed.scenario, dirname(file), file), text };
+  return { ...parsed, scenario: await expandSceneImports(parsed.scenario, dirname(file), file), text };
 }

@@ -1,7 +1,7 @@
 /**
  * Triangle meshes to walls: one wall per triangle, with the file's unit and up axis turned into
  * the scene's metres and z-up frame, and a material per mesh group (an OBJ group or material, a
- * glTF mesh or primitive, a PLY file as one group) by a mapping. Layout of a TriangleMesh:
+ * glTF primitive by its material, mesh or node name, a PLY face property or the whole file) by a mapping. Layout of a TriangleMesh:
  * `positions` xyz per vertex (the file's unit and axes), `indices` three per triangle (or none:
  * consecutive vertex triples), `groups` ranges of triangles.
  */
@@ -27,8 +27,12 @@ export interface TriangleMesh {
  * @example const floor: MeshGroup = { name: 'floor', firstTriangle: 0, triangles: 2 };
  */
 export interface MeshGroup {
-  /** The group's name (OBJ usemtl, g or o). */
+  /** The group's name (OBJ usemtl, g or o; PLY face property value; glTF material, mesh or node name). */
   name: string;
+  /** Further names looked up in order when `name` is not a key of the materials mapping (a glTF primitive's mesh and node names). */
+  aliases?: readonly string[];
+  /** Where the group is in the file, named in errors about its triangles (e.g. "nodes[2] mesh 0 primitive 1"). */
+  label?: string;
   /** Index of its first triangle. */
   firstTriangle: number;
   /** How many triangles. */
@@ -84,8 +88,18 @@ export function wallsFromMesh(mesh: TriangleMesh, options: MeshOptions = {}, fil
   const I = mesh.indices;
   const nt = I === undefined ? Math.floor(nv / 3) : Math.floor(I.length / 3);
   if (I !== undefined && I.length % 3 !== 0) throw new ImportError(file, 'indices', `must hold 3 indices per triangle, got ${I.length}`);
-  const groupOf = new Array<string | undefined>(nt).fill(undefined);
-  for (const g of mesh.groups ?? []) for (let t = g.firstTriangle; t < g.firstTriangle + g.triangles && t < nt; t++) groupOf[t] = g.name;
+  const groupOf = new Array<MeshGroup | undefined>(nt).fill(undefined);
+  for (const g of mesh.groups ?? []) for (let t = g.firstTriangle; t < g.firstTriangle + g.triangles && t < nt; t++) groupOf[t] = g;
+  // a triangle named by its place in the file where its group says where that is
+  const where = (t: number): string => {
+    const g = groupOf[t];
+    return g?.label === undefined ? `triangle ${t}` : `${g.label} triangle ${t - g.firstTriangle}`;
+  };
+  const materialOf = (g: MeshGroup | undefined): MaterialSpec | undefined => {
+    if (g === undefined || options.materials === undefined) return undefined;
+    for (const n of [g.name, ...(g.aliases ?? [])]) if (Object.hasOwn(options.materials, n)) return options.materials[n];
+    return undefined;
+  };
   const point = (v: number): [number, number, number] => {
     const x = P[3 * v]! * scale,
       y = P[3 * v + 1]! * scale,
@@ -95,8 +109,7 @@ export function wallsFromMesh(mesh: TriangleMesh, options: MeshOptions = {}, fil
   const walls: Wall[] = [];
   for (let t = 0; t < nt; t++) {
     const ids = [0, 1, 2].map((k) => (I === undefined ? 3 * t + k : I[3 * t + k]!));
-    for (const v of ids)
-      if (!(Number.isInteger(v) && v >= 0 && v < nv)) throw new ImportError(file, `triangle ${t}`, `refers to vertex ${v}, outside 0..${nv - 1}`);
+    for (const v of ids) if (!(Number.isInteger(v) && v >= 0 && v < nv)) throw new ImportError(file, where(t), `refers to vertex ${v}, outside 0..${nv - 1}`);
     const [a, b, c] = ids.map(point) as [[number, number, number], [number, number, number], [number, number, number]];
     const ux = b[0] - a[0],
       uy = b[1] - a[1],
@@ -109,11 +122,10 @@ export function wallsFromMesh(mesh: TriangleMesh, options: MeshOptions = {}, fil
     if (!(area2 > 1e-12 * Math.max(1, ext * ext)))
       throw new ImportError(
         file,
-        `triangle ${t}`,
+        where(t),
         `is degenerate (vertices ${ids.join(', ')} collinear or coinciding, area ${(area2 / 2).toPrecision(3)} m^2): remove it from the mesh`,
       );
-    const g = groupOf[t];
-    const material = (g !== undefined ? options.materials?.[g] : undefined) ?? options.material;
+    const material = materialOf(groupOf[t]) ?? options.material;
     walls.push(material === undefined ? { vertices: [a, b, c] } : { vertices: [a, b, c], material });
   }
   return walls;
