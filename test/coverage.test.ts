@@ -296,7 +296,7 @@ print(json.dumps({'equal': bool(equal), 'units': text(f['delaySpreadS'].attrs['u
       expect(ref.equal).toBe(true);
       expect(ref.units).toBe('s');
       expect(ref.shape).toEqual([5, 7, 3]);
-      expect(ref.kinds).toEqual(['los', 'reflection', 'scatter', 'diffraction', 'transmission']);
+      expect(ref.kinds).toEqual(['los', 'reflection', 'scatter', 'diffraction', 'transmission', 'diffuse']);
       expect(ref.rowRange).toBe('0:5');
       expect(ref.dtype).toBe('int32');
     });

@@ -22,6 +22,7 @@
  */
 import type { Vec3 } from '../vec3.js';
 import { Bvh } from './bvh.js';
+import { diffuseProblems, type DiffuseSettings } from './diffuse.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
 /**
@@ -43,6 +44,8 @@ export interface Wall {
   reflectionLossDb?: number;
   /** Thickness in metres (> 0): the wall lets waves through as an ITU-R P.2040 slab of its material (slab.ts); without it the wall is opaque. */
   thicknessM?: number;
+  /** Scattering coefficient S in [0, 1] of this wall when the scene has `diffuse` (diffuse.ts); default the material's or the settings' S. */
+  scatteringCoefficient?: number;
 }
 
 /**
@@ -105,6 +108,8 @@ export interface Scene {
   gasAttenuationDbPerKm?: number;
   /** Edge diffraction by the UTD at the wedges of the walls (edges.ts, diffraction.ts): single, and with one reflection when maxReflectionOrder >= 1 (default false). */
   diffraction?: boolean;
+  /** Diffuse scattering from the walls (directive model of Degli-Esposti et al. 2007, diffuse.ts); absent: none. */
+  diffuse?: DiffuseSettings;
 }
 
 /**
@@ -329,6 +334,7 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
   if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean')
     err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
+  problems.push(...diffuseProblems(scene, sp, is2D));
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
 }

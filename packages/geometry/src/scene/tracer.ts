@@ -20,6 +20,8 @@
  * A point scatterer re-radiates like a small induced dipole: the scattered field is the incident
  * field projected perpendicular to the scattered direction (not renormalised: this keeps the
  * path reciprocal); `rcsM2` is the cross-section for a field parallel to that projection.
+ * With the scene's `diffuse` key, the walls' tiles add first-order diffuse paths and the walls'
+ * reflection coefficients are reduced by R = sqrt(1 - S^2) (diffuse.ts).
  */
 import { SPEED_OF_LIGHT } from '../constants.js';
 import { degFromVector, type AnglesDeg } from '../direction.js';
@@ -33,6 +35,7 @@ import { sceneWedges } from './edges.js';
 import type { DiffractionCoefficients } from './utd.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { slabCoefficients } from './slab.js';
+import { diffuseTileFactor, reflectionReduction, rotateField, sceneDiffuseTiles, scaleCoefficients, traceDiffuse } from './diffuse.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { Occlusion } from './occlusion.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
@@ -78,6 +81,8 @@ export interface SceneObjectRef {
   vertex?: number;
   /** Edges, 3-D: the polygon edge from vertex `edge` to the next one of wall `index`; the label is "walls[i].edges[j]". */
   edge?: number;
+  /** Diffuse scattering: the tile of wall `index` (from 0, diffuse.ts); the label is "walls[i].tiles[j]". */
+  tile?: number;
   /** Index into that list, from 0 (edges: the lowest-numbered wall holding the edge). */
   index: number;
 }
@@ -89,14 +94,14 @@ export interface SceneObjectRef {
  * traceScene({ walls: [wall], lineOfSight: false }, { position: [0, 0, 0] }, { position: [10, 0, 0] }, 28e9).paths[0]!.interactions[0] // { type: 'reflection', object: { kind: 'wall', index: 0 }, point: [5, 5, 0], incidenceDeg: 45, coefficients: { te: [-0.5105, 0.0156], tm: [0.2604, -0.0160] } }
  */
 export interface PathInteraction {
-  type: 'reflection' | 'scatter' | 'diffraction' | 'transmission';
-  /** The wall (reflections), scatterer (scattering) or edge (diffraction: `kind: 'edge'`, see SceneObjectRef). */
+  type: 'reflection' | 'scatter' | 'diffraction' | 'transmission' | 'diffuse';
+  /** The wall (reflections, and diffuse scattering with its `tile`), scatterer (scattering) or edge (diffraction: `kind: 'edge'`, see SceneObjectRef). */
   object: SceneObjectRef;
   /** Where it happens, metres (global). */
   point: Vec3;
-  /** Reflections and transmissions: angle of incidence from the wall's normal, degrees. */
+  /** Reflections, transmissions and diffuse scattering: angle of incidence from the wall's normal, degrees. */
   incidenceDeg?: number;
-  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts); transmissions: the slab's TE and TM transmission coefficients (slab.ts). */
+  /** Reflections: the TE and TM coefficients used (convention of fresnel.ts; with `diffuse`, times R = sqrt(1 - S^2)); diffuse scattering: the wall's Fresnel coefficients; transmissions: the slab's TE and TM transmission coefficients (slab.ts). */
   coefficients?: FresnelCoefficients;
   /** Diffractions: the walls forming the wedge, face 0 then face n (the same wall for a free edge). */
   faces?: [SceneObjectRef, SceneObjectRef];
@@ -119,10 +124,10 @@ export type PolarimetricMatrix = [[Complex, Complex], [Complex, Complex]];
  * [los!.id, los!.lengthM, los!.aoaDeg] // ['los', 14.142, [-135, 0]]
  */
 export interface TracedPath {
-  /** Stable id from the interaction list (pathIdOf): "los", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]", "D:walls[0].vertices[1]", "R:walls[2]>D:walls[0].edges[1]". */
+  /** Stable id from the interaction list (pathIdOf): "los", "F:walls[2].tiles[7]", "R:walls[3]", "R:walls[1]>R:walls[4]", "S:scatterers[2]", "D:walls[0].vertices[1]", "R:walls[2]>D:walls[0].edges[1]". */
   id: string;
-  /** `diffraction` for every path with an edge diffraction (alone or with a reflection); `transmission` for a direct path through walls with thicknessM (transmissions are named in the interactions of every kind). */
-  kind: 'los' | 'reflection' | 'scatter' | 'diffraction' | 'transmission';
+  /** `diffraction` for every path with an edge diffraction (alone or with a reflection); `transmission` for a direct path through walls with thicknessM (transmissions are named in the interactions of every kind); `diffuse` for a path through one wall tile (diffuse.ts). */
+  kind: 'los' | 'reflection' | 'scatter' | 'diffraction' | 'transmission' | 'diffuse';
   interactions: PathInteraction[];
   /** Unfolded length, m. */
   lengthM: number;
@@ -175,7 +180,7 @@ const ZERO: Readonly<Vec3> = [0, 0, 0];
 // The text forms below are what users see (path ids, `paths --json`, path tables): they are
 // rendered from the structured records and never parsed back.
 const LIST_NAME: Record<SceneObjectRef['kind'], string> = { wall: 'walls', scatterer: 'scatterers', blocker: 'blockers', edge: 'walls' };
-const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S', diffraction: 'D', transmission: 'T' };
+const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', scatter: 'S', diffraction: 'D', transmission: 'T', diffuse: 'F' };
 
 /**
  * The scene object as the scene file names it: its list and index.
@@ -183,12 +188,13 @@ const TYPE_LETTER: Record<PathInteraction['type'], string> = { reflection: 'R', 
  */
 export function sceneObjectLabel(ref: Readonly<SceneObjectRef>): string {
   const base = `${LIST_NAME[ref.kind]}[${ref.index}]`;
+  if (ref.kind === 'wall' && ref.tile !== undefined) return `${base}.tiles[${ref.tile}]`;
   if (ref.kind !== 'edge') return base;
   return ref.vertex !== undefined ? `${base}.vertices[${ref.vertex}]` : `${base}.edges[${ref.edge ?? 0}]`;
 }
 
 /**
- * One interaction as it appears in a path id and a path table: R (reflection), S (scattering) or D (diffraction), a colon, the object.
+ * One interaction as it appears in a path id and a path table: R (reflection), S (scattering), D (diffraction), T (transmission) or F (a diffuse tile, "facet"), a colon, the object.
  * @example interactionLabel({ type: 'reflection', object: { kind: 'wall', index: 3 } }) // 'R:walls[3]'
  */
 export function interactionLabel(interaction: Readonly<Pick<PathInteraction, 'type' | 'object'>>): string {
@@ -235,6 +241,9 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
     if (ps.segmentHitsWall(t[0], t[1], t[2], p[0], p[1], p[2], -1, -1)) return;
     if (ps.segmentHitsWall(p[0], p[1], p[2], r[0], r[1], r[2], -1, -1)) return;
     raw.push(ctx.build('scatter', [i], [p]));
+  });
+  traceDiffuse(ps, t, r, (w, tile, p) => {
+    raw.push(ctx.build('diffuse', [w], [p], undefined, undefined, undefined, tile));
   });
   if (settings.diffraction) {
     traceDiffractions(ps, t, r, settings.order >= 1, (steps, points) => {
@@ -710,10 +719,13 @@ class TraceContext {
     steps?: readonly DiffractionStep[],
     sides?: readonly number[],
     throughWalls?: readonly (readonly number[])[],
+    tile?: number,
   ): TracedPath {
     const ps = this.ps;
     const main: Vec3[] = [vec(this.tx.position), ...points, vec(this.rx.position)];
-    const mainTypes: PathInteraction['type'][] = objects.map((_, k) => (steps !== undefined ? steps[k]!.type : kind === 'scatter' ? 'scatter' : 'reflection'));
+    const mainTypes: PathInteraction['type'][] = objects.map((_, k) =>
+      steps !== undefined ? steps[k]!.type : kind === 'scatter' || kind === 'diffuse' ? kind : 'reflection',
+    );
     // Walls with thicknessM crossed by a segment become transmission interactions on it
     // (`throughWalls` per segment when retracing: the same walls, found by their planes).
     let chain = main,
@@ -726,8 +738,9 @@ class TraceContext {
       for (let k = 0; k + 1 < main.length; k++) {
         const a = main[k]!,
           b = main[k + 1]!;
-        const skipA = k > 0 && mainTypes[k - 1] === 'reflection' ? objects[k - 1]! : -1,
-          skipB = k < objects.length && mainTypes[k] === 'reflection' ? objects[k]! : -1;
+        const onWall = (t: PathInteraction['type'] | undefined): boolean => t === 'reflection' || t === 'diffuse';
+        const skipA = k > 0 && onWall(mainTypes[k - 1]) ? objects[k - 1]! : -1,
+          skipB = k < objects.length && onWall(mainTypes[k]) ? objects[k]! : -1;
         for (const [w, t] of ps.segmentTransmissions(a[0], a[1], a[2], b[0], b[1], b[2], skipA, skipB, throughWalls?.[k])) {
           chain.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), a[2] + t * (b[2] - a[2])]);
           types.push('transmission');
@@ -804,12 +817,30 @@ class TraceContext {
         const pl = ps.planes;
         const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
         const cosT = Math.min(1, Math.abs(kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2]));
-        const c = surfaceCoefficients(surfaces[o]!.surface, cosT);
+        const reduce = reflectionReduction(ps, o);
+        const c = reduce === 1 ? surfaceCoefficients(surfaces[o]!.surface, cosT) : scaleCoefficients(surfaceCoefficients(surfaces[o]!.surface, cosT), reduce);
         reflectField(eT, eT, kIn, kOut, n, c);
         reflectField(eP, eP, kIn, kOut, n, c);
         interactions.push({
           type: 'reflection',
           object: { kind: 'wall', index: o },
+          point: chain[k]!,
+          incidenceDeg: (Math.acos(cosT) * 180) / Math.PI,
+          coefficients: c,
+        });
+      } else if (type === 'diffuse') {
+        // reflected towards the specular direction, then turned onto the scattered one (diffuse.ts)
+        const pl = ps.planes;
+        const n: Vec3 = [pl[4 * o]!, pl[4 * o + 1]!, pl[4 * o + 2]!];
+        const dot = kIn[0] * n[0] + kIn[1] * n[1] + kIn[2] * n[2];
+        const cosT = Math.min(1, Math.abs(dot));
+        const kSpec: Vec3 = [kIn[0] - 2 * dot * n[0], kIn[1] - 2 * dot * n[1], kIn[2] - 2 * dot * n[2]];
+        const c = surfaceCoefficients(surfaces[o]!.surface, cosT);
+        rotateField(reflectField(eT, eT, kIn, kSpec, n, c), kSpec, kOut);
+        rotateField(reflectField(eP, eP, kIn, kSpec, n, c), kSpec, kOut);
+        interactions.push({
+          type: 'diffuse',
+          object: { kind: 'wall', index: o, tile: tile ?? 0 },
           point: chain[k]!,
           incidenceDeg: (Math.acos(cosT) * 180) / Math.PI,
           coefficients: c,
@@ -962,6 +993,19 @@ class TraceContext {
       for (let k = 0; k <= at; k++) d1 += dist(chain[k]!, chain[k + 1]!);
       const d2 = length - d1;
       spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * Math.sqrt(rcs / (4 * Math.PI));
+      p.virtualSource = vec(chain[at + 1]!);
+      p.virtualSink = vec(chain[at + 1]!);
+    } else if (p.kind === 'diffuse') {
+      // lambda / (4 pi r_i r_s) * S sqrt(A cos(theta_i) D), at the tile's centroid (diffuse.ts)
+      const at = p.interactions.findIndex((it) => it.type === 'diffuse');
+      const it = p.interactions[at]!;
+      const w = wallIndex(it);
+      let d1 = 0;
+      for (let k = 0; k <= at; k++) d1 += dist(chain[k]!, chain[k + 1]!);
+      const d2 = length - d1;
+      const tiles = sceneDiffuseTiles(ps);
+      const factor = tiles === undefined ? 0 : diffuseTileFactor(ps, w, tiles.start[w]! + (it.object.tile ?? 0), chain[at]!, chain[at + 2]!);
+      spreading = (this.lambda / (4 * Math.PI * d1 * d2)) * factor;
       p.virtualSource = vec(chain[at + 1]!);
       p.virtualSink = vec(chain[at + 1]!);
     } else if (p.kind === 'diffraction') {

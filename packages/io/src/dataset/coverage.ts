@@ -36,7 +36,7 @@ import { PATHWEAVE_VERSION } from '../version.js';
  * `pathKindNames` attribute); -1 marks an invalid point.
  * @example PATH_KIND_NAMES.indexOf('reflection') // 1
  */
-export const PATH_KIND_NAMES: readonly string[] = Object.freeze(['los', 'reflection', 'scatter', 'diffraction', 'transmission']);
+export const PATH_KIND_NAMES: readonly string[] = Object.freeze(['los', 'reflection', 'scatter', 'diffraction', 'transmission', 'diffuse']);
 
 /**
  * A coverage grid with its directions made unit vectors and its steps resolved.

@@ -25,6 +25,8 @@ const AZIMUTH_TICKS = [-180, -90, 0, 90, 180];
 function marker(svg: SvgDocument, kind: string, x: number, y: number, fill: string, cls: string): void {
   if (kind === 'los') svg.circle(x, y, 5, { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
   else if (kind === 'scatter') svg.rect(x - 4.5, y - 4.5, 9, 9, { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
+  else if (kind === 'diffuse')
+    svg.circle(x, y, 2.5, { fill, stroke: THEME.ink, 'stroke-width': 0.8, class: cls }); // many weak tile paths: small dots
   else if (kind === 'diffraction') svg.polygon([x, y - 5.5, x + 5.5, y, x, y + 5.5, x - 5.5, y], { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
   else svg.polygon([x, y - 5.5, x + 5, y + 4, x - 5, y + 4], { fill, stroke: THEME.ink, 'stroke-width': 1.2, class: cls });
 }
@@ -32,7 +34,7 @@ function marker(svg: SvgDocument, kind: string, x: number, y: number, fill: stri
 function kindLegend(svg: SvgDocument, x: number, y: number, kinds: readonly string[]): void {
   svg.group({ class: 'legend' });
   let cx = x;
-  for (const k of ['los', 'reflection', 'diffraction', 'scatter', 'explicit']) {
+  for (const k of ['los', 'reflection', 'diffraction', 'scatter', 'diffuse', 'explicit']) {
     if (!kinds.includes(k)) continue;
     marker(svg, k, cx, y, '#ffffff', 'legend-marker');
     const label = k === 'los' ? 'line of sight' : k;

@@ -5,7 +5,16 @@
  */
 import { z } from 'zod';
 import { AR_DEFAULT_ORDER, SOS_DEFAULT_SINUSOIDS } from '@pathweave/core';
-import { DEFAULT_MATERIAL, DEFAULT_REFLECTION_ORDER, MATERIAL_NAMES, MAX_REFLECTION_ORDER } from '@pathweave/geometry';
+import {
+  DEFAULT_ALPHA_R,
+  DEFAULT_DIFFUSE_PATHS_PER_WALL,
+  DEFAULT_MATERIAL,
+  DEFAULT_REFLECTION_ORDER,
+  DEFAULT_SCATTERING_COEFFICIENT,
+  MATERIAL_NAMES,
+  MAX_ALPHA_R,
+  MAX_REFLECTION_ORDER,
+} from '@pathweave/geometry';
 import { describeValue } from './problems.js';
 
 /**
@@ -18,6 +27,7 @@ const finite = z.number();
 const positive = z.number().positive();
 const nonNegative = z.number().nonnegative();
 const count = z.number().int().min(1);
+const unitInterval = z.number().min(0).max(1);
 // Coordinates within 10 000 km and speeds below the speed of light keep every distance, delay
 // and Doppler finite (hostile input must be refused, not turned into NaN).
 const coordinate = z.number().min(-1e7).max(1e7);
@@ -231,6 +241,8 @@ const sceneDefinition = z.strictObject({
         reflectionLossDb: nonNegative.optional(),
         /** Thickness in metres: the wall transmits as an ITU-R P.2040 slab of its material (off: opaque). */
         thicknessM: positive.optional(),
+        /** Scattering coefficient S of this wall under scene.diffuse. */
+        scatteringCoefficient: unitInterval.optional(),
       }),
     )
     .optional(),
@@ -249,6 +261,17 @@ const sceneDefinition = z.strictObject({
   gasAttenuationDbPerKm: nonNegative.optional(),
   /** Edge diffraction (UTD) at the walls' wedges, single and with one reflection; off by default. */
   diffraction: z.boolean().optional(),
+  /** Diffuse scattering from the walls' tiles (directive model of Degli-Esposti et al. 2007); off by default. */
+  diffuse: z
+    .strictObject({
+      tileM: positive,
+      maxPathsPerWall: count.optional(),
+      scatteringCoefficient: unitInterval.optional(),
+      alphaR: z.number().int().min(1).max(MAX_ALPHA_R).optional(),
+      pattern: z.enum(['directive', 'lambertian']).optional(),
+      materials: z.partialRecord(z.enum(MATERIAL_NAMES as unknown as [string, ...string[]]), unitInterval).optional(),
+    })
+    .optional(),
   /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
   atmosphere: z
     .strictObject({
@@ -586,6 +609,11 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.walls.material.conductivitySpm': d('Conductivity of a custom material.', 'S/m'),
   'scene.walls.reflectionLossDb': d('A fixed reflection loss replacing the Fresnel coefficient.', 'dB'),
   'scene.walls.thicknessM': d('Thickness of the wall as a slab (ITU-R P.2040): given, waves pass through it; absent, the wall is opaque.', 'm'),
+  'scene.walls.scatteringCoefficient': d(
+    'Scattering coefficient S of this wall under scene.diffuse (diffuse power S^2 of the reflected power, specular reduced by 1 - S^2).',
+    '1',
+    'diffuse.materials, else diffuse.scatteringCoefficient',
+  ),
   'scene.scatterers': d('Point scatterers (single bounce, bistatic radar equation).'),
   'scene.scatterers.position': d('Position of the scatterer.', 'm'),
   'scene.scatterers.rcsM2': d('Radar cross-section sigma.', 'm^2'),
@@ -598,6 +626,19 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'scene.blockers.radiusM': d('Radius of a cylinder.', 'm'),
   'scene.blockers.heightM': d('Height of a cylinder.', 'm'),
   'scene.diffraction': d('Trace edge-diffracted paths (uniform theory of diffraction) around the wedges of the walls.', undefined, false),
+  'scene.diffuse': d(
+    'Diffuse scattering from rough walls, first order, one weak path per wall tile (docs/conventions.md, "Diffuse scattering"); absent: none.',
+  ),
+  'scene.diffuse.tileM': d('Largest side of a tile: each 3-D wall is cut into a grid of cells at most this size, clipped to the wall.', 'm'),
+  'scene.diffuse.maxPathsPerWall': d('Keep at most this many tiles per wall, the strongest first.', '1', DEFAULT_DIFFUSE_PATHS_PER_WALL),
+  'scene.diffuse.scatteringCoefficient': d("Scattering coefficient S of walls without their own or their material's.", '1', DEFAULT_SCATTERING_COEFFICIENT),
+  'scene.diffuse.alphaR': d(`Directivity exponent of the directive lobe about the specular direction, integer 1 to ${MAX_ALPHA_R}.`, '1', DEFAULT_ALPHA_R),
+  'scene.diffuse.pattern': d(
+    '"directive" (lobe ((1 + cos psi_R) / 2)^alphaR about the specular direction) or "lambertian" (cos theta_s).',
+    undefined,
+    'directive',
+  ),
+  'scene.diffuse.materials': d('Scattering coefficient S per named material (walls of that material without their own).', '1'),
   'scene.maxReflectionOrder': d(`Highest number of wall reflections per path, 0 to ${MAX_REFLECTION_ORDER}.`, '1', DEFAULT_REFLECTION_ORDER),
   'scene.maxPaths': d('Keep at most this many paths (strongest first); absent: no limit.', '1'),
   'scene.dynamicRangeDb': d('Drop paths more than this far below the strongest; absent: no limit.', 'dB'),
