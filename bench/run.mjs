@@ -5,7 +5,7 @@
  * the median and the spread (min-max) of each side and of the ratio.
  *
  * usage: node bench/run.mjs [--json] [--markdown] [--pairs N] [--only dataset,wideband,taps,tracer] [--combos memory:1,memory:default,e2e:1,e2e:default,e2e:pool,e2e-checksum:1]
- *        [--no-disk] [--no-startup] [--no-scaling] [--no-pool-scaling]
+ *        [--no-disk] [--no-startup] [--no-kernels] [--no-scaling] [--no-pool-scaling]
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
@@ -135,6 +135,15 @@ function markdown(rows, info, loads) {
     for (const r of scaling)
       lines.push(
         `| ${r.axis} | ${r.value} | ${r.seconds.toFixed(3)} | ${r.nsPerCoefficientPath.toFixed(3)} | ${r.endToEndPeakRssBytes ? `${(r.endToEndPeakRssBytes / 2 ** 20).toFixed(0)} MiB` : ''} |`,
+      );
+    lines.push('');
+  }
+  const kernels = rows.filter((x) => x.mode === 'kernels');
+  if (kernels.length > 0) {
+    lines.push('| call shape | kernel | products | ms per call | complex coefficients / s | load |', '|---|---|---|---|---|---|');
+    for (const r of kernels)
+      lines.push(
+        `| ${r.shape} (${r.bins} bins, L = ${r.L}, M = ${r.M}) | ${r.kernel} | ${r.products} | ${(r.secondsPerCall * 1e3).toFixed(3)} | ${fmt(r.coefficientsPerSecond)} | ${load(r)} |`,
       );
     lines.push('');
   }
@@ -346,6 +355,22 @@ try {
         `pathweave generate, whole process ${spread(row.cliFourSubframesSeconds)} (${spread(row.cliFourSubframesCpuSeconds)}); ` +
         `library: process start to @pathweave/io imported ${spread(row.importedSeconds)}, to the first block ${spread(row.firstBlockSeconds)}, to the end ${spread(row.libraryDoneSeconds)} (${spread(row.libraryCpuSeconds)}) | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
     );
+  }
+
+  if (!flag('--no-kernels')) {
+    // The two SIMD kernels on the dataset's and taps' call shapes, one process, alternating
+    // (bench/kernels.mjs): where the fill's time goes, without the rest of the loop.
+    const loadBefore = loadavg()[0];
+    const r = spawnSync(process.execPath, [join(here, 'kernels.mjs'), String(Math.max(10, 3 * PAIRS))], { encoding: 'utf8' });
+    if (r.status !== 0) throw new Error(`kernels.mjs failed (${r.status}): ${r.stderr}`);
+    log('\nkernels (best of rounds, same process, output in place):');
+    for (const line of r.stdout.trim().split('\n')) {
+      const k = { mode: 'kernels', ...JSON.parse(line), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+      emit(k);
+      log(
+        `  ${k.shape.padEnd(8)} bins ${String(k.bins).padStart(4)} L ${k.L} M ${k.M} ${k.kernel.padEnd(13)} products ${k.products.padEnd(8)} ${(k.secondsPerCall * 1e3).toFixed(3)} ms/call, ${fmt(k.coefficientsPerSecond)} coeff/s`,
+      );
+    }
   }
 
   if (!flag('--no-pool-scaling')) {
