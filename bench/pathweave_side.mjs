@@ -12,32 +12,47 @@
  *            `default` leaves the worker count to generate
  *   e2e-checksum: the same with `checksum: true` (the tensor's SHA-256, as a --shard run)
  *   tracer:  traceScene on the 20-wall room at order 2, receiver moved a little per trace
- *   startup: generate() of the workload's first 4 subframes to `out`, started by this process's
- *            first line; reports the time from process start (performance.now(), whose origin is
- *            the process's start) to the first block filled, and to the end
+ *   startup: generate() of the workload's first 4 subframes to `out`, importing only
+ *            @pathweave/io; reports the time from process start (performance.now(), whose origin
+ *            is the process's start) to the import done, to the first block filled and to the end,
+ *            and the process's CPU seconds (all threads)
  *   rawdisk: write `bytes` (workload.rawBytes) to `out` in 16 MiB writes, then fsync
  * Prints one JSON line.
  */
 import { openSync, readFileSync, writeSync, fsyncSync, closeSync, unlinkSync } from 'node:fs';
-import { allocateKernelArray, KERNEL_NAME } from '@pathweave/core';
-import { traceScene, prepareScene } from '@pathweave/geometry';
-import { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } from '@pathweave/io';
-import { BlockPool, defaultWorkers } from '../packages/io/dist/dataset/workers/pool.js';
-import { twentyWallRoom } from './workloads.mjs';
 
 const [file, mode, workersArg, out] = process.argv.slice(2);
 const cfg = JSON.parse(readFileSync(file, 'utf8'));
 const workers = workersArg === 'default' ? 'default' : Number(workersArg ?? 1);
 const rss = () => process.resourceUsage().maxRSS * 1024;
-const result = { side: 'pathweave', kernel: KERNEL_NAME, workers };
+const result = { side: 'pathweave', workers };
 
 if (mode === 'startup') {
+  // Only what a library user's generate() needs: the io package (which loads core and geometry).
+  const { generate, parseScenarioText } = await import('@pathweave/io');
+  const imported = performance.now();
   const text = JSON.stringify({ ...cfg.scenario, timing: { ...cfg.scenario.timing, subframes: 4 } });
   const { scenario } = parseScenarioText(text);
   let firstBlock;
   await generate(scenario, text, { out, format: 'npy', onProgress: () => (firstBlock ??= performance.now()) });
-  Object.assign(result, { firstBlockSeconds: firstBlock / 1000, doneSeconds: performance.now() / 1000 });
-} else if (mode === 'tracer') {
+  const cpu = process.cpuUsage();
+  Object.assign(result, {
+    importedSeconds: imported / 1000,
+    firstBlockSeconds: firstBlock / 1000,
+    doneSeconds: performance.now() / 1000,
+    cpuSeconds: (cpu.user + cpu.system) / 1e6,
+  });
+  console.log(JSON.stringify(result));
+  process.exit(0);
+}
+const { allocateKernelArray, KERNEL_NAME } = await import('@pathweave/core');
+const { traceScene, prepareScene } = await import('@pathweave/geometry');
+const { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } = await import('@pathweave/io');
+const { BlockPool, defaultWorkers } = await import('../packages/io/dist/dataset/workers/pool.js');
+const { twentyWallRoom } = await import('./workloads.mjs');
+result.kernel = KERNEL_NAME;
+
+if (mode === 'tracer') {
   const ps = prepareScene(twentyWallRoom());
   const tx = { position: [2, 5, 2.5] },
     rx = { position: [17, 7, 1.5] };

@@ -4,8 +4,8 @@
  * the same run, alternating the two sides pair by pair (the machine is shared and noisy), with
  * the median and the spread (min-max) of each side and of the ratio.
  *
- * usage: node bench/run.mjs [--json] [--pairs N] [--only dataset,wideband,taps,tracer] [--combos memory:1,memory:default,e2e:1,e2e:default,e2e:pool,e2e-checksum:1]
- *        [--no-disk] [--no-startup] [--no-scaling] [--no-pool-scaling]
+ * usage: node bench/run.mjs [--json] [--markdown] [--pairs N] [--only dataset,wideband,taps,tracer] [--combos memory:1,memory:default,e2e:1,e2e:default,e2e:pool,e2e-checksum:1]
+ *        [--no-disk] [--no-startup] [--no-kernels] [--no-scaling] [--no-pool-scaling]
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
@@ -15,7 +15,7 @@
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -27,6 +27,7 @@ const argv = process.argv.slice(2);
 const flag = (name) => argv.includes(name);
 const value = (name, d) => (argv.includes(name) ? argv[argv.indexOf(name) + 1] : d);
 const JSON_OUT = flag('--json');
+const MARKDOWN = flag('--markdown'); // also print the tables of docs/performance.md at the end
 const PAIRS = Number(value('--pairs', '5'));
 const ONLY = value('--only', 'dataset,wideband,taps,tracer').split(',');
 const COMBOS = argv.includes('--combos') ? value('--combos').split(',') : undefined; // e.g. memory:1,e2e:default
@@ -77,6 +78,85 @@ function numpyInfo() {
   return { python: exe, blas, openblasCore: core };
 }
 
+/** The tables of docs/performance.md from this run's rows (figures as printed: median [min-max]). */
+function markdown(rows, info, loads) {
+  const lines = [];
+  const load = (r) => (r.loadAverage1m ? `${r.loadAverage1m.before.toFixed(1)}-${r.loadAverage1m.after.toFixed(1)}` : '');
+  const modeName = { memory: 'memory', e2e: 'e2e', 'e2e-checksum': 'e2e with checksum' };
+  const threadsName = { 1: '1 vs 1', default: 'default vs default', pool: `pool (${availableParallelism()} workers) vs default` };
+  lines.push(
+    `Run of \`node bench/run.mjs ${argv.join(' ')}\` (${PAIRS} pairs per figure, ${availableParallelism()} cores, node ${process.version}, ` +
+      `${info.python} numpy ${info.blas}, OpenBLAS core ${info.openblasCore}); load average (1, 5, 15 min) ${loads.start.map((x) => x.toFixed(1)).join(', ')} at the start, ` +
+      `${loads.end.map((x) => x.toFixed(1)).join(', ')} at the end.`,
+    '',
+  );
+  const ratioRows = rows.filter((r) => r.ratio !== undefined);
+  if (ratioRows.length > 0) {
+    lines.push('| workload | figure | pathweave coeff/s | numpy coeff/s | ratio | kernel | load |', '|---|---|---|---|---|---|---|');
+    for (const r of ratioRows)
+      lines.push(
+        `| ${r.workload} | ${modeName[r.mode]}, ${threadsName[r.threads]} (pathweave workers ${r.pathweaveWorkers}) | ${spread(r.pathweave.coefficientsPerSecond)} | ${spread(r.numpy.coefficientsPerSecond)} | ${spread(r.ratio)} | ${r.kernel} | ${load(r)} |`,
+      );
+    const errors = [...new Map(ratioRows.map((r) => [r.workload, r.relativeFrobenius])).entries()];
+    lines.push(
+      '',
+      `Relative Frobenius error against numpy fed pathweave's gains: ${errors.map(([w, e]) => `${w} ${e.toExponential(1)}`).join(', ')} (target 2e-5).`,
+      '',
+    );
+  }
+  for (const r of rows.filter((x) => x.mode === 'disk'))
+    lines.push(
+      `Disk (${r.disk}): raw write + fsync ${fmt(r.rawBytesPerSecond.median / 2 ** 20)} MiB/s [${fmt(r.rawBytesPerSecond.min / 2 ** 20)}-${fmt(r.rawBytesPerSecond.max / 2 ** 20)}], pathweave's file ${fmt(r.pathweaveFileBytesPerSecond.median / 2 ** 20)} MiB/s [${fmt(r.pathweaveFileBytesPerSecond.min / 2 ** 20)}-${fmt(r.pathweaveFileBytesPerSecond.max / 2 ** 20)}], ${spread(r.fraction)} of raw.`,
+      '',
+    );
+  const st = rows.find((x) => x.mode === 'startup');
+  if (st)
+    lines.push(
+      '| start-up (4 subframes of the dataset scene) | wall s | CPU s (all threads) |',
+      '|---|---|---|',
+      `| \`node -e 0\` | ${spread(st.nodeBareSeconds)} | ${spread(st.nodeBareCpuSeconds)} |`,
+      `| \`node packages/io/bin/pathweave.js generate\`, whole process | ${spread(st.cliFourSubframesSeconds)} | ${spread(st.cliFourSubframesCpuSeconds)} |`,
+      `| library: process start to \`@pathweave/io\` imported | ${spread(st.importedSeconds)} | |`,
+      `| library: process start to the first block | ${spread(st.firstBlockSeconds)} | |`,
+      `| library: process start to the end | ${spread(st.libraryDoneSeconds)} | ${spread(st.libraryCpuSeconds)} |`,
+      '',
+      `Load ${load(st)}.`,
+      '',
+    );
+  const pool = rows.filter((x) => x.mode === 'pool-scaling');
+  if (pool.length > 0) {
+    lines.push('| workers | memory coeff/s | memory speed-up over 1 (pair by pair) | e2e coeff/s (whole process) | load |', '|---|---|---|---|---|');
+    for (const r of pool) lines.push(`| ${r.workers} | ${spread(r.memory)} | ${spread(r.memorySpeedup)} | ${spread(r.e2e)} | ${load(r)} |`);
+    lines.push('');
+  }
+  const scaling = rows.filter((x) => x.mode === 'scaling');
+  if (scaling.length > 0) {
+    lines.push('| axis | value | seconds | ns per coefficient-path | end-to-end peak RSS |', '|---|---|---|---|---|');
+    for (const r of scaling)
+      lines.push(
+        `| ${r.axis} | ${r.value} | ${r.seconds.toFixed(3)} | ${r.nsPerCoefficientPath.toFixed(3)} | ${r.endToEndPeakRssBytes ? `${(r.endToEndPeakRssBytes / 2 ** 20).toFixed(0)} MiB` : ''} |`,
+      );
+    lines.push('');
+  }
+  const kernels = rows.filter((x) => x.mode === 'kernels');
+  if (kernels.length > 0) {
+    lines.push('| call shape | kernel | products | ms per call | complex coefficients / s | load |', '|---|---|---|---|---|---|');
+    for (const r of kernels)
+      lines.push(
+        `| ${r.shape} (${r.bins} bins, L = ${r.L}, M = ${r.M}) | ${r.kernel} | ${r.products} | ${(r.secondsPerCall * 1e3).toFixed(3)} | ${fmt(r.coefficientsPerSecond)} | ${load(r)} |`,
+      );
+    lines.push('');
+  }
+  for (const r of rows.filter((x) => x.mode === 'tracer'))
+    lines.push(
+      `Tracer (${r.description}): ${spread(r.tracesPerSecond)} traces/s, ${r.validPaths} valid paths, peak RSS ${(r.maxRssBytes / 2 ** 20).toFixed(0)} MiB.`,
+      '',
+    );
+  return lines.join('\n');
+}
+
+const startLoad = loadavg();
+let benchInfo;
 const dir = mkdtempSync(join(MEMDIR, 'pathweave-bench-'));
 const results = [];
 const emit = (row) => {
@@ -86,6 +166,7 @@ const emit = (row) => {
 
 try {
   const info = numpyInfo();
+  benchInfo = info;
   log(`pathweave bench: ${PAIRS} alternating pairs per figure; median [min-max]; ${availableParallelism()} cores; node ${process.version}`);
   log(`numpy side: ${info.python}, numpy ${info.blas}, OpenBLAS core ${info.openblasCore} (OPENBLAS_CORETYPE/OPENBLAS_L2_SIZE unset for it)`);
   for (const name of ONLY) {
@@ -229,38 +310,67 @@ try {
 
   if (!flag('--no-startup')) {
     // Start-up: a bare node, then the command line generating 4 subframes of the dataset scene
-    // (whole process), then the time from process start to the first block inside generate().
+    // (whole process), then a library run (import @pathweave/io, generate()) timed from the
+    // process start to the import, to the first block and to the end; CPU seconds of every
+    // process (all threads: waits for a core do not count, so they say more on a busy machine).
     const base = WORKLOADS.dataset.scenario;
     const f = join(dir, 'startup.json');
     writeFileSync(f, JSON.stringify({ ...base, timing: { ...base.timing, subframes: 4 } }));
     writeFileSync(join(dir, 'startup-cfg.json'), JSON.stringify({ scenario: base }));
     const bin = join(here, '..', 'packages', 'io', 'bin', 'pathweave.js');
+    const timeBin = existsSync('/usr/bin/time') ? '/usr/bin/time' : undefined;
     const wall = (args) => {
       const t0 = process.hrtime.bigint();
-      const r = spawnSync(process.execPath, args, { encoding: 'utf8' });
+      const r = timeBin
+        ? spawnSync(timeBin, ['-f', 'cpu %U %S', process.execPath, ...args], { encoding: 'utf8' })
+        : spawnSync(process.execPath, args, { encoding: 'utf8' });
       if (r.status !== 0) throw new Error(`node ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
-      return Number(process.hrtime.bigint() - t0) / 1e9;
+      const cpu = /cpu ([\d.]+) ([\d.]+)\s*$/.exec(r.stderr);
+      return { wall: Number(process.hrtime.bigint() - t0) / 1e9, cpu: cpu ? Number(cpu[1]) + Number(cpu[2]) : NaN };
     };
     const loadBefore = loadavg()[0];
     const bare = [],
       cli = [],
-      first = [];
+      lib = [];
     for (let i = 0; i < PAIRS; i++) {
       bare.push(wall(['-e', '0']));
       cli.push(wall([bin, 'generate', f, '--out', join(dir, 'startup.npy'), '--quiet']));
-      first.push(pw([join(dir, 'startup-cfg.json'), 'startup', '1', join(dir, 'startup2.npy')]).firstBlockSeconds);
+      lib.push(pw([join(dir, 'startup-cfg.json'), 'startup', '1', join(dir, 'startup2.npy')]));
     }
     const row = {
       mode: 'startup',
-      nodeBareSeconds: stats(bare),
-      cliFourSubframesSeconds: stats(cli),
-      firstBlockSeconds: stats(first),
+      nodeBareSeconds: stats(bare.map((r) => r.wall)),
+      nodeBareCpuSeconds: stats(bare.map((r) => r.cpu)),
+      cliFourSubframesSeconds: stats(cli.map((r) => r.wall)),
+      cliFourSubframesCpuSeconds: stats(cli.map((r) => r.cpu)),
+      importedSeconds: stats(lib.map((r) => r.importedSeconds)),
+      firstBlockSeconds: stats(lib.map((r) => r.firstBlockSeconds)),
+      libraryDoneSeconds: stats(lib.map((r) => r.doneSeconds)),
+      libraryCpuSeconds: stats(lib.map((r) => r.cpuSeconds)),
       loadAverage1m: { before: loadBefore, after: loadavg()[0] },
     };
     emit(row);
     log(
-      `\nstart-up (4 subframes of the dataset scene): node -e 0 ${spread(row.nodeBareSeconds)} s; pathweave generate (whole process) ${spread(row.cliFourSubframesSeconds)} s; process start to first block ${spread(row.firstBlockSeconds)} s | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
+      `\nstart-up (4 subframes of the dataset scene; wall s, CPU s in parentheses): node -e 0 ${spread(row.nodeBareSeconds)} (${spread(row.nodeBareCpuSeconds)}); ` +
+        `pathweave generate, whole process ${spread(row.cliFourSubframesSeconds)} (${spread(row.cliFourSubframesCpuSeconds)}); ` +
+        `library: process start to @pathweave/io imported ${spread(row.importedSeconds)}, to the first block ${spread(row.firstBlockSeconds)}, to the end ${spread(row.libraryDoneSeconds)} (${spread(row.libraryCpuSeconds)}) | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
     );
+  }
+
+  if (!flag('--no-kernels')) {
+    // The two SIMD kernels on the dataset's and taps' call shapes, one process, alternating
+    // (bench/kernels.mjs): where the fill's time goes, without the rest of the loop.
+    const loadBefore = loadavg()[0];
+    const r = spawnSync(process.execPath, [join(here, 'kernels.mjs'), String(Math.max(10, 3 * PAIRS))], { encoding: 'utf8' });
+    if (r.status !== 0) throw new Error(`kernels.mjs failed (${r.status}): ${r.stderr}`);
+    log('\nkernels (best of rounds, same process, output in place):');
+    for (const line of r.stdout.trim().split('\n')) {
+      const k = { mode: 'kernels', ...JSON.parse(line), loadAverage1m: { before: loadBefore, after: loadavg()[0] } };
+      emit(k);
+      log(
+        `  ${k.shape.padEnd(8)} bins ${String(k.bins).padStart(4)} L ${k.L} M ${k.M} ${k.kernel.padEnd(13)} products ${k.products.padEnd(8)} ${(k.secondsPerCall * 1e3).toFixed(3)} ms/call, ${fmt(k.coefficientsPerSecond)} coeff/s`,
+      );
+    }
   }
 
   if (!flag('--no-pool-scaling')) {
@@ -351,3 +461,5 @@ try {
 } finally {
   rmSync(dir, { recursive: true, force: true });
 }
+if (MARKDOWN && benchInfo !== undefined)
+  (JSON_OUT ? process.stderr : process.stdout).write('\n' + markdown(results, benchInfo, { start: startLoad, end: loadavg() }) + '\n');

@@ -213,6 +213,8 @@ export class ChannelGenerator {
   private readonly varying: boolean;
   private readonly amplitudeScale: number;
   private preparedAt = -1;
+  /** Changes whenever prepare() rewrites the products (the SIMD kernels reuse their float32 copy while it stays). */
+  private productsStamp = 0;
   /** Polarised-port assembly (module comment), undefined otherwise. */
   private readonly ports:
     | {
@@ -428,6 +430,7 @@ export class ChannelGenerator {
   private prepare(step: number): void {
     if (this.preparedAt === step && this.varying) return;
     this.preparedAt = step;
+    this.productsStamp = nextProductsStamp++;
     const spec = this.spec;
     const frame = this.frame;
     const L = this.pathCount;
@@ -582,7 +585,7 @@ export class ChannelGenerator {
         weights[2 * (k * L + l) + 1] = gr * ci + gi * cr;
       }
     }
-    if (this.squint === undefined) accumulatePaths(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator);
+    if (this.squint === undefined) accumulatePaths(out, offset, weights, this.products, this.bins, L, this.elementPairs, this.accumulator, this.productsStamp);
     else this.assembleSquinted(out, offset, L);
   }
 
@@ -628,6 +631,9 @@ export class ChannelGenerator {
     if (message !== undefined) this.warnings.push(message);
   }
 }
+
+/** Stamps unique across generators, so two generators' products never share one. */
+let nextProductsStamp = 1;
 
 function readVec(src: Float64Array, l: number, out: Vec3): Vec3 {
   out[0] = src[3 * l]!;

@@ -144,6 +144,46 @@ for (const { name, kernel: wasm, allocate } of BUILDS) {
       expect(relativeFrobenius(fast, plain)).toBeLessThan(1e-6);
     });
 
+    it.each([
+      ['copying path', false, Float32Array],
+      ['in place', true, Float32Array],
+      ['copying path', false, Float64Array],
+      ['in place', true, Float64Array],
+    ] as const)(
+      'a products stamp (%s, %o, %o): the same bits as without one; a new stamp reads new products; the same stamp reuses the staged copy',
+      (_, inPlace, type) => {
+        const bins = 5,
+          L = 3,
+          M = 11;
+        const make = (): Float32Array | Float64Array => (inPlace ? allocate!(2 * bins * M, type) : new type(2 * bins * M));
+        const w = values(2 * bins * L, 14),
+          w2 = values(2 * bins * L, 15),
+          p = values(2 * L * M, 16);
+        const p17 = values(p.length, 17);
+        // References without a stamp first (on the copying path they share the stamped calls' instance).
+        const ref1 = make(),
+          ref2 = make();
+        wasm!(ref1, 0, w2, p, bins, L, M);
+        wasm!(ref2, 0, w2, p17, bins, L, M);
+        const stamped = make();
+        // Other weights with the same stamp: the products staged by the first call serve the second.
+        wasm!(stamped, 0, w, p, bins, L, M, 41);
+        wasm!(stamped, 0, w2, p, bins, L, M, 41);
+        expect(bits(stamped)).toEqual(bits(ref1));
+        // Changed in place with a new stamp: read again.
+        p.set(p17);
+        wasm!(stamped, 0, w2, p, bins, L, M, 42);
+        expect(bits(stamped)).toEqual(bits(ref2));
+        // The same stamp after a change breaks the caller's promise: the staged copy is what counts.
+        p.set(values(p.length, 18));
+        wasm!(stamped, 0, w2, p, bins, L, M, 42);
+        expect(bits(stamped)).toEqual(bits(ref2));
+        const ref3 = make();
+        wasm!(ref3, 0, w2, p, bins, L, M);
+        expect(bits(ref3)).not.toEqual(bits(ref2));
+      },
+    );
+
     it('gives each bin the same bits whichever bins a call covers (large outputs are split into chunks)', () => {
       const bins = 70,
         L = 8,

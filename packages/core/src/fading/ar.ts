@@ -20,7 +20,7 @@
  *
  * Gains: [steps, L] complex interleaved (gains.ts), path l at step s at 2 (s L + l).
  */
-import { CholeskyDecomposition, EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { loadMlMatrix } from '../lazy-modules.js';
 import { besselJ0 } from '../bessel.js';
 import type { GainProcess } from '../gains.js';
 import { BlockedStreams, RandomStream } from '../random.js';
@@ -114,6 +114,7 @@ export function fitAutoregressive(target: Float64Array, loading = AR_DEFAULT_LOA
   const r = new Float64Array(p + 1);
   r[0] = 1;
   for (let k = 1; k <= p; k++) r[k] = target[k]! / (1 + loading);
+  const { CholeskyDecomposition, EigenvalueDecomposition, Matrix } = loadMlMatrix();
   const toeplitz = Matrix.zeros(p, p);
   for (let i = 0; i < p; i++) for (let j = 0; j < p; j++) toeplitz.set(i, j, r[Math.abs(i - j)]!);
   const eigen = new EigenvalueDecomposition(toeplitz, { assumeSymmetric: true }).realEigenvalues;

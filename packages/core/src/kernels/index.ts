@@ -10,21 +10,34 @@
  *
  * Layouts: see accumulate.ts (weights [bins, L], products [L, M], out [bins, M], complex interleaved).
  */
-import { accumulatePathsPlain } from './accumulate.js';
+import { accumulatePathsPlain, type KernelOut } from './accumulate.js';
 import { FMA_KERNEL_PATH, loadWasmKernel, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
 export { accumulatePathsPlain, type KernelOut } from './accumulate.js';
 export { FMA_KERNEL_PATH, loadWasmKernel, WASM_KERNEL_PATH, type WasmKernelAllocate, type WasmKernelFunction } from './wasm.js';
 
 /**
- * Signature of an accumulate kernel (see accumulate.ts for the layouts).
+ * Signature of an accumulate kernel (see accumulate.ts for the layouts). `scratch` (2 M values)
+ * is used by the plain kernel only; `productsStamp`, optional, lets a SIMD kernel reuse its
+ * converted copy of `products` when the same array comes with the same stamp as in its previous
+ * call (the caller's promise that the values did not change; the plain kernel reads them anyway).
  * @example
  * const kernel: AccumulateKernel = accumulatePathsPlain;
  * const out = new Float32Array(2);
  * kernel(out, 0, Float64Array.of(0.5, 0), Float64Array.of(0, 2), 1, 1, 1, new Float64Array(2));
  * out // Float32Array [0, 1]: 0.5 * 2j
  */
-export type AccumulateKernel = typeof accumulatePathsPlain;
+export type AccumulateKernel = (
+  out: KernelOut,
+  outOffset: number,
+  weights: Float64Array,
+  products: Float64Array,
+  bins: number,
+  paths: number,
+  elementPairs: number,
+  scratch: Float64Array,
+  productsStamp?: number,
+) => void;
 
 /**
  * Name of the plain JavaScript kernel (float64 accumulation).
@@ -67,7 +80,7 @@ function choose(): { name: string; kernel: AccumulateKernel; allocate: WasmKerne
     if (k !== undefined)
       return {
         name: FMA_KERNEL_NAME,
-        kernel: (out, offset, w, p, bins, L, M) => k(out, offset, w, p, bins, L, M),
+        kernel: (out, offset, w, p, bins, L, M, _scratch, stamp) => k(out, offset, w, p, bins, L, M, stamp),
         allocate: fma.allocate!,
         reason: 'WebAssembly relaxed SIMD validates and fuses multiply-add',
       };
@@ -78,7 +91,12 @@ function choose(): { name: string; kernel: AccumulateKernel; allocate: WasmKerne
   if (wasm === undefined)
     return { name: PLAIN_KERNEL_NAME, kernel: accumulatePathsPlain, allocate: plainAllocate, reason: [...reasons, simd.reason ?? 'unknown'].join('; ') };
   const why = unfused ? `PATHWEAVE_KERNEL=${forced}` : `WebAssembly SIMD validates (fused kernel not used: ${reasons.join('; ')})`;
-  return { name: WASM_KERNEL_NAME, kernel: (out, offset, w, p, bins, L, M) => wasm(out, offset, w, p, bins, L, M), allocate: simd.allocate!, reason: why };
+  return {
+    name: WASM_KERNEL_NAME,
+    kernel: (out, offset, w, p, bins, L, M, _scratch, stamp) => wasm(out, offset, w, p, bins, L, M, stamp),
+    allocate: simd.allocate!,
+    reason: why,
+  };
 }
 
 const chosen = choose();

@@ -12,8 +12,9 @@
  *   out      [bins, M]  from `outOffset`; a Float32Array is accumulated in float32 lanes, a
  *                       Float64Array in float64 lanes (complex128 keeps double precision)
  * The products are copied and converted on every call (a memcpy of 16 L M bytes and one SIMD
- * pass, against 8 bins L M flops): nothing is cached, so products that change in place between
- * calls (moving geometry) are always seen.
+ * pass, against 8 bins L M flops) unless the caller passes the stamp of the previous call for the
+ * same array (its promise that they did not change): a taps call (64 bins) spent about as much
+ * memory traffic on staging the products as on its output.
  *
  * Output: an array from `allocate` lives in the WebAssembly memory of an instance of its own
  * (grown once, never again, so the view stays valid); the kernel then writes all bins of a call
@@ -74,13 +75,15 @@ interface KernelExports {
 const align = (n: number): number => Math.ceil(n / 16) * 16;
 
 /**
- * Workspace bytes of one call: staged float64 products and weights, then P, Q and weights in the
- * kernel's float type (the fused f32 kernel: P and 16-byte weights, no Q).
+ * Workspace bytes of one call: P (and Q) in the kernel's float type first, at a fixed address so
+ * they survive between calls with the same products; then the weights in the kernel's form (the
+ * fused f32 kernel: 16-byte weights, no Q); then one float64 staging area, used in turn for the
+ * products and the weights (float64 output: the products and weights are staged in place).
  */
 function workspaceBytes(bins: number, L: number, M: number, double: boolean, fused: boolean): number {
-  const staged = align(16 * L * M) + align(16 * bins * L);
-  if (double) return staged + align(16 * L * M);
-  return fused ? staged + align(8 * L * M) + align(16 * bins * L) : staged + 2 * align(8 * L * M) + align(8 * bins * L);
+  if (double) return 2 * align(16 * L * M) + align(16 * bins * L);
+  const stage = align(16 * Math.max(L * M, bins * L));
+  return fused ? align(8 * L * M) + align(16 * bins * L) + stage : 2 * align(8 * L * M) + align(8 * bins * L) + stage;
 }
 
 /** One instance of the SIMD kernel with its linear-memory workspace at [base, base + workspace). */
@@ -90,6 +93,8 @@ class WasmKernel {
   private f32: Float32Array;
   /** The fused (relaxed-SIMD multiply-add) build: f32 weights of 16 bytes, no Q. */
   private readonly fused: boolean;
+  /** What P (and Q) at `base` hold: the products array, its stamp and shape (undefined: nothing reusable). */
+  private staged: { products: Float64Array; stamp: number; L: number; M: number; double: boolean } | undefined;
 
   /** `fixedWorkspace`: the memory was sized once and must never grow (an allocated output array lives in it). */
   constructor(
@@ -133,50 +138,58 @@ class WasmKernel {
 
   /**
    * Stage weights and products and run the kernel. `target` is the byte address of out[outOffset]
-   * when out lives in this instance's memory, else undefined (chunks copied into `out`).
+   * when out lives in this instance's memory, else undefined (chunks copied into `out`). With a
+   * `stamp` equal to the previous call's, for the same products array and shape, the staged P
+   * (and Q) are reused: the caller promises the products did not change in between.
    */
-  run(out: KernelOut, outOffset: number, weights: Float64Array, products: Float64Array, bins: number, L: number, M: number, target: number | undefined): void {
+  run(
+    out: KernelOut,
+    outOffset: number,
+    weights: Float64Array,
+    products: Float64Array,
+    bins: number,
+    L: number,
+    M: number,
+    target: number | undefined,
+    stamp: number | undefined,
+  ): void {
     const double = out instanceof Float64Array;
     const eb = double ? 16 : 8; // bytes per complex value
     const fusedF32 = this.fused && !double;
     const wb = fusedF32 ? 16 : eb; // bytes per staged weight
     const chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
-    const stageP = this.base;
-    const stageW = stageP + align(16 * L * M);
-    let p: number, q: number, w: number, o: number;
+    const p = this.base;
+    let q: number, w: number, stage: number, o: number;
     if (double) {
-      p = stageP;
-      w = stageW;
-      q = stageW + align(16 * bins * L);
-      o = q + align(16 * L * M);
-    } else if (fusedF32) {
-      p = stageW + align(16 * bins * L);
-      q = p; // unused: the fused kernel swaps P in a register
-      w = p + align(8 * L * M);
+      q = p + align(16 * L * M);
+      w = q + align(16 * L * M); // products and weights are staged where the kernel reads them
+      stage = w;
       o = w + align(16 * bins * L);
     } else {
-      p = stageW + align(16 * bins * L);
-      q = p + align(8 * L * M);
-      w = q + align(8 * L * M);
-      o = w + align(8 * bins * L);
+      q = fusedF32 ? p : p + align(8 * L * M); // fused: unused, the kernel swaps P in a register
+      w = fusedF32 ? p + align(8 * L * M) : q + align(8 * L * M);
+      stage = w + align(wb * bins * L);
+      o = stage + align(16 * Math.max(L * M, bins * L));
     }
     this.reserve(o - this.base + (target === undefined ? align(chunkBins * M * eb) : 0));
     const f64 = this.f64;
-    f64.set(products.subarray(0, 2 * L * M), stageP / 8);
-    f64.set(weights.subarray(0, 2 * bins * L), stageW / 8);
+    const s = this.staged;
+    const reuse = stamp !== undefined && s !== undefined && s.products === products && s.stamp === stamp && s.L === L && s.M === M && s.double === double;
+    if (!reuse) {
+      this.staged = undefined;
+      f64.set(products.subarray(0, 2 * L * M), (double ? p : stage) / 8);
+      if (double) this.exports.turnF64(q, p, L * M);
+      else if (fusedF32) this.exports.roundF32(p, stage, 2 * L * M);
+      else this.exports.prepareF32(p, q, stage, L * M);
+      if (stamp !== undefined) this.staged = { products, stamp, L, M, double };
+    }
+    f64.set(weights.subarray(0, 2 * bins * L), stage / 8);
+    if (fusedF32) this.exports.weightsFusedF32(w, stage, bins * L);
+    else if (!double) this.exports.roundF32(w, stage, 2 * bins * L);
     // Complex columns per register block (f32: 2 bins x 4, fused 2 bins x 8; f64: 1 bin x 4); the
     // P (and Q) columns of one tile fill about TILE_BYTES.
     const lanes = fusedF32 ? 8 : 4;
     const tile = Math.max(lanes, Math.floor(TILE_BYTES / ((fusedF32 ? 1 : 2) * L * eb * lanes)) * lanes);
-    if (double) {
-      this.exports.turnF64(q, p, L * M);
-    } else if (fusedF32) {
-      this.exports.roundF32(p, stageP, 2 * L * M);
-      this.exports.weightsFusedF32(w, stageW, bins * L);
-    } else {
-      this.exports.prepareF32(p, q, stageP, L * M);
-      this.exports.roundF32(w, stageW, 2 * bins * L);
-    }
     const kernel = double ? this.exports.accumulateF64 : this.exports.accumulateF32;
     if (target !== undefined) {
       // Straight into the caller's array, still chunk by chunk: a chunk's rows stay in L2 while
@@ -242,7 +255,7 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): {
   const first = instantiate();
   const build = first.fusedBuild() === 1;
   const shared = new WasmKernel(first);
-  const kernel: WasmKernelFunction = (out, outOffset, weights, products, bins, paths, elementPairs) => {
+  const kernel: WasmKernelFunction = (out, outOffset, weights, products, bins, paths, elementPairs, productsStamp) => {
     if (bins === 0 || elementPairs === 0) return;
     if (paths === 0) {
       out.fill(0, outOffset, outOffset + 2 * bins * elementPairs);
@@ -250,8 +263,8 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): {
     }
     const own = pinned.get(out.buffer as ArrayBuffer);
     if (own !== undefined && own.fits(bins, paths, elementPairs, out instanceof Float64Array)) {
-      own.run(out, outOffset, weights, products, bins, paths, elementPairs, out.byteOffset + outOffset * out.BYTES_PER_ELEMENT);
-    } else shared.run(out, outOffset, weights, products, bins, paths, elementPairs, undefined);
+      own.run(out, outOffset, weights, products, bins, paths, elementPairs, out.byteOffset + outOffset * out.BYTES_PER_ELEMENT, productsStamp);
+    } else shared.run(out, outOffset, weights, products, bins, paths, elementPairs, undefined, productsStamp);
   };
   const allocate: WasmKernelAllocate = (length, type) => {
     if (!Number.isInteger(length) || length < 0) throw new RangeError(`allocate(): length must be an integer >= 0, got ${length}`);
@@ -267,7 +280,10 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): {
 }
 
 /**
- * The SIMD kernel's call signature (the plain kernel's, without a scratch array).
+ * The SIMD kernel's call signature (the plain kernel's, without a scratch array). `productsStamp`:
+ * optional; a caller that passes the same products array with the same stamp as in its previous
+ * call promises the values did not change, and the kernel then reuses its float32 (or turned)
+ * copy instead of converting them again; a new stamp, or none, always reads them.
  * @example const k: WasmKernelFunction = loadWasmKernel().kernel!; k(out, 0, w, p, bins, L, M) // out[k, m] = sum_l w[k, l] p[l, m]
  */
 export type WasmKernelFunction = (
@@ -278,6 +294,7 @@ export type WasmKernelFunction = (
   bins: number,
   paths: number,
   elementPairs: number,
+  productsStamp?: number,
 ) => void;
 
 /**

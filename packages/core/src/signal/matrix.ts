@@ -15,7 +15,7 @@
  * real 2Nr x 2Nt matrix [[A, -B], [B, A]], whose singular values are those of H, each exactly
  * twice (the embedding is unitarily similar to diag(H, conj(H))); every other one is kept.
  */
-import { SingularValueDecomposition } from 'ml-matrix';
+import { loadMlMatrix } from '../lazy-modules.js';
 import { SPEED_OF_LIGHT, unitFromDeg, type AntennaArray, type Vec3 } from '@pathweave/geometry';
 import type { ChannelGenerator, TensorArray } from '../channel.js';
 import { checkComplexArray, checkInteger, checkPositive, type ComplexArray } from './checks.js';
@@ -157,7 +157,11 @@ export function complexSingularValues(data: ComplexArray, offset: number, Nr: nu
       real[r + Nr]![c + Nt] = re;
     }
   }
-  const all = new SingularValueDecomposition(real, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal
+  const all = new (loadMlMatrix().SingularValueDecomposition)(real, {
+    computeLeftSingularVectors: false,
+    computeRightSingularVectors: false,
+    autoTranspose: true,
+  }).diagonal
     .slice()
     .sort((a, b) => b - a);
   // Each value appears twice: keep one of each pair.

@@ -11,7 +11,8 @@
  * subcarrier k as H[k] = sum_d h[d] exp(-j 2 pi k' d / K) (no 1 / sqrt K on H, as docs/conventions.md's
  * "DFT of h equals H").
  */
-import FFT from 'fft.js';
+import type FFT from 'fft.js';
+import { loadFft } from '../lazy-modules.js';
 import { allocateLike, checkInteger, checkLength, checkSignal, type ComplexArray } from './checks.js';
 
 /**
@@ -56,7 +57,7 @@ export class OfdmModem {
     this.subcarriers = K;
     this.cyclicPrefix = options.cyclicPrefix;
     this.symbolLength = K + this.cyclicPrefix;
-    this.fft = new FFT(K);
+    this.fft = new (loadFft())(K);
     this.fftIndex = new Int32Array(K);
     const centre = Math.floor(K / 2);
     for (let k = 0; k < K; k++) this.fftIndex[k] = (k - centre + K) % K;

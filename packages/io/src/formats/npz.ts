@@ -21,9 +21,10 @@
  *
  * The archive is written to a temporary file beside the target and renamed on commit.
  */
+import { createRequire } from 'node:module';
 import { endianness } from 'node:os';
 import { Readable } from 'node:stream';
-import yazl from 'yazl';
+import type * as Yazl from 'yazl';
 import { AtomicFile } from './atomic.js';
 import { NPY_DESCR, npyHeader } from './npy.js';
 import type { ArrayData, Attribute, DatasetSink, DType, NamedArray, StreamedArrayHeader } from './sink.js';
@@ -264,11 +265,16 @@ function checkLevel(fn: string, what: string, level: unknown): number {
 
 type SinkState = 'open' | 'committing' | 'committed' | 'aborted';
 
+/** yazl, loaded when the first .npz is opened: a .npy or HDF5 run does not load it (start-up). */
+const requireHere = createRequire(import.meta.url);
+let yazlModule: typeof Yazl | undefined;
+const loadYazl = (): typeof Yazl => (yazlModule ??= requireHere('yazl') as typeof Yazl);
+
 /** Bytes handed to the zip writer at a time (bounds the memory held in its pipeline). */
 const NPZ_PIECE_BYTES = 1 << 20;
 
 class NpzSink implements DatasetSink {
-  private readonly zip = new yazl.ZipFile();
+  private readonly zip = new (loadYazl().ZipFile)();
   private readonly names = new Set<string>();
   private state: SinkState = 'open';
   private failure: Error | undefined;
@@ -294,8 +300,8 @@ class NpzSink implements DatasetSink {
     })().catch(fail);
   }
 
-  private entryOptions(level: number): Partial<yazl.Options> {
-    const options: Partial<yazl.Options> = {
+  private entryOptions(level: number): Partial<Yazl.Options> {
+    const options: Partial<Yazl.Options> = {
       mtime: new Date(...NPZ_ENTRY_TIME),
       mode: 0o100644,
       compress: level > 0,
