@@ -33,11 +33,19 @@ const figures = {
   'street-corner-28ghz': ['scene', 'delay-profile', 'angles', 'time-frequency'],
   'factory-floor-60ghz': ['scene', 'delay-profile'],
   'highway-39ghz': ['scene', 'delay-profile'],
+  'corner-walk-28ghz': ['scene', 'power'],
 };
 for (const [name, kinds] of Object.entries(figures)) {
   const source = await plot.openPlotSource(join(ROOT, 'examples', `${name}.json`));
   source.file = `examples/${name}.json`;
   for (const kind of kinds) await emit(`${name}-${kind}`, await plot.plotSource(source, kind));
+}
+
+// The corner walk once around the corner: the paths diffracted at the block's corner and reflected.
+{
+  const source = await plot.openPlotSource(join(ROOT, 'examples', 'corner-walk-28ghz.json'));
+  source.file = 'examples/corner-walk-28ghz.json';
+  await emit('corner-walk-28ghz-scene-around-corner', await plot.plotSource(source, 'scene', { atS: 17 }));
 }
 
 // Gain correlation of real runs: 16 explicit paths of equal power, one moving end at 3 m/s,

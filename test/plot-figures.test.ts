@@ -251,7 +251,7 @@ describe('pathweave plot', () => {
     expect(readFileSync(join(dir, 'delay-profile.svg'), 'utf8')).toContain('truth tables at subframe 0');
     const bad = runCli(['plot', 'examples/street-corner-28ghz.json', '--kind', 'spectrum', '--out', join(dir, 'x.svg')]);
     expect(bad.status).toBe(2);
-    expect(bad.stderr).toContain('--kind must be one of scene, delay-profile, angles, time-frequency, correlation, got "spectrum"');
+    expect(bad.stderr).toContain('--kind must be one of scene, delay-profile, angles, time-frequency, correlation, power, got "spectrum"');
     expect(runCli(['plot', 'examples/street-corner-28ghz.json', '--kind', 'scene', '--out', join(dir, 'x.png')]).status).toBe(2);
     const missing = runCli(['plot', join(dir, 'nope.json'), '--kind', 'scene', '--out', join(dir, 'x.svg')]);
     expect(missing.status).toBe(2);

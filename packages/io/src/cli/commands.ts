@@ -29,7 +29,7 @@ const DETAILS: Record<string, string> = {
   --out FILE          the merged file
   --quiet             print nothing on stdout and no progress`,
   plot: `Draw an SVG figure of a scenario (run in memory) or of an output file.
-  --kind K            scene, delay-profile, angles, time-frequency or correlation
+  --kind K            scene, delay-profile, angles, time-frequency, correlation or power
   --out FILE.svg      the figure written
   --at SECONDS        the instant of the path snapshot (scene, delay-profile, angles)
   --user ID|N         the receiver of a scenario with "receivers": its id, or its index from 0
