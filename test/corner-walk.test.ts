@@ -50,7 +50,7 @@ describe('corner walk at 28 GHz', () => {
     // Line of sight at the start, dominant and at the free-space power.
     const rx = source.built.users[0]!.spec.receiver.motion!.positionAt(0, [0, 0, 0]);
     const tx = scenario.transmitter.position;
-    const d = Math.hypot(rx[0] - tx[0], rx[1] - tx[1], rx[2] - tx[2]);
+    const d = Math.hypot(rx[0] - tx[0], rx[1] - tx[1], rx[2] - (tx[2] ?? 0));
     expect(los[0]!).toBeCloseTo(20 * Math.log10(wavelength(28e9) / (4 * Math.PI * d)), 6);
     expect(los[0]!).toBeGreaterThan(total[0]! - 3);
     // No line of sight at the end: diffraction carries the channel, with diffracted-and-reflected paths.

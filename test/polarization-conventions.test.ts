@@ -126,10 +126,10 @@ describe('Fresnel sign convention (TE perpendicular, TM in the plane of incidenc
       const er: Vec3 = [a * s[0] + b * pr[0], a * s[1] + b * pr[1], a * s[2] + b * pr[2]];
       const row0 = dot(er, arr.subarray(0, 3)),
         row1 = dot(er, arr.subarray(3, 6));
-      expect(path.polarimetric[0][col][0]).toBeCloseTo(row0, 12);
-      expect(path.polarimetric[1][col][0]).toBeCloseTo(row1, 12);
-      expect(path.polarimetric[0][col][1]).toBeCloseTo(0, 12);
-      expect(path.polarimetric[1][col][1]).toBeCloseTo(0, 12);
+      expect(path.polarimetric[0][col]![0]).toBeCloseTo(row0, 12);
+      expect(path.polarimetric[1][col]![0]).toBeCloseTo(row1, 12);
+      expect(path.polarimetric[0][col]![1]).toBeCloseTo(0, 12);
+      expect(path.polarimetric[1][col]![1]).toBeCloseTo(0, 12);
     }
     // The check can fail: theta_hat lies in the plane of incidence (TM) and phi_hat across it
     // (TE), and the two coefficients differ here, so swapping TE and TM or the sign of TM would not pass.
