@@ -38,7 +38,7 @@ export function fraunhoferDistanceM(array: AntennaArray, carrierHz: number): num
  * points inside the apertures, so the phase error of plane responses at both ends is at most
  * k0 (D_a + D_b)^2 / (8 d): pi / 8 (22.5 degrees) at this distance, the same criterion as the
  * single-aperture 2 D^2 / lambda (D_b = 0).
- * @example linkFraunhoferDistanceM(0.315, 0.0154, 30e9) // 21.857: 2 x 0.3304^2 / 9.993 mm (a 64-element and a 4-element array)
+ * @example linkFraunhoferDistanceM(0.315, 0.015, 30e9) // 21.795: 2 x 0.33^2 / 9.993 mm (64 and 4 elements at 5 mm)
  */
 export function linkFraunhoferDistanceM(apertureAM: number, apertureBM: number, carrierHz: number): number {
   const D = apertureAM + apertureBM;
