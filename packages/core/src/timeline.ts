@@ -354,9 +354,7 @@ export class TracedTimeline implements PathTimeline {
       frame.dopplerHz[l] = p.dopplerHz;
       frame.visibility[l] = w;
       frame.lengthM[l] = p.lengthM;
-      const ranges = wavefrontRangesM(p, this.scratchTx, this.scratchRx, p.lengthM);
-      frame.rangeM[2 * l] = ranges[0];
-      frame.rangeM[2 * l + 1] = ranges[1];
+      wavefrontRangesM(frame.rangeM, 2 * l, p, this.scratchTx, this.scratchRx, p.lengthM);
       if (!specularImageMap(frame.image, 9 * l, p, this.scratchTx, this.scratchRx)) frame.image[9 * l] = Number.NaN;
       if (p.kind === 'los' && w > 0) frame.lineOfSight = true;
     });

@@ -205,23 +205,45 @@ export function specularImageMap(out: Float64Array, offset: number, path: Wavefr
 }
 
 /**
- * The ranges of a path's wavefront at its two ends, metres: how far along the path, from each
- * terminal, the wave's centre of curvature lies. Specular interactions keep the image, so the
- * range runs to the nearest scatterer or edge along the path, else the unfolded length
- * (`lengthM`). An edge is treated as a point source (its curvature along the edge, s + s', is
- * not modelled). Returns [departure side, arrival side].
- * @example wavefrontRangesM({ interactions: [{ type: 'scatter', point: [3, 4, 0] }] }, [0, 0, 0], [6, 0, 0], 10) // [5, 5]
+ * The ranges of a path's wavefront at its two ends, metres, into out[offset] (departure side) and
+ * out[offset + 1] (arrival side): how far along the path, from each terminal, the wave's centre
+ * of curvature lies. Specular interactions keep the image, so the range runs to the nearest
+ * scatterer or edge along the path, else the unfolded length (`lengthM`). An edge is treated as a
+ * point source (its curvature along the edge, s + s', is not modelled).
+ * @example wavefrontRangesM(new Float64Array(2), 0, { interactions: [{ type: 'scatter', point: [3, 4, 0] }] }, [0, 0, 0], [6, 0, 0], 10) // Float64Array [5, 5]
  */
-export function wavefrontRangesM(path: WavefrontPath, txPosition: Readonly<Vec3>, rxPosition: Readonly<Vec3>, lengthM: number): [number, number] {
+export function wavefrontRangesM(
+  out: Float64Array,
+  offset: number,
+  path: WavefrontPath,
+  txPosition: Readonly<Vec3>,
+  rxPosition: Readonly<Vec3>,
+  lengthM: number,
+): Float64Array {
   const its = path.interactions;
-  const first = its.findIndex((it) => it.type === 'scatter' || it.type === 'diffraction');
-  if (first < 0) return [lengthM, lengthM];
-  let last = first;
-  for (let i = first + 1; i < its.length; i++) if (its[i]!.type === 'scatter' || its[i]!.type === 'diffraction') last = i;
-  const dist = (a: Readonly<Vec3>, b: Readonly<Vec3>): number => Math.hypot(b[0] - a[0], b[1] - a[1], b[2] - a[2]);
+  let first = -1,
+    last = -1;
+  for (let i = 0; i < its.length; i++) {
+    const t = its[i]!.type;
+    if (t === 'scatter' || t === 'diffraction') {
+      if (first < 0) first = i;
+      last = i;
+    }
+  }
+  if (first < 0) {
+    out[offset] = lengthM;
+    out[offset + 1] = lengthM;
+    return out;
+  }
   let dep = 0;
-  for (let i = 0; i <= first; i++) dep += dist(i === 0 ? txPosition : its[i - 1]!.point, its[i]!.point);
-  let arr = dist(its[its.length - 1]!.point, rxPosition);
-  for (let i = its.length - 1; i > last; i--) arr += dist(its[i - 1]!.point, its[i]!.point);
-  return [dep, arr];
+  for (let i = 0; i <= first; i++) dep += distance(i === 0 ? txPosition : its[i - 1]!.point, its[i]!.point);
+  let arr = distance(its[its.length - 1]!.point, rxPosition);
+  for (let i = its.length - 1; i > last; i--) arr += distance(its[i - 1]!.point, its[i]!.point);
+  out[offset] = dep;
+  out[offset + 1] = arr;
+  return out;
+}
+
+function distance(a: Readonly<Vec3>, b: Readonly<Vec3>): number {
+  return Math.hypot(b[0] - a[0], b[1] - a[1], b[2] - a[2]);
 }

@@ -266,7 +266,7 @@ describe('element pairs through images (reflections)', () => {
     const scatter = { interactions: [{ type: 'scatter' as const, point: [3, 4, 0] as Vec3 }] };
     expect(specularImageMap(M, 0, scatter, [0, 0, 0], [6, 0, 0])).toBe(false);
     expect([...M]).toEqual([7, 7, 7, 7, 7, 7, 7, 7, 7]);
-    expect(wavefrontRangesM(scatter, [0, 0, 0], [6, 0, 0], 10)).toEqual([5, 5]);
+    expect([...wavefrontRangesM(new Float64Array(2), 0, scatter, [0, 0, 0], [6, 0, 0], 10)]).toEqual([5, 5]);
     // Reflection at (0, 4) then an edge at (3, 4) then the receiver at (3, 0): 4 + 3 before the edge, 4 after.
     const rd = {
       interactions: [
@@ -274,7 +274,7 @@ describe('element pairs through images (reflections)', () => {
         { type: 'diffraction' as const, point: [3, 4, 0] as Vec3 },
       ],
     };
-    expect(wavefrontRangesM(rd, [0, 0, 0], [3, 0, 0], 11)).toEqual([7, 4]);
-    expect(wavefrontRangesM({ interactions: [] }, [0, 0, 0], [3, 0, 0], 3)).toEqual([3, 3]);
+    expect([...wavefrontRangesM(new Float64Array(3), 1, rd, [0, 0, 0], [3, 0, 0], 11)]).toEqual([0, 7, 4]);
+    expect([...wavefrontRangesM(new Float64Array(2), 0, { interactions: [] }, [0, 0, 0], [3, 0, 0], 3)]).toEqual([3, 3]);
   });
 });
