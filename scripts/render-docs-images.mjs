@@ -33,6 +33,7 @@ const figures = {
   'street-corner-28ghz': ['scene', 'delay-profile', 'angles', 'time-frequency'],
   'factory-floor-60ghz': ['scene', 'delay-profile'],
   'highway-39ghz': ['scene', 'delay-profile'],
+  'corner-walk-28ghz': ['scene', 'power'],
 };
 for (const [name, kinds] of Object.entries(figures)) {
   const source = await plot.openPlotSource(join(ROOT, 'examples', `${name}.json`));
@@ -47,6 +48,13 @@ for (const [name, kinds] of Object.entries(figures)) {
   const grid = io.coverageGridOf(scenario.coverage);
   const maps = io.computeCoverage(scenario, grid, [0, grid.rows]);
   await emit('crossroads-28ghz-coverage', plot.coverageSvg({ maps, grid, scenario }));
+}
+
+// The corner walk once around the corner: the paths diffracted at the block's corner and reflected.
+{
+  const source = await plot.openPlotSource(join(ROOT, 'examples', 'corner-walk-28ghz.json'));
+  source.file = 'examples/corner-walk-28ghz.json';
+  await emit('corner-walk-28ghz-scene-around-corner', await plot.plotSource(source, 'scene', { atS: 17 }));
 }
 
 // Gain correlation of real runs: 16 explicit paths of equal power, one moving end at 3 m/s,

@@ -79,6 +79,7 @@ describe('figures of the demo scenarios', () => {
         angles: ['azimuth (deg)', 'elevation (deg)', 'path power (dB)'],
         'time-frequency': ['frequency offset (MHz)', 'time (ms)', '|H| (dB)'],
         correlation: ['lag (ms)', 'correlation (1)'],
+        power: ['time (s)', 'power (dB)'],
       };
       for (const kind of PLOT_KINDS) {
         const svg = await plotSource(source, kind);
@@ -138,7 +139,15 @@ describe('outside parsers and renderers', () => {
   });
 
   it('the committed PNGs of docs/images are the renderings of their SVGs (same size, inked)', () => {
-    const names = ['street-corner-28ghz-scene', 'factory-floor-60ghz-scene', 'highway-39ghz-scene', 'correlation-models', 'frames-and-angles'];
+    const names = [
+      'street-corner-28ghz-scene',
+      'factory-floor-60ghz-scene',
+      'highway-39ghz-scene',
+      'corner-walk-28ghz-power',
+      'corner-walk-28ghz-scene-around-corner',
+      'correlation-models',
+      'frames-and-angles',
+    ];
     for (const n of names) {
       const svg = join(ROOT, 'docs', 'images', `${n}.svg`),
         png = join(ROOT, 'docs', 'images', `${n}.png`);
@@ -251,7 +260,7 @@ describe('pathweave plot', () => {
     expect(readFileSync(join(dir, 'delay-profile.svg'), 'utf8')).toContain('truth tables at subframe 0');
     const bad = runCli(['plot', 'examples/street-corner-28ghz.json', '--kind', 'spectrum', '--out', join(dir, 'x.svg')]);
     expect(bad.status).toBe(2);
-    expect(bad.stderr).toContain('--kind must be one of scene, delay-profile, angles, time-frequency, correlation, coverage, got "spectrum"');
+    expect(bad.stderr).toContain('--kind must be one of scene, delay-profile, angles, time-frequency, correlation, power, coverage, got "spectrum"');
     expect(runCli(['plot', 'examples/street-corner-28ghz.json', '--kind', 'scene', '--out', join(dir, 'x.png')]).status).toBe(2);
     const missing = runCli(['plot', join(dir, 'nope.json'), '--kind', 'scene', '--out', join(dir, 'x.svg')]);
     expect(missing.status).toBe(2);

@@ -109,7 +109,7 @@ describe('transpose convention against exact element-to-element phases', () => {
 });
 
 describe('near-field line of sight, element pair by element pair', () => {
-  it('spherical wavefronts at both ends give the exact phases exp(-j k0 (|q_m - p_n| - d))', () => {
+  it('spherical wavefronts at both ends give the exact field (lambda / (4 pi d_mn)) exp(-j k0 d_mn) of every pair', () => {
     // Two 16-element ULAs 1.5 m apart at 28 GHz: the far-field distance 2 D^2 / lambda is 1.6 m,
     // so the plane-wave model is off while the pairwise model is exact in phase.
     const tx = AntennaArray.ula(16, lambda / 2, { yawDeg: 10 });
@@ -119,9 +119,18 @@ describe('near-field line of sight, element pair by element pair', () => {
     const spec = losSpec(txPos, tx, rxPos, rx);
     spec.transmitter.wavefront = 'spherical';
     spec.receiver.wavefront = 'spherical';
-    // The pairwise model applies to line-of-sight paths: mark the explicit path as one.
+    // The pairwise model applies to specular paths (an image map in the frame): give the explicit
+    // path the identity map of a line of sight.
     const explicit = new ExplicitTimeline(spec.paths!);
-    spec.timeline = { ids: explicit.ids, kinds: ['los'], constant: true, frameAt: (t, f) => explicit.frameAt(t, f) };
+    spec.timeline = {
+      ids: explicit.ids,
+      kinds: ['los'],
+      constant: true,
+      frameAt: (t, f) => {
+        explicit.frameAt(t, f);
+        f.image.set([1, 0, 0, 0, 1, 0, 0, 0, 1], 0);
+      },
+    };
     const H = new ChannelGenerator(spec).fill(new Float64Array(2 * 256), 0, 1);
     const exact = exactChannel(txPos, tx, rxPos, rx);
     let worstPhase = 0;
@@ -130,6 +139,7 @@ describe('near-field line of sight, element pair by element pair', () => {
       worstPhase = Math.max(worstPhase, Math.abs(Math.atan2(Math.sin(d), Math.cos(d))));
     }
     expect(worstPhase).toBeLessThan(1e-9);
+    expect(relativeError(H, exact)).toBeLessThan(1e-9); // amplitude too: each pair's own 1 / d_mn
     const plane = new ChannelGenerator(losSpec(txPos, tx, rxPos, rx)).fill(new Float64Array(2 * 256), 0, 1);
     expect(relativeError(plane, exact)).toBeGreaterThan(0.1); // the far-field model really is wrong here
   });

@@ -20,7 +20,8 @@
  */
 import {
   AntennaArray,
-  nearFieldLineOfSightProducts,
+  elementPairProducts,
+  linkFraunhoferDistanceM,
   polarizationVectorLocal,
   usesSphericalWavefront,
   waveResponse,
@@ -466,23 +467,23 @@ export class ChannelGenerator {
         for (let l = 0; l < L; l++) {
           readVec(frame.arrival, l, arr);
           readVec(frame.departure, l, dep);
+          const choice = this.wavefrontChoice(l, rxArray, txArray);
+          const length = frame.lengthM[l]!;
           waveResponse(
             this.squint.rx.subarray(2 * (k * L + l) * Nr, 2 * (k * L + l + 1) * Nr),
             rxArray,
-            spec.receiver.wavefront,
+            (choice & 1) !== 0,
             arr,
-            frame.lengthM[l]!,
+            rangeOr(frame.rangeM[2 * l + 1]!, length),
             k0,
-            spec.carrierHz,
           );
           waveResponse(
             this.squint.tx.subarray(2 * (k * L + l) * Nt, 2 * (k * L + l + 1) * Nt),
             txArray,
-            spec.transmitter.wavefront,
+            (choice & 2) !== 0,
             dep,
-            frame.lengthM[l]!,
+            rangeOr(frame.rangeM[2 * l]!, length),
             k0,
-            spec.carrierHz,
           );
         }
       }
@@ -501,21 +502,46 @@ export class ChannelGenerator {
   }
 
   /**
-   * r_rx r_tx^T of path l into out[offset..] ([Nr, Nt] complex): plane or spherical responses, or
-   * the exact pair-by-pair phases for a line of sight with both ends spherical.
+   * The wavefront choice of path l at both ends (docs/conventions.md, "Array response"): bit 1 the
+   * receiver spherical, bit 2 the transmitter, bit 4 a specular path (an image map in the frame).
+   * A specular path links the two apertures, so "auto" compares its length with the link's
+   * Fraunhofer distance 2 (D_rx + D_tx)^2 / lambda; a path through a scatterer or an edge links
+   * each array with a point, so each end compares its own range with 2 D^2 / lambda.
+   */
+  private wavefrontChoice(l: number, rxArray: AntennaArray, txArray: AntennaArray): number {
+    const spec = this.spec;
+    const rxW = spec.receiver.wavefront,
+      txW = spec.transmitter.wavefront;
+    const frame = this.frame;
+    const specular = !Number.isNaN(frame.image[9 * l]!) && this.timeline.diffuse?.[l] !== true ? 4 : 0;
+    if ((rxW === undefined || rxW === 'plane') && (txW === undefined || txW === 'plane')) return specular;
+    const fc = spec.carrierHz;
+    const auto = rxW === 'auto' || txW === 'auto';
+    const Dr = auto ? rxArray.aperture() : 0,
+      Dt = auto ? txArray.aperture() : 0;
+    const length = frame.lengthM[l]!;
+    const rxRange = rangeOr(frame.rangeM[2 * l + 1]!, length),
+      txRange = rangeOr(frame.rangeM[2 * l]!, length);
+    const rxSph = usesSphericalWavefront(rxW, rxRange, linkFraunhoferDistanceM(Dr, specular !== 0 ? Dt : 0, fc));
+    const txSph = usesSphericalWavefront(txW, txRange, linkFraunhoferDistanceM(Dt, specular !== 0 ? Dr : 0, fc));
+    return (rxSph ? 1 : 0) | (txSph ? 2 : 0) | specular;
+  }
+
+  /**
+   * r_rx r_tx^T of path l into out[offset..] ([Nr, Nt] complex): plane or spherical responses at
+   * each end, or every element pair's own distance (to the transmit element's image) for a
+   * specular path with both ends spherical.
    */
   private elementProducts(out: Float64Array, offset: number, l: number, rxArray: AntennaArray, txArray: AntennaArray, arr: Vec3, dep: Vec3, k0: number): void {
-    const spec = this.spec;
-    const length = this.frame.lengthM[l]!;
-    const fc = spec.carrierHz;
-    const rxSph = usesSphericalWavefront(rxArray, spec.receiver.wavefront, length, fc);
-    const txSph = usesSphericalWavefront(txArray, spec.transmitter.wavefront, length, fc);
-    if (rxSph && txSph && this.timeline.kinds[l] === 'los') {
-      nearFieldLineOfSightProducts(out, offset, rxArray, txArray, arr, length, k0);
+    const frame = this.frame;
+    const length = frame.lengthM[l]!;
+    const choice = this.wavefrontChoice(l, rxArray, txArray);
+    if ((choice & 7) === 7 && length > 0) {
+      elementPairProducts(out, offset, rxArray, txArray, arr, dep, length, k0, frame.image, 9 * l);
       return;
     }
-    waveResponse(this.rxScratch, rxArray, spec.receiver.wavefront, arr, length, k0, fc);
-    waveResponse(this.txScratch, txArray, spec.transmitter.wavefront, dep, length, k0, fc);
+    waveResponse(this.rxScratch, rxArray, (choice & 1) !== 0, arr, rangeOr(frame.rangeM[2 * l + 1]!, length), k0);
+    waveResponse(this.txScratch, txArray, (choice & 2) !== 0, dep, rangeOr(frame.rangeM[2 * l]!, length), k0);
     outerProduct(out, offset, this.rxScratch, this.txScratch, rxArray.size, txArray.size);
   }
 
@@ -640,6 +666,11 @@ function readVec(src: Float64Array, l: number, out: Vec3): Vec3 {
   out[1] = src[3 * l + 1]!;
   out[2] = src[3 * l + 2]!;
   return out;
+}
+
+/** A wavefront range from the frame, or the unfolded length where the timeline gave none (NaN). */
+function rangeOr(rangeM: number, lengthM: number): number {
+  return Number.isNaN(rangeM) ? lengthM : rangeM;
 }
 
 function outerProduct(out: Float64Array, offset: number, r: Float64Array, t: Float64Array, Nr: number, Nt: number): void {

@@ -256,6 +256,11 @@ export class ClusteredTimeline implements PathTimeline, PolarimetricSource {
       const o = 5 * i;
       frame.delayS[i] = f.delayS[l]! + off[o + 4]!;
       frame.lengthM[i] = f.lengthM[l]! + off[o + 4]! * 299_792_458;
+      frame.rangeM[2 * i] = f.rangeM[2 * l]!;
+      frame.rangeM[2 * i + 1] = f.rangeM[2 * l + 1]!;
+      // A sub-path's turned directions have no image of the transmitter: per-end responses.
+      if (this.diffuse[i] === true) frame.image[9 * i] = Number.NaN;
+      else frame.image.set(f.image.subarray(9 * l, 9 * l + 9), 9 * i);
       frame.dopplerHz[i] = f.dopplerHz[l]!;
       frame.visibility[i] = f.visibility[l]!;
       this.turned(f.departure, l, off[o]!, off[o + 1]!, u);

@@ -10,7 +10,9 @@ import {
   prepareScene,
   retracePaths,
   rotationFromOrientation,
+  specularImageMap,
   traceScene,
+  wavefrontRangesM,
   type Orientation,
   type Polarization,
   type PreparedScene,
@@ -37,6 +39,18 @@ export class PathSetFrame {
   readonly visibility: Float64Array;
   /** Unfolded length of each path, metres (for spherical wavefronts). */
   readonly lengthM: Float64Array;
+  /**
+   * Range of each path's wavefront at the transmitter and at the receiver [2 L], metres: the
+   * distance along the path to the nearest scatterer or edge, else the unfolded length
+   * (geometry's wavefrontRangesM). NaN where the timeline does not know: lengthM is used.
+   */
+  readonly rangeM: Float64Array;
+  /**
+   * Image map of each specular path [9 L] (geometry's specularImageMap: transmit element offsets
+   * to their images' offsets; the identity for a line of sight). NaN in the first value of a path
+   * with no image (a scatterer, an edge) or whose geometry the timeline does not know.
+   */
+  readonly image: Float64Array;
   /** Line of sight between the terminals at this time (a LOS path is visible). */
   lineOfSight = false;
 
@@ -48,6 +62,8 @@ export class PathSetFrame {
     this.dopplerHz = new Float64Array(count);
     this.visibility = new Float64Array(count);
     this.lengthM = new Float64Array(count);
+    this.rangeM = new Float64Array(2 * count).fill(Number.NaN);
+    this.image = new Float64Array(9 * count).fill(Number.NaN);
   }
 }
 
@@ -299,6 +315,10 @@ export class TracedTimeline implements PathTimeline {
           this.carrierHz,
           this.options,
         );
+    // Where the terminals are now, for the wavefront ranges and image maps (retracePaths has set
+    // them when something moves; a still scene or traced epochs from a worker have not).
+    this.tx.motion.positionAt(timeS, this.scratchTx);
+    this.rx.motion.positionAt(timeS, this.scratchRx);
     refreshed.forEach((p, i) => {
       const l = this.index.get(p.id)!;
       let w = weights[i]!;
@@ -334,6 +354,8 @@ export class TracedTimeline implements PathTimeline {
       frame.dopplerHz[l] = p.dopplerHz;
       frame.visibility[l] = w;
       frame.lengthM[l] = p.lengthM;
+      wavefrontRangesM(frame.rangeM, 2 * l, p, this.scratchTx, this.scratchRx, p.lengthM);
+      if (!specularImageMap(frame.image, 9 * l, p, this.scratchTx, this.scratchRx)) frame.image[9 * l] = Number.NaN;
       if (p.kind === 'los' && w > 0) frame.lineOfSight = true;
     });
     // Paths absent at this time keep a defined direction so array responses stay finite.

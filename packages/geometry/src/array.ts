@@ -131,8 +131,9 @@ export class AntennaArray {
 
   /**
    * Spherical-wave response to a source at `source` (global, relative to the array's reference
-   * point): r_n = g exp(-j k0 (|q - p_n| - |q|)), so the common delay |q| is not counted twice.
-   * Tends to `response(q / |q|)` as |q| grows.
+   * point): r_n = g (|q| / |q - p_n|) exp(-j k0 (|q - p_n| - |q|)), each element's own distance
+   * in the amplitude (the 1/d of the free-space field) and the phase; the common delay and
+   * spreading |q| are not counted twice. Tends to `response(q / |q|)` as |q| grows.
    */
   sphericalResponse(out: Float64Array, source: Readonly<Vec3>, k0: number): Float64Array {
     if (out.length < 2 * this.size) throw new RangeError(`AntennaArray.sphericalResponse(): out needs ${2 * this.size} values, got ${out.length}`);
@@ -143,8 +144,9 @@ export class AntennaArray {
     for (let n = 0; n < this.size; n++) {
       const d = Math.hypot(source[0] - p[3 * n]!, source[1] - p[3 * n + 1]!, source[2] - p[3 * n + 2]!);
       const phase = -k0 * (d - range);
-      out[2 * n] = g * Math.cos(phase);
-      out[2 * n + 1] = g * Math.sin(phase);
+      const a = (g * range) / d;
+      out[2 * n] = a * Math.cos(phase);
+      out[2 * n + 1] = a * Math.sin(phase);
     }
     return out;
   }

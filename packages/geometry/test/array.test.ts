@@ -79,8 +79,9 @@ describe('AntennaArray', () => {
     for (let n = 0; n < 16; n++) {
       const p = a.globalOffsets.subarray(3 * n, 3 * n + 3);
       const d = Math.hypot(source[0] - p[0]!, source[1] - p[1]!, source[2] - p[2]!);
-      expect(near[2 * n]).toBeCloseTo(Math.cos(-k0 * (d - range)), 12);
-      expect(near[2 * n + 1]).toBeCloseTo(Math.sin(-k0 * (d - range)), 12);
+      // Each element's own distance in the amplitude (range / d) and the phase.
+      expect(near[2 * n]).toBeCloseTo((range / d) * Math.cos(-k0 * (d - range)), 12);
+      expect(near[2 * n + 1]).toBeCloseTo((range / d) * Math.sin(-k0 * (d - range)), 12);
     }
     let diff = 0;
     for (let i = 0; i < 32; i++) diff = Math.max(diff, Math.abs(near[i]! - plane[i]!));

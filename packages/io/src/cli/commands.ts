@@ -40,7 +40,7 @@ const DETAILS: Record<string, string> = {
   --out FILE          the merged file
   --quiet             print nothing on stdout and no progress`,
   plot: `Draw an SVG figure of a scenario (run in memory) or of an output file.
-  --kind K            scene, delay-profile, angles, time-frequency or correlation; coverage for a file pathweave coverage wrote
+  --kind K            scene, delay-profile, angles, time-frequency, correlation or power; coverage for a file pathweave coverage wrote
   --out FILE.svg      the figure written
   --at SECONDS        the instant of the path snapshot (scene, delay-profile, angles)
   --user ID|N         the receiver of a scenario with "receivers": its id, or its index from 0

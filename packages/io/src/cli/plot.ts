@@ -50,6 +50,6 @@ async function run(argv: string[], io: Io): Promise<number> {
 /** The plot command. */
 export const plotCommand: Command = {
   usage:
-    'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation|coverage> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
+    'pathweave plot     <scenario-or-file> --kind <scene|delay-profile|angles|time-frequency|correlation|power|coverage> --out <file.svg> [--at <seconds>] [--user ID|N] [--element r,t] [--lags N]',
   run,
 };

@@ -2,13 +2,14 @@
  * @module @pathweave/io/plot
  * Figures as SVG text, written by the library and by `pathweave plot`: the scene from above and
  * from the side with the traced paths, the power-delay profile, the angular power spectra, |H|
- * over subcarriers and time, and the gain correlation against J0. One plain look for all kinds
+ * over subcarriers and time, the gain correlation against J0, and the power over time. One plain look for all kinds
  * (svg.ts), axes with units and a colour ramp whose lightness is monotone (axes.ts).
  */
 import { writeFileAtomic } from '../formats/atomic.js';
 import { closePlotSource, correlationOf, openPlotSource, profilePathsOf, sceneInputOf, timeFrequencyOf, userIndexOf, type PlotSource } from './data.js';
 import { correlationFigure, timeFrequencyFigure } from './fields.js';
 import { anglesFigure, delayProfileFigure } from './profiles.js';
+import { powerOverTimeFigure, powerOverTimeOf } from './power.js';
 import { sceneFigure } from './scene.js';
 import { applyRotation, degFromVector, rotationFromOrientation } from '@pathweave/geometry';
 
@@ -19,12 +20,13 @@ export * from './profiles.js';
 export * from './fields.js';
 export * from './data.js';
 export * from './coverage.js';
+export * from './power.js';
 
 /**
  * The kinds of figure `pathweave plot --kind` draws.
- * @example PLOT_KINDS.length // 5
+ * @example PLOT_KINDS.length // 6
  */
-export const PLOT_KINDS = ['scene', 'delay-profile', 'angles', 'time-frequency', 'correlation'] as const;
+export const PLOT_KINDS = ['scene', 'delay-profile', 'angles', 'time-frequency', 'correlation', 'power'] as const;
 
 /**
  * One of PLOT_KINDS.
@@ -84,6 +86,10 @@ export async function plotSource(source: PlotSource, kind: PlotKind, options: Pl
     case 'correlation': {
       const data = await correlationOf(source, { user, ...(options.lags !== undefined ? { lags: options.lags } : {}) });
       return correlationFigure({ title: `${name}: gain correlation against lag`, ...data });
+    }
+    case 'power': {
+      const data = await powerOverTimeOf(source, { user });
+      return powerOverTimeFigure({ title: `${name}: power over time`, ...data });
     }
   }
 }

@@ -571,7 +571,11 @@ const KEY_DOCS: Record<string, KeyDoc> = {
   'terminal.array.polarization': d('Polarisation of the elements: "vertical", "horizontal" or a slant.', undefined, 'vertical'),
   'terminal.array.polarization.slantDeg': d('Slant angle from vertical.', 'deg'),
   'terminal.array.dualPolarized': d('Two ports per element: "slant45" (+45, -45) or "vh"; Nr or Nt then counts ports.'),
-  'terminal.array.wavefront': d('Plane or spherical wavefront; "auto": spherical inside 2 D^2 / lambda.', undefined, SCENARIO_DEFAULTS.wavefront),
+  'terminal.array.wavefront': d(
+    'Plane or spherical wavefront (both ends spherical: every element pair\'s own distance); "auto": spherical inside the link distance 2 (D_rx + D_tx)^2 / lambda.',
+    undefined,
+    SCENARIO_DEFAULTS.wavefront,
+  ),
   scene: d('Scene objects traced into paths (or give explicit paths).'),
   'scene.lineOfSight': d('Include the direct path when nothing blocks it.', undefined, true),
   'scene.imports': d(
