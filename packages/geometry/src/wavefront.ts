@@ -134,7 +134,12 @@ export function elementPairProducts(
  * @example const hop: WavefrontPath = { interactions: [{ type: 'reflection', point: [5, 5, 0] }] };
  */
 export interface WavefrontPath {
-  readonly interactions: readonly { readonly type: 'reflection' | 'scatter' | 'diffraction' | 'transmission'; readonly point: Readonly<Vec3> }[];
+  readonly interactions: readonly { readonly type: 'reflection' | 'scatter' | 'diffraction' | 'transmission' | 'diffuse'; readonly point: Readonly<Vec3> }[];
+}
+
+/** Whether an interaction sends out a new wave (a scatterer, an edge or a diffuse tile) rather than an image of the incoming one. */
+function restartsWave(type: WavefrontPath['interactions'][number]['type']): boolean {
+  return type === 'scatter' || type === 'diffraction' || type === 'diffuse';
 }
 
 /**
@@ -142,7 +147,7 @@ export interface WavefrontPath {
  * a transmit element's offset from its array's reference point to the offset of its image (the
  * product of the mirror maps I - 2 n n^T of the reflections, the first one applied first; a
  * transmission is a straight pass and maps nothing). Returns false, writing nothing, for a path
- * with a scatterer or an edge: the wave leaving those is a new one, no image of the transmitter.
+ * with a scatterer, an edge or a diffuse tile: the wave leaving those is a new one, no image of the transmitter.
  * The normal of each reflection is found from the path itself (the difference of the unit
  * directions in and out), so the map holds for the path's geometry at the time it was traced.
  * @example
@@ -152,7 +157,7 @@ export interface WavefrontPath {
  */
 export function specularImageMap(out: Float64Array, offset: number, path: WavefrontPath, txPosition: Readonly<Vec3>, rxPosition: Readonly<Vec3>): boolean {
   const its = path.interactions;
-  for (const it of its) if (it.type === 'scatter' || it.type === 'diffraction') return false;
+  for (const it of its) if (restartsWave(it.type)) return false;
   // M starts as the identity; each reflection multiplies from the left: M <- (I - 2 n n^T) M.
   let m00 = 1,
     m01 = 0,
@@ -225,7 +230,7 @@ export function wavefrontRangesM(
     last = -1;
   for (let i = 0; i < its.length; i++) {
     const t = its[i]!.type;
-    if (t === 'scatter' || t === 'diffraction') {
+    if (restartsWave(t)) {
       if (first < 0) first = i;
       last = i;
     }
