@@ -17,5 +17,6 @@ export * from './utd.js';
 export * from './slab.js';
 export * from './edges.js';
 export * from './diffraction.js';
+export * from './launch.js';
 export * from './tracer.js';
 export * from './import/index.js';

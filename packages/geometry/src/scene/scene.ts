@@ -22,6 +22,7 @@
  */
 import type { Vec3 } from '../vec3.js';
 import { Bvh } from './bvh.js';
+import { launchSettingsProblems, type LaunchSettings } from './launch.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
 /**
@@ -105,6 +106,10 @@ export interface Scene {
   gasAttenuationDbPerKm?: number;
   /** Edge diffraction by the UTD at the wedges of the walls (edges.ts, diffraction.ts): single, and with one reflection when maxReflectionOrder >= 1 (default false). */
   diffraction?: boolean;
+  /** How reflections are found: "image" (the image method, every path; default) or "launch" (ray launching refined by the image method, launch.ts). */
+  method?: 'image' | 'launch';
+  /** Ray launching settings (used when method is "launch"). */
+  launch?: LaunchSettings;
 }
 
 /**
@@ -328,6 +333,11 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
 
   if (scene.diffraction !== undefined && typeof scene.diffraction !== 'boolean')
     err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
+
+  if (scene.method !== undefined && scene.method !== 'image' && scene.method !== 'launch')
+    err(`${sp}.method`, `must be "image" or "launch", got ${fmt(scene.method)}`);
+  if (scene.launch !== undefined)
+    for (const [key, message] of launchSettingsProblems(scene.launch)) err(key === '' ? `${sp}.launch` : `${sp}.launch.${key}`, message);
 
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
