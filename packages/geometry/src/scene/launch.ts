@@ -426,11 +426,13 @@ class Launcher {
       const w = this.closestHit(ox, oy, oz, ux, uy, uz, last);
       const L = this.tOut[0]!;
       if (depth >= 1) this.receive(ox, oy, oz, ux, uy, uz, s0, L, depth);
-      if (w < 0 || depth === this.maxB) return;
+      if (w < 0) return;
       const hx = ox + L * ux,
         hy = oy + L * uy,
         hz = oz + L * uz;
+      // through a transmissive wall without a reflection, even after the last one
       if (ps.transmissive[w] === 1 && passes < MAX_PASSES) this.shoot(hx, hy, hz, ux, uy, uz, s0 + L, depth, w, passes + 1);
+      if (depth === this.maxB) return;
       this.seq[depth] = w;
       const o = 4 * w,
         nx = pl[o]!,
