@@ -503,8 +503,7 @@ export function refineSequence(ps: PreparedScene, tx: Readonly<Vec3>, rx: Readon
     images[0] = tx[0];
     images[1] = tx[1];
     images[2] = tx[2];
-    let ok = true;
-    for (let k = 0; k < K && ok; k++) {
+    for (let k = 0; k < K; k++) {
       const w = walls[k]!,
         o = 4 * w;
       if (k > 0 && walls[k - 1] === w) return undefined;
