@@ -7,8 +7,8 @@
  * machine may be shared), the load average, the heap taken by the prepared scene and the peak RSS.
  * Rows launch3, launch4 (street grid, orders 3 and 4) and launchMesh (the hall, order 2) trace
  * with ray launching (method 'launch', 40 962 rays, the default 1 degree spacing) and add the
- * image method's reflection search at the same order on the first link (traceReflections, which
- * takes any order), its path count and how many of those paths the launcher found.
+ * image method's reflection search at the same order (traceReflections, which takes any order;
+ * mean CPU time over links 1 cm apart), its path count and how many of those paths the launcher found.
  *
  * usage: node bench/tracer-scale.mjs [--only room,grid,mesh,launch3,launch4,launchMesh] [--json]
  */
@@ -33,9 +33,10 @@ const CASES = {
   room,
   grid: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 30 }),
   mesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 3 }),
-  launch3: () => ({ ...streetGrid(), step: 0.01, warm: 2, runs: 20, options: { method: 'launch' } }),
-  launch4: () => ({ ...streetGrid(), step: 0.01, warm: 2, runs: 20, options: { method: 'launch', launch: { maxBounces: 4 } } }),
-  launchMesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 5, options: { method: 'launch' } }),
+  // imageWarm, imageRuns: untimed and timed image-method searches
+  launch3: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 20, imageWarm: 10, imageRuns: 20, options: { method: 'launch' } }),
+  launch4: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 20, imageWarm: 3, imageRuns: 3, options: { method: 'launch', launch: { maxBounces: 4 } } }),
+  launchMesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 5, imageWarm: 1, imageRuns: 3, options: { method: 'launch' } }),
 };
 
 const results = [];
@@ -79,12 +80,14 @@ for (const name of only) {
   if (r.method === 'launch') {
     // the image method's search at the same order, on the first link, for time and the miss count
     const image = new Set();
-    traceReflections(ps, c.transmitter, at(1), order, () => {}); // warm: the occlusion table is filled once per scene
+    // warm-up: the occlusion tables fill lazily, once per scene, and the first calls run unoptimised
+    for (let k = 1; k <= c.imageWarm; k++) traceReflections(ps, c.transmitter, at(k), order, () => {});
     const c1 = process.cpuUsage();
     traceReflections(ps, c.transmitter, c.receiver, order, (w) => image.add(w.join(',')));
+    for (let k = 1; k < c.imageRuns; k++) traceReflections(ps, c.transmitter, at(k), order, () => {});
     const cs = process.cpuUsage(c1);
     const launched = first.paths.filter((p) => p.kind === 'reflection').map((p) => p.interactions.map((i) => i.object.index).join(','));
-    r.imageSearchCpuS = +((cs.user + cs.system) / 1e6).toFixed(3);
+    r.imageSearchCpuS = +((cs.user + cs.system) / 1e6 / c.imageRuns).toFixed(3);
     r.imagePaths = image.size;
     r.launchFound = launched.filter((k) => image.has(k)).length;
     extra = `; image method search ${r.imageSearchCpuS} CPU s at order ${order}, launch found ${r.launchFound} of its ${r.imagePaths} reflection paths`;
