@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { MATERIAL_NAMES, MAX_REFLECTION_ORDER, traceScene } from '@pathweave/geometry';
+import { LAUNCH_MAX_BOUNCES, LAUNCH_MAX_RAYS, MATERIAL_NAMES, MAX_REFLECTION_ORDER, traceScene } from '@pathweave/geometry';
 import { SCENARIO_DEFAULTS, scenarioJsonSchema, scenarioSchema } from '../src/scenario/schema.js';
 import { PATHWEAVE_VERSION } from '../src/version.js';
 import { formatProblem, safeParseScenario } from '../src/scenario/validate.js';
@@ -105,6 +105,45 @@ describe('docs/scenario.schema.json', () => {
       'traceScene(): maxReflectionOrder must be an integer from 0 to 3, got 4',
     );
     expect(traceScene({}, { position: [0, 0, 0] }, { position: [5, 0, 0] }, 28e9, { maxReflectionOrder: 3 }).paths.map((p) => p.id)).toEqual(['los']);
+  });
+
+  it('takes scene.method and scene.launch with the limits of geometry, and refuses rays with angularSpacingDeg', () => {
+    const scene = (scenarioJsonSchema() as { properties: { scene: { properties: Record<string, any> } } }).properties.scene.properties;
+    expect(scene.method.enum).toEqual(['image', 'launch']);
+    expect(scene.launch.properties.maxBounces.maximum).toBe(LAUNCH_MAX_BOUNCES);
+    expect(scene.launch.properties.rays.maximum).toBe(LAUNCH_MAX_RAYS);
+    const scenario = (launch: object) => ({
+      carrierHz: 28e9,
+      timing: { subframeS: 1e-3, subframes: 1 },
+      band: { subcarriers: 1, spacingHz: 1e5 },
+      seed: 1,
+      fading: { model: 'static' },
+      transmitter: { position: [0, 0, 1], array: { kind: 'ula', elements: 1 } },
+      receiver: { position: [5, 0, 1], array: { kind: 'ula', elements: 1 } },
+      scene: {
+        method: 'launch',
+        launch,
+        walls: Array.from({ length: 400 }, (_, i) => ({
+          vertices: [
+            [i, 9, 0],
+            [i + 0.5, 9, 0],
+            [i + 0.5, 9, 3],
+          ],
+        })),
+        maxReflectionOrder: 3,
+      },
+    });
+    const problemsOf = (input: unknown): string[] => {
+      const r = safeParseScenario(input);
+      return r.ok ? [] : r.problems.map(formatProblem);
+    };
+    // 400 walls at order 3 are 400 + 400 x 399 + 400 x 399^2 = 63 840 400 sequences: refused for the image method, not for launching
+    expect(problemsOf(scenario({ rays: 10242, maxBounces: 4 }))).toEqual([]);
+    expect(problemsOf({ ...scenario({}), scene: { ...scenario({}).scene, method: 'image' } })).toEqual([
+      expect.stringMatching(/^scene\.maxReflectionOrder: 400 walls at order 3 mean 63840400 reflection sequences to trace, more than the 1000000 allowed/),
+    ]);
+    expect(problemsOf(scenario({ rays: 10242, angularSpacingDeg: 1 }))).toEqual(['scene.launch.rays: give rays or angularSpacingDeg, not both']);
+    expect(scenarioSchema.safeParse(scenario({ maxBounces: LAUNCH_MAX_BOUNCES + 1 })).success).toBe(false);
   });
 });
 

@@ -18,5 +18,6 @@ export * from './slab.js';
 export * from './edges.js';
 export * from './diffraction.js';
 export * from './diffuse.js';
+export * from './launch.js';
 export * from './tracer.js';
 export * from './import/index.js';

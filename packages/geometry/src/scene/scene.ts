@@ -23,6 +23,7 @@
 import type { Vec3 } from '../vec3.js';
 import { Bvh } from './bvh.js';
 import { diffuseProblems, type DiffuseSettings } from './diffuse.js';
+import { launchSettingsProblems, type LaunchSettings } from './launch.js';
 import { customMaterialProblem, MATERIAL_NAMES, resolveSurface, type MaterialSpec, type ResolvedSurface } from './materials.js';
 
 /**
@@ -110,6 +111,10 @@ export interface Scene {
   diffraction?: boolean;
   /** Diffuse scattering from the walls (directive model of Degli-Esposti et al. 2007, diffuse.ts); absent: none. */
   diffuse?: DiffuseSettings;
+  /** How reflections are found: "image" (the image method, every path; default) or "launch" (ray launching refined by the image method, launch.ts). */
+  method?: 'image' | 'launch';
+  /** Ray launching settings (used when method is "launch"). */
+  launch?: LaunchSettings;
 }
 
 /**
@@ -335,6 +340,11 @@ function analyseScene(scene: Scene, ctx: SceneContext): Analysis {
     err(`${sp}.diffraction`, `must be true or false, got ${fmt(scene.diffraction)}`);
 
   problems.push(...diffuseProblems(scene, sp, is2D));
+  if (scene.method !== undefined && scene.method !== 'image' && scene.method !== 'launch')
+    err(`${sp}.method`, `must be "image" or "launch", got ${fmt(scene.method)}`);
+  if (scene.launch !== undefined)
+    for (const [key, message] of launchSettingsProblems(scene.launch)) err(key === '' ? `${sp}.launch` : `${sp}.launch.${key}`, message);
+
   checkTerminals(scene, is2D, ctx, problems);
   return { problems, is2D };
 }

@@ -37,6 +37,7 @@ import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { slabCoefficients } from './slab.js';
 import { diffuseTileFactor, reflectionReduction, rotateField, sceneDiffuseTiles, scaleCoefficients, traceDiffuse } from './diffuse.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
+import { launchReflections, launchSettingsProblems, type LaunchSettings } from './launch.js';
 import { Occlusion } from './occlusion.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
@@ -68,6 +69,10 @@ export interface TraceOptions {
   keepNullPaths?: boolean;
   /** Edge diffraction (UTD), single and combined with one reflection when maxReflectionOrder >= 1; default the scene's `diffraction` (false). */
   diffraction?: boolean;
+  /** "image" (every path) or "launch" (ray launching, launch.ts); default the scene's `method` ("image"). */
+  method?: 'image' | 'launch';
+  /** Ray launching settings, key by key over the scene's `launch`; with method "launch", `maxBounces` (default maxReflectionOrder) is the reflection order. */
+  launch?: LaunchSettings;
 }
 
 /**
@@ -232,9 +237,11 @@ export function traceScene(scene: Scene | PreparedScene, tx: TerminalState, rx: 
   if (settings.lineOfSight && !ps.segmentHitsWall(t[0], t[1], t[2], r[0], r[1], r[2], -1, -1)) {
     raw.push(ctx.build('los', [], []));
   }
-  traceReflections(ps, t, r, settings.order, (seq, points) => {
+  const reflection = (seq: number[], points: Vec3[]): void => {
     raw.push(ctx.build('reflection', seq, points));
-  });
+  };
+  if (settings.launch !== undefined) launchReflections(ps, t, r, settings.launch, reflection);
+  else traceReflections(ps, t, r, settings.order, reflection);
   const scatterers = ps.scene.scatterers ?? [];
   scatterers.forEach((s, i) => {
     const p: Vec3 = [s.position[0]!, s.position[1]!, s.position[2] ?? 0];
@@ -293,6 +300,8 @@ interface Settings {
   dynamicRangeDb: number;
   gas: number;
   diffraction: boolean;
+  /** Set for method "launch" (maxBounces resolved). */
+  launch?: LaunchSettings;
 }
 
 function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
@@ -306,7 +315,25 @@ function resolveOptions(ps: PreparedScene, o: TraceOptions): Settings {
   if (!(dr > 0)) throw new RangeError(`traceScene(): dynamicRangeDb must be > 0, got ${dr}`);
   const gas = o.gasAttenuationDbPerKm ?? s.gasAttenuationDbPerKm ?? 0;
   if (!Number.isFinite(gas) || gas < 0) throw new RangeError(`traceScene(): gasAttenuationDbPerKm must be a finite number >= 0, got ${gas}`);
-  return { lineOfSight: o.lineOfSight ?? ps.lineOfSight, order, maxPaths, dynamicRangeDb: dr, gas, diffraction: o.diffraction ?? s.diffraction ?? false };
+  const out: Settings = {
+    lineOfSight: o.lineOfSight ?? ps.lineOfSight,
+    order,
+    maxPaths,
+    dynamicRangeDb: dr,
+    gas,
+    diffraction: o.diffraction ?? s.diffraction ?? false,
+  };
+  const method = o.method ?? s.method ?? 'image';
+  if (method === 'launch') {
+    const launch: LaunchSettings = { ...s.launch, ...o.launch };
+    if (o.launch?.rays !== undefined && o.launch.angularSpacingDeg === undefined) delete launch.angularSpacingDeg;
+    if (o.launch?.angularSpacingDeg !== undefined && o.launch.rays === undefined) delete launch.rays;
+    const problems = launchSettingsProblems(launch);
+    if (problems.length > 0) throw new RangeError(`traceScene(): launch.${problems[0]![0]} ${problems[0]![1]}`);
+    launch.maxBounces ??= order;
+    out.launch = launch;
+  } else if (method !== 'image') throw new RangeError(`traceScene(): method must be "image" or "launch", got ${JSON.stringify(method)}`);
+  return out;
 }
 
 /**

@@ -8,9 +8,12 @@ import { AR_DEFAULT_ORDER, SOS_DEFAULT_SINUSOIDS } from '@pathweave/core';
 import {
   DEFAULT_ALPHA_R,
   DEFAULT_DIFFUSE_PATHS_PER_WALL,
+  DEFAULT_LAUNCH_SPACING_DEG,
   DEFAULT_MATERIAL,
   DEFAULT_REFLECTION_ORDER,
   DEFAULT_SCATTERING_COEFFICIENT,
+  LAUNCH_MAX_BOUNCES,
+  LAUNCH_MAX_RAYS,
   MATERIAL_NAMES,
   MAX_ALPHA_R,
   MAX_REFLECTION_ORDER,
@@ -270,6 +273,16 @@ const sceneDefinition = z.strictObject({
       alphaR: z.number().int().min(1).max(MAX_ALPHA_R).optional(),
       pattern: z.enum(['directive', 'lambertian']).optional(),
       materials: z.partialRecord(z.enum(MATERIAL_NAMES as unknown as [string, ...string[]]), unitInterval).optional(),
+    })
+    .optional(),
+  /** How reflections are found: the image method (every path) or ray launching refined by it (launch.ts). */
+  method: z.enum(['image', 'launch']).optional(),
+  /** Ray launching: rays or angularSpacingDeg (not both, checked by validateScenario), maxBounces. */
+  launch: z
+    .strictObject({
+      rays: z.number().int().min(12).max(LAUNCH_MAX_RAYS).optional(),
+      angularSpacingDeg: z.number().min(0.0637).max(30).optional(),
+      maxBounces: z.number().int().min(1).max(LAUNCH_MAX_BOUNCES).optional(),
     })
     .optional(),
   /** Gas absorption by ITU-R P.676-13 Annex 1 (line-by-line) at the carrier, instead of a fixed gasAttenuationDbPerKm. */
@@ -643,6 +656,18 @@ const KEY_DOCS: Record<string, KeyDoc> = {
     'directive',
   ),
   'scene.diffuse.materials': d('Scattering coefficient S per named material (walls of that material without their own).', '1'),
+  'scene.method': d(
+    '"image": every reflection path by the image method; "launch": ray launching with reception spheres, each path refined by the image method (may miss a few; docs/conventions.md, "Ray launching").',
+    undefined,
+    'image',
+  ),
+  'scene.launch': d('Settings of ray launching (used with method "launch").'),
+  'scene.launch.rays': d(
+    'Least number of rays: the geodesic sphere with at least this many (10 N^2 + 2); 2-D scenes: exactly this many. Not with angularSpacingDeg.',
+    '1',
+  ),
+  'scene.launch.angularSpacingDeg': d('Largest angle between neighbouring rays. Not with rays.', 'deg', DEFAULT_LAUNCH_SPACING_DEG),
+  'scene.launch.maxBounces': d(`Highest number of wall reflections per launched path, 1 to ${LAUNCH_MAX_BOUNCES}; absent: maxReflectionOrder.`, '1'),
   'scene.maxReflectionOrder': d(`Highest number of wall reflections per path, 0 to ${MAX_REFLECTION_ORDER}.`, '1', DEFAULT_REFLECTION_ORDER),
   'scene.maxPaths': d('Keep at most this many paths (strongest first); absent: no limit.', '1'),
   'scene.dynamicRangeDb': d('Drop paths more than this far below the strongest; absent: no limit.', 'dB'),

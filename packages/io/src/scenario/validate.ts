@@ -244,7 +244,10 @@ function crossChecks(s: Scenario): Problem[] {
       message: `lists ${s.paths.length} paths, more than the ${MAX_EXPLICIT_PATHS} allowed; split the scenario or widen fewer paths into clusters`,
     });
   }
-  if (s.scene !== undefined) {
+  if (s.scene?.launch?.rays !== undefined && s.scene.launch.angularSpacingDeg !== undefined)
+    problems.push({ path: 'scene.launch.rays', message: 'give rays or angularSpacingDeg, not both' });
+  // ray launching does not enumerate sequences: its work is rays times bounces, bounded by the schema
+  if (s.scene !== undefined && s.scene.method !== 'launch') {
     const walls = s.scene.walls?.length ?? 0;
     const order = s.scene.maxReflectionOrder ?? DEFAULT_REFLECTION_ORDER;
     let sequences = 0;
