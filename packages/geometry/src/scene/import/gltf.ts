@@ -10,7 +10,7 @@
  * (section 3.7.2.1) become triangles; points and lines are refused. Morph targets and skins are
  * not applied (the base positions are read).
  */
-import { Logger, WebIO, type Node as GltfNode } from '@gltf-transform/core';
+import type { Node as GltfNode } from '@gltf-transform/core';
 import { ImportError } from './geojson.js';
 import type { MeshGroup, TriangleMesh } from './mesh.js';
 
@@ -91,6 +91,8 @@ export async function readGlb(
   checkGlbContainer(data, file);
   // a copy at offset 0: the library views the chunks through Uint32Arrays, which need 4-byte alignment
   const bytes = new Uint8Array(data);
+  // Loaded on first use: most runs import no glTF, and the library would add to every start-up.
+  const { Logger, WebIO } = await import('@gltf-transform/core');
   const io = new WebIO().setLogger(new Logger(Logger.Verbosity.SILENT));
   let doc;
   try {
