@@ -2,7 +2,8 @@
 /**
  * Tracer at scale: full traces per second (traceScene, receiver moved 1 cm per trace as on a
  * walk, after warm-up traces) on the 20-wall room at order 2 (test/fixtures/twenty-wall-room.json),
- * a 10 x 10 street grid (400 facades and a ground plane, 28 GHz) at order 3 and a 50 000-triangle
+ * a 10 x 10 street grid (400 facades and a ground plane, 28 GHz) at order 3 with edge diffraction (single, and
+ * with one reflection) and a 50 000-triangle
  * hall at order 2 (bench/scenes.mjs), with the process's CPU time beside the wall clock (the
  * machine may be shared), the load average, the heap taken by the prepared scene and the peak RSS.
  *
@@ -27,7 +28,10 @@ const room = () => ({
 });
 const CASES = {
   room,
-  grid: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 30 }),
+  grid: () => {
+    const g = streetGrid();
+    return { ...g, scene: { ...g.scene, diffraction: true }, step: 0.01, warm: 3, runs: 30 };
+  },
   mesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 3 }),
 };
 
@@ -56,6 +60,7 @@ for (const name of only) {
     scene: name,
     walls: ps.wallCount,
     order: c.scene.maxReflectionOrder,
+    diffraction: c.scene.diffraction === true,
     paths: first.paths.length,
     prepareS: +prepareS.toFixed(3),
     firstTraceS: +firstS.toFixed(3),
@@ -68,7 +73,7 @@ for (const name of only) {
   results.push(r);
   if (!JSON_OUT)
     console.log(
-      `${name}: ${r.walls} faces, order ${r.order}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`,
+      `${name}: ${r.walls} faces, order ${r.order}${r.diffraction ? ' + diffraction' : ''}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`,
     );
 }
 if (JSON_OUT) console.log(JSON.stringify(results));
