@@ -466,6 +466,39 @@ export function traceReflections(
     return rxList;
   };
 
+  // The image tree: every tx-only decision of the descent below (the candidate walls of each
+  // beam, the beam, pair and transmitter-visibility tests, the images) depends on the transmitter
+  // alone, so the surviving nodes are recorded in preorder and replayed while the transmitter
+  // stays where it was (a static transmitter and a moving receiver); only the receiver's tests
+  // and tryPath run again. The replay recomputes each image from its parent with the same
+  // operations, so its paths are bit-identical to a fresh descent.
+  const cacheable = prune && maxOrder >= 2;
+  const cached = cacheable ? imageTreeCache.get(ps) : undefined;
+  if (cached !== undefined && cached.order === maxOrder && cached.tx[0] === tx[0] && cached.tx[1] === tx[1] && cached.tx[2] === tx[2]) {
+    replayImageTree(cached, ps, images, seq, maxOrder, occ !== undefined ? leafList() : undefined, rxCount, (w) => hiddenFrom(rxSeen, w, rx), tryPath);
+    return;
+  }
+  let recWalls = cacheable ? new Int32Array(1024) : undefined,
+    recDepth = cacheable ? new Uint8Array(1024) : undefined,
+    recCount = 0;
+  const record = (w: number, depth: number): void => {
+    if (recWalls === undefined || recDepth === undefined) return;
+    if (recCount === recWalls.length) {
+      if (recCount >= IMAGE_TREE_MAX_NODES) {
+        recWalls = recDepth = undefined; // too large to keep: this transmitter is traced afresh each time
+        return;
+      }
+      const w2 = new Int32Array(2 * recCount),
+        d2 = new Uint8Array(2 * recCount);
+      w2.set(recWalls);
+      d2.set(recDepth);
+      recWalls = w2;
+      recDepth = d2;
+    }
+    recWalls[recCount] = w;
+    recDepth[recCount++] = depth;
+  };
+
   const descend = (depth: number): void => {
     const px = images[3 * depth]!,
       py = images[3 * depth + 1]!,
@@ -474,9 +507,11 @@ export function traceReflections(
     let list: Int32Array = cand,
       base = W * depth,
       n = W;
+    // leaves drawn from the receiver's list are the receiver's: replayed from that list, not recorded
+    const recorded = !(leaves && occ !== undefined);
     if (!prune)
       base = 0; // every wall, as listed in slot 0
-    else if (leaves && occ !== undefined) {
+    else if (!recorded) {
       list = leafList();
       base = 0;
       n = rxCount;
@@ -494,6 +529,7 @@ export function traceReflections(
         nz = pl[o + 2]!;
       const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
       if (f === 0) continue; // the source lies in the plane: no image
+      if (recorded) record(w, depth);
       images[3 * depth + 3] = px - 2 * f * nx;
       images[3 * depth + 4] = py - 2 * f * ny;
       images[3 * depth + 5] = pz - 2 * f * nz;
@@ -506,6 +542,79 @@ export function traceReflections(
     }
   };
   descend(0);
+  if (recWalls !== undefined && recDepth !== undefined)
+    imageTreeCache.set(ps, { tx: [tx[0], tx[1], tx[2]], order: maxOrder, walls: recWalls.slice(0, recCount), depth: recDepth.slice(0, recCount) });
+}
+
+/** The recorded image tree of one transmitter position (traceReflections). */
+interface ImageTree {
+  tx: Vec3;
+  order: number;
+  /** Nodes in preorder: the wall and the depth (0 for a first reflection) of each. */
+  walls: Int32Array;
+  depth: Uint8Array;
+}
+
+/** Most nodes kept in an image tree (5 bytes each). */
+const IMAGE_TREE_MAX_NODES = 1 << 24;
+/** One tree per scene: the last transmitter position traced at order >= 2 with pruning. */
+const imageTreeCache = new WeakMap<PreparedScene, ImageTree>();
+
+/**
+ * The descent of traceReflections replayed from its recorded tree: per node the image from its
+ * parent's, the receiver's test and tryPath; below the nodes at depth maxOrder - 2, with
+ * occlusion, the last walls from the receiver's list `rxList` (as the descent draws them).
+ */
+function replayImageTree(
+  tree: ImageTree,
+  ps: PreparedScene,
+  images: Float64Array,
+  seq: Int32Array,
+  maxOrder: number,
+  rxList: Int32Array | undefined,
+  rxCount: number,
+  hiddenFromRx: (w: number) => boolean,
+  tryPath: (K: number) => void,
+): void {
+  const pl = ps.planes,
+    walls = tree.walls,
+    depths = tree.depth;
+  for (let i = 0; i < walls.length; i++) {
+    const w = walls[i]!,
+      depth = depths[i]!;
+    const px = images[3 * depth]!,
+      py = images[3 * depth + 1]!,
+      pz = images[3 * depth + 2]!;
+    const o = 4 * w;
+    const nx = pl[o]!,
+      ny = pl[o + 1]!,
+      nz = pl[o + 2]!;
+    const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
+    images[3 * depth + 3] = px - 2 * f * nx;
+    images[3 * depth + 4] = py - 2 * f * ny;
+    images[3 * depth + 5] = pz - 2 * f * nz;
+    seq[depth] = w;
+    if (!hiddenFromRx(w)) tryPath(depth + 1);
+    if (rxList === undefined || depth + 2 !== maxOrder) continue;
+    const qx = images[3 * depth + 3]!,
+      qy = images[3 * depth + 4]!,
+      qz = images[3 * depth + 5]!;
+    for (let j = 0; j < rxCount; j++) {
+      const v = rxList[j]!;
+      if (v === w) continue;
+      const u = 4 * v;
+      const mx = pl[u]!,
+        my = pl[u + 1]!,
+        mz = pl[u + 2]!;
+      const g = mx * qx + my * qy + mz * qz - pl[u + 3]!;
+      if (g === 0) continue;
+      images[3 * depth + 6] = qx - 2 * g * mx;
+      images[3 * depth + 7] = qy - 2 * g * my;
+      images[3 * depth + 8] = qz - 2 * g * mz;
+      seq[depth + 1] = v;
+      if (!hiddenFromRx(v)) tryPath(depth + 2);
+    }
+  }
 }
 
 /** Largest wall count pruned by occlusion (above it the per-trace visibility tests cost more than they save). */
