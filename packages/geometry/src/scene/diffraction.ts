@@ -30,7 +30,7 @@ import { surfaceCoefficients } from './fresnel.js';
 import type { ResolvedSurface } from './materials.js';
 import { sceneWedges, WEDGE_STRIDE, type SceneWedges } from './edges.js';
 import { Bvh } from './bvh.js';
-import { wallBeam } from './occlusion.js';
+import { sceneOcclusion, wallBeam } from './occlusion.js';
 import type { PreparedScene } from './scene.js';
 import { utdWedgeCoefficients, type DiffractionCoefficients } from './utd.js';
 
@@ -139,6 +139,8 @@ function reflectionPoint(ps: PreparedScene, w: number, qx: number, qy: number, q
 /** Fewest walls for the pruned enumeration (below it every wedge and wall pair is tried, as the image method does). */
 const PRUNE_MIN_WALLS = 32;
 const edgeBvhCache = new WeakMap<PreparedScene, Bvh>();
+/** The transmitter side's candidate keys of traceDiffractions for the last transmitter position. */
+const txKeysCache = new WeakMap<PreparedScene, { tx: Vec3; keys: Float64Array }>();
 
 /** A hierarchy over the wedges' edge segments (2-D: vertical lines, unbounded in z), built once per scene. */
 function edgeBvh(ps: PreparedScene, wedges: SceneWedges): Bvh {
@@ -273,21 +275,28 @@ export function traceDiffractions(
     return;
   }
   // Candidate (wedge, wall, side) triples from the beams, as keys ((w (W + 1) + r) 2 + side)
-  // sorted into the exhaustive loop's order.
+  // sorted into the exhaustive loop's order. A wall hidden from the transmitter (side 0) or the
+  // receiver (side 1) by one convex wall (occlusion.ts) holds no reflection point of a path. The
+  // transmitter's triples depend on it alone: kept between traces while it stays put.
   const bvh = edgeBvh(ps, wedges);
   const margin = 100 * ps.padM; // as the reflection beams (tracer.ts)
   const grow = 1e-6 * (ps.padM / 1e-8);
   const beam = new Float64Array(4 * (1 + Math.max(4, ps.maxWallVertices)));
   const found = new Int32Array(wedges.count);
+  const occ = sceneOcclusion(ps);
+  const pl = ps.planes;
   let keys = new Float64Array(1024),
     nKeys = 0;
-  const pl = ps.planes;
-  for (let r = 0; r < W; r++) {
-    for (let side = 0; side < 2; side++) {
-      const e = side === 0 ? tx : rx,
-        o = 4 * r;
+  const collect = (side: number, e: Readonly<Vec3>): void => {
+    const seen = occ?.seenFrom(e[0], e[1], e[2]);
+    for (let r = 0; r < W; r++) {
+      const o = 4 * r;
       const f = pl[o]! * e[0] + pl[o + 1]! * e[1] + pl[o + 2]! * e[2] - pl[o + 3]!;
       if (f === 0) continue; // in the wall's plane: the image is the point itself, no reflection
+      if (occ !== undefined && seen !== undefined) {
+        if (seen[r] === 0) seen[r] = occ.wallHiddenFromPoint(r, e[0], e[1], e[2]) ? 2 : 1;
+        if (seen[r] === 2) continue;
+      }
       mirrorInto(ps, r, e, image);
       const planes = wallBeam(ps, beam, 0, 0, 0, r, f > 0 ? 1 : -1, image[0], image[1], image[2], grow);
       const n = bvh.collectInHalfSpaces(beam, planes, margin, found);
@@ -302,7 +311,17 @@ export function traceDiffractions(
         keys[nKeys++] = (w * (W + 1) + r) * 2 + side;
       }
     }
+  };
+  const kept = txKeysCache.get(ps);
+  if (kept !== undefined && kept.tx[0] === tx[0] && kept.tx[1] === tx[1] && kept.tx[2] === tx[2]) {
+    keys = new Float64Array(Math.max(1024, 2 * kept.keys.length));
+    keys.set(kept.keys);
+    nKeys = kept.keys.length;
+  } else {
+    collect(0, tx);
+    txKeysCache.set(ps, { tx: [tx[0], tx[1], tx[2]], keys: keys.slice(0, nKeys) });
   }
+  collect(1, rx);
   const sorted = keys.subarray(0, nKeys).sort();
   const perWedge = 2 * (W + 1);
   let k = 0;

@@ -12,6 +12,27 @@ import type { PreparedScene } from './scene.js';
 
 /** Largest wall count with a cached wall-to-wall table (W^2 bytes). */
 const PAIR_TABLE_MAX_WALLS = 4096;
+/** Largest wall count pruned by occlusion (above it the per-trace visibility tests cost more than they save). */
+const OCCLUSION_MAX_WALLS = 4096;
+/** Fewest walls pruned by occlusion (below it the exhaustive tests are cheaper than the visibility tests). */
+const OCCLUSION_MIN_WALLS = 32;
+const occlusionCache = new WeakMap<PreparedScene, Occlusion>();
+
+/**
+ * The scene's Occlusion (made once, then cached), or undefined where the tracer does not prune
+ * by occlusion: 2-D scenes, and 3-D scenes of fewer than 32 or more than 4096 walls.
+ * @example sceneOcclusion(prepareScene({ walls: [{ vertices: [[0, 0, 0], [1, 0, 0], [1, 1, 0]] }] })) // undefined: one wall
+ */
+export function sceneOcclusion(ps: PreparedScene): Occlusion | undefined {
+  const W = ps.wallCount;
+  if (ps.is2D || W > OCCLUSION_MAX_WALLS || W < OCCLUSION_MIN_WALLS) return undefined;
+  let o = occlusionCache.get(ps);
+  if (o === undefined) {
+    o = new Occlusion(ps);
+    occlusionCache.set(ps, o);
+  }
+  return o;
+}
 
 /**
  * Occlusion queries over one prepared 3-D scene, with a lazily filled wall-to-wall table.
@@ -32,6 +53,10 @@ export class Occlusion {
   private readonly point = new Float64Array(3);
   /** Margin of every side and inside test, metres (100 times the scene's box padding). */
   readonly margin: number;
+  /** seenFrom's memos: the last two points (a transmitter and a receiver) and their tables. */
+  private readonly seenPoints = new Float64Array(6).fill(NaN);
+  private readonly seenTables: [Int8Array, Int8Array];
+  private seenNext = 0;
 
   constructor(private readonly ps: PreparedScene) {
     const W = ps.wallCount;
@@ -39,6 +64,7 @@ export class Occlusion {
     this.found = new Int32Array(W);
     this.margin = 100 * ps.padM;
     this.pairs = W <= PAIR_TABLE_MAX_WALLS && !ps.is2D ? new Uint8Array(W * W) : undefined;
+    this.seenTables = [new Int8Array(W), new Int8Array(W)];
     const poly = ps.polygons;
     for (let w = 0; w < W && !ps.is2D; w++) {
       const s = ps.polygonStart[w]!,
@@ -67,6 +93,31 @@ export class Occlusion {
     p[1] = py;
     p[2] = pz;
     return this.hidden(p, 0, 1, b, -1);
+  }
+
+  /**
+   * A memo of wallHiddenFromPoint for the point p, one value per wall (0 not yet known, 1 visible,
+   * 2 hidden), for the caller to fill: the same table for the same point while it is one of the
+   * last two points asked for (a static transmitter keeps its table between traces).
+   * @example
+   * const ps = prepareScene({ walls: [{ vertices: [[0, -1, -1], [0, 1, -1], [0, 1, 1], [0, -1, 1]] }] });
+   * const occ = new Occlusion(ps), seen = occ.seenFrom(10, 0, 0);
+   * [seen.length, occ.seenFrom(10, 0, 0) === seen, occ.seenFrom(-10, 0, 0) === seen] // [1, true, false]
+   */
+  seenFrom(px: number, py: number, pz: number): Int8Array {
+    const P = this.seenPoints;
+    for (let i = 0; i < 2; i++) {
+      if (P[3 * i] === px && P[3 * i + 1] === py && P[3 * i + 2] === pz) {
+        this.seenNext = 1 - i; // the other one is now the older
+        return this.seenTables[i]!;
+      }
+    }
+    const i = this.seenNext;
+    this.seenNext = 1 - i;
+    P[3 * i] = px;
+    P[3 * i + 1] = py;
+    P[3 * i + 2] = pz;
+    return this.seenTables[i]!.fill(0);
   }
 
   /**
@@ -139,7 +190,8 @@ export class Occlusion {
     const n = ps.bvh.collectInHalfSpaces(bx, 6, 0, this.found);
     for (let i = 0; i < n; i++) {
       const o = this.found[i]!;
-      if (o === b || o === skip || this.ps.convex[o] === 0) continue;
+      // transmissive walls let segments through (segmentHitsWall): they hide nothing
+      if (o === b || o === skip || this.ps.convex[o] === 0 || this.ps.transmissive[o] === 1) continue;
       if (this.cuts(o, pts, aStart, aCount, bs, be)) return true;
     }
     return false;

@@ -34,7 +34,7 @@ import type { DiffractionCoefficients } from './utd.js';
 import { surfaceCoefficients, type FresnelCoefficients } from './fresnel.js';
 import { slabCoefficients } from './slab.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
-import { Occlusion, wallBeam } from './occlusion.js';
+import { sceneOcclusion, wallBeam } from './occlusion.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
 /**
@@ -445,11 +445,12 @@ export function traceReflections(
 
   // Occlusion pruning (3-D, exact in the same sense): a first wall hidden from the transmitter, a
   // wall hidden from the previous one, or a last wall hidden from the receiver, by one convex wall.
-  const occ = ps.is2D || W > OCCLUSION_MAX_WALLS || W < OCCLUSION_MIN_WALLS ? undefined : occlusionOf(ps);
-  const txSeen = new Int8Array(W),
-    rxSeen = new Int8Array(W); // 0 unknown, 1 visible, 2 hidden
-  const hiddenFrom = (seen: Int8Array, w: number, p: Readonly<Vec3>): boolean => {
-    if (occ === undefined) return false;
+  const occ = sceneOcclusion(ps);
+  // 0 unknown, 1 visible, 2 hidden; kept by the Occlusion per point (a static transmitter's between traces)
+  const txSeen = occ !== undefined ? occ.seenFrom(tx[0], tx[1], tx[2]) : undefined,
+    rxSeen = occ !== undefined ? occ.seenFrom(rx[0], rx[1], rx[2]) : undefined;
+  const hiddenFrom = (seen: Int8Array | undefined, w: number, p: Readonly<Vec3>): boolean => {
+    if (occ === undefined || seen === undefined) return false;
     if (seen[w] === 0) seen[w] = occ.wallHiddenFromPoint(w, p[0], p[1], p[2]) ? 2 : 1;
     return seen[w] === 2;
   };
@@ -617,21 +618,8 @@ function replayImageTree(
   }
 }
 
-/** Largest wall count pruned by occlusion (above it the per-trace visibility tests cost more than they save). */
-const OCCLUSION_MAX_WALLS = 4096;
 /** Fewest walls for beam pruning (measured: below it the 20-wall room traces faster without). */
 const PRUNE_MIN_WALLS = 32;
-/** Fewest walls pruned by occlusion (below it the exhaustive tests are cheaper than the visibility tests). */
-const OCCLUSION_MIN_WALLS = 32;
-const occlusionCache = new WeakMap<PreparedScene, Occlusion>();
-function occlusionOf(ps: PreparedScene): Occlusion {
-  let o = occlusionCache.get(ps);
-  if (o === undefined) {
-    o = new Occlusion(ps);
-    occlusionCache.set(ps, o);
-  }
-  return o;
-}
 
 /** Per-trace constants and the construction of path objects (allocation is fine here: valid paths only). */
 class TraceContext {
