@@ -476,6 +476,10 @@ export function traceReflections(
   const cacheable = prune && maxOrder >= 2;
   const cached = cacheable ? imageTreeCache.get(ps) : undefined;
   if (cached !== undefined && cached.order === maxOrder && cached.tx[0] === tx[0] && cached.tx[1] === tx[1] && cached.tx[2] === tx[2]) {
+    // tryPath's first test (receiver and last image on either side of the last wall) done here
+    // with the same operations, so that most candidates cost no call
+    const frx = cached.rxPlane;
+    for (let w = 0; w < W; w++) frx[w] = pl[4 * w]! * rx0 + pl[4 * w + 1]! * rx1 + pl[4 * w + 2]! * rx2 - pl[4 * w + 3]!;
     replayImageTree(cached, ps, images, seq, maxOrder, occ !== undefined ? leafList() : undefined, rxCount, (w) => hiddenFrom(rxSeen, w, rx), tryPath);
     return;
   }
@@ -544,7 +548,13 @@ export function traceReflections(
   };
   descend(0);
   if (recWalls !== undefined && recDepth !== undefined)
-    imageTreeCache.set(ps, { tx: [tx[0], tx[1], tx[2]], order: maxOrder, walls: recWalls.slice(0, recCount), depth: recDepth.slice(0, recCount) });
+    imageTreeCache.set(ps, {
+      tx: [tx[0], tx[1], tx[2]],
+      order: maxOrder,
+      walls: recWalls.slice(0, recCount),
+      depth: recDepth.slice(0, recCount),
+      rxPlane: new Float64Array(W),
+    });
 }
 
 /** The recorded image tree of one transmitter position (traceReflections). */
@@ -554,6 +564,8 @@ interface ImageTree {
   /** Nodes in preorder: the wall and the depth (0 for a first reflection) of each. */
   walls: Int32Array;
   depth: Uint8Array;
+  /** Scratch of the replay: each wall's plane function at the receiver. */
+  rxPlane: Float64Array;
 }
 
 /** Most nodes kept in an image tree (5 bytes each). */
@@ -579,7 +591,8 @@ function replayImageTree(
 ): void {
   const pl = ps.planes,
     walls = tree.walls,
-    depths = tree.depth;
+    depths = tree.depth,
+    frx = tree.rxPlane;
   for (let i = 0; i < walls.length; i++) {
     const w = walls[i]!,
       depth = depths[i]!;
@@ -595,7 +608,9 @@ function replayImageTree(
     images[3 * depth + 4] = py - 2 * f * ny;
     images[3 * depth + 5] = pz - 2 * f * nz;
     seq[depth] = w;
-    if (!hiddenFromRx(w)) tryPath(depth + 1);
+    const fq = frx[w]!,
+      fi = nx * images[3 * depth + 3]! + ny * images[3 * depth + 4]! + nz * images[3 * depth + 5]! - pl[o + 3]!;
+    if (((fq > 0 && fi < 0) || (fq < 0 && fi > 0)) && !hiddenFromRx(w)) tryPath(depth + 1);
     if (rxList === undefined || depth + 2 !== maxOrder) continue;
     const qx = images[3 * depth + 3]!,
       qy = images[3 * depth + 4]!,
@@ -613,7 +628,9 @@ function replayImageTree(
       images[3 * depth + 7] = qy - 2 * g * my;
       images[3 * depth + 8] = qz - 2 * g * mz;
       seq[depth + 1] = v;
-      if (!hiddenFromRx(v)) tryPath(depth + 2);
+      const gq = frx[v]!,
+        gi = mx * images[3 * depth + 6]! + my * images[3 * depth + 7]! + mz * images[3 * depth + 8]! - pl[u + 3]!;
+      if (((gq > 0 && gi < 0) || (gq < 0 && gi > 0)) && !hiddenFromRx(v)) tryPath(depth + 2);
     }
   }
 }
