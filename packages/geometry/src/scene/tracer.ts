@@ -480,7 +480,7 @@ export function traceReflections(
     // with the same operations, so that most candidates cost no call
     const frx = cached.rxPlane;
     for (let w = 0; w < W; w++) frx[w] = pl[4 * w]! * rx0 + pl[4 * w + 1]! * rx1 + pl[4 * w + 2]! * rx2 - pl[4 * w + 3]!;
-    replayImageTree(cached, ps, images, seq, maxOrder, occ !== undefined ? leafList() : undefined, rxCount, (w) => hiddenFrom(rxSeen, w, rx), tryPath);
+    replayImageTree(cached, ps, images, seq, (w) => hiddenFrom(rxSeen, w, rx), tryPath);
     return;
   }
   let recWalls = cacheable ? new Int32Array(1024) : undefined,
@@ -512,11 +512,12 @@ export function traceReflections(
     let list: Int32Array = cand,
       base = W * depth,
       n = W;
-    // leaves drawn from the receiver's list are the receiver's: replayed from that list, not recorded
-    const recorded = !(leaves && occ !== undefined);
+    // A tree that is kept takes its leaves from the beam too, tested once for the beam and the
+    // pair (the replay then tries fewer); else they come from the receiver's list.
+    const fromRxList = leaves && occ !== undefined && !cacheable;
     if (!prune)
       base = 0; // every wall, as listed in slot 0
-    else if (!recorded) {
+    else if (fromRxList) {
       list = leafList();
       base = 0;
       n = rxCount;
@@ -526,7 +527,7 @@ export function traceReflections(
       if (depth > 0) {
         if (seq[depth - 1] === w) continue;
         // leaves: tryPath's own first test is cheaper than the beam and pair tests
-        if (prune && !leaves && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
+        if (prune && (!leaves || cacheable) && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
       } else if (hiddenFrom(txSeen, w, tx)) continue;
       const o = 4 * w;
       const nx = pl[o]!,
@@ -534,7 +535,7 @@ export function traceReflections(
         nz = pl[o + 2]!;
       const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
       if (f === 0) continue; // the source lies in the plane: no image
-      if (recorded) record(w, depth);
+      record(w, depth);
       images[3 * depth + 3] = px - 2 * f * nx;
       images[3 * depth + 4] = py - 2 * f * ny;
       images[3 * depth + 5] = pz - 2 * f * nz;
@@ -575,17 +576,13 @@ const imageTreeCache = new WeakMap<PreparedScene, ImageTree>();
 
 /**
  * The descent of traceReflections replayed from its recorded tree: per node the image from its
- * parent's, the receiver's test and tryPath; below the nodes at depth maxOrder - 2, with
- * occlusion, the last walls from the receiver's list `rxList` (as the descent draws them).
+ * parent's, the receiver's tests and tryPath.
  */
 function replayImageTree(
   tree: ImageTree,
   ps: PreparedScene,
   images: Float64Array,
   seq: Int32Array,
-  maxOrder: number,
-  rxList: Int32Array | undefined,
-  rxCount: number,
   hiddenFromRx: (w: number) => boolean,
   tryPath: (K: number) => void,
 ): void {
@@ -604,34 +601,16 @@ function replayImageTree(
       ny = pl[o + 1]!,
       nz = pl[o + 2]!;
     const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
-    images[3 * depth + 3] = px - 2 * f * nx;
-    images[3 * depth + 4] = py - 2 * f * ny;
-    images[3 * depth + 5] = pz - 2 * f * nz;
+    const ix = px - 2 * f * nx,
+      iy = py - 2 * f * ny,
+      iz = pz - 2 * f * nz;
+    images[3 * depth + 3] = ix;
+    images[3 * depth + 4] = iy;
+    images[3 * depth + 5] = iz;
     seq[depth] = w;
     const fq = frx[w]!,
-      fi = nx * images[3 * depth + 3]! + ny * images[3 * depth + 4]! + nz * images[3 * depth + 5]! - pl[o + 3]!;
+      fi = nx * ix + ny * iy + nz * iz - pl[o + 3]!;
     if (((fq > 0 && fi < 0) || (fq < 0 && fi > 0)) && !hiddenFromRx(w)) tryPath(depth + 1);
-    if (rxList === undefined || depth + 2 !== maxOrder) continue;
-    const qx = images[3 * depth + 3]!,
-      qy = images[3 * depth + 4]!,
-      qz = images[3 * depth + 5]!;
-    for (let j = 0; j < rxCount; j++) {
-      const v = rxList[j]!;
-      if (v === w) continue;
-      const u = 4 * v;
-      const mx = pl[u]!,
-        my = pl[u + 1]!,
-        mz = pl[u + 2]!;
-      const g = mx * qx + my * qy + mz * qz - pl[u + 3]!;
-      if (g === 0) continue;
-      images[3 * depth + 6] = qx - 2 * g * mx;
-      images[3 * depth + 7] = qy - 2 * g * my;
-      images[3 * depth + 8] = qz - 2 * g * mz;
-      seq[depth + 1] = v;
-      const gq = frx[v]!,
-        gi = mx * images[3 * depth + 6]! + my * images[3 * depth + 7]! + mz * images[3 * depth + 8]! - pl[u + 3]!;
-      if (((gq > 0 && gi < 0) || (gq < 0 && gi > 0)) && !hiddenFromRx(v)) tryPath(depth + 2);
-    }
   }
 }
 
