@@ -9,6 +9,10 @@
  * A candidate is kept when every reflection point lies between its two neighbours' images
  * (strictly on the segment), inside its finite polygon (2-D: within the segment, at any height),
  * and no segment of the path crosses another wall. Walls reflect on both sides and are opaque.
+ * Scenes of 32 walls or more skip, exactly, the sequences that cannot pass: walls outside the
+ * beam of the sequence so far, walls hidden by one convex wall; the part of that search that
+ * depends on the transmitter alone is kept per prepared scene and replayed while the
+ * transmitter stays where it was (traceReflections).
  *
  * Amplitude of a path (one complex number, `amplitude`):
  *   LOS, reflections: lambda / (4 pi d) * F * 10^(-blockageDb / 20) * G * exp(-j k0 d);
@@ -318,8 +322,11 @@ export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRang
 
 /**
  * Enumerate valid specular reflection paths of order 1..maxOrder by the image method; calls
- * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies). The inner loops
- * (images, back-tracking, polygon and obstruction tests) do not allocate.
+ * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies; the order of the
+ * calls is not specified: traceScene sorts the paths). The inner loops (images, back-tracking,
+ * polygon and obstruction tests) do not allocate. With 32 walls or more and maxOrder >= 2, the
+ * transmitter's image tree is recorded and replayed by the next call with the same prepared
+ * scene, order and transmitter position (a moving receiver).
  * @example traceReflections(prepareScene({ walls: [{ vertices: [[0, -5], [0, 5]] }] }), [1, 0, 0], [2, 0, 0], 1, (w, p) => console.log(w, p))
  * // [0] [[0, 0, 0]]
  */
