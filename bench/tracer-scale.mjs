@@ -1,11 +1,13 @@
 #!/usr/bin/env node
 /**
  * Tracer at scale: full traces per second (traceScene, receiver moved 1 cm per trace as on a
- * walk, after warm-up traces) on the 20-wall room at order 2 (test/fixtures/twenty-wall-room.json),
- * a 10 x 10 street grid (400 facades and a ground plane, 28 GHz) at order 3 with edge diffraction (single, and
- * with one reflection) and a 50 000-triangle
+ * walk, transmitter static, after warm-up traces) on the 20-wall room at order 2
+ * (test/fixtures/twenty-wall-room.json), a 10 x 10 street grid (400 facades and a ground plane,
+ * 28 GHz) at order 3 with edge diffraction (single, and with one reflection) and a 50 000-triangle
  * hall at order 2 (bench/scenes.mjs), with the process's CPU time beside the wall clock (the
- * machine may be shared), the load average, the heap taken by the prepared scene and the peak RSS.
+ * machine may be shared: CPU time per trace depends much less on its load), the load average,
+ * the heap taken by the prepared scene and the peak RSS. The first trace, timed apart, records
+ * what later traces from the same transmitter position reuse (tracer.ts, diffraction.ts).
  *
  * usage: node bench/tracer-scale.mjs [--only room,grid,mesh] [--json]
  */
@@ -66,6 +68,7 @@ for (const name of only) {
     firstTraceS: +firstS.toFixed(3),
     tracesPerSecond: +(c.runs / wall).toFixed(2),
     tracesPerCpuSecond: +(c.runs / cpu).toFixed(2),
+    cpuMsPerTrace: +((1000 * cpu) / c.runs).toFixed(3),
     heapMiB: +heapMiB.toFixed(1),
     rssMiB: +(process.resourceUsage().maxRSS / 1024).toFixed(0),
     load1: +loadavg()[0].toFixed(2),
@@ -73,7 +76,7 @@ for (const name of only) {
   results.push(r);
   if (!JSON_OUT)
     console.log(
-      `${name}: ${r.walls} faces, order ${r.order}${r.diffraction ? ' + diffraction' : ''}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`,
+      `${name}: ${r.walls} faces, order ${r.order}${r.diffraction ? ' + diffraction' : ''}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second, ${r.cpuMsPerTrace} ms of CPU per trace), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}`,
     );
 }
 if (JSON_OUT) console.log(JSON.stringify(results));
