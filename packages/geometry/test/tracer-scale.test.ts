@@ -200,7 +200,7 @@ describe('Occlusion', () => {
     expect(occ.wallHiddenFromWall(1, 0)).toBe(false);
   });
   it('a transmissive screen (thicknessM: the tracer passes through it) hides nothing', () => {
-    const glass = screen.map((w, i) => (i === 1 ? { ...w, material: 'glass', thicknessM: 0.01 } : w));
+    const glass = screen.map((w, i): Wall => (i === 1 ? { ...w, material: 'glass', thicknessM: 0.01 } : w));
     const occ = new Occlusion(prepareScene({ walls: glass }));
     expect(occ.wallHiddenFromPoint(0, 10, 0, 0)).toBe(false);
     expect(occ.wallHiddenFromWall(2, 0)).toBe(false);
