@@ -1,10 +1,13 @@
 #!/usr/bin/env node
 /**
  * Tracer at scale: full traces per second (traceScene, receiver moved 1 cm per trace as on a
- * walk, after warm-up traces) on the 20-wall room at order 2 (test/fixtures/twenty-wall-room.json),
- * a 10 x 10 street grid (400 facades and a ground plane, 28 GHz) at order 3 and a 50 000-triangle
+ * walk, transmitter static, after warm-up traces) on the 20-wall room at order 2
+ * (test/fixtures/twenty-wall-room.json), a 10 x 10 street grid (400 facades and a ground plane,
+ * 28 GHz) at order 3 with edge diffraction (single, and with one reflection) and a 50 000-triangle
  * hall at order 2 (bench/scenes.mjs), with the process's CPU time beside the wall clock (the
- * machine may be shared), the load average, the heap taken by the prepared scene and the peak RSS.
+ * machine may be shared: CPU time per trace depends much less on its load), the load average,
+ * the heap taken by the prepared scene and the peak RSS. The first trace, timed apart, records
+ * what later traces from the same transmitter position reuse (tracer.ts, diffraction.ts).
  * Rows launch3, launch4 (street grid, orders 3 and 4) and launchMesh (the hall, order 2) trace
  * with ray launching (method 'launch', 40 962 rays, the default 1 degree spacing) and add the
  * image method's reflection search at the same order (traceReflections, which takes any order;
@@ -31,7 +34,10 @@ const room = () => ({
 });
 const CASES = {
   room,
-  grid: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 30 }),
+  grid: () => {
+    const g = streetGrid();
+    return { ...g, scene: { ...g.scene, diffraction: true }, step: 0.01, warm: 3, runs: 30 };
+  },
   mesh: () => ({ ...triangulatedHall(50000), step: 0.01, warm: 1, runs: 3 }),
   // imageWarm, imageRuns: untimed and timed image-method searches
   launch3: () => ({ ...streetGrid(), step: 0.01, warm: 3, runs: 20, imageWarm: 10, imageRuns: 20, options: { method: 'launch' } }),
@@ -67,11 +73,13 @@ for (const name of only) {
     method: opts.method ?? 'image',
     walls: ps.wallCount,
     order,
+    diffraction: c.scene.diffraction === true,
     paths: first.paths.length,
     prepareS: +prepareS.toFixed(3),
     firstTraceS: +firstS.toFixed(3),
     tracesPerSecond: +(c.runs / wall).toFixed(2),
     tracesPerCpuSecond: +(c.runs / cpu).toFixed(2),
+    cpuMsPerTrace: +((1000 * cpu) / c.runs).toFixed(3),
     heapMiB: +heapMiB.toFixed(1),
     rssMiB: +(process.resourceUsage().maxRSS / 1024).toFixed(0),
     load1: +loadavg()[0].toFixed(2),
@@ -95,7 +103,7 @@ for (const name of only) {
   results.push(r);
   if (!JSON_OUT)
     console.log(
-      `${name} (${r.method}): ${r.walls} faces, order ${r.order}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}${extra}`,
+      `${name} (${r.method}): ${r.walls} faces, order ${r.order}${r.diffraction ? ' + diffraction' : ''}, ${r.paths} paths; ${r.tracesPerSecond} traces/s (${r.tracesPerCpuSecond} per CPU second, ${r.cpuMsPerTrace} ms of CPU per trace), first trace ${r.firstTraceS} s, prepare ${r.prepareS} s, heap +${r.heapMiB} MiB, peak RSS ${r.rssMiB} MiB, load ${r.load1}${extra}`,
     );
 }
 if (JSON_OUT) console.log(JSON.stringify(results));

@@ -29,6 +29,8 @@ import type { Vec3 } from '../vec3.js';
 import { surfaceCoefficients } from './fresnel.js';
 import type { ResolvedSurface } from './materials.js';
 import { sceneWedges, WEDGE_STRIDE, type SceneWedges } from './edges.js';
+import { Bvh } from './bvh.js';
+import { sceneOcclusion, wallBeam } from './occlusion.js';
 import type { PreparedScene } from './scene.js';
 import { utdWedgeCoefficients, type DiffractionCoefficients } from './utd.js';
 
@@ -134,9 +136,47 @@ function reflectionPoint(ps: PreparedScene, w: number, qx: number, qy: number, q
   return ps.insideWall(w, out[0], out[1], out[2], 1e-9);
 }
 
+/** Fewest walls for the pruned enumeration (below it every wedge and wall pair is tried, as the image method does). */
+const PRUNE_MIN_WALLS = 32;
+const edgeBvhCache = new WeakMap<PreparedScene, Bvh>();
+/** The transmitter side's candidate keys of traceDiffractions for the last transmitter position. */
+const txKeysCache = new WeakMap<PreparedScene, { tx: Vec3; keys: Float64Array }>();
+
+/** A hierarchy over the wedges' edge segments (2-D: vertical lines, unbounded in z), built once per scene. */
+function edgeBvh(ps: PreparedScene, wedges: SceneWedges): Bvh {
+  let bvh = edgeBvhCache.get(ps);
+  if (bvh === undefined) {
+    const wd = wedges.data,
+      boxes = new Float64Array(6 * wedges.count);
+    for (let w = 0; w < wedges.count; w++) {
+      const b = WEDGE_STRIDE * w,
+        len = wd[b + 6]!;
+      for (let k = 0; k < 3; k++) {
+        const a = wd[b + k]!,
+          e = wd[b + 3 + k]!;
+        const z = a + (len === Infinity ? 0 : len * e);
+        boxes[6 * w + k] = len === Infinity && k === 2 ? -Infinity : Math.min(a, z);
+        boxes[6 * w + 3 + k] = len === Infinity && k === 2 ? Infinity : Math.max(a, z);
+      }
+    }
+    bvh = new Bvh(boxes);
+    edgeBvhCache.set(ps, bvh);
+  }
+  return bvh;
+}
+
 /**
  * Enumerate the valid diffracted paths (one diffraction, with at most one reflection before or
- * after it when `withReflection`); calls `emit(steps, points)` with fresh arrays for each.
+ * after it when `withReflection`); calls `emit(steps, points)` with fresh arrays for each, wedge
+ * by wedge in index order (for each wedge: alone, then with wall 0 before, wall 0 after, wall 1
+ * before, ...).
+ *
+ * Scenes of 32 walls or more are pruned, exactly (the same paths, bit for bit, in the same order
+ * as `prune = false`, which tries every wedge and wall pair): with a reflection on wall r before
+ * the edge, the diffraction point Q lies on the line from the transmitter's image through the
+ * reflection point, beyond the wall, so in the beam through r from that image (wallBeam,
+ * occlusion.ts); after the edge, in the beam through r from the receiver's image. Only the
+ * wedges whose edge boxes meet the beam (a hierarchy over the edges) are tried with r.
  * @example
  * // A lone thin wall along x from 0 to 10 m: a receiver behind it gets the paths diffracted at both ends
  * const ps = prepareScene({ walls: [{ vertices: [[0, 0], [10, 0]] }] });
@@ -148,6 +188,7 @@ export function traceDiffractions(
   rx: Readonly<Vec3>,
   withReflection: boolean,
   emit: (steps: DiffractionStep[], points: Vec3[]) => void,
+  prune = true,
 ): void {
   const wedges = sceneWedges(ps);
   const wd = wedges.data,
@@ -156,10 +197,10 @@ export function traceDiffractions(
     p = new Float64Array(3);
   const image: Vec3 = [0, 0, 0];
   const W = ps.wallCount;
-  for (let w = 0; w < wedges.count; w++) {
+  // tx -> Q -> rx
+  const alone = (w: number): void => {
     const f0 = faces[2 * w]!,
       fn = faces[2 * w + 1]!;
-    // tx -> Q -> rx
     if (
       kellerPoint(wd, w, tx, rx, q) &&
       outsideWedge(wd, w, q, tx, rx) &&
@@ -168,51 +209,129 @@ export function traceDiffractions(
     ) {
       emit([{ type: 'diffraction', index: w }], [[q[0]!, q[1]!, q[2]!]]);
     }
-    if (!withReflection) continue;
+  };
+  // tx -> P (wall r) -> Q -> rx: source = image of tx
+  const before = (w: number, r: number): void => {
+    const f0 = faces[2 * w]!,
+      fn = faces[2 * w + 1]!;
+    mirrorInto(ps, r, tx, image);
+    if (
+      kellerPoint(wd, w, image, rx, q) &&
+      outsideWedge(wd, w, q, image, rx) &&
+      reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
+      !ps.segmentHitsWall(tx[0], tx[1], tx[2], p[0]!, p[1]!, p[2]!, r, -1) &&
+      !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, q[0]!, q[1]!, q[2]!, r, f0) &&
+      !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)
+    ) {
+      emit(
+        [
+          { type: 'reflection', index: r },
+          { type: 'diffraction', index: w },
+        ],
+        [
+          [p[0]!, p[1]!, p[2]!],
+          [q[0]!, q[1]!, q[2]!],
+        ],
+      );
+    }
+  };
+  // tx -> Q -> P (wall r) -> rx: observer = image of rx
+  const after = (w: number, r: number): void => {
+    const f0 = faces[2 * w]!,
+      fn = faces[2 * w + 1]!;
+    mirrorInto(ps, r, rx, image);
+    if (
+      kellerPoint(wd, w, tx, image, q) &&
+      outsideWedge(wd, w, q, tx, image) &&
+      reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
+      !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn) &&
+      !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, p[0]!, p[1]!, p[2]!, r, f0) &&
+      !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, rx[0], rx[1], rx[2], r, -1)
+    ) {
+      emit(
+        [
+          { type: 'diffraction', index: w },
+          { type: 'reflection', index: r },
+        ],
+        [
+          [q[0]!, q[1]!, q[2]!],
+          [p[0]!, p[1]!, p[2]!],
+        ],
+      );
+    }
+  };
+  if (!withReflection || !prune || W < PRUNE_MIN_WALLS) {
+    for (let w = 0; w < wedges.count; w++) {
+      alone(w);
+      if (!withReflection) continue;
+      const f0 = faces[2 * w]!,
+        fn = faces[2 * w + 1]!;
+      for (let r = 0; r < W; r++) {
+        if (r === f0 || r === fn) continue;
+        before(w, r);
+        after(w, r);
+      }
+    }
+    return;
+  }
+  // Candidate (wedge, wall, side) triples from the beams, as keys ((w (W + 1) + r) 2 + side)
+  // sorted into the exhaustive loop's order. A wall hidden from the transmitter (side 0) or the
+  // receiver (side 1) by one convex wall (occlusion.ts) holds no reflection point of a path. The
+  // transmitter's triples depend on it alone: kept between traces while it stays put.
+  const bvh = edgeBvh(ps, wedges);
+  const margin = 100 * ps.padM; // as the reflection beams (tracer.ts)
+  const grow = 1e-6 * (ps.padM / 1e-8);
+  const beam = new Float64Array(4 * (1 + Math.max(4, ps.maxWallVertices)));
+  const found = new Int32Array(wedges.count);
+  const occ = sceneOcclusion(ps);
+  const pl = ps.planes;
+  let keys = new Float64Array(1024),
+    nKeys = 0;
+  const collect = (side: number, e: Readonly<Vec3>): void => {
+    const seen = occ?.seenFrom(e[0], e[1], e[2]);
     for (let r = 0; r < W; r++) {
-      if (r === f0 || r === fn) continue;
-      // tx -> P (wall r) -> Q -> rx: source = image of tx
-      mirrorInto(ps, r, tx, image);
-      if (
-        kellerPoint(wd, w, image, rx, q) &&
-        outsideWedge(wd, w, q, image, rx) &&
-        reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
-        !ps.segmentHitsWall(tx[0], tx[1], tx[2], p[0]!, p[1]!, p[2]!, r, -1) &&
-        !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, q[0]!, q[1]!, q[2]!, r, f0) &&
-        !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, rx[0], rx[1], rx[2], f0, fn)
-      ) {
-        emit(
-          [
-            { type: 'reflection', index: r },
-            { type: 'diffraction', index: w },
-          ],
-          [
-            [p[0]!, p[1]!, p[2]!],
-            [q[0]!, q[1]!, q[2]!],
-          ],
-        );
+      const o = 4 * r;
+      const f = pl[o]! * e[0] + pl[o + 1]! * e[1] + pl[o + 2]! * e[2] - pl[o + 3]!;
+      if (f === 0) continue; // in the wall's plane: the image is the point itself, no reflection
+      if (occ !== undefined && seen !== undefined) {
+        if (seen[r] === 0) seen[r] = occ.wallHiddenFromPoint(r, e[0], e[1], e[2]) ? 2 : 1;
+        if (seen[r] === 2) continue;
       }
-      // tx -> Q -> P (wall r) -> rx: observer = image of rx
-      mirrorInto(ps, r, rx, image);
-      if (
-        kellerPoint(wd, w, tx, image, q) &&
-        outsideWedge(wd, w, q, tx, image) &&
-        reflectionPoint(ps, r, q[0]!, q[1]!, q[2]!, image, p) &&
-        !ps.segmentHitsWall(tx[0], tx[1], tx[2], q[0]!, q[1]!, q[2]!, f0, fn) &&
-        !ps.segmentHitsWall(q[0]!, q[1]!, q[2]!, p[0]!, p[1]!, p[2]!, r, f0) &&
-        !ps.segmentHitsWall(p[0]!, p[1]!, p[2]!, rx[0], rx[1], rx[2], r, -1)
-      ) {
-        emit(
-          [
-            { type: 'diffraction', index: w },
-            { type: 'reflection', index: r },
-          ],
-          [
-            [q[0]!, q[1]!, q[2]!],
-            [p[0]!, p[1]!, p[2]!],
-          ],
-        );
+      mirrorInto(ps, r, e, image);
+      const planes = wallBeam(ps, beam, 0, 0, 0, r, f > 0 ? 1 : -1, image[0], image[1], image[2], grow);
+      const n = bvh.collectInHalfSpaces(beam, planes, margin, found);
+      if (nKeys + n > keys.length) {
+        const grown = new Float64Array(2 * (nKeys + n));
+        grown.set(keys.subarray(0, nKeys));
+        keys = grown;
       }
+      for (let i = 0; i < n; i++) {
+        const w = found[i]!;
+        if (r === faces[2 * w]! || r === faces[2 * w + 1]!) continue;
+        keys[nKeys++] = (w * (W + 1) + r) * 2 + side;
+      }
+    }
+  };
+  const kept = txKeysCache.get(ps);
+  if (kept !== undefined && kept.tx[0] === tx[0] && kept.tx[1] === tx[1] && kept.tx[2] === tx[2]) {
+    keys = new Float64Array(Math.max(1024, 2 * kept.keys.length));
+    keys.set(kept.keys);
+    nKeys = kept.keys.length;
+  } else {
+    collect(0, tx);
+    txKeysCache.set(ps, { tx: [tx[0], tx[1], tx[2]], keys: keys.slice(0, nKeys) });
+  }
+  collect(1, rx);
+  const sorted = keys.subarray(0, nKeys).sort();
+  const perWedge = 2 * (W + 1);
+  let k = 0;
+  for (let w = 0; w < wedges.count; w++) {
+    alone(w);
+    for (; k < nKeys && Math.floor(sorted[k]! / perWedge) === w; k++) {
+      const key = sorted[k]!,
+        r = Math.floor(key / 2) % (W + 1);
+      if (key % 2 === 0) before(w, r);
+      else after(w, r);
     }
   }
 }

@@ -9,6 +9,10 @@
  * A candidate is kept when every reflection point lies between its two neighbours' images
  * (strictly on the segment), inside its finite polygon (2-D: within the segment, at any height),
  * and no segment of the path crosses another wall. Walls reflect on both sides and are opaque.
+ * Scenes of 32 walls or more skip, exactly, the sequences that cannot pass: walls outside the
+ * beam of the sequence so far, walls hidden by one convex wall; the part of that search that
+ * depends on the transmitter alone is kept per prepared scene and replayed while the
+ * transmitter stays where it was (traceReflections).
  *
  * Amplitude of a path (one complex number, `amplitude`):
  *   LOS, reflections: lambda / (4 pi d) * F * 10^(-blockageDb / 20) * G * exp(-j k0 d);
@@ -38,7 +42,7 @@ import { slabCoefficients } from './slab.js';
 import { diffuseTileFactor, reflectionReduction, rotateField, sceneDiffuseTiles, scaleCoefficients, traceDiffuse } from './diffuse.js';
 import { directionBasis, polarizationVectorLocal, projectFieldPerpendicular, reflectField, terminalFieldVector, type Polarization } from './polarization.js';
 import { launchReflections, launchSettingsProblems, type LaunchSettings } from './launch.js';
-import { Occlusion } from './occlusion.js';
+import { sceneOcclusion, wallBeam } from './occlusion.js';
 import { MAX_REFLECTION_ORDER, PreparedScene, prepareScene, type Scene, type SceneProblem } from './scene.js';
 
 /**
@@ -354,8 +358,11 @@ export function prunePaths(paths: TracedPath[], maxPaths = Infinity, dynamicRang
 
 /**
  * Enumerate valid specular reflection paths of order 1..maxOrder by the image method; calls
- * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies). The inner loops
- * (images, back-tracking, polygon and obstruction tests) do not allocate.
+ * `emit(wallSequence, reflectionPoints)` for each (arrays are fresh copies; the order of the
+ * calls is not specified: traceScene sorts the paths). The inner loops (images, back-tracking,
+ * polygon and obstruction tests) do not allocate. With 32 walls or more and maxOrder >= 2, the
+ * transmitter's image tree is recorded and replayed by the next call with the same prepared
+ * scene, order and transmitter position (a moving receiver).
  * @example traceReflections(prepareScene({ walls: [{ vertices: [[0, -5], [0, 5]] }] }), [1, 0, 0], [2, 0, 0], 1, (w, p) => console.log(w, p))
  * // [0] [[0, 0, 0]]
  */
@@ -451,161 +458,9 @@ export function traceReflections(
   const grow = 1e-6 * (ps.padM / 1e-8); // the cone's polygon widened by 1e-6 m per metre of scene size
   const verts = ps.vertices,
     vStart = ps.vertexStart;
-  const fr = ps.frames,
-    bd = ps.bounds,
-    sg = ps.segments;
-
-  /**
-   * Beam of depth k + 1 (image I at images[3 (k + 1)], through wall w, source side sign s): the
-   * half-space beyond w, the cone from I through w (its own edges when convex, else its bounding
-   * rectangle; widened by `grow`), then the parent's half-spaces mirrored through w (the most
-   * selective first, for the hierarchy's early outs).
-   */
-  let bDst = 0,
-    bCount = 0,
-    bix = 0,
-    biy = 0,
-    biz = 0; // the beam being made (shared with addPlane)
-  /** The plane through I and the points a, b (relative to I), oriented to hold (cx, cy, cz). */
-  const addPlane = (pxa: number, pya: number, pza: number, pxb: number, pyb: number, pzb: number, cx: number, cy: number, cz: number): void => {
-    let nx = pya * pzb - pza * pyb,
-      ny = pza * pxb - pxa * pzb,
-      nz = pxa * pyb - pya * pxb;
-    const l = Math.hypot(nx, ny, nz);
-    if (!(l > 1e-12 * Math.hypot(pxa, pya, pza) * Math.hypot(pxb, pyb, pzb))) return; // degenerate: no plane (still conservative)
-    nx /= l;
-    ny /= l;
-    nz /= l;
-    if (nx * cx + ny * cy + nz * cz < 0) {
-      nx = -nx;
-      ny = -ny;
-      nz = -nz;
-    }
-    const q = bDst + 4 * bCount++;
-    beams[q] = nx;
-    beams[q + 1] = ny;
-    beams[q + 2] = nz;
-    beams[q + 3] = nx * bix + ny * biy + nz * biz;
-  };
+  /** Beam of depth k + 1: through wall w from image I(k + 1), source side sign s (wallBeam, occlusion.ts). */
   const makeBeam = (k: number, w: number, s: number): void => {
-    const src = slot * k,
-      dst = slot * (k + 1);
-    const o = 4 * w,
-      mx = pl[o]!,
-      my = pl[o + 1]!,
-      mz = pl[o + 2]!,
-      e = pl[o + 3]!;
-    let c = 0;
-    let b = dst + 4 * c++; // beyond the wall: the source's side
-    beams[b] = s * mx;
-    beams[b + 1] = s * my;
-    beams[b + 2] = s * mz;
-    beams[b + 3] = s * e;
-    const ix = images[3 * k + 3]!,
-      iy = images[3 * k + 4]!,
-      iz = images[3 * k + 5]!;
-    bDst = dst;
-    bCount = c;
-    bix = ix;
-    biy = iy;
-    biz = iz;
-    if (ps.is2D) {
-      const so = 5 * w,
-        ax = sg[so]!,
-        ay = sg[so + 1]!,
-        ux = sg[so + 2]!,
-        uy = sg[so + 3]!,
-        len = sg[so + 4]!;
-      const cx = ax + 0.5 * len * ux - ix,
-        cy = ay + 0.5 * len * uy - iy;
-      // vertical planes through I and each end (pushed out by grow along the wall)
-      addPlane(ax - grow * ux - ix, ay - grow * uy - iy, 0, ax - grow * ux - ix, ay - grow * uy - iy, 1, cx, cy, 0);
-      addPlane(ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 0, ax + (len + grow) * ux - ix, ay + (len + grow) * uy - iy, 1, cx, cy, 0);
-    } else if (ps.convex[w] === 1) {
-      const f9 = 9 * w,
-        v0 = vStart[w]!,
-        v1 = vStart[w + 1]!;
-      const ox = fr[f9]!,
-        oy = fr[f9 + 1]!,
-        oz = fr[f9 + 2]!; // the vertices' centroid: inside a convex polygon
-      const cx = ox - ix,
-        cy = oy - iy,
-        cz = oz - iz;
-      for (let v = v0; v < v1; v++) {
-        const u = v + 1 < v1 ? v + 1 : v0;
-        const ax = verts[3 * v]!,
-          ay = verts[3 * v + 1]!,
-          az = verts[3 * v + 2]!;
-        const ex = verts[3 * u]! - ax,
-          ey = verts[3 * u + 1]! - ay,
-          ez = verts[3 * u + 2]! - az;
-        // in-plane outward normal of the edge, to push it out by grow
-        let qx = ey * mz - ez * my,
-          qy = ez * mx - ex * mz,
-          qz = ex * my - ey * mx;
-        const ql = Math.hypot(qx, qy, qz);
-        if (!(ql > 0)) continue;
-        const sgn = qx * (ox - ax) + qy * (oy - ay) + qz * (oz - az) > 0 ? -grow / ql : grow / ql;
-        qx *= sgn;
-        qy *= sgn;
-        qz *= sgn;
-        addPlane(ax + qx - ix, ay + qy - iy, az + qz - iz, ax + ex + qx - ix, ay + ey + qy - iy, az + ez + qz - iz, cx, cy, cz);
-      }
-    } else {
-      const f9 = 9 * w,
-        b4 = 4 * w;
-      const u0 = bd[b4]! - grow,
-        u1 = bd[b4 + 1]! + grow,
-        v0 = bd[b4 + 2]! - grow,
-        v1 = bd[b4 + 3]! + grow;
-      const ox = fr[f9]!,
-        oy = fr[f9 + 1]!,
-        oz = fr[f9 + 2]!;
-      const e1x = fr[f9 + 3]!,
-        e1y = fr[f9 + 4]!,
-        e1z = fr[f9 + 5]!,
-        e2x = fr[f9 + 6]!,
-        e2y = fr[f9 + 7]!,
-        e2z = fr[f9 + 8]!;
-      const um = 0.5 * (u0 + u1),
-        vm = 0.5 * (v0 + v1);
-      const cx = ox + um * e1x + vm * e2x - ix,
-        cy = oy + um * e1y + vm * e2y - iy,
-        cz = oz + um * e1z + vm * e2z - iz;
-      for (let edge = 0; edge < 4; edge++) {
-        const ua = edge === 0 || edge === 3 ? u0 : u1,
-          va = edge < 2 ? v0 : v1;
-        const ub = edge < 2 ? u1 : u0,
-          vb = edge === 0 || edge === 3 ? v0 : v1;
-        addPlane(
-          ox + ua * e1x + va * e2x - ix,
-          oy + ua * e1y + va * e2y - iy,
-          oz + ua * e1z + va * e2z - iz,
-          ox + ub * e1x + vb * e2x - ix,
-          oy + ub * e1y + vb * e2y - iy,
-          oz + ub * e1z + vb * e2z - iz,
-          cx,
-          cy,
-          cz,
-        );
-      }
-    }
-    c = bCount;
-    for (let q = 0; q < beamCount[k]!; q++) {
-      // the parent's half-spaces mirrored through w
-      const a = src + 4 * q;
-      const nx = beams[a]!,
-        ny = beams[a + 1]!,
-        nz = beams[a + 2]!,
-        d = beams[a + 3]!;
-      const nm = nx * mx + ny * my + nz * mz;
-      b = dst + 4 * c++;
-      beams[b] = nx - 2 * nm * mx;
-      beams[b + 1] = ny - 2 * nm * my;
-      beams[b + 2] = nz - 2 * nm * mz;
-      beams[b + 3] = d - 2 * e * nm;
-    }
-    beamCount[k + 1] = c;
+    beamCount[k + 1] = wallBeam(ps, beams, slot * (k + 1), slot * k, beamCount[k]!, w, s, images[3 * k + 3]!, images[3 * k + 4]!, images[3 * k + 5]!, grow);
   };
 
   /** True when some vertex of wall w is inside (within margin) every half-space of beam k. */
@@ -633,11 +488,12 @@ export function traceReflections(
 
   // Occlusion pruning (3-D, exact in the same sense): a first wall hidden from the transmitter, a
   // wall hidden from the previous one, or a last wall hidden from the receiver, by one convex wall.
-  const occ = ps.is2D || W > OCCLUSION_MAX_WALLS || W < OCCLUSION_MIN_WALLS ? undefined : occlusionOf(ps);
-  const txSeen = new Int8Array(W),
-    rxSeen = new Int8Array(W); // 0 unknown, 1 visible, 2 hidden
-  const hiddenFrom = (seen: Int8Array, w: number, p: Readonly<Vec3>): boolean => {
-    if (occ === undefined) return false;
+  const occ = sceneOcclusion(ps);
+  // 0 unknown, 1 visible, 2 hidden; kept by the Occlusion per point (a static transmitter's between traces)
+  const txSeen = occ !== undefined ? occ.seenFrom(tx[0], tx[1], tx[2]) : undefined,
+    rxSeen = occ !== undefined ? occ.seenFrom(rx[0], rx[1], rx[2]) : undefined;
+  const hiddenFrom = (seen: Int8Array | undefined, w: number, p: Readonly<Vec3>): boolean => {
+    if (occ === undefined || seen === undefined) return false;
     if (seen[w] === 0) seen[w] = occ.wallHiddenFromPoint(w, p[0], p[1], p[2]) ? 2 : 1;
     return seen[w] === 2;
   };
@@ -654,6 +510,43 @@ export function traceReflections(
     return rxList;
   };
 
+  // The image tree: every tx-only decision of the descent below (the candidate walls of each
+  // beam, the beam, pair and transmitter-visibility tests, the images) depends on the transmitter
+  // alone, so the surviving nodes are recorded in preorder and replayed while the transmitter
+  // stays where it was (a static transmitter and a moving receiver); only the receiver's tests
+  // and tryPath run again. The replay recomputes each image from its parent with the same
+  // operations, so its paths are bit-identical to a fresh descent.
+  const cacheable = prune && maxOrder >= 2;
+  const cached = cacheable ? imageTreeCache.get(ps) : undefined;
+  if (cached !== undefined && cached.order === maxOrder && cached.tx[0] === tx[0] && cached.tx[1] === tx[1] && cached.tx[2] === tx[2]) {
+    // tryPath's first test (receiver and last image on either side of the last wall) done here
+    // with the same operations, so that most candidates cost no call
+    const frx = cached.rxPlane;
+    for (let w = 0; w < W; w++) frx[w] = pl[4 * w]! * rx0 + pl[4 * w + 1]! * rx1 + pl[4 * w + 2]! * rx2 - pl[4 * w + 3]!;
+    replayImageTree(cached, ps, images, seq, (w) => hiddenFrom(rxSeen, w, rx), tryPath);
+    return;
+  }
+  let recWalls = cacheable ? new Int32Array(1024) : undefined,
+    recDepth = cacheable ? new Uint8Array(1024) : undefined,
+    recCount = 0;
+  const record = (w: number, depth: number): void => {
+    if (recWalls === undefined || recDepth === undefined) return;
+    if (recCount === recWalls.length) {
+      if (recCount >= IMAGE_TREE_MAX_NODES) {
+        recWalls = recDepth = undefined; // too large to keep: this transmitter is traced afresh each time
+        return;
+      }
+      const w2 = new Int32Array(2 * recCount),
+        d2 = new Uint8Array(2 * recCount);
+      w2.set(recWalls);
+      d2.set(recDepth);
+      recWalls = w2;
+      recDepth = d2;
+    }
+    recWalls[recCount] = w;
+    recDepth[recCount++] = depth;
+  };
+
   const descend = (depth: number): void => {
     const px = images[3 * depth]!,
       py = images[3 * depth + 1]!,
@@ -662,9 +555,12 @@ export function traceReflections(
     let list: Int32Array = cand,
       base = W * depth,
       n = W;
+    // A tree that is kept takes its leaves from the beam too, tested once for the beam and the
+    // pair (the replay then tries fewer); else they come from the receiver's list.
+    const fromRxList = leaves && occ !== undefined && !cacheable;
     if (!prune)
       base = 0; // every wall, as listed in slot 0
-    else if (leaves && occ !== undefined) {
+    else if (fromRxList) {
       list = leafList();
       base = 0;
       n = rxCount;
@@ -674,7 +570,7 @@ export function traceReflections(
       if (depth > 0) {
         if (seq[depth - 1] === w) continue;
         // leaves: tryPath's own first test is cheaper than the beam and pair tests
-        if (prune && !leaves && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
+        if (prune && (!leaves || cacheable) && (!wallMeetsBeam(depth, w) || (occ !== undefined && occ.wallHiddenFromWall(w, seq[depth - 1]!)))) continue;
       } else if (hiddenFrom(txSeen, w, tx)) continue;
       const o = 4 * w;
       const nx = pl[o]!,
@@ -682,6 +578,7 @@ export function traceReflections(
         nz = pl[o + 2]!;
       const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
       if (f === 0) continue; // the source lies in the plane: no image
+      record(w, depth);
       images[3 * depth + 3] = px - 2 * f * nx;
       images[3 * depth + 4] = py - 2 * f * ny;
       images[3 * depth + 5] = pz - 2 * f * nz;
@@ -694,23 +591,74 @@ export function traceReflections(
     }
   };
   descend(0);
+  if (recWalls !== undefined && recDepth !== undefined)
+    imageTreeCache.set(ps, {
+      tx: [tx[0], tx[1], tx[2]],
+      order: maxOrder,
+      walls: recWalls.slice(0, recCount),
+      depth: recDepth.slice(0, recCount),
+      rxPlane: new Float64Array(W),
+    });
 }
 
-/** Largest wall count pruned by occlusion (above it the per-trace visibility tests cost more than they save). */
-const OCCLUSION_MAX_WALLS = 4096;
+/** The recorded image tree of one transmitter position (traceReflections). */
+interface ImageTree {
+  tx: Vec3;
+  order: number;
+  /** Nodes in preorder: the wall and the depth (0 for a first reflection) of each. */
+  walls: Int32Array;
+  depth: Uint8Array;
+  /** Scratch of the replay: each wall's plane function at the receiver. */
+  rxPlane: Float64Array;
+}
+
+/** Most nodes kept in an image tree (5 bytes each). */
+const IMAGE_TREE_MAX_NODES = 1 << 24;
+/** One tree per scene: the last transmitter position traced at order >= 2 with pruning. */
+const imageTreeCache = new WeakMap<PreparedScene, ImageTree>();
+
+/**
+ * The descent of traceReflections replayed from its recorded tree: per node the image from its
+ * parent's, the receiver's tests and tryPath.
+ */
+function replayImageTree(
+  tree: ImageTree,
+  ps: PreparedScene,
+  images: Float64Array,
+  seq: Int32Array,
+  hiddenFromRx: (w: number) => boolean,
+  tryPath: (K: number) => void,
+): void {
+  const pl = ps.planes,
+    walls = tree.walls,
+    depths = tree.depth,
+    frx = tree.rxPlane;
+  for (let i = 0; i < walls.length; i++) {
+    const w = walls[i]!,
+      depth = depths[i]!;
+    const px = images[3 * depth]!,
+      py = images[3 * depth + 1]!,
+      pz = images[3 * depth + 2]!;
+    const o = 4 * w;
+    const nx = pl[o]!,
+      ny = pl[o + 1]!,
+      nz = pl[o + 2]!;
+    const f = nx * px + ny * py + nz * pz - pl[o + 3]!;
+    const ix = px - 2 * f * nx,
+      iy = py - 2 * f * ny,
+      iz = pz - 2 * f * nz;
+    images[3 * depth + 3] = ix;
+    images[3 * depth + 4] = iy;
+    images[3 * depth + 5] = iz;
+    seq[depth] = w;
+    const fq = frx[w]!,
+      fi = nx * ix + ny * iy + nz * iz - pl[o + 3]!;
+    if (((fq > 0 && fi < 0) || (fq < 0 && fi > 0)) && !hiddenFromRx(w)) tryPath(depth + 1);
+  }
+}
+
 /** Fewest walls for beam pruning (measured: below it the 20-wall room traces faster without). */
 const PRUNE_MIN_WALLS = 32;
-/** Fewest walls pruned by occlusion (below it the exhaustive tests are cheaper than the visibility tests). */
-const OCCLUSION_MIN_WALLS = 32;
-const occlusionCache = new WeakMap<PreparedScene, Occlusion>();
-function occlusionOf(ps: PreparedScene): Occlusion {
-  let o = occlusionCache.get(ps);
-  if (o === undefined) {
-    o = new Occlusion(ps);
-    occlusionCache.set(ps, o);
-  }
-  return o;
-}
 
 /** Per-trace constants and the construction of path objects (allocation is fine here: valid paths only). */
 class TraceContext {
