@@ -12,5 +12,13 @@ const early = (signal) => {
 process.on('SIGINT', early);
 process.on('SIGTERM', early);
 
+// A reader that closes the pipe early (`pathweave paths x.json | head`) ends the output, not the
+// command: later writes are dropped and the command finishes with its own exit code.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (e) => {
+    if (e.code !== 'EPIPE' && e.code !== 'ERR_STREAM_DESTROYED') throw e;
+  });
+}
+
 const { main } = await import('../dist/cli/main.js');
 process.exitCode = await main(process.argv.slice(2));
