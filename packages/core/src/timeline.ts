@@ -401,7 +401,7 @@ function terminalAt(
  * each, so a caller can serve timers and signals (and stop, by throwing from `between`) while a
  * long run is set up. The result is what `new TracedTimeline(...).tracedEpochs()` gives for the
  * same arguments; pass it as the constructor's `traced` to build the timeline without tracing.
- * @param between awaited before each update (default: one turn of the event loop)
+ * @param between awaited before each update with the updates traced so far and their count (default: one turn of the event loop)
  * @example
  * const scene = { walls: [{ vertices: [[0, 5], [40, 5]] }] };
  * const epochs = await traceEpochs(scene, { motion: new Motion([0, 0, 0]) }, { motion: new Motion([10, 0, 0], [1, 0, 0]) }, 28e9, 1, 0.5);
@@ -415,7 +415,7 @@ export async function traceEpochs(
   endS: number,
   updateS: number,
   options: TraceOptions = {},
-  between: () => Promise<void> = () => new Promise((resolve) => setImmediate(resolve)),
+  between: (done: number, total: number) => Promise<void> = () => new Promise((resolve) => setImmediate(resolve)),
 ): Promise<TracedEpochs> {
   const prepared = prepareScene(scene);
   const epochTimesS = epochTimesOf(tx, rx, endS, updateS);
@@ -425,8 +425,8 @@ export async function traceEpochs(
     vr: Vec3 = [0, 0, 0];
   const paths: TracedPath[][] = [];
   const warnings: string[] = [];
-  for (const t of epochTimesS) {
-    await between();
+  for (const [e, t] of epochTimesS.entries()) {
+    await between(e, epochTimesS.length);
     const r = traceScene(prepared, terminalAt(tx, t, pt, vt), terminalAt(rx, t, pr, vr), carrierHz, options);
     // The warnings as the constructor words and orders them (once each, first seen first).
     for (const w of r.warnings) {

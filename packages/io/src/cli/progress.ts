@@ -27,6 +27,8 @@ export class Progress {
     private readonly total: number,
     private readonly stream: ProgressStream = process.stderr,
     private readonly quiet = false,
+    /** What is counted, as printed. */
+    private readonly unit = 'subframes',
   ) {}
 
   /** Report `done` units finished. */
@@ -42,13 +44,13 @@ export class Progress {
       const width = 28;
       const filled = Math.round(fraction * width);
       const bar = '#'.repeat(filled) + '.'.repeat(width - filled);
-      this.stream.write(`\r${this.label} [${bar}] ${(100 * fraction).toFixed(1)}%  ${rate.toFixed(1)} subframes/s  ${formatSeconds(left)} left `);
+      this.stream.write(`\r${this.label} [${bar}] ${(100 * fraction).toFixed(1)}%  ${rate.toFixed(1)} ${this.unit}/s  ${formatSeconds(left)} left `);
       if (done >= this.total) this.stream.write('\n');
     } else {
       // Plain lines at most every 5 s or 10 %, for logs of batch jobs.
       if (done < this.total && now - this.lastPrint < 5000 && fraction - this.lastFraction < 0.1) return;
       this.stream.write(
-        `${this.label}: ${done}/${this.total} subframes (${(100 * fraction).toFixed(0)}%), ${rate.toFixed(1)} subframes/s, ${formatSeconds(left)} left\n`,
+        `${this.label}: ${done}/${this.total} ${this.unit} (${(100 * fraction).toFixed(0)}%), ${rate.toFixed(1)} ${this.unit}/s, ${formatSeconds(left)} left\n`,
       );
       this.lastFraction = fraction;
     }

@@ -314,8 +314,9 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain | u
 }
 
 /**
- * Trace the geometry updates of every user of a plan one at a time, awaiting `between()` before
- * each (a long set-up then serves signals, and stops when `between` throws). The result, given
+ * Trace the geometry updates of every user of a plan one at a time, awaiting `between(done,
+ * total)` before each (the user's updates traced so far and their count: a long set-up then
+ * serves signals and shows progress, and stops when `between` throws). The result, given
  * as `buildPlan(plan, { traced })`, builds the same generators as `buildPlan(plan)`, bit for bit;
  * a plan of explicit paths traces nothing (every entry undefined).
  * @example
@@ -323,7 +324,7 @@ export function buildScenario(scenario: Scenario, options: { domain?: Domain | u
  * const traced = await traceUsers(planScenario(street), async () => undefined);
  * traced[0]!.epochTimesS.length // 20: geometry updates every 10 ms over the 200 subframes of 1 ms
  */
-export async function traceUsers(plan: ScenarioPlan, between: () => Promise<void>): Promise<(TracedEpochs | undefined)[]> {
+export async function traceUsers(plan: ScenarioPlan, between: (done: number, total: number) => Promise<void>): Promise<(TracedEpochs | undefined)[]> {
   if (plan.source !== 'scene') return plan.users.map(() => undefined);
   const scene = sceneOf(plan.scenario);
   const t = plan.transmitter;
