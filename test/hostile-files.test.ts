@@ -515,6 +515,21 @@ describe('a FIFO or a device given as a manifest or a side file is refused, neve
   });
 });
 
+/** 20 walls at order 3, the receiver walking, one geometry update per 1 ms subframe (a long set-up). */
+function slowSetUp(subframes: number): Record<string, unknown> {
+  const room = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'twenty-wall-room.json'), 'utf8'));
+  return {
+    carrierHz: 28e9,
+    timing: { subframeS: 1e-3, subframes, geometryUpdateS: 1e-3 },
+    band: { subcarriers: 4, spacingHz: 120e3 },
+    transmitter: { position: [2, 2, 3], array: { kind: 'ula', elements: 1 } },
+    receiver: { position: [15, 8, 1.5], velocity: [-1.3, 0.2, 0], array: { kind: 'ula', elements: 1, orientation: { yawDeg: 1.5708 } } },
+    scene: { lineOfSight: true, maxReflectionOrder: 3, walls: room.scene.walls },
+    fading: { model: 'static' },
+    seed: 7,
+  };
+}
+
 describe('the binary and its pipes and signals', () => {
   it('pathweave paths ... | head: a reader that closes the pipe early ends the output quietly, exit 0', async () => {
     const s = JSON.parse(readFileSync(FIXTURE, 'utf8'));
@@ -536,28 +551,16 @@ describe('the binary and its pipes and signals', () => {
   }, 60_000);
 
   it('SIGTERM during the set-up (tracing 2000 geometry updates) ends generate at the next update: exit 1, no file, no temporary', async () => {
-    // 20 walls at order 3 (20 x 19 x 19 = 7220 reflection sequences per update), the receiver
-    // walking, one update per 1 ms subframe: 2000 updates to trace before the first block. The
-    // receiver's yaw 1.5708 looks like radians: its warning is printed just before the set-up
-    // starts, and is the test's mark that the set-up has begun.
-    const room = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'twenty-wall-room.json'), 'utf8'));
-    const scenario = (subframes: number): Record<string, unknown> => ({
-      carrierHz: 28e9,
-      timing: { subframeS: 1e-3, subframes, geometryUpdateS: 1e-3 },
-      band: { subcarriers: 4, spacingHz: 120e3 },
-      transmitter: { position: [2, 2, 3], array: { kind: 'ula', elements: 1 } },
-      receiver: { position: [15, 8, 1.5], velocity: [-1.3, 0.2, 0], array: { kind: 'ula', elements: 1, orientation: { yawDeg: 1.5708 } } },
-      scene: { lineOfSight: true, maxReflectionOrder: 3, walls: room.scene.walls },
-      fading: { model: 'static' },
-      seed: 7,
-    });
+    // slowSetUp: 20 walls at order 3 (20 x 19 x 19 = 7220 reflection sequences per update): 2000
+    // updates to trace before the first block. The receiver's yaw 1.5708 looks like radians: its
+    // warning is printed just before the set-up starts, and is the test's mark that it has begun.
     const folder = tempDir('pathweave-setup-signal-');
     const path = join(folder, 'slow.json');
-    writeFileSync(path, JSON.stringify(scenario(2000)));
+    writeFileSync(path, JSON.stringify(slowSetUp(2000)));
     // The chunk the set-up yields between is one update's trace: measured here on 40 updates, so
     // the bound below is derived from it (and the check is meaningful only when the whole set-up
     // would take well past the bound).
-    const { scenario: sample } = await loadScenario(writeScenario(folder, 'sample.json', scenario(40)));
+    const { scenario: sample } = await loadScenario(writeScenario(folder, 'sample.json', slowSetUp(40)));
     const t0 = performance.now();
     await traceUsers(planScenario(sample), async () => undefined);
     const perUpdateMs = (performance.now() - t0) / 40;
@@ -587,5 +590,15 @@ describe('the binary and its pipes and signals', () => {
     expect(stderr).toContain(`error: interrupted by SIGTERM after 0 of 2000 subframes; removed 0 temporary file(s); nothing was written to ${out}`);
     expect(exitAfterMs).toBeLessThan(boundMs);
     expect(readdirSync(folder)).toEqual(['slow.json']);
+  }, 120_000);
+
+  it('validate of a scene whose tracing takes seconds prints progress in geometry updates on stderr', () => {
+    const folder = tempDir('pathweave-validate-progress-');
+    const path = writeScenario(folder, 'slow.json', slowSetUp(2000));
+    const r = runCli(['validate', path]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toContain(`${path}: valid`);
+    expect(r.stderr).toMatch(new RegExp(`validate .*slow\\.json: tracing the scene: \\d+/2000 geometry updates \\(\\d+%\\)`));
+    expect(r.stderr).toContain('tracing the scene: 2000/2000 geometry updates (100%)');
   }, 120_000);
 });
