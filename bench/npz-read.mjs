@@ -53,4 +53,6 @@ try {
 console.log(`one read pass of a deflated .npz tensor (level 6, blocks of 8 subframes), Node ${process.version}`);
 console.log('| tensor | file bytes | seconds (best of 3) | ratio to the size before |');
 console.log('|---|---|---|---|');
-rows.forEach((r, i) => console.log(`| ${r.mib} MiB | ${r.fileBytes} | ${r.seconds.toFixed(2)} | ${i === 0 ? '-' : (r.seconds / rows[i - 1].seconds).toFixed(2)} |`));
+rows.forEach((r, i) =>
+  console.log(`| ${r.mib} MiB | ${r.fileBytes} | ${r.seconds.toFixed(2)} | ${i === 0 ? '-' : (r.seconds / rows[i - 1].seconds).toFixed(2)} |`),
+);
