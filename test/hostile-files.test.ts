@@ -12,14 +12,14 @@
  * Guide, "Links" (soft and external links) and "External Storage" (H5Pset_external) M; h5py
  * builds the HDF5 cases (C); POSIX rename(2) replaces a symlink or special file under the name M.
  */
-import { execFileSync } from 'node:child_process';
-import { chmodSync, copyFileSync, existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
+import { execFileSync, spawn } from 'node:child_process';
+import { chmodSync, copyFileSync, existsSync, lstatSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { generate, loadScenario, merge, npyHeader, openDatasetReader, parseNpyHeader, READ_LIMITS } from '@pathweave/io';
+import { generate, loadScenario, merge, npyHeader, openDatasetReader, parseNpyHeader, planScenario, READ_LIMITS, traceUsers } from '@pathweave/io';
 import { main } from '@pathweave/io/cli';
-import { ROOT, runCli, tempDir } from './support/run.js';
+import { CLI, ROOT, runCli, tempDir, writeScenario } from './support/run.js';
 import { hasPython, PYTHON } from './support/python.js';
 
 const FIXTURE = join(ROOT, 'test', 'fixtures', 'three-path-static.json');
@@ -479,4 +479,126 @@ describe('scenario limits up front (refused before any build)', () => {
     expect(r.code).toBe(2);
     expect(r.err).toContain('scene.maxReflectionOrder: 300 walls at order 3 mean 26910300 reflection sequences to trace, more than the 1000000 allowed');
   });
+});
+
+describe('a FIFO or a device given as a manifest or a side file is refused, never read', () => {
+  it('merge and a shard rerun with a FIFO or /dev/zero as a part manifest; inspect with /dev/zero as a .npy side file', async () => {
+    for (const i of [0, 1])
+      expect((await run(['generate', FIXTURE, '--shard', `${i}/2`, '--out', file('q.part-{index}-of-{count}.npz'), '--quiet'])).code).toBe(0);
+    const manifest = file('q.part-1-of-2.npz.manifest.json');
+    const parts = [file('q.part-0-of-2.npz'), file('q.part-1-of-2.npz')];
+    rmSync(manifest);
+    execFileSync('mkfifo', [manifest]);
+    const fifo = await run(['merge', ...parts, '--out', file('q.npz'), '--quiet']);
+    expect(fifo.code).toBe(2);
+    expect(fifo.err).toContain(`${manifest}: the manifest is a FIFO; only regular files are read`);
+    expect(existsSync(file('q.npz'))).toBe(false);
+    expect(statSync(manifest).isFIFO()).toBe(true); // not replaced, not opened for writing
+    rmSync(manifest);
+    symlinkSync('/dev/zero', manifest);
+    const device = await run(['merge', ...parts, '--out', file('q.npz'), '--quiet']);
+    expect(device.code).toBe(2);
+    expect(device.err).toContain(`${manifest}: the manifest is a device; only regular files are read`);
+    expect(existsSync(file('q.npz'))).toBe(false);
+    // A shard rerun neither reads the device as a manifest nor replaces the link: refused up front.
+    const rerun = await run(['generate', FIXTURE, '--shard', '1/2', '--out', file('q.part-{index}-of-{count}.npz'), '--quiet']);
+    expect(rerun.code).toBe(2);
+    expect(rerun.err).toContain(`${manifest} is a symbolic link (written beside the output as ${manifest})`);
+    expect(lstatSync(manifest).isSymbolicLink()).toBe(true);
+    // /dev/zero as the side file of a .npy (a symlink under the side file's name).
+    copyFileSync(file('ok.npy'), file('zero.npy'));
+    symlinkSync('/dev/zero', file('zero.npy.json'));
+    expect(await run(['inspect', file('zero.npy')])).toMatchObject({
+      code: 2,
+      err: expect.stringContaining(`${file('zero.npy.json')}: the side file is a device; only regular files are read`),
+    });
+  });
+});
+
+/** 20 walls at order 3, the receiver walking, one geometry update per 1 ms subframe (a long set-up). */
+function slowSetUp(subframes: number): Record<string, unknown> {
+  const room = JSON.parse(readFileSync(join(ROOT, 'test', 'fixtures', 'twenty-wall-room.json'), 'utf8'));
+  return {
+    carrierHz: 28e9,
+    timing: { subframeS: 1e-3, subframes, geometryUpdateS: 1e-3 },
+    band: { subcarriers: 4, spacingHz: 120e3 },
+    transmitter: { position: [2, 2, 3], array: { kind: 'ula', elements: 1 } },
+    receiver: { position: [15, 8, 1.5], velocity: [-1.3, 0.2, 0], array: { kind: 'ula', elements: 1, orientation: { yawDeg: 1.5708 } } },
+    scene: { lineOfSight: true, maxReflectionOrder: 3, walls: room.scene.walls },
+    fading: { model: 'static' },
+    seed: 7,
+  };
+}
+
+describe('the binary and its pipes and signals', () => {
+  it('pathweave paths ... | head: a reader that closes the pipe early ends the output quietly, exit 0', async () => {
+    const s = JSON.parse(readFileSync(FIXTURE, 'utf8'));
+    s.paths = Array.from({ length: 5000 }, (_, i) => ({ ...s.paths[0], id: `p${i}` }));
+    writeFileSync(file('listing.json'), JSON.stringify(s));
+    // 5000 paths as JSON are about 1.5 MB: far past a pipe's 64 KiB buffer, so writes continue after the close.
+    const child = spawn(process.execPath, [CLI, 'paths', file('listing.json'), '--json'], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stderr = '';
+    child.stderr.on('data', (d: Buffer) => (stderr += d.toString()));
+    let first = '';
+    child.stdout.once('data', (d: Buffer) => {
+      first = d.toString();
+      child.stdout.destroy(); // what head does after its first lines
+    });
+    const code = await new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
+    expect(first.startsWith('[')).toBe(true);
+    expect(stderr).toBe('');
+    expect(code).toBe(0);
+  }, 60_000);
+
+  it('SIGTERM during the set-up (tracing 2000 geometry updates) ends generate at the next update: exit 1, no file, no temporary', async () => {
+    // slowSetUp: 20 walls at order 3 (20 x 19 x 19 = 7220 reflection sequences per update): 2000
+    // updates to trace before the first block. The receiver's yaw 1.5708 looks like radians: its
+    // warning is printed just before the set-up starts, and is the test's mark that it has begun.
+    const folder = tempDir('pathweave-setup-signal-');
+    const path = join(folder, 'slow.json');
+    writeFileSync(path, JSON.stringify(slowSetUp(2000)));
+    // The chunk the set-up yields between is one update's trace: measured here on 40 updates, so
+    // the bound below is derived from it (and the check is meaningful only when the whole set-up
+    // would take well past the bound).
+    const { scenario: sample } = await loadScenario(writeScenario(folder, 'sample.json', slowSetUp(40)));
+    const t0 = performance.now();
+    await traceUsers(planScenario(sample), async () => undefined);
+    const perUpdateMs = (performance.now() - t0) / 40;
+    rmSync(join(folder, 'sample.json'));
+    // The handler's 900 ms deadline is not needed (nothing to stop but the trace), so the exit
+    // comes one update plus the teardown of a process on a shared 2-core machine (as the block
+    // case of test/crash-safety.test.ts, 3 s) after the signal.
+    const boundMs = 3000 + perUpdateMs;
+    expect(2000 * perUpdateMs).toBeGreaterThan(boundMs);
+    const out = join(folder, 'slow.npy');
+    const child = spawn(process.execPath, [CLI, 'generate', path, '--out', out], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stderr = '';
+    child.stderr.on('data', (d: Buffer) => (stderr += d.toString()));
+    const exited = new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
+    const deadline = Date.now() + 60_000;
+    while (!stderr.includes('warning: receiver.array.orientation')) {
+      if (Date.now() > deadline || child.exitCode !== null) throw new Error(`the set-up did not start: ${stderr}`);
+      await new Promise((r) => setTimeout(r, 10));
+    }
+    await new Promise((r) => setTimeout(r, 300));
+    const killedAt = Date.now();
+    child.kill('SIGTERM');
+    const code = await exited;
+    const exitAfterMs = Date.now() - killedAt;
+    expect(code, stderr).toBe(1);
+    expect(stderr).toContain('receiver.array.orientation.yawDeg 1.5708 would be 90.0002 degrees');
+    expect(stderr).toContain(`error: interrupted by SIGTERM after 0 of 2000 subframes; removed 0 temporary file(s); nothing was written to ${out}`);
+    expect(exitAfterMs).toBeLessThan(boundMs);
+    expect(readdirSync(folder)).toEqual(['slow.json']);
+  }, 120_000);
+
+  it('validate of a scene whose tracing takes seconds prints progress in geometry updates on stderr', () => {
+    const folder = tempDir('pathweave-validate-progress-');
+    const path = writeScenario(folder, 'slow.json', slowSetUp(2000));
+    const r = runCli(['validate', path]);
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toContain(`${path}: valid`);
+    expect(r.stderr).toMatch(new RegExp(`validate .*slow\\.json: tracing the scene: \\d+/2000 geometry updates \\(\\d+%\\)`));
+    expect(r.stderr).toContain('tracing the scene: 2000/2000 geometry updates (100%)');
+  }, 120_000);
 });

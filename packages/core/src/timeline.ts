@@ -220,9 +220,9 @@ export class TracedTimeline implements PathTimeline {
     traced?: TracedEpochs,
   ) {
     this.prepared = prepareScene(scene);
-    const moving = tx.motion.moves || rx.motion.moves || tx.motion.turns || rx.motion.turns;
-    const count = moving ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
-    this.epochTimesS = Array.from({ length: count }, (_, e) => e * updateS);
+    const moving = movesOrTurns(tx, rx);
+    this.epochTimesS = epochTimesOf(tx, rx, endS, updateS);
+    const count = this.epochTimesS.length;
     if (traced !== undefined && (traced.paths.length !== count || traced.epochTimesS.some((t, e) => t !== this.epochTimesS[e]))) {
       throw new RangeError(
         `TracedTimeline(): traced holds ${traced.paths.length} epochs at [${traced.epochTimesS.join(', ')}] s, this timeline has ${count} at [${this.epochTimesS.join(', ')}] s`,
@@ -236,13 +236,7 @@ export class TracedTimeline implements PathTimeline {
       const r =
         traced !== undefined
           ? { paths: traced.paths[e]!, warnings: [] }
-          : traceScene(
-              this.prepared,
-              this.terminal(tx, t, this.scratchTx, this.scratchVt),
-              this.terminal(rx, t, this.scratchRx, this.scratchVr),
-              carrierHz,
-              options,
-            );
+          : traceScene(this.prepared, terminalAt(tx, t, this.scratchTx, this.scratchVt), terminalAt(rx, t, this.scratchRx, this.scratchVr), carrierHz, options);
       for (const w of r.warnings) {
         const text = `${w.path}: ${w.message}`;
         if (!this.warnings.includes(text)) this.warnings.push(text);
@@ -261,16 +255,8 @@ export class TracedTimeline implements PathTimeline {
     this.constant = !moving;
   }
 
-  private terminal(
-    t: MovingTerminal,
-    timeS: number,
-    position: Vec3,
-    velocity: Vec3,
-  ): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
-    t.motion.positionAt(timeS, position);
-    t.motion.velocityAt(timeS, velocity);
-    const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
-    return { position, velocity, rotation: rotationFromOrientation(orientation), ...(t.polarization !== undefined ? { polarization: t.polarization } : {}) };
+  private terminal(t: MovingTerminal, timeS: number, position: Vec3, velocity: Vec3): ReturnType<typeof terminalAt> {
+    return terminalAt(t, timeS, position, velocity);
   }
 
   /** The update interval holding t, and the fraction of the way to the next update. */
@@ -406,4 +392,71 @@ function sameSides(a: TracedPath, b: TracedPath): boolean {
 export function arrayAt(base: AntennaArray, motion: Motion | undefined, timeS: number): AntennaArray {
   if (motion === undefined || !motion.turns) return base;
   return new AntennaArray(base.localOffsets, motion.orientationAt(timeS), base.pattern);
+}
+
+/** Whether either end moves or turns (then the path set is traced at every geometry update). */
+function movesOrTurns(tx: MovingTerminal, rx: MovingTerminal): boolean {
+  return tx.motion.moves || rx.motion.moves || tx.motion.turns || rx.motion.turns;
+}
+
+/** Times of the geometry updates over [0, endS]: one update when nothing moves. */
+function epochTimesOf(tx: MovingTerminal, rx: MovingTerminal, endS: number, updateS: number): number[] {
+  const count = movesOrTurns(tx, rx) ? Math.floor(endS / updateS + 1e-9) + 1 : 1;
+  return Array.from({ length: count }, (_, e) => e * updateS);
+}
+
+/** A terminal at time t as the tracer takes it (position and velocity written into the given vectors). */
+function terminalAt(
+  t: MovingTerminal,
+  timeS: number,
+  position: Vec3,
+  velocity: Vec3,
+): { position: Vec3; velocity: Vec3; rotation: Float64Array; polarization?: Polarization } {
+  t.motion.positionAt(timeS, position);
+  t.motion.velocityAt(timeS, velocity);
+  const orientation = t.motion.turns ? t.motion.orientationAt(timeS) : (t.orientation ?? {});
+  return { position, velocity, rotation: rotationFromOrientation(orientation), ...(t.polarization !== undefined ? { polarization: t.polarization } : {}) };
+}
+
+/**
+ * Trace the geometry updates of a `TracedTimeline` one at a time, awaiting `between()` before
+ * each, so a caller can serve timers and signals (and stop, by throwing from `between`) while a
+ * long run is set up. The result is what `new TracedTimeline(...).tracedEpochs()` gives for the
+ * same arguments; pass it as the constructor's `traced` to build the timeline without tracing.
+ * @param between awaited before each update with the updates traced so far and their count (default: one turn of the event loop)
+ * @example
+ * const scene = { walls: [{ vertices: [[0, 5], [40, 5]] }] };
+ * const epochs = await traceEpochs(scene, { motion: new Motion([0, 0, 0]) }, { motion: new Motion([10, 0, 0], [1, 0, 0]) }, 28e9, 1, 0.5);
+ * [epochs.epochTimesS, epochs.paths[0]!.map((p) => p.id)] // [[0, 0.5, 1], ['los', 'R:walls[0]']]
+ */
+export async function traceEpochs(
+  scene: Scene,
+  tx: MovingTerminal,
+  rx: MovingTerminal,
+  carrierHz: number,
+  endS: number,
+  updateS: number,
+  options: TraceOptions = {},
+  between: (done: number, total: number) => Promise<void> = () => new Promise((resolve) => setImmediate(resolve)),
+): Promise<TracedEpochs> {
+  const prepared = prepareScene(scene);
+  const epochTimesS = epochTimesOf(tx, rx, endS, updateS);
+  const pt: Vec3 = [0, 0, 0],
+    vt: Vec3 = [0, 0, 0],
+    pr: Vec3 = [0, 0, 0],
+    vr: Vec3 = [0, 0, 0];
+  const paths: TracedPath[][] = [];
+  const warnings: string[] = [];
+  for (const [e, t] of epochTimesS.entries()) {
+    await between(e, epochTimesS.length);
+    const r = traceScene(prepared, terminalAt(tx, t, pt, vt), terminalAt(rx, t, pr, vr), carrierHz, options);
+    // The warnings as the constructor words and orders them (once each, first seen first).
+    for (const w of r.warnings) {
+      const text = `${w.path}: ${w.message}`;
+      if (!warnings.includes(text)) warnings.push(text);
+    }
+    // Through a map, as the constructor keeps them: one path per id, in first-seen order.
+    paths.push([...new Map(r.paths.map((p) => [p.id, p])).values()]);
+  }
+  return { epochTimesS, paths, warnings };
 }

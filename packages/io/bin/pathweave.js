@@ -1,5 +1,24 @@
 #!/usr/bin/env node
 // Entry point of the `pathweave` command; the compiled CLI lives in dist/.
-import { main } from '../dist/cli/main.js';
 
+// Until a command puts in handlers of its own (generate and merge clean up their temporaries),
+// SIGINT and SIGTERM end the process with exit 1 and a message, as an interrupted run does,
+// instead of the default death by signal while the modules load.
+const early = (signal) => {
+  if (process.listenerCount(signal) > 1) return; // the command's own handler answers
+  process.stderr.write(`error: interrupted by ${signal}; nothing was written\n`);
+  process.exit(1);
+};
+process.on('SIGINT', early);
+process.on('SIGTERM', early);
+
+// A reader that closes the pipe early (`pathweave paths x.json | head`) ends the output, not the
+// command: later writes are dropped and the command finishes with its own exit code.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (e) => {
+    if (e.code !== 'EPIPE' && e.code !== 'ERR_STREAM_DESTROYED') throw e;
+  });
+}
+
+const { main } = await import('../dist/cli/main.js');
 process.exitCode = await main(process.argv.slice(2));

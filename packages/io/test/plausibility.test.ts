@@ -50,4 +50,33 @@ describe('checkPlausibility', () => {
     const small = { ...base, paths: [{ aodDeg: [1, 0] as [number, number], aoaDeg: [-2, 0] as [number, number], delayS: 1.7e-7, powerDb: -90 }] };
     expect(checkPlausibility(small).warnings).toEqual([]); // whole degrees
   });
+
+  it('warns about orientations that look like radians, naming each field and the degrees it would be', () => {
+    // 1.5708 rad = 90.0002 degrees (pi/2 to 5 significant digits, 1.5708 x 180/pi); 0.7854 rad = 45.0001 degrees.
+    const rx = (orientation: Record<string, number>): Scenario => ({
+      ...base,
+      receiver: { position: [50, 0, 1.5], array: { kind: 'ula', elements: 2, orientation } },
+    });
+    expect(checkPlausibility(rx({ yawDeg: 1.5708, pitchDeg: -0.7854 })).warnings).toEqual([
+      'receiver.array.orientation: every angle is within +-2 pi and not whole; these keys are in degrees; if the values are radians ' +
+        '(receiver.array.orientation.yawDeg 1.5708 would be 90.0002 degrees, receiver.array.orientation.pitchDeg -0.7854 would be -45.0001 degrees), multiply them by 180/pi',
+    ]);
+    expect(checkPlausibility(rx({ yawDeg: 90, pitchDeg: 0.5 })).warnings).toEqual([]); // 90 is past 2 pi: degrees
+    expect(checkPlausibility(rx({ yawDeg: 3, pitchDeg: 5 })).warnings).toEqual([]); // whole degrees
+    expect(checkPlausibility(rx({ yawDeg: 0 })).warnings).toEqual([]);
+    const waypoint = {
+      ...base,
+      receiver: {
+        position: [50, 0, 1.5] as [number, number, number],
+        trajectory: [
+          { t: 0, position: [50, 0, 1.5] as [number, number, number] },
+          { t: 1, position: [51, 0, 1.5] as [number, number, number], orientation: { rollDeg: 3.1416 } },
+        ],
+        array: { kind: 'ula' as const, elements: 2 },
+      },
+    };
+    expect(checkPlausibility(waypoint).warnings).toEqual([
+      'receiver.trajectory[1].orientation: every angle is within +-2 pi and not whole; these keys are in degrees; if the values are radians (receiver.trajectory[1].orientation.rollDeg 3.1416 would be 180 degrees), multiply them by 180/pi',
+    ]);
+  });
 });

@@ -66,68 +66,15 @@ async function run(argv: string[], io: Io): Promise<number> {
   const companions = [...(format === 'npy' ? ['.json'] : []), ...(args.values.shard !== undefined ? ['.manifest.json'] : [])];
   if (args.values.shard === undefined) await checkOutputPath(out, { format, overwrite, companions });
 
-  const { scenario, warnings, text } = await loadScenario(file);
-  const S = scenario.timing.subframes;
-  let range: [number, number] = [0, S];
-  if (args.values.subframes !== undefined) range = parseRange('--subframes', args.values.subframes, S);
-  let shard: { index: number; count: number; source: string } | undefined;
-  if (args.values.shard !== undefined) {
-    shard = parseShard(args.values.shard, process.env);
-    range = shardRange(shard.index, shard.count, S);
-    if (range[0] === range[1]) throw new UsageError(`--shard ${shard.index}/${shard.count} holds no subframe of ${S}`);
-  }
-  // The output-size and memory refusals first (they name the size), then the side arrays
-  // (gains, ground truth), which stay in memory until the commit.
-  const plan = planScenario(scenario, { domain, seed });
-  checkRequest(plan, range, maxBytes, { sideArrays: 'per-file' });
-  // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
-  const target = shard === undefined ? out : partPath(out, shard.index, shard.count);
-  if (shard !== undefined) await checkOutputPath(target, { format, overwrite, companions });
-  const effectiveSeed = plan.seed;
-  if (shard !== undefined) {
-    const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
-    if (earlier.reusable) {
-      io.out(
-        `skipped ${target}: part ${shard.index} of ${shard.count} (subframes ${range[0]}:${range[1]}) is already complete; its manifest verified (${earlier.manifest.fileBytes} bytes, tensor sha256 ${earlier.manifest.tensor.sha256})`,
-      );
-      return 0;
-    }
-    if (earlier.reason !== 'no manifest yet') {
-      io.err(`regenerating ${target}: ${earlier.reason}`);
-      // Never leave a manifest beside a file it does not describe.
-      await unlink(manifestPathOf(target)).catch(() => undefined);
-    }
-  }
-  const quiet = args.flags.has('quiet');
-  const warned = new Set<string>();
-  const warn = (w: string): void => {
-    if (!warned.has(w)) io.err(`warning: ${w}`);
-    warned.add(w);
-  };
-  for (const w of warnings) warn(w);
-
+  // The signal handlers go in before any work, so a signal during the set-up (loading and
+  // tracing the scenario) is answered too; generate() yields between geometry updates.
   let interrupted: string | undefined;
   let done = 0;
-  const total = range[1] - range[0];
-  const progress = new Progress(`generate ${printable(target)}`, total, process.stderr, quiet); // written to stderr directly: escaped here
+  let total = 0;
+  const outName: string = out;
+  let target: string = out;
+  let result: Promise<GenerateReport> | undefined;
   const controller = new AbortController();
-  const result: Promise<GenerateReport> = generate(scenario, text, {
-    out: target,
-    format,
-    range,
-    maxBytes,
-    // A part's manifest records the tensor's sha256, and merge verifies the parts by it.
-    checksum: shard !== undefined || args.flags.has('checksum'),
-    signal: controller.signal,
-    ...(seed !== undefined ? { seed } : {}),
-    ...(workers !== undefined ? { workers } : {}),
-    ...(domain !== undefined ? { domain } : {}),
-    onProgress: (n) => {
-      done = n;
-      progress.update(n);
-    },
-  });
-  result.catch(() => undefined); // raced below; a rejection after an interruption is expected
   let onInterrupted: (signal: string) => void = () => undefined;
   const interruption = new Promise<string>((resolve) => (onInterrupted = resolve));
   const onSignal = (signal: NodeJS.Signals): void => {
@@ -141,10 +88,12 @@ async function run(argv: string[], io: Io): Promise<number> {
     let completed = false; // the signal came too late: the file was already renamed into place
     const stopped = new Promise<void>((resolve) => {
       deadline = setTimeout(resolve, STOP_DEADLINE_MS);
-      result.then(() => {
-        completed = true;
-        resolve();
-      }, resolve);
+      if (result === undefined) resolve();
+      else
+        result.then(() => {
+          completed = true;
+          resolve();
+        }, resolve);
     });
     void stopped.then(() => {
       clearTimeout(deadline);
@@ -159,6 +108,77 @@ async function run(argv: string[], io: Io): Promise<number> {
   process.on('SIGINT', onSignal);
   process.on('SIGTERM', onSignal);
   try {
+    return await runWith();
+  } catch (e) {
+    if (interrupted !== undefined) return interruption.then(() => 1);
+    throw e;
+  } finally {
+    process.off('SIGINT', onSignal);
+    process.off('SIGTERM', onSignal);
+  }
+
+  async function runWith(): Promise<number> {
+    const { scenario, warnings, text } = await loadScenario(file);
+    if (interrupted !== undefined) return interruption.then(() => 1);
+    const S = scenario.timing.subframes;
+    let range: [number, number] = [0, S];
+    if (args.values.subframes !== undefined) range = parseRange('--subframes', args.values.subframes, S);
+    let shard: { index: number; count: number; source: string } | undefined;
+    if (args.values.shard !== undefined) {
+      shard = parseShard(args.values.shard, process.env);
+      range = shardRange(shard.index, shard.count, S);
+      if (range[0] === range[1]) throw new UsageError(`--shard ${shard.index}/${shard.count} holds no subframe of ${S}`);
+    }
+    // The output-size and memory refusals first (they name the size), then the side arrays
+    // (gains, ground truth), which stay in memory until the commit.
+    const plan = planScenario(scenario, { domain, seed });
+    checkRequest(plan, range, maxBytes, { sideArrays: 'per-file' });
+    // A shard writes its own part file (and manifest) beside --out: see docs/datasets.md.
+    target = shard === undefined ? outName : partPath(outName, shard.index, shard.count);
+    if (shard !== undefined) await checkOutputPath(target, { format, overwrite, companions });
+    const effectiveSeed = plan.seed;
+    if (shard !== undefined) {
+      const earlier = await reusablePart(target, { scenarioText: text, seed: effectiveSeed, range, format });
+      if (earlier.reusable) {
+        io.out(
+          `skipped ${target}: part ${shard.index} of ${shard.count} (subframes ${range[0]}:${range[1]}) is already complete; its manifest verified (${earlier.manifest.fileBytes} bytes, tensor sha256 ${earlier.manifest.tensor.sha256})`,
+        );
+        return 0;
+      }
+      if (earlier.reason !== 'no manifest yet') {
+        io.err(`regenerating ${target}: ${earlier.reason}`);
+        // Never leave a manifest beside a file it does not describe.
+        await unlink(manifestPathOf(target)).catch(() => undefined);
+      }
+    }
+    const quiet = args.flags.has('quiet');
+    const warned = new Set<string>();
+    const warn = (w: string): void => {
+      if (!warned.has(w)) io.err(`warning: ${w}`);
+      warned.add(w);
+    };
+    for (const w of warnings) warn(w);
+
+    total = range[1] - range[0];
+    const progress = new Progress(`generate ${printable(target)}`, total, process.stderr, quiet); // written to stderr directly: escaped here
+    if (interrupted !== undefined) return interruption.then(() => 1);
+    result = generate(scenario, text, {
+      out: target,
+      format,
+      range,
+      maxBytes,
+      // A part's manifest records the tensor's sha256, and merge verifies the parts by it.
+      checksum: shard !== undefined || args.flags.has('checksum'),
+      signal: controller.signal,
+      ...(seed !== undefined ? { seed } : {}),
+      ...(workers !== undefined ? { workers } : {}),
+      ...(domain !== undefined ? { domain } : {}),
+      onProgress: (n) => {
+        done = n;
+        progress.update(n);
+      },
+    });
+    result.catch(() => undefined); // raced below; a rejection after an interruption is expected
     const report = await Promise.race([result, interruption]);
     if (typeof report === 'string' || interrupted !== undefined) return await interruption.then(() => 1);
     for (const w of report.warnings) warn(w);
@@ -193,12 +213,6 @@ async function run(argv: string[], io: Io): Promise<number> {
       if (!quiet) io.err(`manifest ${manifestPath} (part ${shard.index} of ${shard.count}, from the ${shard.source})`);
     }
     return 0;
-  } catch (e) {
-    if (interrupted !== undefined) return interruption.then(() => 1);
-    throw e;
-  } finally {
-    process.off('SIGINT', onSignal);
-    process.off('SIGTERM', onSignal);
   }
 }
 

@@ -27,7 +27,7 @@ export class Progress {
     private readonly total: number,
     private readonly stream: ProgressStream = process.stderr,
     private readonly quiet = false,
-    /** What is counted (coverage counts grid rows). */
+    /** What is counted, as printed (subframes; coverage counts grid rows, validate geometry updates). */
     private readonly unit = 'subframes',
   ) {}
 

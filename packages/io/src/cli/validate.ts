@@ -1,10 +1,15 @@
 /** `pathweave validate`: every problem of a scenario, or a one-screen summary (read from its plan). */
-import { buildPlan } from '../scenario/build.js';
+import { buildPlan, traceUsers } from '../scenario/build.js';
+import { printable } from '../formats/read-support.js';
+import { Progress } from './progress.js';
 import { checkRequest, DEFAULT_MAX_OUTPUT_BYTES, formatBytes } from '../dataset/generate.js';
 import { outputEstimate, planScenario, type ArrayPlan } from '../scenario/plan.js';
 import { loadScenario } from '../scenario/validate.js';
 import { parseArgs, parseBytes } from './args.js';
 import { onePositional, parseDomain, type Command, type Io } from './common.js';
+
+/** A set-up shorter than this prints no progress, ms. */
+const PROGRESS_AFTER_MS = 1000;
 
 async function run(argv: string[], io: Io): Promise<number> {
   const args = parseArgs('validate', argv, { domain: 'value', 'max-bytes': 'value' });
@@ -14,7 +19,19 @@ async function run(argv: string[], io: Io): Promise<number> {
   const maxBytes = args.values['max-bytes'] === undefined ? DEFAULT_MAX_OUTPUT_BYTES : parseBytes('--max-bytes', args.values['max-bytes']);
   // The same up-front refusals as generate (size limit, memory, side arrays), before building anything.
   checkRequest(plan, [0, plan.timing.subframes], maxBytes, { sideArrays: 'whole-run' });
-  const built = buildPlan(plan);
+  // Tracing a large scene at every geometry update can take minutes (300 walls at order 3 are
+  // refused up front; 100 walls at order 3 are not): past one second, a progress line on stderr.
+  const started = Date.now();
+  let progress: Progress | undefined;
+  const traced = await traceUsers(plan, async (done, total) => {
+    if (progress === undefined && done > 0 && Date.now() - started > PROGRESS_AFTER_MS) {
+      const who = plan.multiUser ? ' (per receiver)' : '';
+      progress = new Progress(`validate ${printable(file)}: tracing the scene${who}`, total, process.stderr, false, 'geometry updates');
+    } else progress?.update(done); // from the next update on: a rate measured over one update at least
+    await new Promise((resolve) => setImmediate(resolve));
+  });
+  progress?.update(traced.at(-1)?.epochTimesS.length ?? 0);
+  const built = buildPlan(plan, { traced });
   const est = outputEstimate(plan);
   const arrayLine = (name: string, array: ArrayPlan): string => {
     const a = array.config;

@@ -12,7 +12,7 @@ import { totalmem } from 'node:os';
 import { allocateKernelArray, KERNEL_NAME, subcarrierOffsetsHz, subframeTimesS, tapDelaysS } from '@pathweave/core';
 import { degFromVector } from '@pathweave/geometry';
 import { commitWithSideFile } from '../formats/atomic.js';
-import { buildPlan, type BuiltScenario } from '../scenario/build.js';
+import { buildPlan, traceUsers, type BuiltScenario } from '../scenario/build.js';
 import { estimatedPathCount, outputEstimate, planScenario, sideArrayBytes, workingMemoryEstimate, type Domain, type ScenarioPlan } from '../scenario/plan.js';
 import { openSink, type OutputFormat } from '../formats/index.js';
 import { bytesOf } from '../formats/npy.js';
@@ -205,7 +205,15 @@ export async function generate(scenario: Scenario, scenarioText: string, options
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_OUTPUT_BYTES;
   // Cheap size checks before any tracing or allocation, then again with the traced path count.
   checkRequest(plan, range, maxBytes);
-  const built = buildPlan(plan);
+  // The set-up (tracing every geometry update) yields between updates, so a signal is served
+  // within one update's trace, not after the whole set-up; an abort then leaves no file at all.
+  const between = async (): Promise<void> => {
+    await yieldToEventLoop();
+    if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
+  };
+  const traced = await traceUsers(plan, between);
+  await between();
+  const built = buildPlan(plan, { traced });
   checkRequest(plan, range, maxBytes, { pathCount: maxPathCount(built) });
   const [first, end] = range;
   const count = end - first;
@@ -232,10 +240,7 @@ export async function generate(scenario: Scenario, scenarioText: string, options
     values: 2 * Math.min(block, count) * built.valuesPerSubframe,
     hash: options.checksum === true ? createHash('sha256') : undefined,
     pool: { plan, traced: built.users.map((u) => u.tracedEpochs), gainsPerSubframe },
-    between: async () => {
-      await yieldToEventLoop();
-      if (options.signal?.aborted) throw options.signal.reason ?? new Error('aborted');
-    },
+    between,
     ...(options.onProgress !== undefined ? { onProgress: options.onProgress } : {}),
   };
 

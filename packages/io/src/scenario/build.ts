@@ -33,6 +33,7 @@ import {
   Motion,
   TracedTimeline,
   alignmentShiftS,
+  traceEpochs,
   nrNumerology,
   numerologyClock,
   type ChannelSpec,
@@ -310,6 +311,40 @@ export function sceneOf(scenario: Scenario): Scene {
  */
 export function buildScenario(scenario: Scenario, options: { domain?: Domain | undefined; seed?: number | undefined } = {}): BuiltScenario {
   return buildPlan(planScenario(scenario, options));
+}
+
+/**
+ * Trace the geometry updates of every user of a plan one at a time, awaiting `between(done,
+ * total)` before each (the user's updates traced so far and their count: a long set-up then
+ * serves signals and shows progress, and stops when `between` throws). The result, given
+ * as `buildPlan(plan, { traced })`, builds the same generators as `buildPlan(plan)`, bit for bit;
+ * a plan of explicit paths traces nothing (every entry undefined).
+ * @example
+ * const { scenario: street } = await loadScenario('examples/street-corner-28ghz.json');
+ * const traced = await traceUsers(planScenario(street), async () => undefined);
+ * traced[0]!.epochTimesS.length // 20: geometry updates every 10 ms over the 200 subframes of 1 ms
+ */
+export async function traceUsers(plan: ScenarioPlan, between: (done: number, total: number) => Promise<void>): Promise<(TracedEpochs | undefined)[]> {
+  if (plan.source !== 'scene') return plan.users.map(() => undefined);
+  const scene = sceneOf(plan.scenario);
+  const t = plan.transmitter;
+  const traced: TracedEpochs[] = [];
+  // The same arguments as the TracedTimeline of buildPlan.
+  for (const r of plan.users) {
+    traced.push(
+      await traceEpochs(
+        scene,
+        { motion: motionOf(t.config), polarization: t.array.config.polarization, orientation: t.array.config.orientation },
+        { motion: motionOf(r.config), polarization: r.array.config.polarization, orientation: r.array.config.orientation },
+        plan.carrierHz,
+        plan.timing.lastStepTimeS,
+        plan.timing.geometryUpdateS,
+        {},
+        between,
+      ),
+    );
+  }
+  return traced;
 }
 
 /**

@@ -7,7 +7,7 @@
  * possible but more often a mistake.
  */
 import { SPEED_OF_LIGHT } from '@pathweave/geometry';
-import type { ArrayConfig, Scenario } from './schema.js';
+import type { ArrayConfig, Scenario, TerminalConfig } from './schema.js';
 import type { Problem } from './validate.js';
 
 /** Lowest carrier accepted, Hz: below 1 MHz a value is almost surely in GHz or MHz. */
@@ -97,5 +97,30 @@ export function checkPlausibility(s: Scenario): { problems: Problem[]; warnings:
       );
     }
   }
+  // Orientations that look like radians: every angle given within +-2 pi, some fractional (1.5708).
+  for (const { path, terminal } of terminalsOf(s)) {
+    const orientations = [
+      { at: `${path}.array.orientation`, o: terminal.array.orientation },
+      ...(terminal.trajectory ?? []).map((w, i) => ({ at: `${path}.trajectory[${i}].orientation`, o: w.orientation })),
+    ];
+    for (const { at, o } of orientations) {
+      if (o === undefined) continue;
+      const given = (['yawDeg', 'pitchDeg', 'rollDeg'] as const).filter((k) => o[k] !== undefined && o[k] !== 0);
+      const values = given.map((k) => o[k]!);
+      if (values.length === 0 || values.some((v) => Math.abs(v) > 2 * Math.PI) || values.every(Number.isInteger)) continue;
+      const asDegrees = given.map((k) => `${at}.${k} ${fmt(o[k]!)} would be ${fmt((o[k]! * 180) / Math.PI)} degrees`).join(', ');
+      warnings.push(
+        `${at}: every angle is within +-2 pi and not whole; these keys are in degrees; if the values are radians (${asDegrees}), multiply them by 180/pi`,
+      );
+    }
+  }
   return { problems, warnings };
+}
+
+/** The terminals of a scenario with the dotted path of each. */
+function terminalsOf(s: Scenario): { path: string; terminal: TerminalConfig }[] {
+  const out = [{ path: 'transmitter', terminal: s.transmitter }];
+  if (s.receiver !== undefined) out.push({ path: 'receiver', terminal: s.receiver });
+  s.receivers?.forEach((r, i) => out.push({ path: `receivers[${i}]`, terminal: r }));
+  return out;
 }
