@@ -31,6 +31,22 @@ describe('WGS-84 geodetic -> ECEF -> ENU', () => {
     expect(geodeticToEcef({ latitudeDeg: -90, longitudeDeg: 0, heightM: 100 })[2]).toBeCloseTo(-6356852.3142, 4);
   });
 
+  it('reproduces the worked examples of IOGP Guidance Note 7-2 (EPSG methods 9602 and 9836; M: values from memory, confirmed by numpy to the digits quoted)', () => {
+    // Method 9602 (geographic/geocentric), WGS 84: 53 deg 48' 33.820" N, 2 deg 07' 46.380" E, h = 73.0 m
+    // -> X = 3771793.968 m, Y = 140253.342 m, Z = 5124304.349 m.
+    const lat = 53 + 48 / 60 + 33.82 / 3600,
+      lon = 2 + 7 / 60 + 46.38 / 3600;
+    const xyz = geodeticToEcef({ latitudeDeg: lat, longitudeDeg: lon, heightM: 73 });
+    [3771793.968, 140253.342, 5124304.349].forEach((want, k) => expect(Math.abs(xyz[k]! - want)).toBeLessThan(1e-3));
+    // Method 9836 (geocentric/topocentric): origin 55 N, 5 E, h0 = 200 m (X0 = 3652755.3058, Y0 = 319574.6799,
+    // Z0 = 5201547.3536) and the point above, given there rounded to the centimetre, -> east -189013.869 m,
+    // north -128642.040 m, up -4220.171 m. The example's point is the rounded ECEF, so allow 5 mm.
+    const origin = geodeticToEcef({ latitudeDeg: 55, longitudeDeg: 5, heightM: 200 });
+    [3652755.3058, 319574.6799, 5201547.3536].forEach((want, k) => expect(Math.abs(origin[k]! - want)).toBeLessThan(1e-4));
+    const enu = new EnuFrame({ latitudeDeg: 55, longitudeDeg: 5, heightM: 200 }).fromGeodetic(lat, lon, 73);
+    [-189013.869, -128642.04, -4220.171].forEach((want, k) => expect(Math.abs(enu[k]! - want)).toBeLessThan(5e-3));
+  });
+
   it('agrees with an independent numpy computation of the same published formulas (C: numpy, to 1 mm)', () => {
     const pts = [
       [52.5, 13.4, 0, 52.5012, 13.4031, 35],
