@@ -69,7 +69,7 @@ function numpyInfo() {
     PYTHON,
     [
       '-c',
-      'import sys, numpy; print(sys.executable, numpy.__version__); c = numpy.show_config(mode="dicts"); print(c["Build Dependencies"]["blas"]["name"], c["Build Dependencies"]["blas"].get("version", ""))',
+      'import platform, numpy; print("Python " + platform.python_version() + ", numpy", numpy.__version__); c = numpy.show_config(mode="dicts"); print(c["Build Dependencies"]["blas"]["name"], c["Build Dependencies"]["blas"].get("version", ""))',
     ],
     { env, encoding: 'utf8' },
   );
@@ -86,7 +86,7 @@ function markdown(rows, info, loads) {
   const threadsName = { 1: '1 vs 1', default: 'default vs default', pool: `pool (${availableParallelism()} workers) vs default` };
   lines.push(
     `Run of \`node bench/run.mjs ${argv.join(' ')}\` (${PAIRS} pairs per figure, ${availableParallelism()} cores, node ${process.version}, ` +
-      `${info.python} numpy ${info.blas}, OpenBLAS core ${info.openblasCore}); load average (1, 5, 15 min) ${loads.start.map((x) => x.toFixed(1)).join(', ')} at the start, ` +
+      `${info.python}, ${info.blas}, OpenBLAS core ${info.openblasCore}); load average (1, 5, 15 min) ${loads.start.map((x) => x.toFixed(1)).join(', ')} at the start, ` +
       `${loads.end.map((x) => x.toFixed(1)).join(', ')} at the end.`,
     '',
   );
@@ -168,7 +168,7 @@ try {
   const info = numpyInfo();
   benchInfo = info;
   log(`pathweave bench: ${PAIRS} alternating pairs per figure; median [min-max]; ${availableParallelism()} cores; node ${process.version}`);
-  log(`numpy side: ${info.python}, numpy ${info.blas}, OpenBLAS core ${info.openblasCore} (OPENBLAS_CORETYPE/OPENBLAS_L2_SIZE unset for it)`);
+  log(`numpy side: ${info.python}, ${info.blas}, OpenBLAS core ${info.openblasCore} (OPENBLAS_CORETYPE/OPENBLAS_L2_SIZE unset for it)`);
   for (const name of ONLY) {
     const w = WORKLOADS[name];
     if (w === undefined) throw new Error(`unknown workload ${name}; known: ${Object.keys(WORKLOADS).join(', ')}`);
