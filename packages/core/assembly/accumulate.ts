@@ -18,8 +18,9 @@
 // (one multiply and one add per lane and term, the formulas above) and accumulate-fma.wasm with
 // `--enable simd,relaxed-simd`, where ASC_FEATURE_RELAXED_SIMD is true and every term is two
 // multiply-adds in the same order, acc = madd(Im w, Q, madd(Re w, P, acc)), l ascending, in every
-// code path (the last odd column too, in half a vector), so the bits again never depend on the
-// path. Fused and unfused results differ in the last bits: the builds are kernels of their own
+// code path (the last, zero-padded column group too), so the bits again never depend on the
+// path. Its float32 kernel reads P in a split layout of its own (splitF32: real parts and
+// imaginary parts of four columns in separate lanes) and needs no Q. Fused and unfused results differ in the last bits: the builds are kernels of their own
 // names, and the fused one is used only where the runtime fuses (kernels/wasm.ts probes it).
 
 /** One f64 term of a complex value: (acc + (Re w) P) + (Im w) Q, or two multiply-adds in the fused build. */
@@ -32,21 +33,6 @@
 /** 1 in the fused build (relaxed-SIMD multiply-add), 0 in the plain one. */
 export function fusedBuild(): i32 {
   return ASC_FEATURE_RELAXED_SIMD ? 1 : 0;
-}
-
-/**
- * Fused build, float64 weights [n complex] at `src` to the f32 kernel's 16-byte weights at `dst`:
- * (Re w, 0, -Im w, Im w), so one splat gives Re w and one 64-bit splat (-Im w, Im w, -Im w, Im w).
- */
-export function weightsFusedF32(dst: usize, src: usize, n: i32): void {
-  for (let i = 0; i < n; i++) {
-    const re = <f32>load<f64>(src + (<usize>i << 4)), im = <f32>load<f64>(src + (<usize>i << 4), 8);
-    const d = dst + (<usize>i << 4);
-    store<f32>(d, re);
-    store<f32>(d, 0, 4);
-    store<f32>(d, -im, 8);
-    store<f32>(d, im, 12);
-  }
 }
 
 /**
@@ -198,135 +184,134 @@ export function accumulateF32(out: usize, w: usize, p: usize, q: usize, bins: i3
   }
 }
 
-/** Fused f32 term of a complex column pair: madd((-Im w, Im w), swap(P), madd(Re w, P, acc)); (-Im w) im = -(Im w im) exactly, so this is madd(Im w, Q, .) bit for bit. */
+/** Fused f32 real parts of four columns: nmadd(Im w, Im P, madd(Re w, Re P, acc)), the same value as madd(-Im w, Im P, .) (negation is exact). */
 // @ts-ignore: decorator
-@inline function fma32(acc: v128, wr: v128, wi: v128, x: v128): v128 {
-  return f32x4.relaxed_madd(wi, v128.shuffle<f32>(x, x, 1, 0, 3, 2), f32x4.relaxed_madd(wr, x, acc));
+@inline function fmaRe(acc: v128, wr: v128, wi: v128, xr: v128, xi: v128): v128 {
+  return f32x4.relaxed_nmadd(wi, xi, f32x4.relaxed_madd(wr, xr, acc));
+}
+
+/** Fused f32 imaginary parts of four columns: madd(Im w, Re P, madd(Re w, Im P, acc)). */
+// @ts-ignore: decorator
+@inline function fmaIm(acc: v128, wr: v128, wi: v128, xr: v128, xi: v128): v128 {
+  return f32x4.relaxed_madd(wi, xr, f32x4.relaxed_madd(wr, xi, acc));
+}
+
+/** Four complex values from their real and imaginary parts, interleaved and stored at `o` (the first `n` of them, n in 1..4). */
+// @ts-ignore: decorator
+@inline function storeGroup(o: usize, re: v128, im: v128, n: i32): void {
+  const lo = v128.shuffle<f32>(re, im, 0, 4, 1, 5);
+  if (n >= 2) v128.store(o, lo);
+  else v128.store64_lane(o, lo, 0);
+  if (n == 4) v128.store(o, v128.shuffle<f32>(re, im, 2, 6, 3, 7), 16);
+  else if (n == 3) v128.store64_lane(o, v128.shuffle<f32>(re, im, 2, 6, 3, 7), 0, 16);
 }
 
 /**
- * Fused build's f32 kernel (reached from accumulateF32): weights from weightsFusedF32 (16 bytes
- * each), P only (Q is P swapped in a register, a shuffle instead of a load: the multiply-add form
- * is bound by loads, not arithmetic). 2 bins x 8 columns per register block (8 accumulators,
- * 4 weights, P and its swap: 14 of the 16 vector registers), then 2 x 4, then the odd last bin,
- * the last column pair and the last odd column, each lane with the same two multiply-adds.
+ * Fused build, float64 complex products [L, M] at `src` to the f32 kernel's split layout at `p`:
+ * each row padded to Mp = M rounded up to 4 columns, in groups of four columns stored as their
+ * four real parts then their four imaginary parts (32 bytes), padding zero; rounded to nearest
+ * like a Float32Array store.
  */
-function fusedF32(out: usize, w: usize, p: usize, bins: i32, L: i32, M: i32, tile: i32): void {
-  const rowBytes = <usize>M << 3;
-  const wRow = <usize>L << 4;
+export function splitF32(p: usize, src: usize, L: i32, M: i32): void {
   const M4 = M & ~3;
-  const bins2 = bins & ~1;
-  for (let m0 = 0; m0 < M4; m0 += tile) {
-    const m1 = min(m0 + tile, M4);
-    for (let k = 0; k < bins2; k += 2) {
-      const wk = w + <usize>k * wRow;
-      const ok = out + <usize>k * rowBytes;
-      let m = m0;
-      for (; m + 8 <= m1; m += 8) {
-        const col = <usize>m << 3;
-        let a0 = f32x4.splat(0), a1 = f32x4.splat(0), a2 = f32x4.splat(0), a3 = f32x4.splat(0);
-        let b0 = f32x4.splat(0), b1 = f32x4.splat(0), b2 = f32x4.splat(0), b3 = f32x4.splat(0);
-        let pp = p + col, wp = wk;
-        for (let l = 0; l < L; l++) {
-          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
-          const vr = v128.load32_splat(wp + wRow), vi = v128.load64_splat(wp + wRow, 8);
-          let x = v128.load(pp);
-          a0 = fma32(a0, wr, wi, x);
-          b0 = fma32(b0, vr, vi, x);
-          x = v128.load(pp, 16);
-          a1 = fma32(a1, wr, wi, x);
-          b1 = fma32(b1, vr, vi, x);
-          x = v128.load(pp, 32);
-          a2 = fma32(a2, wr, wi, x);
-          b2 = fma32(b2, vr, vi, x);
-          x = v128.load(pp, 48);
-          a3 = fma32(a3, wr, wi, x);
-          b3 = fma32(b3, vr, vi, x);
-          pp += rowBytes;
-          wp += 16;
-        }
-        const o = ok + col;
-        v128.store(o, a0);
-        v128.store(o, a1, 16);
-        v128.store(o, a2, 32);
-        v128.store(o, a3, 48);
-        const o2 = o + rowBytes;
-        v128.store(o2, b0);
-        v128.store(o2, b1, 16);
-        v128.store(o2, b2, 32);
-        v128.store(o2, b3, 48);
-      }
-      for (; m < m1; m += 4) {
-        const col = <usize>m << 3;
-        let a0 = f32x4.splat(0), a1 = f32x4.splat(0);
-        let b0 = f32x4.splat(0), b1 = f32x4.splat(0);
-        let pp = p + col, wp = wk;
-        for (let l = 0; l < L; l++) {
-          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
-          const vr = v128.load32_splat(wp + wRow), vi = v128.load64_splat(wp + wRow, 8);
-          let x = v128.load(pp);
-          a0 = fma32(a0, wr, wi, x);
-          b0 = fma32(b0, vr, vi, x);
-          x = v128.load(pp, 16);
-          a1 = fma32(a1, wr, wi, x);
-          b1 = fma32(b1, vr, vi, x);
-          pp += rowBytes;
-          wp += 16;
-        }
-        const o = ok + col;
-        v128.store(o, a0);
-        v128.store(o, a1, 16);
-        const o2 = o + rowBytes;
-        v128.store(o2, b0);
-        v128.store(o2, b1, 16);
-      }
+  const rowBytes = (<usize>(M + 3) & ~3) << 3;
+  for (let l = 0; l < L; l++) {
+    const s = src + (<usize>(l * M) << 4);
+    const d = p + <usize>l * rowBytes;
+    for (let m = 0; m < M4; m += 4) {
+      const a = s + (<usize>m << 4);
+      const ab = v128.shuffle<f32>(f32x4.demote_f64x2_zero(v128.load(a)), f32x4.demote_f64x2_zero(v128.load(a, 16)), 0, 1, 4, 5);
+      const cd = v128.shuffle<f32>(f32x4.demote_f64x2_zero(v128.load(a, 32)), f32x4.demote_f64x2_zero(v128.load(a, 48)), 0, 1, 4, 5);
+      v128.store(d + (<usize>m << 3), v128.shuffle<f32>(ab, cd, 0, 2, 4, 6));
+      v128.store(d + (<usize>m << 3), v128.shuffle<f32>(ab, cd, 1, 3, 5, 7), 16);
     }
-    if (bins2 != bins) {
-      const wk = w + <usize>bins2 * wRow;
-      const ok = out + <usize>bins2 * rowBytes;
-      for (let m = m0; m < m1; m += 4) {
-        const col = <usize>m << 3;
-        let a0 = f32x4.splat(0), a1 = f32x4.splat(0);
-        let pp = p + col, wp = wk;
-        for (let l = 0; l < L; l++) {
-          const wr = v128.load32_splat(wp), wi = v128.load64_splat(wp, 8);
-          a0 = fma32(a0, wr, wi, v128.load(pp));
-          a1 = fma32(a1, wr, wi, v128.load(pp, 16));
-          pp += rowBytes;
-          wp += 16;
-        }
-        v128.store(ok + col, a0);
-        v128.store(ok + col, a1, 16);
+    if (M4 != M) {
+      const g = d + (<usize>M4 << 3);
+      v128.store(g, f32x4.splat(0));
+      v128.store(g, f32x4.splat(0), 16);
+      for (let m = M4; m < M; m++) {
+        store<f32>(g + (<usize>(m - M4) << 2), <f32>load<f64>(s + (<usize>m << 4)));
+        store<f32>(g + (<usize>(m - M4) << 2), <f32>load<f64>(s + (<usize>m << 4), 8), 16);
       }
     }
   }
-  if (M4 == M) return;
-  const M2 = M & ~1;
-  for (let k = 0; k < bins; k++) {
+}
+
+/**
+ * Fused build's f32 kernel (reached from accumulateF32): weights as (Re, Im) float32 pairs
+ * (roundF32), P in the split layout of splitF32, so real and imaginary parts sit in lanes of
+ * their own and the inner loop has no shuffle at all (the output is interleaved once per
+ * register block). Register block: 3 bins x 4 columns, 6 accumulators; larger blocks (4 or
+ * more bins, or 2 x 8 columns) measured slower on the bench machine (V8 keeps fewer values in
+ * registers than x64 has), 3 x 4 was 1.2-1.4 times the previous interleaved 2 x 8 block. Bins
+ * left over (1 or 2) and the last, zero-padded column group use the same two multiply-adds per
+ * lane in the same order (l ascending), so a coefficient's bits never depend on the code path,
+ * and they equal the previous layout's bit for bit.
+ */
+function fusedF32(out: usize, w: usize, p: usize, bins: i32, L: i32, M: i32, tile: i32): void {
+  const rowBytes = <usize>M << 3;
+  const pRow = (<usize>(M + 3) & ~3) << 3;
+  const wRow = <usize>L << 3;
+  const M4 = M & ~3;
+  const bins3 = bins - (bins % 3);
+  for (let m0 = 0; m0 < M4; m0 += tile) {
+    const m1 = min(m0 + tile, M4);
+    for (let k = 0; k < bins3; k += 3) {
+      const wk = w + <usize>k * wRow;
+      const ok = out + <usize>k * rowBytes;
+      for (let m = m0; m < m1; m += 4) {
+        const col = <usize>m << 3;
+        let ar = f32x4.splat(0), ai = f32x4.splat(0), br = f32x4.splat(0), bi = f32x4.splat(0), cr = f32x4.splat(0), ci = f32x4.splat(0);
+        let pp = p + col, wp = wk;
+        for (let l = 0; l < L; l++) {
+          const xr = v128.load(pp), xi = v128.load(pp, 16);
+          let wr = v128.load32_splat(wp), wi = v128.load32_splat(wp, 4);
+          ar = fmaRe(ar, wr, wi, xr, xi);
+          ai = fmaIm(ai, wr, wi, xr, xi);
+          wr = v128.load32_splat(wp + wRow);
+          wi = v128.load32_splat(wp + wRow, 4);
+          br = fmaRe(br, wr, wi, xr, xi);
+          bi = fmaIm(bi, wr, wi, xr, xi);
+          wr = v128.load32_splat(wp + 2 * wRow);
+          wi = v128.load32_splat(wp + 2 * wRow, 4);
+          cr = fmaRe(cr, wr, wi, xr, xi);
+          ci = fmaIm(ci, wr, wi, xr, xi);
+          pp += pRow;
+          wp += 8;
+        }
+        const o = ok + col;
+        storeGroup(o, ar, ai, 4);
+        storeGroup(o + rowBytes, br, bi, 4);
+        storeGroup(o + 2 * rowBytes, cr, ci, 4);
+      }
+    }
+    if (bins3 != bins) fusedRows(out, w, p, bins3, bins, L, M, m0, m1);
+  }
+  // The last, partly filled column group (zero-padded in P), one bin at a time.
+  if (M4 != M) fusedRows(out, w, p, 0, bins, L, M, M4, M);
+}
+
+/** Bins [k0, k1) over columns [m0, m1), one bin at a time (the leftover bins and the last column group of fusedF32). */
+function fusedRows(out: usize, w: usize, p: usize, k0: i32, k1: i32, L: i32, M: i32, m0: i32, m1: i32): void {
+  const rowBytes = <usize>M << 3;
+  const pRow = (<usize>(M + 3) & ~3) << 3;
+  const wRow = <usize>L << 3;
+  for (let k = k0; k < k1; k++) {
     const wk = w + <usize>k * wRow;
     const ok = out + <usize>k * rowBytes;
-    for (let m = M4; m < M2; m += 2) {
+    for (let m = m0; m < m1; m += 4) {
       const col = <usize>m << 3;
-      let a0 = f32x4.splat(0);
+      let ar = f32x4.splat(0), ai = f32x4.splat(0);
       let pp = p + col, wp = wk;
       for (let l = 0; l < L; l++) {
-        a0 = fma32(a0, v128.load32_splat(wp), v128.load64_splat(wp, 8), v128.load(pp));
-        pp += rowBytes;
-        wp += 16;
+        const xr = v128.load(pp), xi = v128.load(pp, 16);
+        const wr = v128.load32_splat(wp), wi = v128.load32_splat(wp, 4);
+        ar = fmaRe(ar, wr, wi, xr, xi);
+        ai = fmaIm(ai, wr, wi, xr, xi);
+        pp += pRow;
+        wp += 8;
       }
-      v128.store(ok + col, a0);
-    }
-    if (M2 != M) {
-      // No scalar multiply-add in WebAssembly: the last column in the low half of a vector.
-      const col = <usize>M2 << 3;
-      let a0 = f32x4.splat(0);
-      let pp = p + col, wp = wk;
-      for (let l = 0; l < L; l++) {
-        a0 = fma32(a0, v128.load32_splat(wp), v128.load64_splat(wp, 8), v128.load64_zero(pp));
-        pp += rowBytes;
-        wp += 16;
-      }
-      v128.store64_lane(ok + col, a0, 0);
+      storeGroup(ok + col, ar, ai, min(4, m1 - m));
     }
   }
 }

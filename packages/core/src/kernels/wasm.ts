@@ -64,7 +64,7 @@ const wasmApi = (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
 interface KernelExports {
   memory: WasmMemory;
   fusedBuild(): number;
-  weightsFusedF32(dst: number, src: number, n: number): void;
+  splitF32(p: number, src: number, L: number, M: number): void;
   prepareF32(p: number, q: number, src: number, n: number): void;
   roundF32(dst: number, src: number, n: number): void;
   turnF64(q: number, p: number, n: number): void;
@@ -76,22 +76,29 @@ const align = (n: number): number => Math.ceil(n / 16) * 16;
 
 /**
  * Workspace bytes of one call: P (and Q) in the kernel's float type first, at a fixed address so
- * they survive between calls with the same products; then the weights in the kernel's form (the
- * fused f32 kernel: 16-byte weights, no Q); then one float64 staging area, used in turn for the
- * products and the weights (float64 output: the products and weights are staged in place).
+ * they survive between calls with the same products (the fused f32 kernel: P alone, in its split
+ * layout with rows padded to a multiple of four columns); then the weights in the kernel's form;
+ * then one float64 staging area, used in turn for the products and the weights (float64 output:
+ * the products and weights are staged in place).
  */
 function workspaceBytes(bins: number, L: number, M: number, double: boolean, fused: boolean): number {
   if (double) return 2 * align(16 * L * M) + align(16 * bins * L);
   const stage = align(16 * Math.max(L * M, bins * L));
-  return fused ? align(8 * L * M) + align(16 * bins * L) + stage : 2 * align(8 * L * M) + align(8 * bins * L) + stage;
+  return (fused ? align(8 * L * padColumns(M)) : 2 * align(8 * L * M)) + align(8 * bins * L) + stage;
 }
+
+/** Columns of a row of P in the fused f32 kernel's split layout (groups of four). */
+const padColumns = (M: number): number => Math.ceil(M / 4) * 4;
+
+/** Bins per register block of the fused f32 kernel: its chunks are whole blocks where they can be. */
+const FUSED_BLOCK_BINS = 3;
 
 /** One instance of the SIMD kernel with its linear-memory workspace at [base, base + workspace). */
 class WasmKernel {
   private readonly base: number;
   private f64: Float64Array;
   private f32: Float32Array;
-  /** The fused (relaxed-SIMD multiply-add) build: f32 weights of 16 bytes, no Q. */
+  /** The fused (relaxed-SIMD multiply-add) build: f32 products in a split layout, no Q. */
   private readonly fused: boolean;
   /** What P (and Q) at `base` hold: the products array, its stamp and shape (undefined: nothing reusable). */
   private staged: { products: Float64Array; stamp: number; L: number; M: number; double: boolean } | undefined;
@@ -156,8 +163,9 @@ class WasmKernel {
     const double = out instanceof Float64Array;
     const eb = double ? 16 : 8; // bytes per complex value
     const fusedF32 = this.fused && !double;
-    const wb = fusedF32 ? 16 : eb; // bytes per staged weight
-    const chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
+    const wb = eb; // bytes per staged weight
+    let chunkBins = Math.max(1, Math.min(bins, Math.floor(CHUNK_BYTES / (M * eb))));
+    if (fusedF32 && chunkBins >= FUSED_BLOCK_BINS) chunkBins -= chunkBins % FUSED_BLOCK_BINS;
     const p = this.base;
     let q: number, w: number, stage: number, o: number;
     if (double) {
@@ -166,8 +174,8 @@ class WasmKernel {
       stage = w;
       o = w + align(16 * bins * L);
     } else {
-      q = fusedF32 ? p : p + align(8 * L * M); // fused: unused, the kernel swaps P in a register
-      w = fusedF32 ? p + align(8 * L * M) : q + align(8 * L * M);
+      q = fusedF32 ? p : p + align(8 * L * M); // fused: unused, P's split layout serves both parts
+      w = fusedF32 ? p + align(8 * L * padColumns(M)) : q + align(8 * L * M);
       stage = w + align(wb * bins * L);
       o = stage + align(16 * Math.max(L * M, bins * L));
     }
@@ -179,16 +187,15 @@ class WasmKernel {
       this.staged = undefined;
       f64.set(products.subarray(0, 2 * L * M), (double ? p : stage) / 8);
       if (double) this.exports.turnF64(q, p, L * M);
-      else if (fusedF32) this.exports.roundF32(p, stage, 2 * L * M);
+      else if (fusedF32) this.exports.splitF32(p, stage, L, M);
       else this.exports.prepareF32(p, q, stage, L * M);
       if (stamp !== undefined) this.staged = { products, stamp, L, M, double };
     }
     f64.set(weights.subarray(0, 2 * bins * L), stage / 8);
-    if (fusedF32) this.exports.weightsFusedF32(w, stage, bins * L);
-    else if (!double) this.exports.roundF32(w, stage, 2 * bins * L);
-    // Complex columns per register block (f32: 2 bins x 4, fused 2 bins x 8; f64: 1 bin x 4); the
+    if (!double) this.exports.roundF32(w, stage, 2 * bins * L);
+    // Complex columns per register block (f32: 2 bins x 4, fused 3 bins x 4; f64: 1 bin x 4); the
     // P (and Q) columns of one tile fill about TILE_BYTES.
-    const lanes = fusedF32 ? 8 : 4;
+    const lanes = 4;
     const tile = Math.max(lanes, Math.floor(TILE_BYTES / ((fusedF32 ? 1 : 2) * L * eb * lanes)) * lanes);
     const kernel = double ? this.exports.accumulateF64 : this.exports.accumulateF32;
     if (target !== undefined) {
@@ -216,15 +223,20 @@ const pinned = new WeakMap<ArrayBuffer, WasmKernel>();
  * lanes. Each case is one term whose fused and twice-rounded results differ: with w = -1 + (1 + e) j
  * and P = (1 + e) + 1 j the imaginary lane is madd(1 + e, 1 + e, -1) = 2e + e^2 fused, while
  * rounding (1 + e)^2 first drops e^2 (a tie, to even); e = 2^-12 (float32), 2^-27 (float64).
+ * The float32 kernel subtracts with a negated multiply-add in its real lanes, so a second case
+ * checks that one: w = 1 + (1 + e) j and P = 1 + (1 + e) j give the real lane
+ * nmadd(1 + e, 1 + e, 1) = -(2e + e^2) fused.
  */
 function fusesBoth(kernel: WasmKernelFunction): boolean {
   const f32 = new Float32Array(2),
+    neg32 = new Float32Array(2),
     f64 = new Float64Array(2);
   const e32 = 2 ** -12,
     e64 = 2 ** -27;
   kernel(f32, 0, Float64Array.of(-1, 1 + e32), Float64Array.of(1 + e32, 1), 1, 1, 1);
+  kernel(neg32, 0, Float64Array.of(1, 1 + e32), Float64Array.of(1, 1 + e32), 1, 1, 1);
   kernel(f64, 0, Float64Array.of(-1, 1 + e64), Float64Array.of(1 + e64, 1), 1, 1, 1);
-  return f32[1] === 2 * e32 + e32 * e32 && f64[1] === 2 * e64 + e64 * e64;
+  return f32[1] === 2 * e32 + e32 * e32 && neg32[0] === -(2 * e32 + e32 * e32) && f64[1] === 2 * e64 + e64 * e64;
 }
 
 /**
