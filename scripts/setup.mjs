@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 // One-step set-up used by `npm run demo`, `npm test` and `npm run bench`:
 // installs the pinned pnpm (through npx, so nothing global is needed), the locked
-// dependencies, builds the TypeScript packages and compiles the WebAssembly SIMD kernels from
+// dependencies, builds the TypeScript packages, bundles the command line and compiles the WebAssembly SIMD kernels from
 // their AssemblyScript source (packages/core/assembly) with the pinned compiler from the npm
 // registry. Safe to run again: each step is a no-op when its result is already up to date.
 import { execFileSync } from 'node:child_process';
@@ -52,3 +52,5 @@ for (const [file, features] of [
 }
 
 run(join(root, 'node_modules', '.bin', 'tsc'), ['-b']);
+// The command line's bundle (scripts/bundle-cli.mjs says why), from the modules tsc just wrote.
+run(process.execPath, [join(root, 'scripts', 'bundle-cli.mjs')]);

@@ -20,5 +20,9 @@ for (const stream of [process.stdout, process.stderr]) {
   });
 }
 
-const { main } = await import('../dist/cli/main.js');
+// The bundle of the command (scripts/bundle-cli.mjs: one file for most of what a command loads,
+// instead of about 200) when it was built; PATHWEAVE_UNBUNDLED=1 runs the modules one by one.
+const { existsSync } = await import('node:fs');
+const bundled = new URL('../dist/bundle/main.js', import.meta.url);
+const { main } = await import(process.env.PATHWEAVE_UNBUNDLED !== '1' && existsSync(bundled) ? bundled.href : '../dist/cli/main.js');
 process.exitCode = await main(process.argv.slice(2));

@@ -262,7 +262,16 @@ export function loadWasmKernel(path: string = WASM_KERNEL_PATH): {
     setFlagsFromString('--experimental-wasm-relaxed-simd');
     if (!WebAssembly.validate(bytes)) return { reason: `${path} does not validate here (no 128-bit or relaxed SIMD?)` };
   }
-  const module = new WebAssembly.Module(bytes);
+  // Compiled optimised at once, not first by the baseline compiler and optimised later while it
+  // runs: the kernel is hot from its first call, and a short run (a 4-subframe generate) spent
+  // about 12 ms of its first block in baseline code. The flag is set back for other modules.
+  setFlagsFromString('--no-wasm-dynamic-tiering');
+  let module: WasmModule;
+  try {
+    module = new WebAssembly.Module(bytes);
+  } finally {
+    setFlagsFromString('--wasm-dynamic-tiering');
+  }
   const instantiate = (): KernelExports => new WebAssembly.Instance(module, {}).exports as unknown as KernelExports;
   const first = instantiate();
   const build = first.fusedBuild() === 1;
