@@ -65,7 +65,7 @@ interface KernelExports {
   memory: WasmMemory;
   fusedBuild(): number;
   splitF32(p: number, src: number, L: number, M: number): void;
-  prepareF32(p: number, q: number, src: number, n: number): void;
+  prepareF32(p: number, q: number, src: number, L: number, M: number): void;
   roundF32(dst: number, src: number, n: number): void;
   turnF64(q: number, p: number, n: number): void;
   accumulateF32(out: number, w: number, p: number, q: number, bins: number, L: number, M: number, tile: number): void;
@@ -77,18 +77,28 @@ const align = (n: number): number => Math.ceil(n / 16) * 16;
 /**
  * Workspace bytes of one call: P (and Q) in the kernel's float type first, at a fixed address so
  * they survive between calls with the same products (the fused f32 kernel: P alone, in its split
- * layout with rows padded to a multiple of four columns); then the weights in the kernel's form;
+ * layout, rows splitRowBytes apart); then the weights in the kernel's form;
  * then one float64 staging area, used in turn for the products and the weights (float64 output:
  * the products and weights are staged in place).
  */
 function workspaceBytes(bins: number, L: number, M: number, double: boolean, fused: boolean): number {
   if (double) return 2 * align(16 * L * M) + align(16 * bins * L);
   const stage = align(16 * Math.max(L * M, bins * L));
-  return (fused ? align(8 * L * padColumns(M)) : 2 * align(8 * L * M)) + align(8 * bins * L) + stage;
+  return (fused ? align(L * splitRowBytes(M)) : 2 * align(L * plainRowBytes(M))) + align(8 * bins * L) + stage;
 }
 
-/** Columns of a row of P in the fused f32 kernel's split layout (groups of four). */
-const padColumns = (M: number): number => Math.ceil(M / 4) * 4;
+/**
+ * Bytes between rows of P in the fused f32 kernel's split layout (groups of four columns, 32
+ * bytes each, then a cache line so that rows are not a multiple of 4 KiB apart): the same
+ * function as splitRowBytes in assembly/accumulate.ts, which says why.
+ */
+const splitRowBytes = (M: number): number => pastPageMultiple(Math.ceil(M / 4) * 32);
+
+/** Bytes between rows of P and Q in the unfused f32 kernel: plainRowBytes in assembly/accumulate.ts. */
+const plainRowBytes = (M: number): number => pastPageMultiple(8 * M);
+
+/** A row of `packed` bytes plus one cache line, or two when one would end on a multiple of 4 KiB. */
+const pastPageMultiple = (packed: number): number => ((packed + 64) % 4096 === 0 ? packed + 128 : packed + 64);
 
 /** Bins per register block of the fused f32 kernel: its chunks are whole blocks where they can be. */
 const FUSED_BLOCK_BINS = 3;
@@ -174,8 +184,8 @@ class WasmKernel {
       stage = w;
       o = w + align(16 * bins * L);
     } else {
-      q = fusedF32 ? p : p + align(8 * L * M); // fused: unused, P's split layout serves both parts
-      w = fusedF32 ? p + align(8 * L * padColumns(M)) : q + align(8 * L * M);
+      q = fusedF32 ? p : p + align(L * plainRowBytes(M)); // fused: unused, P's split layout serves both parts
+      w = fusedF32 ? p + align(L * splitRowBytes(M)) : q + align(L * plainRowBytes(M));
       stage = w + align(wb * bins * L);
       o = stage + align(16 * Math.max(L * M, bins * L));
     }
@@ -188,7 +198,7 @@ class WasmKernel {
       f64.set(products.subarray(0, 2 * L * M), (double ? p : stage) / 8);
       if (double) this.exports.turnF64(q, p, L * M);
       else if (fusedF32) this.exports.splitF32(p, stage, L, M);
-      else this.exports.prepareF32(p, q, stage, L * M);
+      else this.exports.prepareF32(p, q, stage, L, M);
       if (stamp !== undefined) this.staged = { products, stamp, L, M, double };
     }
     f64.set(weights.subarray(0, 2 * bins * L), stage / 8);
