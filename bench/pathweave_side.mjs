@@ -7,7 +7,8 @@
  *            warm-up; the buffers come from allocateKernelArray, as in `generate`, and are touched
  *            before the clock starts, as numpy's H is); with workers > 1 the blocks go to the
  *            worker pool of `generate` (each worker fills its own shared buffers, read in place;
- *            warmed up with whole blocks); `default` takes generate's default count (defaultWorkers)
+ *            warmed up with whole blocks); `default` takes generate's default count (defaultWorkers);
+ *            with PATHWEAVE_BENCH_START_AT (ms since the epoch) a one-thread loop waits for that moment
  *   e2e:     generate() to `out` (.npy, .npz), everything included, no checksum (a plain run);
  *            `default` leaves the worker count to generate
  *   e2e-checksum: the same with `checksum: true` (the tensor's SHA-256, as a --shard run)
@@ -100,6 +101,9 @@ if (mode === 'tracer') {
       const buffer = allocateKernelArray(2 * block * perSubframe, Tensor); // as generate() allocates its block buffers
       buffer.fill(0); // touch the pages outside the timed loop, as the numpy side does with H
       fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up
+      // Two processes run side by side (bench/run.mjs's ceiling row) start their loops together.
+      const startAt = Number(process.env.PATHWEAVE_BENCH_START_AT ?? 0);
+      while (Date.now() < startAt) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 1);
       const t0 = performance.now();
       for (let s = 0; s < S; s += block) {
         const n = Math.min(block, S - s);

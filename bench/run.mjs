@@ -14,7 +14,7 @@
  * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
@@ -53,6 +53,17 @@ function child(cmd, args, env = process.env) {
   return { ...JSON.parse(lines[lines.length - 1]), wallSeconds: wall };
 }
 const pw = (args) => child(process.execPath, [join(here, 'pathweave_side.mjs'), ...args]);
+/** pathweave_side.mjs without blocking, so that two can run at once; resolves with its JSON line. */
+const pwAsync = (args, env) =>
+  new Promise((resolve, reject) => {
+    const c = spawn(process.execPath, [join(here, 'pathweave_side.mjs'), ...args], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'inherit'] });
+    let text = '';
+    c.stdout.on('data', (d) => (text += d));
+    c.on('error', reject);
+    c.on('close', (code) =>
+      code === 0 ? resolve(JSON.parse(text.trim().split('\n').pop())) : reject(new Error(`pathweave_side.mjs ${args.join(' ')} failed (${code})`)),
+    );
+  });
 const np = (args, threads) => child(PYTHON, [join(here, 'numpy_side.py'), ...args], numpyEnv(threads));
 
 const median = (xs) => {
@@ -126,7 +137,8 @@ function markdown(rows, info, loads) {
   const pool = rows.filter((x) => x.mode === 'pool-scaling');
   if (pool.length > 0) {
     lines.push('| workers | memory coeff/s | memory speed-up over 1 (pair by pair) | e2e coeff/s (whole process) | load |', '|---|---|---|---|---|');
-    for (const r of pool) lines.push(`| ${r.workers} | ${spread(r.memory)} | ${spread(r.memorySpeedup)} | ${spread(r.e2e)} | ${load(r)} |`);
+    for (const r of pool)
+      lines.push(`| ${r.workers} | ${spread(r.memory)} | ${spread(r.memorySpeedup)} | ${r.e2e === undefined ? 'n/a' : spread(r.e2e)} | ${load(r)} |`);
     lines.push('');
   }
   const scaling = rows.filter((x) => x.mode === 'scaling');
@@ -386,7 +398,8 @@ try {
     log(`\npool scaling (dataset, ${PAIRS} runs each, interleaved; coeff/s, median [min-max]):`);
     const counts = [1, 2, 3];
     const mem = counts.map(() => []),
-      e2e = counts.map(() => []);
+      e2e = counts.map(() => []),
+      sideBySide = [];
     const loadBefore = loadavg()[0];
     for (let i = 0; i < PAIRS; i++) {
       counts.forEach((w, j) => {
@@ -395,6 +408,11 @@ try {
         rmSync(join(dir, 'scaling.npy'), { force: true });
         rmSync(join(dir, 'scaling.npy.json'), { force: true });
       });
+      // The machine's own ceiling: two independent one-thread processes whose timed loops start
+      // at the same moment (no pool, nothing shared but the hardware); aggregate rate.
+      const startAt = String(Date.now() + 1500);
+      const both = await Promise.all([0, 1].map(() => pwAsync([cfgFile, 'memory', '1'], { PATHWEAVE_BENCH_START_AT: startAt })));
+      sideBySide.push((2 * coefficients) / Math.max(...both.map((r) => r.loopSeconds)));
     }
     counts.forEach((w, j) => {
       const row = {
@@ -408,6 +426,17 @@ try {
       emit(row);
       log(`  workers ${w}: memory ${spread(row.memory)} (x${spread(row.memorySpeedup)} of 1), end to end ${spread(row.e2e)}`);
     });
+    const ceiling = {
+      mode: 'pool-scaling',
+      workers: '2 one-thread processes at once (ceiling)',
+      memory: stats(sideBySide),
+      memorySpeedup: stats(sideBySide.map((x, i) => x / mem[0][i])),
+      loadAverage1m: { before: loadBefore, after: loadavg()[0] },
+    };
+    emit(ceiling);
+    log(
+      `  two one-thread processes at once (no pool; the machine's ceiling): memory ${spread(ceiling.memory)} together (x${spread(ceiling.memorySpeedup)} of 1)`,
+    );
     log(`  load ${loadBefore.toFixed(1)}-${loadavg()[0].toFixed(1)}`);
   }
 
