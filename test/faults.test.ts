@@ -8,10 +8,11 @@
  * tests are skipped with the reason. Build first (`npx tsc -b`): the CLI runs from dist/.
  */
 import { spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
 import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { generate, liveTemporaryFiles, OutputFileError, parseScenarioText, type OutputFormat } from '@pathweave/io';
+import { AtomicFile, generate, liveTemporaryFiles, OutputFileError, parseScenarioText, type OutputFormat } from '@pathweave/io';
 import { ROOT, runCli, tempDir, writeScenario } from './support/run.js';
 
 const FORMATS: OutputFormat[] = ['npy', 'npz', 'h5'];
@@ -216,4 +217,43 @@ describe('an output path that is a directory', () => {
       expect(existsSync(`${out}.json`)).toBe(false);
     });
   }
+});
+
+// A write of 2 MiB or more goes out in parts written at once (formats/atomic.ts); the bytes and
+// the fault handling must be those of one write.
+describe('a large write split into parts written at once', () => {
+  /** 6 MiB + 5 bytes of a fixed pseudo-random pattern: two parts, the second not a whole page. */
+  const bytes = Uint8Array.from({ length: 6 * 2 ** 20 + 5 }, (_, i) => (i * 2654435761) >>> 24);
+  const sha = (b: Uint8Array): string => createHash('sha256').update(b).digest('hex');
+
+  it('gives the file the bytes in order, after a small write before it', async () => {
+    const target = join(tempDir(), 'split.bin');
+    const f = await AtomicFile.create(target);
+    await f.write(Uint8Array.of(7, 8, 9));
+    await f.write(bytes);
+    expect(f.bytesWritten).toBe(3 + bytes.length);
+    await f.commit();
+    const back = readFileSync(target);
+    expect(back.length).toBe(3 + bytes.length);
+    expect([...back.subarray(0, 3)]).toEqual([7, 8, 9]);
+    expect(sha(back.subarray(3))).toBe(sha(bytes));
+  });
+
+  it.skipIf(mountReason !== undefined)('on a disk that fills in the second part: ENOSPC, and no temporary file once it rejects', async () => {
+    const m = mountTmpfs('4m');
+    if ('reason' in m) throw new Error(m.reason);
+    try {
+      const f = await AtomicFile.create(join(m.dir, 'split.bin'));
+      const error = await f.write(bytes).then(
+        () => undefined,
+        (e: unknown) => e,
+      );
+      expect(error).toBeInstanceOf(OutputFileError);
+      expect((error as OutputFileError).code).toBe('ENOSPC');
+      expect(liveTemporaryFiles()).toEqual([]);
+      expect(readdirSync(m.dir)).toEqual([]);
+    } finally {
+      unmount(m.dir);
+    }
+  });
 });

@@ -17,6 +17,15 @@ import { basename, dirname, join } from 'node:path';
 const live = new Set<string>();
 
 /**
+ * Writes of at least this many bytes (a block of `generate` is 8 MiB) are split into WRITE_PARTS
+ * positional writes issued at once. Measured on the 2-core bench machine, a 1.26 GB .npy to
+ * /dev/shm, whole process, 8 alternating runs: 1.08 s median in one write per block, 0.82 s in
+ * two parts; four parts measured the same as two.
+ */
+const PARALLEL_WRITE_BYTES = 2 ** 21;
+const WRITE_PARTS = 2;
+
+/**
  * Record a temporary file written by other means (e.g. a library that opens it itself), so a signal handler removes it.
  * @example
  * trackTemporary('/tmp/.run.h5.part');
@@ -205,20 +214,30 @@ export class AtomicFile {
     return this.position;
   }
 
-  /** Append bytes. On a fault the temporary file is removed and an OutputFileError thrown. */
+  /**
+   * Append bytes. From PARALLEL_WRITE_BYTES on, the bytes go out as WRITE_PARTS positional writes
+   * at once (libuv runs each on a thread of its pool), each part to its own offset, so the copy
+   * into the page cache runs on two cores; the file's bytes are the same. The call settles when
+   * every part has. On a fault the temporary file is removed (after the other parts settled)
+   * and an OutputFileError thrown.
+   */
   async write(data: Uint8Array): Promise<void> {
-    if (this.handle === undefined) throw new Error(`AtomicFile.write(): ${this.target} is already closed`);
-    try {
-      let offset = 0;
-      while (offset < data.length) {
-        const { bytesWritten } = await this.handle.write(data, offset, data.length - offset, this.position);
-        offset += bytesWritten;
-        this.position += bytesWritten;
-      }
-    } catch (e) {
+    const handle = this.handle;
+    if (handle === undefined) throw new Error(`AtomicFile.write(): ${this.target} is already closed`);
+    const start = this.position;
+    const part = data.length >= PARALLEL_WRITE_BYTES ? Math.ceil(data.length / WRITE_PARTS / 4096) * 4096 : data.length;
+    const writeRange = async (from: number, to: number): Promise<void> => {
+      for (let offset = from; offset < to;) offset += (await handle.write(data, offset, to - offset, start + offset)).bytesWritten;
+    };
+    const ranges: Array<Promise<void>> = [];
+    for (let from = 0; from < data.length; from += part) ranges.push(writeRange(from, Math.min(data.length, from + part)));
+    const settled = await Promise.allSettled(ranges);
+    const failed = settled.find((r): r is PromiseRejectedResult => r.status === 'rejected');
+    if (failed !== undefined) {
       await this.abort();
-      throw new OutputFileError(this.target, 'write', e);
+      throw new OutputFileError(this.target, 'write', failed.reason);
     }
+    this.position = start + data.length;
   }
 
   /** Overwrite bytes at an absolute offset (e.g. a header finished at the end). */
