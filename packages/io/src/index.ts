@@ -20,6 +20,7 @@ export * from './formats/sink.js';
 export * from './formats/npy.js';
 export * from './formats/index.js';
 export * from './dataset/generate.js';
+export * from './dataset/fill-subframes.js';
 export * from './scenario/paths.js';
 export * from './inspect/inspect.js';
 export * from './version.js';

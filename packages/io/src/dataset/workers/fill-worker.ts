@@ -4,9 +4,10 @@
  * then fills each requested block of subframes with the same `fillBlock` the main thread uses,
  * so a block's bytes do not depend on which thread made it.
  *
- * Messages in: { kind: 'fill', id, first, n } and { kind: 'release', slot }; out: { id, slot,
+ * Messages in: { kind: 'fill', id, first, n, into? } and { kind: 'release', slot }; out: { id, slot,
  * tensor, gains, kernel } (tensor: a view of this worker's block buffer `slot`, in shared memory,
- * so the main thread reads it in place; gains copied; kernel: the KERNEL_NAME of this thread) or
+ * so the main thread reads it in place; gains copied; kernel: the KERNEL_NAME of this thread),
+ * { id, gains, kernel } when the request brought its own shared view `into` (filled there), or
  * { id, error }. A buffer is filled again only after its release.
  * Layouts: tensor [n, (U,) (symbols,) K or count, Nr, Nt] complex interleaved (Float32Array for
  * complex64, Float64Array for complex128); gains [n, (U,) (symbols,) Lmax] complex128.
@@ -32,6 +33,14 @@ parentPort!.on('message', (request: BlockRequest) => {
   }
   try {
     const length = request.n * values;
+    if (request.into !== undefined) {
+      // The caller's shared array: filled where it is, nothing to hand back but the gains.
+      if (request.into.length !== length) throw new RangeError(`fill-worker: the target view holds ${request.into.length} values, the block needs ${length}`);
+      const gains = new Float64Array(request.n * data.gainsPerSubframe);
+      fillBlock(built, request.into, request.first, request.n, gains);
+      parentPort!.postMessage({ id: request.id, gains, kernel: KERNEL_NAME }, [gains.buffer]);
+      return;
+    }
     let slot = free.pop();
     if (slot !== undefined && buffers[slot]!.length < length) buffers[slot] = sharedBlockArray(length, Tensor);
     if (slot === undefined) {

@@ -24,8 +24,12 @@ export interface BlockWorkerData {
   gainsPerSubframe: number;
 }
 
-/** Messages to a worker: fill a block, or take back a block buffer once the main thread is done with it. */
-export type BlockRequest = { kind: 'fill'; id: number; first: number; n: number } | { kind: 'release'; slot: number };
+/**
+ * Messages to a worker: fill a block (into its own buffers, or into `into`, a view of the
+ * caller's array over a SharedArrayBuffer), or take back a block buffer once the main thread is
+ * done with it.
+ */
+export type BlockRequest = { kind: 'fill'; id: number; first: number; n: number; into?: Float32Array | Float64Array } | { kind: 'release'; slot: number };
 
 interface BlockReply {
   id: number;
@@ -118,8 +122,12 @@ export class BlockPool {
     return this.kernels.size === 0 ? undefined : [...this.kernels].sort().join(',');
   }
 
-  /** Ask for subframes [first, first + n); resolves with the block, to be released once used. */
-  request(first: number, n: number): Promise<FilledBlock> {
+  /**
+   * Ask for subframes [first, first + n); resolves with the block, to be released once used.
+   * With `into` (a view over a SharedArrayBuffer, n subframes long) the worker fills that view
+   * instead of a buffer of its own, and the block's release does nothing.
+   */
+  request(first: number, n: number, into?: Float32Array | Float64Array): Promise<FilledBlock> {
     if (this.failure !== undefined) return Promise.reject(this.failure);
     const id = this.nextId++;
     const worker = this.workers[id % this.workers.length]!;
@@ -130,16 +138,16 @@ export class BlockPool {
           if (r.error !== undefined) return reject(new Error(`generate worker: ${r.error}`));
           let released = false;
           const release = (): void => {
-            if (released || this.failure !== undefined) return;
+            if (released || this.failure !== undefined || r.slot === undefined) return;
             released = true;
             const message: BlockRequest = { kind: 'release', slot: r.slot! };
             worker.postMessage(message);
           };
-          resolve({ tensor: r.tensor!, gains: r.gains!, release });
+          resolve({ tensor: into ?? r.tensor!, gains: r.gains!, release });
         },
         reject,
       });
-      const message: BlockRequest = { kind: 'fill', id, first, n };
+      const message: BlockRequest = { kind: 'fill', id, first, n, ...(into !== undefined ? { into } : {}) };
       worker.postMessage(message);
     });
   }
