@@ -7,7 +7,9 @@
  *            warm-up; the buffers come from allocateKernelArray, as in `generate`, and are touched
  *            before the clock starts, as numpy's H is); with workers > 1 the blocks go to the
  *            worker pool of `generate` (each worker fills its own shared buffers, read in place;
- *            warmed up with whole blocks); `default` takes generate's default count (defaultWorkers);
+ *            warmed up with whole blocks); `default` is the library's default for a tensor in
+ *            memory: a SubframeFiller (one worker per core) filling the whole tensor into one
+ *            shared array (touched first, as numpy's H; warmed up on its first blocks);
  *            with PATHWEAVE_BENCH_START_AT (ms since the epoch) a one-thread loop waits for that moment
  *   e2e:     generate() to `out` (.npy, .npz), everything included, no checksum (a plain run);
  *            `default` leaves the worker count to generate
@@ -48,7 +50,8 @@ if (mode === 'startup') {
 }
 const { allocateKernelArray, KERNEL_NAME } = await import('@pathweave/core');
 const { traceScene, prepareScene } = await import('@pathweave/geometry');
-const { BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText } = await import('@pathweave/io');
+const { allocateSharedTensor, BLOCK_TARGET_BYTES, blockSubframes, buildScenario, fillBlock, generate, parseScenarioText, SubframeFiller } =
+  await import('@pathweave/io');
 const { BlockPool, defaultWorkers } = await import('../packages/io/dist/dataset/workers/pool.js');
 const { twentyWallRoom } = await import('./workloads.mjs');
 result.kernel = KERNEL_NAME;
@@ -95,9 +98,22 @@ if (mode === 'tracer') {
     const block = blockSubframes(perSubframe * 8);
     const Tensor = Float32Array;
     let seconds;
-    const threads = workers === 'default' ? defaultWorkers(Math.ceil(S / block)) : workers;
+    const threads = workers === 'default' ? undefined : workers;
     result.workers = threads;
-    if (threads === 1) {
+    if (threads === undefined) {
+      // The library's default for a tensor in memory: a SubframeFiller (one worker per core)
+      // filling the whole tensor into one shared array, as numpy fills its whole H.
+      const filler = new SubframeFiller(built);
+      result.workers = filler.workers;
+      const H = allocateSharedTensor(built, S);
+      H.fill(0); // touch the pages outside the timed loop, as the numpy side does with H
+      await filler.fill(H, 0, Math.min(S, 2 * block * filler.workers)); // warm-up: the workers build and run
+      const t0 = performance.now();
+      await filler.fill(H, 0, S);
+      seconds = (performance.now() - t0) / 1000;
+      await filler.close();
+      result.wholeTensor = true;
+    } else if (threads === 1) {
       const buffer = allocateKernelArray(2 * block * perSubframe, Tensor); // as generate() allocates its block buffers
       buffer.fill(0); // touch the pages outside the timed loop, as the numpy side does with H
       fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up

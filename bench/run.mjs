@@ -9,7 +9,9 @@
  * Numpy side: the first python3 on PATH (PATHWEAVE_BENCH_PYTHON overrides), with
  * OPENBLAS_CORETYPE and OPENBLAS_L2_SIZE unset in its command alone; one-thread runs set
  * OPENBLAS_NUM_THREADS=OMP_NUM_THREADS=1. pathweave one thread = workers 1 (no worker thread);
- * default = generate's default workers (defaultWorkers: 1 on up to 2 cores, else one per core);
+ * default in memory = the library's in-memory default, a SubframeFiller (one worker per core)
+ * filling the whole tensor into one shared array; default end to end = generate's default
+ * workers (defaultWorkers: 1 on up to 2 cores, else one per core);
  * "pool" = one worker thread per available core, whatever the default. End to end runs are
  * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
@@ -106,7 +108,7 @@ function markdown(rows, info, loads) {
     lines.push('| workload | figure | pathweave coeff/s | numpy coeff/s | ratio | kernel | load |', '|---|---|---|---|---|---|---|');
     for (const r of ratioRows)
       lines.push(
-        `| ${r.workload} | ${modeName[r.mode]}, ${threadsName[r.threads]} (pathweave workers ${r.pathweaveWorkers}) | ${spread(r.pathweave.coefficientsPerSecond)} | ${spread(r.numpy.coefficientsPerSecond)} | ${spread(r.ratio)} | ${r.kernel} | ${load(r)} |`,
+        `| ${r.workload} | ${modeName[r.mode]}, ${threadsName[r.threads]} (pathweave ${r.wholeTensor ? 'SubframeFiller, whole tensor, ' : ''}workers ${r.pathweaveWorkers}) | ${spread(r.pathweave.coefficientsPerSecond)} | ${spread(r.numpy.coefficientsPerSecond)} | ${spread(r.ratio)} | ${r.kernel} | ${load(r)} |`,
       );
     const errors = [...new Map(ratioRows.map((r) => [r.workload, r.relativeFrobenius])).entries()];
     lines.push(
@@ -264,6 +266,7 @@ try {
           mode,
           threads,
           pathweaveWorkers: p[0].workers,
+          wholeTensor: p[0].wholeTensor === true,
           kernel: p[0].kernel,
           coefficients,
           relativeFrobenius: check.relativeFrobenius,
@@ -285,7 +288,7 @@ try {
         };
         emit(row);
         log(
-          `  ${mode.padEnd(12)} threads ${threads.padEnd(7)} (pathweave workers ${p[0].workers}) pathweave ${spread(ps)} coeff/s (${fmt((ps.median * 8) / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
+          `  ${mode.padEnd(12)} threads ${threads.padEnd(7)} (pathweave ${p[0].wholeTensor ? 'SubframeFiller, whole tensor, ' : ''}workers ${p[0].workers}) pathweave ${spread(ps)} coeff/s (${fmt((ps.median * 8) / 2 ** 20)} MiB/s, peak ${(row.pathweave.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | numpy ${spread(ns)} coeff/s (peak ${(row.numpy.maxRssBytes / 2 ** 20).toFixed(0)} MiB) | ratio ${spread(ratio)} | load ${loadBefore.toFixed(1)}-${row.loadAverage1m.after.toFixed(1)}`,
         );
       }
     }
