@@ -13,15 +13,17 @@
  * filling the whole tensor into one shared array; default end to end = generate's default
  * workers (defaultWorkers: 1 on up to 2 cores, else one per core);
  * "pool" = one worker thread per available core, whatever the default. End to end runs are
- * plain runs (no checksum); "e2e-checksum" adds the tensor's SHA-256 (as a --shard run does).
+ * the command line (`packages/io/bin/pathweave.js generate --quiet`, whole process), plain runs
+ * (no checksum); "e2e-checksum" adds --checksum, the tensor's SHA-256 (as a --shard run does).
  * Throughput: complex coefficients per second (and bytes, 8 per complex64 coefficient).
  */
 import { spawn, spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync, readdirSync } from 'node:fs';
 import { availableParallelism, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { buildScenario, parseScenarioText } from '@pathweave/io';
+import { blockSubframes, buildScenario, parseScenarioText } from '@pathweave/io';
+import { defaultWorkers } from '../packages/io/dist/dataset/workers/pool.js';
 import { coefficientsOf, WORKLOADS } from './workloads.mjs';
 
 const here = dirname(fileURLToPath(import.meta.url));
@@ -55,6 +57,40 @@ function child(cmd, args, env = process.env) {
   return { ...JSON.parse(lines[lines.length - 1]), wallSeconds: wall };
 }
 const pw = (args) => child(process.execPath, [join(here, 'pathweave_side.mjs'), ...args]);
+const CLI_BIN = join(here, '..', 'packages', 'io', 'bin', 'pathweave.js');
+const TIME_BIN = existsSync('/usr/bin/time') ? '/usr/bin/time' : undefined;
+/**
+ * End to end as a user runs it: `pathweave generate` (the bin, bundled), whole process, to `out`
+ * (.npy); workers '1', 'N' or 'default' (no flag: generate's default); `checksum` adds
+ * --checksum. Reports the wall time, the kernel from the .npy's side file, the worker count and
+ * the peak RSS (from /usr/bin/time when present).
+ */
+function pwCommand(scenarioFile, workers, out, { checksum = false, blocks }) {
+  const args = [
+    CLI_BIN,
+    'generate',
+    scenarioFile,
+    '--out',
+    out,
+    '--quiet',
+    ...(workers === 'default' ? [] : ['--workers', workers]),
+    ...(checksum ? ['--checksum'] : []),
+  ];
+  const t0 = process.hrtime.bigint();
+  const r = TIME_BIN
+    ? spawnSync(TIME_BIN, ['-f', 'rss %M', process.execPath, ...args], { encoding: 'utf8' })
+    : spawnSync(process.execPath, args, { encoding: 'utf8' });
+  const wallSeconds = Number(process.hrtime.bigint() - t0) / 1e9;
+  if (r.status !== 0) throw new Error(`pathweave ${args.slice(1).join(' ')} failed (${r.status}): ${r.stderr}`);
+  const rss = /rss (\d+)\s*$/.exec(r.stderr);
+  const side = JSON.parse(readFileSync(`${out}.json`, 'utf8'));
+  return {
+    wallSeconds,
+    kernel: side.kernel,
+    workers: workers === 'default' ? defaultWorkers(blocks) : Number(workers),
+    maxRssBytes: rss ? Number(rss[1]) * 1024 : NaN,
+  };
+}
 /** pathweave_side.mjs without blocking, so that two can run at once; resolves with its JSON line. */
 const pwAsync = (args, env) =>
   new Promise((resolve, reject) => {
@@ -211,6 +247,9 @@ try {
     const built = buildScenario(scenario, {});
     const cfgFile = join(dir, `${name}.json`);
     writeFileSync(cfgFile, JSON.stringify({ scenario: w.scenario, alpha: built.generator.correlations.map((c) => c.alpha), rawBytes: 2 ** 30 }));
+    const scenarioFile = join(dir, `${name}-scenario.json`); // what the command line reads
+    writeFileSync(scenarioFile, JSON.stringify(w.scenario));
+    const blocks = Math.ceil(w.scenario.timing.subframes / blockSubframes(built.valuesPerSubframe * built.generator.bytesPerValue));
     const coefficients = coefficientsOf(w.scenario);
 
     // Accuracy: pathweave's output (first subframes, with its gains) against the numpy code.
@@ -244,7 +283,10 @@ try {
         for (let i = 0; i < PAIRS; i++) {
           const out = join(dir, `${name}.npy`);
           const first = i % 2 === 0; // alternate which side goes first
-          const runP = () => p.push(pw([cfgFile, mode, workers, out]));
+          const runP = () =>
+            p.push(
+              mode === 'memory' ? pw([cfgFile, mode, workers, out]) : pwCommand(scenarioFile, workers, out, { checksum: mode === 'e2e-checksum', blocks }),
+            );
           const runN = () => n.push(np([cfgFile, mode, out], threads === '1' ? 1 : 0));
           if (first) {
             runP();
@@ -397,6 +439,8 @@ try {
       cfgFile,
       JSON.stringify({ scenario: WORKLOADS.dataset.scenario, alpha: buildScenario(scenario, {}).generator.correlations.map((c) => c.alpha) }),
     );
+    const poolScenarioFile = join(dir, 'pool-scenario.json');
+    writeFileSync(poolScenarioFile, JSON.stringify(WORKLOADS.dataset.scenario));
     const coefficients = coefficientsOf(WORKLOADS.dataset.scenario);
     log(`\npool scaling (dataset, ${PAIRS} runs each, interleaved; coeff/s, median [min-max]):`);
     const counts = [1, 2, 3];
@@ -407,7 +451,7 @@ try {
     for (let i = 0; i < PAIRS; i++) {
       counts.forEach((w, j) => {
         mem[j].push(coefficients / pw([cfgFile, 'memory', String(w)]).loopSeconds);
-        e2e[j].push(coefficients / pw([cfgFile, 'e2e', String(w), join(dir, 'scaling.npy')]).wallSeconds);
+        e2e[j].push(coefficients / pwCommand(poolScenarioFile, String(w), join(dir, 'scaling.npy'), {}).wallSeconds);
         rmSync(join(dir, 'scaling.npy'), { force: true });
         rmSync(join(dir, 'scaling.npy.json'), { force: true });
       });
