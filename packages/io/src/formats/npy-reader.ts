@@ -110,6 +110,7 @@ export interface NpySideFile {
  * await generate(scenario, text, { out: 'run.npy', format: 'npy', range: [0, 4] }); // run.npy and run.npy.json
  * const reader = await openDatasetReader('run.npy');
  * [reader instanceof NpyReader, reader.arrays[0]!.name] // [true, 'H']: the name comes from run.npy.json
+ * await reader.close();
  */
 export class NpyReader implements DatasetReader {
   readonly format = 'npy' as const;

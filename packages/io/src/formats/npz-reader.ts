@@ -285,6 +285,7 @@ class EntryCursor {
  * await generate(scenario, text, { out: 'run.npz', format: 'npz', range: [0, 4] }); // H [4, 64, 4, 32]
  * const reader = await openDatasetReader('run.npz');
  * [reader instanceof NpzReader, reader.format] // [true, 'npz']
+ * await reader.close();
  */
 export class NpzReader implements DatasetReader {
   readonly format = 'npz' as const;
