@@ -119,7 +119,8 @@ if (mode === 'tracer') {
       fillBlock(built, buffer.subarray(0, 2 * perSubframe), 0, 1); // warm-up
       // Two processes run side by side (bench/run.mjs's ceiling row) start their loops together.
       const startAt = Number(process.env.PATHWEAVE_BENCH_START_AT ?? 0);
-      while (Date.now() < startAt) Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 1);
+      const nap = new Int32Array(new SharedArrayBuffer(4));
+      while (Date.now() < startAt) Atomics.wait(nap, 0, 0, 1);
       const t0 = performance.now();
       for (let s = 0; s < S; s += block) {
         const n = Math.min(block, S - s);

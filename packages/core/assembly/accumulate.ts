@@ -42,7 +42,12 @@ export function fusedBuild(): i32 {
  */
 // @ts-ignore: decorator
 @inline function plainRowBytes(M: i32): usize {
-  const packed = <usize>M << 3;
+  return pastPageMultiple(<usize>M << 3);
+}
+
+/** A row of `packed` bytes plus one cache line, or two when one would end on a multiple of 4 KiB. */
+// @ts-ignore: decorator
+@inline function pastPageMultiple(packed: usize): usize {
   return ((packed + 64) & 4095) == 0 ? packed + 128 : packed + 64;
 }
 
@@ -232,8 +237,7 @@ export function accumulateF32(out: usize, w: usize, p: usize, q: usize, bins: i3
  */
 // @ts-ignore: decorator
 @inline function splitRowBytes(M: i32): usize {
-  const packed = (<usize>(M + 3) & ~3) << 3;
-  return ((packed + 64) & 4095) == 0 ? packed + 128 : packed + 64;
+  return pastPageMultiple((<usize>(M + 3) & ~3) << 3);
 }
 
 /**

@@ -11,14 +11,12 @@
 import { availableParallelism } from 'node:os';
 import { KERNEL_NAME, type TensorArray } from '@pathweave/core';
 import type { BuiltScenario } from '../scenario/build.js';
+import { blockSubframes } from './generate.js';
 import { fillBlock, maxPathCount } from './workers/fill.js';
-import { BlockPool } from './workers/pool.js';
+import { BlockPool, sharedArray } from './workers/pool.js';
 
 /** Pieces per worker a fill is cut into at least (when the range allows), so no thread waits long for the last one. */
 const PIECES_PER_WORKER = 4;
-
-/** Largest piece in bytes: the block size of `generate`. */
-const PIECE_TARGET_BYTES = 8 * 2 ** 20;
 
 /**
  * A zeroed array for `count` subframes of `built`'s tensor over a SharedArrayBuffer, which
@@ -30,9 +28,7 @@ const PIECE_TARGET_BYTES = 8 * 2 ** 20;
  */
 export function allocateSharedTensor(built: BuiltScenario, count: number): TensorArray {
   if (!Number.isInteger(count) || count < 0) throw new RangeError(`allocateSharedTensor(): count must be an integer >= 0, got ${count}`);
-  const Type = built.plan.precision === 'complex64' ? Float32Array : Float64Array;
-  const length = 2 * count * built.valuesPerSubframe;
-  return new Type(new SharedArrayBuffer(length * Type.BYTES_PER_ELEMENT) as unknown as ArrayBuffer); // the lib types the constructor with ArrayBuffer only
+  return sharedArray(2 * count * built.valuesPerSubframe, built.plan.precision === 'complex64' ? Float32Array : Float64Array);
 }
 
 /** Options of a SubframeFiller. */
@@ -112,8 +108,8 @@ export class SubframeFiller {
       throw new TypeError(
         `${fn}: out must lie over a SharedArrayBuffer for ${this.workers} workers (allocate it with allocateSharedTensor), got one over an ${out.buffer.constructor.name}`,
       );
-    const largest = Math.max(1, Math.floor(PIECE_TARGET_BYTES / (perSubframe * Type.BYTES_PER_ELEMENT)));
-    const piece = Math.max(1, Math.min(largest, Math.ceil(count / (PIECES_PER_WORKER * this.workers))));
+    // At most a block of `generate`, and small enough that every worker gets several pieces.
+    const piece = Math.min(blockSubframes(perSubframe * Type.BYTES_PER_ELEMENT), Math.ceil(count / (PIECES_PER_WORKER * this.workers)));
     const pieces: Array<Promise<unknown>> = [];
     for (let s = 0; s < count; s += piece) {
       const n = Math.min(piece, count - s);

@@ -58,7 +58,14 @@ export interface FilledBlock {
  */
 export function sharedBlockArray<T extends typeof Float32Array | typeof Float64Array>(length: number, type: T): InstanceType<T> {
   const a = allocateKernelArray(length, type);
-  if (a.buffer instanceof SharedArrayBuffer) return a;
+  return a.buffer instanceof SharedArrayBuffer ? a : sharedArray(length, type);
+}
+
+/**
+ * A zeroed typed array over a SharedArrayBuffer of its own (outside any kernel's memory).
+ * @example sharedArray(4, Float64Array).buffer instanceof SharedArrayBuffer // true
+ */
+export function sharedArray<T extends typeof Float32Array | typeof Float64Array>(length: number, type: T): InstanceType<T> {
   return new type(new SharedArrayBuffer(length * type.BYTES_PER_ELEMENT) as unknown as ArrayBuffer) as InstanceType<T>; // the lib types the constructor with ArrayBuffer only
 }
 
@@ -140,7 +147,7 @@ export class BlockPool {
           const release = (): void => {
             if (released || this.failure !== undefined || r.slot === undefined) return;
             released = true;
-            const message: BlockRequest = { kind: 'release', slot: r.slot! };
+            const message: BlockRequest = { kind: 'release', slot: r.slot };
             worker.postMessage(message);
           };
           resolve({ tensor: into ?? r.tensor!, gains: r.gains!, release });
